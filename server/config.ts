@@ -1,0 +1,23 @@
+import { z } from 'zod';
+
+/** Environment settings, parsed once at start-up. */
+export const configSchema = z.object({
+  PORT: z.coerce.number().int().min(0).max(65535).default(3000),
+  KEELSON_DB: z.string().min(1).default('data/keelson.db'),
+  SESSION_SECRET: z.string().min(16).optional(),
+  UPLOAD_LIMIT_MB: z.coerce.number().positive().max(1024).default(50),
+  SMTP_URL: z.string().url().optional(),
+  MAIL_FROM: z.string().default('Keelson <no-reply@keelson.test>'),
+  PUBLIC_URL: z.string().url().optional(),
+  KEELSON_SEED: z.enum(['demo', 'none']).default('demo'),
+});
+export type Config = z.infer<typeof configSchema>;
+
+export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
+  const parsed = configSchema.safeParse(env);
+  if (!parsed.success) {
+    const lines = parsed.error.issues.map((i) => `${i.path.join('.')}: ${i.message}`);
+    throw new Error(`Keelson configuration is invalid:\n  ${lines.join('\n  ')}`);
+  }
+  return parsed.data;
+}

@@ -1,0 +1,2 @@
+// One file per domain; this barrel is what drizzle-kit and the db client read.
+export * from './auth';

@@ -1,0 +1,72 @@
+import type { NextFunction, Request, Response } from 'express';
+import type { ApiRouter } from '../middlewares/access';
+import { currentUser } from '../middlewares/access';
+import { parseOr400 } from '../middlewares/errors';
+import { acceptInviteBodySchema, loginBodySchema, type User } from '../../shared/auth';
+import { KeelsonApiError } from '../../shared/errors';
+import { acceptInvitation, markLogin, previewInvitation } from '../services/users';
+import { audit } from '../services/audit';
+import { listOutbox } from '../services/mail';
+import type { AppDeps } from '../app';
+
+function logIn(req: Request, user: User): Promise<void> {
+  // A new session id on sign-in; keepSessionInfo carries the CSRF token over so scripts keep using it.
+  return new Promise((resolve, reject) => req.logIn(user, { session: true, keepSessionInfo: true }, (err) => (err ? reject(err) : resolve())));
+}
+
+export function registerAuthRoutes(api: ApiRouter, deps: AppDeps): void {
+  const { db, generateCsrfToken } = deps;
+
+  api.get('/auth/csrf', 'public', (req: Request, res: Response) => {
+    res.json({ token: generateCsrfToken(req) });
+  });
+
+  api.post('/auth/login', 'public', deps.loginLimiter, (req: Request, res: Response, next: NextFunction) => {
+    parseOr400(loginBodySchema, req.body, 'sign-in form');
+    deps.passport.authenticate('local', { session: false }, (err: unknown, user: User | false) => {
+      if (err) return next(err);
+      if (!user) {
+        audit(db, null, 'auth.login_failed', { email: String((req.body as { email?: unknown }).email ?? '') });
+        return next(new KeelsonApiError('unauthenticated', 'E-mail or password is wrong, or the account is deactivated'));
+      }
+      logIn(req, user)
+        .then(() => {
+          markLogin(db, user.id);
+          res.json({ user });
+        })
+        .catch(next);
+    })(req, res, next);
+  });
+
+  api.post('/auth/logout', 'public', (req: Request, res: Response, next: NextFunction) => {
+    const userId = req.user?.id ?? null;
+    req.logOut((err) => {
+      if (err) return next(err);
+      if (userId) audit(db, userId, 'auth.logout');
+      req.session.destroy(() => {
+        res.clearCookie('keelson.sid');
+        res.status(204).end();
+      });
+    });
+  });
+
+  api.get('/auth/me', 'signed-in', (req: Request, res: Response) => {
+    res.json({ user: currentUser(req) });
+  });
+
+  api.get('/auth/outbox', 'signed-in', (req: Request, res: Response) => {
+    res.json({ messages: listOutbox(db, { to: currentUser(req).email }) });
+  });
+
+  api.get('/invitations/:token', 'public', (req: Request, res: Response) => {
+    res.json({ invitation: previewInvitation(db, String(req.params.token)) });
+  });
+
+  api.post('/invitations/accept', 'public', async (req: Request, res: Response) => {
+    const body = parseOr400(acceptInviteBodySchema, req.body, 'invitation form');
+    const user = await acceptInvitation(db, body.token, body.password);
+    await logIn(req, user);
+    markLogin(db, user.id);
+    res.status(201).json({ user });
+  });
+}
