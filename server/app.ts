@@ -51,6 +51,15 @@ export interface AppDeps {
 
 export type KeelsonApp = express.Express & { routeTable: readonly RouteSpec[]; close: () => void };
 
+/** Deny by default: refuse to start if any API route was mounted without going through ApiRouter. */
+function assertEveryRouteDeclaresAccess(api: ApiRouter): void {
+  const stack = (api.router as unknown as { stack: { route?: { path: string } }[] }).stack;
+  const mounted = stack.filter((l) => l.route).length;
+  if (mounted !== api.routes.length) {
+    throw new Error(`API has ${mounted} routes but only ${api.routes.length} declare their access`);
+  }
+}
+
 export function createApp(opts: AppOptions): KeelsonApp {
   const { db, mailer } = opts;
   const app = express() as unknown as KeelsonApp;
@@ -115,6 +124,7 @@ export function createApp(opts: AppOptions): KeelsonApp {
     limit: opts.loginLimit ?? 20,
     standardHeaders: 'draft-7',
     legacyHeaders: false,
+    skipSuccessfulRequests: true,
     keyGenerator: (req) => `${ipKeyGenerator(req.ip ?? '')}|${String((req.body as { email?: unknown } | undefined)?.email ?? '').toLowerCase()}`,
     handler: (_req, _res, next) =>
       next(new KeelsonApiError('rate_limited', 'Too many sign-in attempts; wait 15 minutes and try again')),
@@ -140,6 +150,7 @@ export function createApp(opts: AppOptions): KeelsonApp {
   registerAdminRoutes(api, deps);
   api.router.use(notFoundApi);
   api.router.use(errorHandler);
+  assertEveryRouteDeclaresAccess(api);
 
   app.use('/api/v1', api.router);
   app.use('/api', notFoundApi, errorHandler);
