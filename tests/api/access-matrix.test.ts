@@ -3,6 +3,7 @@
  * server answers 403/401 exactly where the route's declared access says so.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { Test } from 'supertest';
 import { ROLES, type Role } from '../../shared/roles';
 import { agentsForAllRoles, anonymousAgent, expectEnvelope, makeTestApp, type Agent, type TestApp } from './helpers';
 
@@ -23,7 +24,7 @@ function concrete(path: string): string {
 
 async function call(agent: Agent, method: string, path: string) {
   const url = `/api/v1${concrete(path)}`;
-  const req = (agent as unknown as Record<string, (u: string) => import('supertest').Test>)[method](url);
+  const req = (agent as unknown as Record<string, (u: string) => Test>)[method](url);
   req.set('x-csrf-token', agent.csrf);
   if (method !== 'get' && method !== 'delete') req.send({});
   return req;
