@@ -1,0 +1,119 @@
+/**
+ * Model specs, runs and their review (issue 5).
+ *
+ * `edition_id` / `library_id` are plain integers (no foreign key): the return-library tables are
+ * owned by another module; the run keeps a frozen copy of the names it needs (library name,
+ * edition number) so it stays readable as it was.
+ */
+import { sql } from 'drizzle-orm';
+import { index, integer, sqliteTable, text } from 'drizzle-orm/sqlite-core';
+import { users } from './auth';
+
+const now = sql`(strftime('%Y-%m-%dT%H:%M:%fZ','now'))`;
+
+export const modelSpecs = sqliteTable(
+  'model_specs',
+  {
+    id: integer('id').primaryKey({ autoIncrement: true }),
+    name: text('name').notNull(),
+    authorId: integer('author_id')
+      .notNull()
+      .references(() => users.id),
+    editionId: integer('edition_id').notNull(),
+    libraryId: integer('library_id').notNull(),
+    libraryName: text('library_name').notNull(),
+    editionNumber: integer('edition_number').notNull(),
+    /** The spec body (shared/specs.ts `modelSpecSchema`) as JSON text. */
+    spec: text('spec').notNull(),
+    copiedFromId: integer('copied_from_id'),
+    createdAt: text('created_at').notNull().default(now),
+    updatedAt: text('updated_at').notNull().default(now),
+  },
+  (t) => [index('model_specs_author_idx').on(t.authorId)],
+);
+
+export const runs = sqliteTable(
+  'runs',
+  {
+    id: integer('id').primaryKey({ autoIncrement: true }),
+    specId: integer('spec_id').references(() => modelSpecs.id),
+    specName: text('spec_name'),
+    editionId: integer('edition_id').notNull(),
+    libraryId: integer('library_id').notNull(),
+    libraryName: text('library_name').notNull(),
+    editionNumber: integer('edition_number').notNull(),
+    /** Frozen copy of the spec the run estimated (JSON text). */
+    spec: text('spec').notNull(),
+    keelsonVersion: text('keelson_version').notNull(),
+    authorId: integer('author_id')
+      .notNull()
+      .references(() => users.id),
+    status: text('status', { enum: ['queued', 'running', 'finished', 'failed', 'cancelled'] }).notNull(),
+    /** Why a failed run failed, in words. */
+    error: text('error'),
+    /** estimateLedger's full output (JSON text) for a finished run. */
+    result: text('result'),
+    createdAt: text('created_at').notNull().default(now),
+    startedAt: text('started_at'),
+    finishedAt: text('finished_at'),
+  },
+  (t) => [
+    index('runs_author_idx').on(t.authorId),
+    index('runs_spec_idx').on(t.specId),
+    index('runs_library_idx').on(t.libraryId),
+  ],
+);
+
+export const runComments = sqliteTable(
+  'run_comments',
+  {
+    id: integer('id').primaryKey({ autoIncrement: true }),
+    runId: integer('run_id')
+      .notNull()
+      .references(() => runs.id),
+    authorId: integer('author_id')
+      .notNull()
+      .references(() => users.id),
+    text: text('text').notNull(),
+    createdAt: text('created_at').notNull().default(now),
+  },
+  (t) => [index('run_comments_run_idx').on(t.runId)],
+);
+
+export const signoffRequests = sqliteTable(
+  'signoff_requests',
+  {
+    id: integer('id').primaryKey({ autoIncrement: true }),
+    runId: integer('run_id')
+      .notNull()
+      .references(() => runs.id),
+    reviewerId: integer('reviewer_id')
+      .notNull()
+      .references(() => users.id),
+    requestedById: integer('requested_by_id')
+      .notNull()
+      .references(() => users.id),
+    note: text('note'),
+    /** Set when the named reviewer gave a sign-off on the run. */
+    answeredAt: text('answered_at'),
+    createdAt: text('created_at').notNull().default(now),
+  },
+  (t) => [index('signoff_requests_reviewer_idx').on(t.reviewerId), index('signoff_requests_run_idx').on(t.runId)],
+);
+
+export const signoffs = sqliteTable(
+  'signoffs',
+  {
+    id: integer('id').primaryKey({ autoIncrement: true }),
+    runId: integer('run_id')
+      .notNull()
+      .references(() => runs.id),
+    reviewerId: integer('reviewer_id')
+      .notNull()
+      .references(() => users.id),
+    decision: text('decision', { enum: ['approved', 'changes-requested'] }).notNull(),
+    note: text('note'),
+    createdAt: text('created_at').notNull().default(now),
+  },
+  (t) => [index('signoffs_run_idx').on(t.runId)],
+);
