@@ -1,0 +1,45 @@
+/**
+ * Hansen–Jagannathan distance.
+ *
+ * Formula (plain text): at the second-moment-weighted first stage, W = (E_T[R R'])^{-1},
+ * b̂ = (X'WX)^{-1} X'W E_T[R], α̂ = E_T[R] − X b̂, HJ = sqrt(α̂' W α̂) (X = C centred, D uncentred).
+ * Paper: Hansen, L. P. and Jagannathan, R. (1997), "Assessing Specification Errors in Stochastic
+ * Discount Factor Models", Journal of Finance 52(2), 557–590.
+ *
+ * @example
+ * // Exactly identified (N = K): α̂ = 0, so HJ = 0.
+ */
+import { cholesky, choleskyInverse, choleskySolve, quadForm } from './linalg';
+import type { MomentData } from './moments';
+
+/** HJ distance from moments and a precomputed E_T[RR']; null when a matrix is singular. */
+export function hjDistance(m: MomentData, secondMoment: Float64Array, form: 'centred' | 'uncentred' = 'centred'): number | null {
+  const { N, K, meanR } = m;
+  const X = form === 'centred' ? m.covRF : m.crossRF;
+  const Le = cholesky(secondMoment, N);
+  if (!Le) return null;
+  const W = choleskyInverse(Le, N);
+  const WX = choleskySolve(Le, N, X, K); // N×K
+  const A = new Float64Array(K * K);
+  const rhs = new Float64Array(K);
+  for (let a = 0; a < K; a++) {
+    for (let c = 0; c < K; c++) {
+      let s = 0;
+      for (let i = 0; i < N; i++) s += X[i * K + a] * WX[i * K + c];
+      A[a * K + c] = s;
+    }
+    let s = 0;
+    for (let i = 0; i < N; i++) s += WX[i * K + a] * meanR[i];
+    rhs[a] = s;
+  }
+  const La = cholesky(A, K);
+  if (!La) return null;
+  const b = choleskySolve(La, K, rhs, 1);
+  const alpha = new Float64Array(N);
+  for (let i = 0; i < N; i++) {
+    let s = meanR[i];
+    for (let k = 0; k < K; k++) s -= X[i * K + k] * b[k];
+    alpha[i] = s;
+  }
+  return Math.sqrt(Math.max(0, quadForm(W, N, alpha)));
+}

@@ -1,0 +1,28 @@
+/** Public API of the estimation library (pure TypeScript on ml-matrix and jstat). */
+export * from './errors';
+export * from './distributions';
+export * from './hac';
+export * from './moments';
+export * from './validate';
+export * from './ols';
+export * from './sdf-gmm';
+export * from './premia';
+export * from './wald';
+export * from './drop-test';
+export * from './spanning';
+export * from './thin-beta';
+export * from './grs';
+export * from './fama-macbeth';
+export * from './hj-distance';
+export * from './verdict';
+export * from './ledger';
+export {
+  cholesky,
+  choleskySolve,
+  choleskyInverse,
+  spdInverse,
+  spdSolve,
+  pinvSymmetricRank,
+  fromNested,
+  toNested,
+} from './linalg';

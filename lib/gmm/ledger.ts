@@ -1,0 +1,320 @@
+/**
+ * The factor ledger: every estimate and test of the methods contract for one model on one data
+ * set, in one call. The server and the CLI both call `estimateLedger`.
+ *
+ * Steps (each module cites its paper): validate; moments (E_T[R], μ, Σ_f, C, D, E_T[RR']);
+ * SDF GMM at the chosen stage (sdf-gmm); λ̂ with SEs (premia); Wald z-tests on b̂ and λ̂;
+ * per-factor χ² drop test with the unrestricted second-stage weighting (drop-test; null at the
+ * first stage); spanning check for traded factors (spanning); thin-beta flag (thin-beta);
+ * verdict (verdict); J; HJ distance (hj-distance); GRS when every factor is traded (grs);
+ * Fama–MacBeth with the Shanken correction (fama-macbeth); optional joint tests for `dropSet`.
+ *
+ * @example
+ * const r = estimateLedger({ assetNames, returns, factorNames: ['MKT', 'CARRY'], factors, traded: [true, true],
+ *   options: { stage: 'second', weighting: 'identity', lags: 'auto', form: 'centred', factorMeansKnown: false, level: 0.05 } });
+ * // r.factors[0].verdict is one of VERDICTS; JSON.stringify(r) round-trips.
+ */
+import { normalQuantile } from './distributions';
+import { GmmInputError, GmmNumericalError } from './errors';
+import { famaMacBethCore, type FamaMacBethResult } from './fama-macbeth';
+import { defaultLag } from './hac';
+import { grsCore } from './grs';
+import { hjDistance } from './hj-distance';
+import { fromNested } from './linalg';
+import { covarianceFromSecondMoment, momentsFromPacked, secondMomentMatrix } from './moments';
+import { fitPremia } from './premia';
+import { fitSdfGmm, type ChiSquareTest, type FirstStageWeighting, type GmmStage, type SdfForm } from './sdf-gmm';
+import { spanningJointCore, spanningSingle, type SpanningSingle } from './spanning';
+import { thinBetaTest, type ThinBetaTest } from './thin-beta';
+import { checkCollinear, validateMatrices } from './validate';
+import { factorVerdict, type Verdict } from './verdict';
+import { waldJoint, waldSingle } from './wald';
+import { dropTester, type DropTest } from './drop-test';
+
+export interface LedgerOptions {
+  readonly stage: GmmStage;
+  readonly weighting: FirstStageWeighting;
+  readonly lags: number | 'auto';
+  readonly form: SdfForm;
+  readonly factorMeansKnown: boolean;
+  /** Significance level for the verdicts and confidence intervals, 0 < level < 1. */
+  readonly level: number;
+  /** Factor names to test jointly (Wald on b, drop test, spanning when all traded). */
+  readonly dropSet?: readonly string[];
+  /** Add an intercept to the Fama–MacBeth cross-sectional regressions. */
+  readonly fmIntercept?: boolean;
+}
+
+export interface LedgerInput {
+  readonly assetNames: readonly string[];
+  /** T×N excess returns (decimals). */
+  readonly returns: readonly (readonly number[])[];
+  readonly factorNames: readonly string[];
+  /** T×K factors. */
+  readonly factors: readonly (readonly number[])[];
+  readonly traded: readonly boolean[];
+  readonly options: LedgerOptions;
+}
+
+export interface LedgerFactor {
+  readonly name: string;
+  readonly traded: boolean;
+  readonly b: number;
+  readonly seB: number;
+  readonly tB: number;
+  readonly pB: number;
+  readonly ciB: readonly [number, number];
+  readonly lambda: number;
+  readonly seLambda: number;
+  readonly tLambda: number;
+  readonly pLambda: number;
+  readonly ciLambda: readonly [number, number];
+  readonly chi2Drop: DropTest | null;
+  readonly spanning: SpanningSingle | null;
+  readonly thinBeta: ThinBetaTest | null;
+  readonly verdict: Verdict;
+}
+
+export interface LedgerPricingError {
+  readonly asset: string;
+  readonly alpha: number;
+  readonly se: number;
+  readonly t: number;
+  /** E_T[R_i]. */
+  readonly meanReturn: number;
+  /** Model-implied expected excess return X_i b̂ (= meanReturn − alpha). */
+  readonly predicted: number;
+}
+
+export interface LedgerJointDrop {
+  readonly factors: readonly string[];
+  readonly wald: ChiSquareTest | null;
+  readonly chi2Drop: DropTest | null;
+}
+
+export interface LedgerJointSpanning {
+  readonly factors: readonly string[];
+  readonly alpha: readonly number[];
+  readonly stat: number;
+  readonly df: number;
+  readonly p: number;
+}
+
+export interface LedgerGrs {
+  readonly stat: number;
+  readonly df1: number;
+  readonly df2: number;
+  readonly p: number;
+}
+
+export interface LedgerResult {
+  readonly T: number;
+  readonly N: number;
+  readonly K: number;
+  readonly lags: number;
+  readonly stage: GmmStage;
+  readonly iterations: number;
+  readonly converged: boolean;
+  readonly factors: readonly LedgerFactor[];
+  readonly pricingErrors: readonly LedgerPricingError[];
+  readonly J: ChiSquareTest;
+  readonly hj: number | null;
+  readonly grs: LedgerGrs | null;
+  readonly famaMacBeth: FamaMacBethResult | null;
+  readonly jointDrop: LedgerJointDrop | null;
+  readonly jointSpanning: LedgerJointSpanning | null;
+  readonly options: {
+    readonly stage: GmmStage;
+    readonly weighting: FirstStageWeighting;
+    readonly lags: number;
+    readonly form: SdfForm;
+    readonly factorMeansKnown: boolean;
+    readonly level: number;
+    readonly dropSet: readonly string[];
+    readonly fmIntercept: boolean;
+  };
+  readonly warnings: readonly string[];
+}
+
+function checkNames(names: readonly string[], what: string): void {
+  const seen = new Set<string>();
+  for (const n of names) {
+    if (typeof n !== 'string' || n.trim() === '') throw new GmmInputError('invalid-option', `Every ${what} needs a non-empty name.`);
+    if (seen.has(n)) throw new GmmInputError('duplicate-name', `The ${what} name '${n}' appears twice.`, { series: n });
+    seen.add(n);
+  }
+}
+
+/** Validate the options; returns the resolved lag. */
+function checkOptions(input: LedgerInput, T: number): number {
+  const o = input.options;
+  if (!o || typeof o !== 'object') throw new GmmInputError('invalid-option', 'options are missing.');
+  if (!['first', 'second', 'iterated'].includes(o.stage))
+    throw new GmmInputError('invalid-option', `stage must be first, second or iterated; got '${String(o.stage)}'.`);
+  if (!['identity', 'second-moment'].includes(o.weighting))
+    throw new GmmInputError('invalid-option', `weighting must be identity or second-moment; got '${String(o.weighting)}'.`);
+  if (!['centred', 'uncentred'].includes(o.form))
+    throw new GmmInputError('invalid-option', `form must be centred or uncentred; got '${String(o.form)}'.`);
+  if (typeof o.factorMeansKnown !== 'boolean') throw new GmmInputError('invalid-option', 'factorMeansKnown must be true or false.');
+  if (typeof o.level !== 'number' || !(o.level > 0 && o.level < 1))
+    throw new GmmInputError('invalid-option', `level must be a number strictly between 0 and 1; got ${String(o.level)}.`);
+  const L = o.lags === 'auto' ? defaultLag(T) : o.lags;
+  if (typeof L !== 'number' || !Number.isInteger(L) || L < 0)
+    throw new GmmInputError('invalid-lags', `lags must be 'auto' or an integer ≥ 0; got ${String(o.lags)}.`);
+  if (L >= T) throw new GmmInputError('invalid-lags', `lags = ${L} needs more than ${L} periods; the data have T = ${T}.`);
+  if (o.dropSet) {
+    if (!Array.isArray(o.dropSet) || o.dropSet.length === 0)
+      throw new GmmInputError('invalid-option', 'dropSet, when given, must name at least one factor.');
+    for (const n of o.dropSet)
+      if (!input.factorNames.includes(n))
+        throw new GmmInputError('unknown-factor', `dropSet names '${n}', which is not a factor of the model.`, { series: n });
+    if (new Set(o.dropSet).size !== o.dropSet.length) throw new GmmInputError('invalid-option', 'dropSet names a factor twice.');
+  }
+  return L;
+}
+
+/**
+ * Estimate the factor ledger.
+ * @param input asset and factor names, T×N returns, T×K factors, traded flags, options.
+ * @returns a readonly, JSON-serialisable LedgerResult (no NaN anywhere).
+ * @throws GmmInputError for caller mistakes (named series/row, see errors.ts);
+ *   GmmNumericalError ('singular') when the core GMM system cannot be solved after validation.
+ */
+export function estimateLedger(input: LedgerInput): LedgerResult {
+  if (!input || typeof input !== 'object') throw new GmmInputError('empty-input', 'No input.');
+  checkNames(input.assetNames ?? [], 'asset');
+  checkNames(input.factorNames ?? [], 'factor');
+  if (!Array.isArray(input.traded) || input.traded.length !== (input.factorNames ?? []).length)
+    throw new GmmInputError('length-mismatch', `traded must have one flag per factor (${(input.factorNames ?? []).length}).`);
+  if ((input.assetNames ?? []).length === 0) throw new GmmInputError('empty-input', 'Name at least one test asset.');
+  if ((input.factorNames ?? []).length === 0) throw new GmmInputError('empty-input', 'Name at least one factor.');
+  const { T, N, K } = validateMatrices(input.returns, input.factors, {
+    assetNames: input.assetNames,
+    factorNames: input.factorNames,
+  });
+  const lags = checkOptions(input, T);
+  const o = input.options;
+  const level = o.level;
+  const names = input.factorNames;
+
+  const m = momentsFromPacked(fromNested(input.returns, N), fromNested(input.factors, K), T, N, K);
+  const second = secondMomentMatrix(m.R, T, N);
+  checkCollinear(
+    covarianceFromSecondMoment(second, m.meanR),
+    N,
+    (i) => `'${input.assetNames[i]}'`,
+    (i) => input.assetNames[i],
+    'asset',
+  );
+
+  const warnings: string[] = [];
+  if (T < 10 * N) warnings.push(`T < 10·N (T = ${T}, N = ${N}): asymptotic p-values may mislead.`);
+
+  const fit = fitSdfGmm(m, {
+    stage: o.stage,
+    weighting: o.weighting,
+    lags,
+    form: o.form,
+    factorMeansKnown: o.factorMeansKnown,
+    secondMoment: second,
+  });
+  if (!fit.ok) throw new GmmNumericalError('singular', `${fit.message} (matrix ${fit.matrix})`);
+  if (!fit.converged) warnings.push(`Iterated GMM did not converge in ${fit.iterations} iterations; the last iterate is reported.`);
+  const prem = fitPremia(m, fit);
+  if (!prem.ok) throw new GmmNumericalError('singular', prem.message);
+
+  const z = normalQuantile(1 - level / 2);
+  const drop = o.stage === 'first' ? null : dropTester({ T, N, K, X: fit.X, W: fit.W, meanR: m.meanR });
+  if (!drop) warnings.push('Drop tests need the second-stage weighting; they are not reported at the first stage.');
+  const nonTradedNames = names.filter((_, k) => !input.traded[k]);
+
+  const factors: LedgerFactor[] = names.map((name, k) => {
+    const bz = waldSingle(fit.b[k], Math.sqrt(Math.max(0, fit.covB[k * K + k])));
+    const lz = waldSingle(prem.lambda[k], Math.sqrt(Math.max(0, prem.covLambda[k * K + k])));
+    const traded = input.traded[k];
+    const thin = thinBetaTest(m, k, lags);
+    if (!thin) warnings.push(`The thin-beta test for '${name}' could not be computed (singular covariance).`);
+    else if (thin.flag) warnings.push(`'${name}' has a thin beta (p = ${thin.p.toFixed(3)}): its b and λ inference is unreliable.`);
+    const span = traded ? spanningSingle(m, k, lags) : null;
+    if (traded && !span) warnings.push(`The spanning check for '${name}' could not be computed (the other factors are collinear).`);
+    return {
+      name,
+      traded,
+      b: bz.estimate,
+      seB: bz.se,
+      tB: bz.t,
+      pB: bz.p,
+      ciB: [bz.estimate - z * bz.se, bz.estimate + z * bz.se] as const,
+      lambda: lz.estimate,
+      seLambda: lz.se,
+      tLambda: lz.t,
+      pLambda: lz.p,
+      ciLambda: [lz.estimate - z * lz.se, lz.estimate + z * lz.se] as const,
+      chi2Drop: drop ? drop([k]) : null,
+      spanning: span,
+      thinBeta: thin,
+      verdict: factorVerdict(bz.p, lz.p, level),
+    };
+  });
+  if (nonTradedNames.length > 0 && K > 1 && nonTradedNames.length < K)
+    warnings.push(`Spanning regressions use every other factor as a regressor, including non-traded ${nonTradedNames.join(', ')}.`);
+
+  const pricingErrors: LedgerPricingError[] = input.assetNames.map((asset, i) => {
+    const az = waldSingle(fit.alpha[i], Math.sqrt(Math.max(0, fit.covAlpha[i * N + i])));
+    return { asset, alpha: fit.alpha[i], se: az.se, t: az.t, meanReturn: m.meanR[i], predicted: m.meanR[i] - fit.alpha[i] };
+  });
+
+  const hj = hjDistance(m, second, o.form);
+  if (hj === null) warnings.push('The HJ distance could not be computed (singular second-moment matrix).');
+
+  let grs: LedgerGrs | null = null;
+  if (nonTradedNames.length === 0) {
+    const g = grsCore(m, second);
+    if (g) grs = { stat: g.stat, df1: g.df1, df2: g.df2, p: g.p };
+    else warnings.push('The GRS test could not be computed (singular covariance).');
+  } else warnings.push(`GRS is not reported: it needs every factor traded (${nonTradedNames.join(', ')} are not).`);
+
+  const fm = famaMacBethCore(m, names, o.fmIntercept ?? false);
+  if (!fm) warnings.push('Fama–MacBeth could not be computed (singular cross-sectional design).');
+
+  let jointDrop: LedgerJointDrop | null = null;
+  let jointSpanning: LedgerJointSpanning | null = null;
+  const dropSet = o.dropSet ? [...o.dropSet] : [];
+  if (dropSet.length > 0) {
+    const idx = dropSet.map((n) => names.indexOf(n));
+    jointDrop = { factors: dropSet, wald: waldJoint(fit.b, fit.covB, K, idx), chi2Drop: drop ? drop(idx) : null };
+    if (idx.every((k) => input.traded[k])) {
+      const js = spanningJointCore(m, idx, lags);
+      if (js) jointSpanning = { factors: dropSet, ...js };
+    } else warnings.push('The joint spanning check is not reported: the drop set contains a non-traded factor.');
+  }
+
+  return {
+    T,
+    N,
+    K,
+    lags,
+    stage: o.stage,
+    iterations: fit.iterations,
+    converged: fit.converged,
+    factors,
+    pricingErrors,
+    J: fit.J,
+    hj,
+    grs,
+    famaMacBeth: fm,
+    jointDrop,
+    jointSpanning,
+    options: {
+      stage: o.stage,
+      weighting: o.weighting,
+      lags,
+      form: o.form,
+      factorMeansKnown: o.form === 'centred' && o.factorMeansKnown,
+      level,
+      dropSet,
+      fmIntercept: o.fmIntercept ?? false,
+    },
+    warnings,
+  };
+}

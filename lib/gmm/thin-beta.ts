@@ -1,0 +1,51 @@
+/**
+ * Thin-beta flag (weak-factor warning): are the covariances of the test assets with factor k
+ * jointly indistinguishable from zero?
+ *
+ * Formula (plain text): C_k = Cov_T(R, f_k) (N-vector); its influence series is
+ *   z_t = (R_t − E_T[R]) (f_k,t − μ_k) − C_k,   Var(Ĉ_k) = (1/T) LRV(z)   (Bartlett HAC, same lag);
+ * W_k = Ĉ_k' Var(Ĉ_k)^{-1} Ĉ_k ~ χ²(N). The factor is flagged when the test does not reject at
+ * 10% (p ≥ 0.10): its b and λ inference is then unreliable.
+ * Paper: Kan, R. and Zhang, C. (1999), "Two-Pass Tests of Asset Pricing Models with Useless
+ * Factors", Journal of Finance 54(1), 203–235.
+ *
+ * @example
+ * // A factor drawn independently of the returns is usually flagged:
+ * // thinBetaTest(m, k, lags).flag === true (most seeds)
+ */
+import { chiSquareSf } from './distributions';
+import { hacCovariance } from './hac';
+import { cholesky, choleskySolve } from './linalg';
+import type { MomentData } from './moments';
+
+/** Level at which the thin-beta test must reject for the factor not to be flagged. */
+export const THIN_BETA_LEVEL = 0.1;
+
+export interface ThinBetaTest {
+  readonly stat: number;
+  readonly df: number;
+  readonly p: number;
+  /** true: betas jointly indistinguishable from zero at 10%. */
+  readonly flag: boolean;
+}
+
+/** The thin-beta test for factor k on precomputed moments; null when Var(Ĉ_k) is singular. */
+export function thinBetaTest(m: MomentData, k: number, lags: number): ThinBetaTest | null {
+  const { T, N, K, R, Fc, meanR, covRF } = m;
+  const z = new Float64Array(T * N);
+  for (let t = 0; t < T; t++) {
+    const f = Fc[t * K + k];
+    const row = t * N;
+    for (let i = 0; i < N; i++) z[row + i] = (R[row + i] - meanR[i]) * f - covRF[i * K + k];
+  }
+  const V = hacCovariance(z, T, N, lags);
+  const L = cholesky(V, N);
+  if (!L) return null;
+  const c = Float64Array.from({ length: N }, (_, i) => covRF[i * K + k]);
+  const x = choleskySolve(L, N, c, 1);
+  let stat = 0;
+  for (let i = 0; i < N; i++) stat += c[i] * x[i];
+  stat = Math.max(0, stat * T);
+  const p = chiSquareSf(stat, N);
+  return { stat, df: N, p, flag: p >= THIN_BETA_LEVEL };
+}

@@ -1,0 +1,242 @@
+#!/usr/bin/python3
+"""Independent reference for lib/gmm, written straight from /work/shared/methods.md with numpy,
+scipy and statsmodels (Debian python3 packages). It does not follow the TypeScript code: HAC is
+the textbook Gamma_j sum (checked against statsmodels' S_hac_simple), regressions use statsmodels
+OLS with cov_type='HAC' (use_correction=False), solves use numpy.linalg.
+
+usage: /usr/bin/python3 gmm_reference.py IN.json OUT.json
+IN: {returns: T x N, factors: T x K, traded: [bool], lags: int, stage, weighting, form,
+     factorMeansKnown, fmIntercept, dropSets: [[k,...],...], level}
+"""
+import json
+import sys
+
+import numpy as np
+from scipy import stats
+import statsmodels.api as sm
+from statsmodels.stats import sandwich_covariance as sw
+
+
+def hac(x, L, demean=False):
+    """Newey-West (1987): S = G0 + sum_j w_j (Gj + Gj'), Gj = (1/T) sum_{t>j} x_t x_{t-j}'."""
+    x = np.asarray(x, dtype=float)
+    if x.ndim == 1:
+        x = x[:, None]
+    if demean:
+        x = x - x.mean(axis=0)
+    T = x.shape[0]
+    S = x.T @ x / T
+    for j in range(1, L + 1):
+        G = x[j:].T @ x[:-j] / T
+        S = S + (1.0 - j / (L + 1.0)) * (G + G.T)
+    return S
+
+
+def hac_statsmodels(x, L):
+    """statsmodels' own Bartlett HAC (no division by T inside), divided by T."""
+    x = np.asarray(x, dtype=float)
+    return sw.S_hac_simple(x, nlags=L) / x.shape[0]
+
+
+def gmm(R, F, L, stage, weighting, form, means_known, drop_sets):
+    T, N = R.shape
+    K = F.shape[1]
+    ER = R.mean(axis=0)
+    mu = F.mean(axis=0)
+    Fd = F - mu
+    Sf = Fd.T @ Fd / T
+    C = (R - ER).T @ Fd / T               # Cov_T(R, f)
+    D = R.T @ F / T                       # E_T[R f']
+    X = C if form == 'centred' else D
+    ERR = R.T @ R / T
+
+    def h_series(b):
+        if form == 'uncentred':
+            return R * (1.0 - F @ b)[:, None]
+        e = R * (1.0 - Fd @ b)[:, None]
+        if means_known:
+            return e
+        return e + np.outer(Fd @ b, ER)    # + E[R] b'(f - mu)
+
+    def solve_w(W):
+        A = X.T @ W @ X
+        H = np.linalg.solve(A, X.T @ W)
+        return H @ ER, H
+
+    W1 = np.eye(N) if weighting == 'identity' else np.linalg.inv(ERR)
+    b1, H = solve_w(W1)
+    b, W, S_w, iters, conv = b1, W1, None, 0, True
+    if stage != 'first':
+        cap = 100 if stage == 'iterated' else 1
+        conv = stage != 'iterated'
+        for it in range(1, cap + 1):
+            S_w = hac(h_series(b), L)
+            W = np.linalg.inv(S_w)
+            bn, H = solve_w(W)
+            move = np.max(np.abs(bn - b))
+            b = bn
+            iters = it
+            if stage == 'iterated' and move < 1e-10:
+                conv = True
+                break
+    alpha = ER - X @ b
+    h = h_series(b)
+    Sb = hac(h, L)
+    psi_b = h @ H.T
+    covB = hac(psi_b, L) / T               # (1/T) LRV(psi_b)
+    M = np.eye(N) - X @ H
+    covA = M @ Sb @ M.T / T
+    df = N - K
+    if stage == 'first':
+        w, V = np.linalg.eigh(covA)
+        order = np.argsort(w)[::-1][:df]
+        P = (V[:, order] / w[order]) @ V[:, order].T if df > 0 else np.zeros((N, N))
+        J = float(alpha @ P @ alpha) if df > 0 else 0.0
+    else:
+        J = float(T * alpha @ np.linalg.solve(S_w, alpha))
+    # premia
+    if form == 'centred':
+        lam = Sf @ b
+        psi_l = psi_b @ Sf.T + np.outer(Fd @ b, np.ones(K)) * Fd - lam
+    else:
+        c = 1.0 - mu @ b
+        lam = Sf @ b / c
+        A = Sf + np.outer(lam, mu)
+        psi_l = (psi_b @ A.T + Fd * (Fd @ b)[:, None] - Sf @ b + np.outer(Fd @ b, lam)) / c
+    covL = hac(psi_l, L) / T
+    # drop tests with W* from the unrestricted second stage
+    drops = []
+    if stage != 'first':
+        Wstar = np.linalg.inv(S_w)
+        def q(cols):
+            if len(cols) == 0:
+                g = ER
+            else:
+                Xr = X[:, cols]
+                br = np.linalg.solve(Xr.T @ Wstar @ Xr, Xr.T @ Wstar @ ER)
+                g = ER - Xr @ br
+            return float(g @ Wstar @ g)
+        qu = q(list(range(K)))
+        for S in drop_sets:
+            keep = [k for k in range(K) if k not in S]
+            Dst = T * (q(keep) - qu)
+            drops.append({'stat': Dst, 'df': len(S), 'p': float(stats.chi2.sf(Dst, len(S)))})
+    walds = []
+    for S in drop_sets:
+        bs = b[S]
+        Vs = covB[np.ix_(S, S)]
+        st = float(bs @ np.linalg.solve(Vs, bs))
+        walds.append({'stat': st, 'df': len(S), 'p': float(stats.chi2.sf(st, len(S)))})
+    # HJ distance at the second-moment-weighted first stage
+    Wh = np.linalg.inv(ERR)
+    bh = np.linalg.solve(X.T @ Wh @ X, X.T @ Wh @ ER)
+    ah = ER - X @ bh
+    hj = float(np.sqrt(ah @ Wh @ ah))
+    return {
+        'b': b.tolist(), 'bFirst': b1.tolist(), 'covB': covB.tolist(), 'covBFromS': (H @ Sb @ H.T / T).tolist(),
+        'alpha': alpha.tolist(), 'covAlpha': covA.tolist(), 'J': J, 'Jdf': df, 'Jp': float(stats.chi2.sf(J, df)) if df > 0 else 1.0,
+        'iterations': iters, 'converged': conv,
+        'lambda': lam.tolist(), 'covLambda': covL.tolist(), 'drops': drops, 'walds': walds, 'hj': hj,
+        'S_b': Sb.tolist(),
+    }
+
+
+def spanning(F, k_set, L):
+    """Regress each factor in k_set on a constant and the other factors (statsmodels OLS HAC)."""
+    T, K = F.shape
+    others = [k for k in range(K) if k not in k_set]
+    X = np.column_stack([np.ones(T)] + [F[:, j] for j in others])
+    alphas, psis = [], []
+    singles = []
+    for k in k_set:
+        res = sm.OLS(F[:, k], X).fit(cov_type='HAC', cov_kwds={'maxlags': L, 'use_correction': False})
+        alphas.append(res.params[0])
+        singles.append({'alpha': float(res.params[0]), 'se': float(res.bse[0])})
+        # intercept influence: first row of (X'X/T)^{-1} times x_t e_t
+        Qi = np.linalg.inv(X.T @ X / T)
+        psis.append((X * res.resid[:, None]) @ Qi[0])
+    a = np.array(alphas)
+    Psi = np.column_stack(psis)
+    V = hac(Psi, L) / T
+    stat = float(a @ np.linalg.solve(V, a))
+    return singles, {'alpha': a.tolist(), 'stat': stat, 'p': float(stats.chi2.sf(stat, len(k_set)))}
+
+
+def thin_beta(R, F, k, L):
+    T, N = R.shape
+    Rd = R - R.mean(axis=0)
+    fk = F[:, k] - F[:, k].mean()
+    Ck = Rd.T @ fk / T
+    z = Rd * fk[:, None] - Ck
+    V = hac(z, L) / T
+    stat = float(Ck @ np.linalg.solve(V, Ck))
+    return {'stat': stat, 'df': N, 'p': float(stats.chi2.sf(stat, N))}
+
+
+def grs(R, F):
+    T, N = R.shape
+    K = F.shape[1]
+    X = sm.add_constant(F, prepend=True)
+    alpha, resid = [], []
+    for i in range(N):
+        res = sm.OLS(R[:, i], X).fit()
+        alpha.append(res.params[0])
+        resid.append(res.resid)
+    alpha = np.array(alpha)
+    E = np.column_stack(resid)
+    Sigma = E.T @ E / (T - K - 1)
+    mu = F.mean(axis=0)
+    Omega = np.cov(F, rowvar=False, ddof=1).reshape(K, K)
+    stat = (T / N) * ((T - N - K) / (T - K - 1)) * float(alpha @ np.linalg.solve(Sigma, alpha)) / (1 + float(mu @ np.linalg.solve(Omega, mu)))
+    return {'stat': stat, 'df1': N, 'df2': T - N - K, 'p': float(stats.f.sf(stat, N, T - N - K)), 'alpha': alpha.tolist()}
+
+
+def fama_macbeth(R, F, intercept):
+    T, N = R.shape
+    K = F.shape[1]
+    X = sm.add_constant(F, prepend=True)
+    betas = np.array([np.linalg.lstsq(X, R[:, i], rcond=None)[0][1:] for i in range(N)])  # N x K
+    Z = np.column_stack([np.ones(N), betas]) if intercept else betas
+    lams = np.array([np.linalg.lstsq(Z, R[t], rcond=None)[0] for t in range(T)])
+    lam = lams.mean(axis=0)
+    Vfm = np.cov(lams, rowvar=False, ddof=1).reshape(Z.shape[1], Z.shape[1]) / T
+    Fd = F - F.mean(axis=0)
+    Sf = Fd.T @ Fd / T
+    off = 1 if intercept else 0
+    lf = lam[off:]
+    c = float(lf @ np.linalg.solve(Sf, lf))
+    Vsh = (1 + c) * Vfm
+    Vsh[off:, off:] += Sf / T
+    return {'lambda': lam.tolist(), 'se': np.sqrt(np.diag(Vfm)).tolist(), 'seShanken': np.sqrt(np.diag(Vsh)).tolist(), 'c': c}
+
+
+def main():
+    inp = json.load(open(sys.argv[1]))
+    R = np.array(inp['returns'], dtype=float)
+    F = np.array(inp['factors'], dtype=float)
+    L = int(inp['lags'])
+    out = {}
+    out['gmm'] = gmm(R, F, L, inp['stage'], inp['weighting'], inp['form'], inp['factorMeansKnown'],
+                     [list(s) for s in inp.get('dropSets', [])])
+    # HAC of the second-stage moment series both ways (textbook sum and statsmodels)
+    out['hacSelf'] = hac(R, L).tolist()
+    out['hacStatsmodels'] = hac_statsmodels(R, L).tolist()
+    out['hacDemeaned'] = hac(R, L, demean=True).tolist()
+    K = F.shape[1]
+    traded = inp['traded']
+    out['spanning'] = [spanning(F, [k], L)[0][0] if traded[k] else None for k in range(K)]
+    out['spanningZ'] = [spanning(F, [k], L)[1] if traded[k] else None for k in range(K)]
+    js = inp.get('jointSpanning')
+    out['jointSpanning'] = spanning(F, js, L)[1] if js else None
+    out['thinBeta'] = [thin_beta(R, F, k, L) for k in range(K)]
+    out['grs'] = grs(R, F) if all(traded) else None
+    out['famaMacBeth'] = fama_macbeth(R, F, bool(inp.get('fmIntercept', False)))
+    # OLS of mean returns on covariances without intercept (identity check for W = I)
+    ER = R.mean(axis=0)
+    C = (R - ER).T @ (F - F.mean(axis=0)) / R.shape[0]
+    out['olsMeanOnCov'] = np.linalg.lstsq(C, ER, rcond=None)[0].tolist()
+    json.dump(out, open(sys.argv[2], 'w'))
+
+
+if __name__ == '__main__':
+    main()
