@@ -1,0 +1,118 @@
+/**
+ * Subset sweep (lib/gmm/subset-sweep.ts).
+ * Checks: (1) identity against brute force — every subset's HJ distance equals the ledger's HJ on
+ * that subset alone, and its drop statistic equals the ledger's joint drop test of the complement
+ * in the full model (same formulas computed the long way by estimateLedger); (2) a seeded
+ * simulation with known truth where two of six candidates price the assets and the other four are
+ * noise: the true pair ranks first among two-factor models and is the smallest model the drop test
+ * does not reject; (3) input errors.
+ */
+import { describe, expect, it } from 'vitest';
+import { estimateLedger } from '../../lib/gmm/ledger';
+import { evaluateSubsets, prepareSubsetSweep, subsetFactors, subsetSweep, summariseSubsetSweep, type SubsetSweepInput } from '../../lib/gmm/subset-sweep';
+import { GmmInputError } from '../../lib/gmm/errors';
+import { normalSampler, simulateEconomy } from './helpers';
+
+const names = ['A', 'B', 'C', 'D'];
+
+describe('subset sweep against brute force (identity)', () => {
+  const e = simulateEconomy({ T: 300, N: 10, K: 4, seed: 21 });
+  const input: SubsetSweepInput = {
+    returns: e.returns,
+    factors: e.factors,
+    factorNames: names,
+    options: { lags: 3, form: 'centred', factorMeansKnown: false, weighting: 'identity' },
+  };
+  const plan = prepareSubsetSweep(input);
+  const rows = evaluateSubsets(plan, 1, 16);
+
+  it('evaluates all 15 subsets', () => {
+    expect(rows.map((r) => r.mask)).toEqual(Array.from({ length: 15 }, (_, i) => i + 1));
+    expect(subsetFactors(5, ['A', 'B', 'C'])).toEqual(['A', 'C']); // TSDoc example
+  });
+
+  for (const mask of [1, 6, 11, 15]) {
+    it(`mask ${mask}: HJ equals the ledger on the subset; D equals the ledger's joint drop of the complement`, () => {
+      const row = rows.find((r) => r.mask === mask)!;
+      const sub = subsetFactors(mask, names);
+      const idx = sub.map((n) => names.indexOf(n));
+      const ledgerSub = estimateLedger({
+        assetNames: e.returns[0].map((_, i) => `P${i + 1}`),
+        returns: e.returns,
+        factorNames: sub,
+        factors: e.factors.map((f) => idx.map((k) => f[k])),
+        traded: sub.map(() => true),
+        options: { stage: 'first', weighting: 'second-moment', lags: 3, form: 'centred', factorMeansKnown: false, level: 0.05 },
+      });
+      expect(row.hj).toBeCloseTo(ledgerSub.hj!, 12);
+      const complement = names.filter((n) => !sub.includes(n));
+      if (complement.length === 0) {
+        expect(row.drop).toBe(0);
+        expect(row.p).toBe(1);
+        return;
+      }
+      const full = estimateLedger({
+        assetNames: e.returns[0].map((_, i) => `P${i + 1}`),
+        returns: e.returns,
+        factorNames: names,
+        factors: e.factors,
+        traded: names.map(() => true),
+        options: { stage: 'second', weighting: 'identity', lags: 3, form: 'centred', factorMeansKnown: false, level: 0.05, dropSet: complement },
+      });
+      const d = full.jointDrop!.chi2Drop!;
+      expect(row.drop! / d.stat).toBeCloseTo(1, 9);
+      expect(row.df).toBe(d.df);
+      expect(row.p).toBeCloseTo(d.p, 9);
+    });
+  }
+
+  it('chunked evaluation summarises to the same result as one pass', () => {
+    const one = subsetSweep(input);
+    const chunked = summariseSubsetSweep(plan, [...evaluateSubsets(plan, 9, 16), ...evaluateSubsets(plan, 1, 9)], input.options);
+    expect(chunked).toEqual(one);
+    expect(one.models).toBe(15);
+    // HJ weakly falls as factors are added (nested models, same weighting): best of size 4 ≤ best of size 1
+    expect(one.bestByHj[3].models[0].hj).toBeLessThanOrEqual(one.bestByHj[0].models[0].hj);
+  });
+});
+
+describe('subset sweep with known truth', () => {
+  it('ranks the two pricing factors first among two-factor models and as the smallest adequate model', () => {
+    // Invented economy: factors 1 and 4 (B, E) carry premia and move returns; A, C, D, F are noise
+    // series unrelated to returns. E[R] = β λ exactly (no pricing error).
+    const T = 600;
+    const N = 12;
+    const z = normalSampler(77);
+    const lam = [0.01, 0.008];
+    const sd = [0.04, 0.03];
+    const betas = Array.from({ length: N }, (_, i) => [0.3 + (1.4 * i) / N, 1.6 - (1.3 * ((i * 5) % N)) / N]);
+    const factors: number[][] = [];
+    const returns: number[][] = [];
+    for (let t = 0; t < T; t++) {
+      const f = [lam[0] + sd[0] * z(), lam[1] + sd[1] * z()];
+      const noise = [0.03 * z(), 0.03 * z(), 0.03 * z(), 0.03 * z()];
+      factors.push([noise[0], f[0], noise[1], noise[2], f[1], noise[3]]);
+      returns.push(betas.map((b) => b[0] * f[0] + b[1] * f[1] + 0.01 * z()));
+    }
+    const cand = ['A', 'B', 'C', 'D', 'E', 'F'];
+    const r = subsetSweep({ returns, factors, factorNames: cand, options: { lags: 0, form: 'centred', factorMeansKnown: false, weighting: 'identity' } });
+    expect(r.models).toBe(63);
+    expect(r.bestByHj[1].models[0].factors).toEqual(['B', 'E']);
+    expect(r.bestByDrop[1].models[0].factors).toEqual(['B', 'E']);
+    expect(r.adequate[0].factors).toEqual(['B', 'E']);
+    // every one-factor model is rejected against the full model
+    for (const m of r.bestByDrop[0].models) expect(m.p).toBeLessThan(0.05);
+    // B and E appear most often among the listed best models
+    const freq = [...r.factorFrequency].sort((a, b) => b.share - a.share);
+    expect(new Set(freq.slice(0, 2).map((f) => f.name))).toEqual(new Set(['B', 'E']));
+  });
+});
+
+describe('subset sweep input errors', () => {
+  it('refuses more than 15 candidates with a named error', () => {
+    const e = simulateEconomy({ T: 200, N: 5, K: 16, seed: 2 });
+    expect(() =>
+      subsetSweep({ returns: e.returns, factors: e.factors, factorNames: e.factors[0].map((_, k) => `F${k}`), options: { lags: 0, form: 'centred', factorMeansKnown: false, weighting: 'identity' } }),
+    ).toThrow(GmmInputError);
+  });
+});

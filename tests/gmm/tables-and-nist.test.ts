@@ -1,0 +1,123 @@
+/**
+ * Distribution quantiles against printed tables and least squares against NIST StRD certified
+ * values (Longley data).
+ */
+import { spawnSync } from 'node:child_process';
+import { describe, expect, it } from 'vitest';
+import { chiSquareQuantile, chiSquareSf, fQuantile, fSf, normalQuantile, normalTwoSidedP, olsFit } from '../../lib/gmm/index';
+
+describe('quantiles against printed tables', () => {
+  // Source: the χ² table in Abramowitz, M. and Stegun, I. A. (1964), Handbook of Mathematical
+  // Functions, Table 26.8 (percentage points of the χ² distribution), and the same values in the
+  // NIST/SEMATECH e-Handbook of Statistical Methods, §1.3.6.7.4 (critical values of χ²).
+  // Values quoted from memory of those tables (3 decimals as printed).
+  it('χ²₀.₉₅(1) = 3.841, χ²₀.₉₅(10) = 18.307, χ²₀.₉₉(5) = 15.086', () => {
+    expect(chiSquareQuantile(0.95, 1)).toBeCloseTo(3.841, 3);
+    expect(chiSquareQuantile(0.95, 10)).toBeCloseTo(18.307, 3);
+    expect(chiSquareQuantile(0.99, 5)).toBeCloseTo(15.086, 3);
+    // stack notes: chisquare.inv(0.95, 1) = 3.841458820645 (checked on this machine)
+    expect(chiSquareQuantile(0.95, 1)).toBeCloseTo(3.841458820645, 10);
+    // and the upper tail used for p-values inverts it
+    expect(chiSquareSf(18.307, 10)).toBeCloseTo(0.05, 4);
+  });
+
+  // Source: F table, NIST/SEMATECH e-Handbook §1.3.6.7.3 (upper critical values of the F
+  // distribution, α = 0.05, ν1 = 5, ν2 = 100: 2.305). From memory of that table.
+  it('F₀.₉₅(5, 100) ≈ 2.305 and F₀.₉₅(1, 10) = 4.965', () => {
+    expect(fQuantile(0.95, 5, 100)).toBeCloseTo(2.305, 3);
+    // Abramowitz and Stegun Table 26.9 / any F table: F₀.₉₅(1, 10) = 4.96 (4.965 to 3 d.p.), from memory
+    expect(fQuantile(0.95, 1, 10)).toBeCloseTo(4.965, 3);
+    expect(fSf(2.305, 5, 100)).toBeCloseTo(0.05, 3);
+  });
+
+  // Source: standard normal table (any statistics text): z₀.₉₇₅ = 1.960, two-sided p at 1.96 = 0.05.
+  it('normal: z₀.₉₇₅ = 1.960; two-sided p(1.96) = 0.050', () => {
+    expect(normalQuantile(0.975)).toBeCloseTo(1.96, 3);
+    expect(normalTwoSidedP(1.959963984540054)).toBeCloseTo(0.05, 12);
+  });
+
+  // Identity: an F(1, ν) variable is the square of a t(ν): F₀.₉₅(1, ν) = t₀.₉₇₅(ν)². And χ²(df)/df
+  // is the limit of F(df, ν) as ν → ∞.
+  it('F(1, ν) = t(ν)² and F(df, ∞) = χ²(df)/df', () => {
+    expect(fSf(2.228138851986274 ** 2, 1, 10)).toBeCloseTo(0.05, 10); // t₀.₉₇₅(10) = 2.228 (t table)
+    expect(fSf(3.841458820694124, 1, 1e9)).toBeCloseTo(0.05, 6);
+  });
+
+  it('degenerate inputs give limits, never NaN', () => {
+    expect(chiSquareSf(0, 0)).toBe(1);
+    expect(chiSquareSf(-1, 3)).toBe(1);
+    expect(fSf(Infinity, 2, 3)).toBe(0);
+    expect(normalTwoSidedP(Infinity)).toBe(0);
+  });
+});
+
+// NIST Statistical Reference Datasets, Linear Least Squares, "Longley" (higher difficulty),
+// https://www.itl.nist.gov/div898/strd/lls/data/Longley.shtml. Data: Longley (1967, JASA 62,
+// 819–841), as shipped in Debian's python3-statsmodels (statsmodels/datasets/longley/longley.csv).
+// Certified values: from memory of the NIST page, identical to the transcription in
+// statsmodels/regression/tests/results/results_regression.py (class Longley); cross-checked
+// below with numpy.linalg.lstsq.
+const LONGLEY = [
+  // y=TOTEMP, GNPDEFL, GNP, UNEMP, ARMED, POP, YEAR
+  [60323, 83, 234289, 2356, 1590, 107608, 1947],
+  [61122, 88.5, 259426, 2325, 1456, 108632, 1948],
+  [60171, 88.2, 258054, 3682, 1616, 109773, 1949],
+  [61187, 89.5, 284599, 3351, 1650, 110929, 1950],
+  [63221, 96.2, 328975, 2099, 3099, 112075, 1951],
+  [63639, 98.1, 346999, 1932, 3594, 113270, 1952],
+  [64989, 99, 365385, 1870, 3547, 115094, 1953],
+  [63761, 100, 363112, 3578, 3350, 116219, 1954],
+  [66019, 101.2, 397469, 2904, 3048, 117388, 1955],
+  [67857, 104.6, 419180, 2822, 2857, 118734, 1956],
+  [68169, 108.4, 442769, 2936, 2798, 120445, 1957],
+  [66513, 110.8, 444546, 4681, 2637, 121950, 1958],
+  [68655, 112.6, 482704, 3813, 2552, 123366, 1959],
+  [69564, 114.2, 502601, 3931, 2514, 125368, 1960],
+  [69331, 115.7, 518173, 4806, 2572, 127852, 1961],
+  [70551, 116.9, 554894, 4007, 2827, 130081, 1962],
+];
+const CERT_COEF = [-3482258.63459582, 15.0618722713733, -0.358191792925910e-1, -2.02022980381683, -1.03322686717359, -0.511041056535807e-1, 1829.15146461355];
+const CERT_SE = [890420.383607373, 84.9149257747669, 0.334910077722432e-1, 0.488399681651699, 0.214274163161675, 0.226073200069370, 455.478499142212];
+const CERT_RESID_SD = 304.854073561965;
+const CERT_R2 = 0.995479004577296;
+
+// Log relative error (number of correct significant digits), the NIST StRD measure.
+const lre = (a: number, c: number) => -Math.log10(Math.abs(a - c) / Math.abs(c));
+
+describe('least squares against NIST StRD Longley certified values', () => {
+  const y = LONGLEY.map((r) => r[0]);
+  const X = LONGLEY.map((r) => [1, ...r.slice(1)]);
+  const fit = olsFit(y, X);
+  if (!fit.ok) throw new Error('singular');
+
+  it('coefficients and standard errors to ≥ 8 significant digits (LRE ≥ 8)', () => {
+    for (let j = 0; j < 7; j++) {
+      expect(lre(fit.coef[j], CERT_COEF[j])).toBeGreaterThanOrEqual(8);
+      expect(lre(fit.se[j], CERT_SE[j])).toBeGreaterThanOrEqual(8);
+    }
+    expect(lre(fit.residualSd, CERT_RESID_SD)).toBeGreaterThanOrEqual(8);
+    expect(lre(fit.rSquared, CERT_R2)).toBeGreaterThanOrEqual(8);
+    expect(fit.dfResidual).toBe(9);
+  });
+
+  it('the values typed in from memory agree with numpy.linalg.lstsq on the same data', () => {
+    const py = `import json,sys,numpy as np
+d=np.array(json.load(sys.stdin)); y=d[:,0]; X=np.column_stack([np.ones(len(y)), d[:,1:]])
+b,res,rk,sv=np.linalg.lstsq(X,y,rcond=None); e=y-X@b; s2=e@e/(len(y)-X.shape[1])
+q,r=np.linalg.qr(X); ri=np.linalg.inv(r); se=np.sqrt(np.diag(ri@ri.T)*s2)
+print(json.dumps({'b':b.tolist(),'se':se.tolist()}))`;
+    const r = spawnSync('/usr/bin/python3', ['-c', py], { input: JSON.stringify(LONGLEY), encoding: 'utf8' });
+    expect(r.status).toBe(0);
+    const np = JSON.parse(r.stdout);
+    for (let j = 0; j < 7; j++) {
+      expect(lre(np.b[j], CERT_COEF[j])).toBeGreaterThanOrEqual(7);
+      expect(lre(np.se[j], CERT_SE[j])).toBeGreaterThanOrEqual(7);
+    }
+  });
+
+  it('the module example: y = 1 + 2x exactly', () => {
+    const f = olsFit([3, 5, 7, 9], [[1, 1], [1, 2], [1, 3], [1, 4]]);
+    expect(f.ok && f.coef[0]).toBeCloseTo(1, 12);
+    expect(f.ok && f.coef[1]).toBeCloseTo(2, 12);
+  });
+});
