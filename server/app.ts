@@ -19,6 +19,10 @@ import type { User } from '../shared/auth';
 import { KEELSON_VERSION } from './version';
 import { registerAuthRoutes } from './routes/auth';
 import { registerAdminRoutes } from './routes/admin';
+import { registerSpecRoutes } from './routes/specs';
+import { registerRunRoutes } from './routes/runs';
+import { registerReviewRoutes } from './routes/review';
+import { registerLibraryRoutes } from './routes/libraries';
 
 export interface AppOptions {
   db: Db;
@@ -148,6 +152,10 @@ export function createApp(opts: AppOptions): KeelsonApp {
   });
   registerAuthRoutes(api, deps);
   registerAdminRoutes(api, deps);
+  registerSpecRoutes(api, deps);
+  registerRunRoutes(api, deps);
+  registerReviewRoutes(api, deps);
+  registerLibraryRoutes(api, deps);
   api.router.use(notFoundApi);
   api.router.use(errorHandler);
   assertEveryRouteDeclaresAccess(api);

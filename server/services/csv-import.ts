@@ -1,0 +1,363 @@
+/**
+ * Parses and checks an uploaded return-library CSV: a `date` column and one column per series.
+ *
+ * Accepted: comma, semicolon or tab separators (detected by papaparse), a UTF-8 byte-order mark,
+ * CRLF or LF line ends, monthly dates (YYYY-MM, YYYYMM) or daily dates (YYYY-MM-DD, YYYYMMDD),
+ * missing values as an empty cell or NA / N/A / NaN / null. Rows out of date order are sorted
+ * ascending and the preview says so. Everything else that is wrong is refused with a list of
+ * `{ row, column, message }` issues (row = line of the file, the header is row 1).
+ */
+import Papa from 'papaparse';
+import { KeelsonApiError, type ErrorIssue } from '../../shared/errors';
+import {
+  MAX_COLUMNS,
+  type Frequency,
+  type SeriesKind,
+  type SeriesStats,
+  type UploadColumn,
+  type UploadWarning,
+  type Units,
+} from '../../shared/libraries';
+
+export interface ParsedCsv {
+  readonly frequency: Frequency;
+  /** Series column names (the date column excluded), in file order. */
+  readonly columns: string[];
+  /** Ascending dates, YYYY-MM or YYYY-MM-DD. */
+  readonly dates: string[];
+  /** One array per column, in the file's own units, NaN for missing. */
+  readonly values: Float64Array[];
+  readonly units: Units;
+  readonly warnings: UploadWarning[];
+  readonly series: UploadColumn[];
+}
+
+const MAX_ISSUES = 50;
+const MISSING = new Set(['', 'na', 'n/a', 'nan', 'null', '#n/a']);
+const NUMBER_RE = /^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$/;
+/** Median |x| above which a column looks like percent (monthly decimal returns sit near 0.03, percent near 3). */
+const PERCENT_SCALE = 0.15;
+/** How far (in multiples) a column's scale must sit from the others' to be flagged. */
+const SCALE_RATIO = 30;
+const JUMP_SD = 10;
+
+function issue(row: number | undefined, column: string | undefined, message: string): ErrorIssue {
+  return { path: [], message, ...(row !== undefined ? { row } : {}), ...(column !== undefined ? { column } : {}) };
+}
+
+function refuse(issues: ErrorIssue[], status: 'unprocessable' | 'bad_request' = 'unprocessable'): never {
+  const first = issues[0]!;
+  const more = issues.length > 1 ? ` (and ${issues.length - 1} more problem${issues.length > 2 ? 's' : ''})` : '';
+  throw new KeelsonApiError(status, `${first.message}${more}. Nothing was saved.`, issues);
+}
+
+function quoteCell(s: string): string {
+  const t = s.length > 40 ? `${s.slice(0, 40)}…` : s;
+  return JSON.stringify(t);
+}
+
+function daysInMonth(y: number, m: number): number {
+  return new Date(Date.UTC(y, m, 0)).getUTCDate();
+}
+
+/** Parses one date cell into a canonical string and its frequency, or null. */
+export function parseDateCell(raw: string): { date: string; frequency: Frequency } | null {
+  const s = raw.trim();
+  let y: number, m: number, d: number | undefined;
+  let r: RegExpExecArray | null;
+  if ((r = /^(\d{4})-(\d{2})-(\d{2})$/.exec(s)) || (r = /^(\d{4})(\d{2})(\d{2})$/.exec(s))) {
+    y = Number(r[1]);
+    m = Number(r[2]);
+    d = Number(r[3]);
+  } else if ((r = /^(\d{4})-(\d{1,2})$/.exec(s)) || (r = /^(\d{4})(\d{2})$/.exec(s))) {
+    y = Number(r[1]);
+    m = Number(r[2]);
+  } else return null;
+  if (y < 1800 || y > 2200 || m < 1 || m > 12) return null;
+  const mm = String(m).padStart(2, '0');
+  if (d === undefined) return { date: `${y}-${mm}`, frequency: 'monthly' };
+  if (d < 1 || d > daysInMonth(y, m)) return null;
+  return { date: `${y}-${mm}-${String(d).padStart(2, '0')}`, frequency: 'daily' };
+}
+
+/** count, missing, mean, sd (divisor T), min, max of a column; NaN = missing. */
+export function columnStats(v: Float64Array | readonly number[]): SeriesStats {
+  let n = 0;
+  let sum = 0;
+  let min = Infinity;
+  let max = -Infinity;
+  for (let i = 0; i < v.length; i++) {
+    const x = v[i]!;
+    if (Number.isNaN(x)) continue;
+    n++;
+    sum += x;
+    if (x < min) min = x;
+    if (x > max) max = x;
+  }
+  if (n === 0) return { count: 0, missing: v.length, mean: null, sd: null, min: null, max: null };
+  const mean = sum / n;
+  let ss = 0;
+  for (let i = 0; i < v.length; i++) {
+    const x = v[i]!;
+    if (!Number.isNaN(x)) ss += (x - mean) * (x - mean);
+  }
+  return { count: n, missing: v.length - n, mean, sd: Math.sqrt(ss / n), min, max };
+}
+
+function medianAbs(v: Float64Array): number | null {
+  const a: number[] = [];
+  for (const x of v) if (!Number.isNaN(x)) a.push(Math.abs(x));
+  if (a.length === 0) return null;
+  a.sort((p, q) => p - q);
+  const h = a.length >> 1;
+  return a.length % 2 ? a[h]! : (a[h - 1]! + a[h]!) / 2;
+}
+
+function median(a: number[]): number {
+  const s = [...a].sort((p, q) => p - q);
+  const h = s.length >> 1;
+  return s.length % 2 ? s[h]! : (s[h - 1]! + s[h]!) / 2;
+}
+
+export function suggestKind(name: string): SeriesKind {
+  return /^(rf|r_f|riskfree|risk[-_ ]?free|t[-_ ]?bill|cash)$/i.test(name.trim()) ? 'rf' : 'asset';
+}
+
+function decodeText(buf: Buffer): string {
+  if (buf.length === 0) refuse([issue(undefined, undefined, 'The file is empty')], 'bad_request');
+  if (buf[0] === 0x50 && buf[1] === 0x4b) {
+    refuse([issue(undefined, undefined, 'The file is a zipped workbook, not a CSV: save it as CSV (comma- or semicolon-separated) first')], 'bad_request');
+  }
+  if (buf.subarray(0, 8192).includes(0)) {
+    refuse([issue(undefined, undefined, 'The file is not a text CSV (it holds binary data)')], 'bad_request');
+  }
+  let text: string;
+  try {
+    text = new TextDecoder('utf-8', { fatal: true }).decode(buf);
+  } catch {
+    refuse([issue(undefined, undefined, 'The file is not UTF-8 text: save the CSV with UTF-8 encoding')], 'bad_request');
+  }
+  if (text.charCodeAt(0) === 0xfeff) text = text.slice(1);
+  if (text.trim() === '') refuse([issue(undefined, undefined, 'The file is empty')], 'bad_request');
+  return text;
+}
+
+/** Refuses an absurdly wide header before papaparse has to split every row of it. */
+function checkHeaderWidth(text: string): void {
+  const nl = text.indexOf('\n');
+  const first = nl < 0 ? text : text.slice(0, nl);
+  let best = 0;
+  for (const ch of [',', ';', '\t']) {
+    let c = 0;
+    for (let i = first.indexOf(ch); i >= 0; i = first.indexOf(ch, i + 1)) c++;
+    if (c > best) best = c;
+  }
+  if (best > MAX_COLUMNS) {
+    refuse([
+      issue(1, undefined, `The header has ${(best + 1).toLocaleString('en')} columns; a library holds at most ${MAX_COLUMNS.toLocaleString('en')} series`),
+    ]);
+  }
+}
+
+/**
+ * Parses a CSV upload. Throws `KeelsonApiError` (400 for a file that is not CSV text, 422 for
+ * content problems) with `issues` naming row and column; returns the parsed, checked table.
+ */
+export function parseReturnCsv(buf: Buffer): ParsedCsv {
+  const text = decodeText(buf);
+  checkHeaderWidth(text);
+  const parsed = Papa.parse<string[]>(text, { delimitersToGuess: [',', ';', '\t'], skipEmptyLines: false });
+  const issues: ErrorIssue[] = [];
+  for (const e of parsed.errors) {
+    if (e.type === 'Delimiter') continue; // one column only: handled below as "no series columns"
+    issues.push(issue(e.row !== undefined ? e.row + 1 : undefined, undefined, `Row ${e.row !== undefined ? e.row + 1 : '?'}: ${e.message}`));
+    if (issues.length >= 5) break;
+  }
+  if (issues.length) refuse(issues);
+  const data = parsed.data;
+  const header = (data[0] ?? []).map((h) => String(h).trim());
+  if (header.length > MAX_COLUMNS + 1) {
+    refuse([issue(1, undefined, `The header has ${header.length} columns; a library holds at most ${MAX_COLUMNS} series`)]);
+  }
+
+  // Header
+  const dateIdx = header.findIndex((h) => h.toLowerCase() === 'date');
+  if (dateIdx < 0) {
+    const looksLikeData = header.length > 0 && parseDateCell(header[0]!) !== null;
+    refuse([
+      issue(
+        1,
+        undefined,
+        looksLikeData
+          ? 'Row 1 looks like data, not a header: add a header row with a column named date and one name per series'
+          : `No column named date in the header (found ${header.slice(0, 5).map(quoteCell).join(', ')}${header.length > 5 ? ', …' : ''}); the first row must name a date column and one column per series`,
+      ),
+    ]);
+  }
+  const seen = new Map<string, number>();
+  header.forEach((h, j) => {
+    if (h === '') {
+      issues.push(issue(1, `#${j + 1}`, `Row 1, column ${j + 1}: the header cell is empty; give every series a name`));
+      return;
+    }
+    if (h.length > 120) issues.push(issue(1, h.slice(0, 40), `Row 1, column ${j + 1}: the name is longer than 120 characters`));
+    const key = h.toLowerCase();
+    const prev = seen.get(key);
+    if (prev !== undefined) {
+      issues.push(issue(1, h, `Row 1: the column name ${quoteCell(h)} appears twice (columns ${prev + 1} and ${j + 1}); names must be unique`));
+    } else seen.set(key, j);
+  });
+  if (issues.length) refuse(issues.slice(0, MAX_ISSUES));
+  const seriesIdx = header.map((_, j) => j).filter((j) => j !== dateIdx);
+  if (seriesIdx.length === 0) refuse([issue(1, undefined, 'The header has a date column but no series columns (is the file separated by commas, semicolons or tabs?)')]);
+  const columns = seriesIdx.map((j) => header[j]!);
+  const dateName = header[dateIdx]!;
+
+  // Rows
+  const rowDates: string[] = [];
+  const rowLines: number[] = [];
+  const cols: number[][] = columns.map(() => []);
+  let frequency: Frequency | null = null;
+  let frequencyLine = 0;
+  const firstLineOfDate = new Map<string, number>();
+  for (let i = 1; i < data.length && issues.length < MAX_ISSUES; i++) {
+    const row = data[i]!;
+    const line = i + 1;
+    if (row.length === 1 && row[0]!.trim() === '') continue; // blank line
+    if (row.length !== header.length) {
+      issues.push(issue(line, undefined, `Row ${line} has ${row.length} field${row.length === 1 ? '' : 's'}; the header has ${header.length}`));
+      continue;
+    }
+    const rawDate = row[dateIdx]!;
+    const pd = parseDateCell(rawDate);
+    if (!pd) {
+      issues.push(issue(line, dateName, `Row ${line}, column ${dateName}: ${quoteCell(rawDate)} is not a date (use YYYY-MM, YYYYMM or YYYY-MM-DD)`));
+      continue;
+    }
+    if (frequency === null) {
+      frequency = pd.frequency;
+      frequencyLine = line;
+    } else if (pd.frequency !== frequency) {
+      issues.push(
+        issue(line, dateName, `Row ${line}, column ${dateName}: ${pd.frequency} date ${pd.date} among ${frequency} dates (row ${frequencyLine} set the frequency); a library holds one frequency`),
+      );
+      continue;
+    }
+    const dupOf = firstLineOfDate.get(pd.date);
+    if (dupOf !== undefined) {
+      issues.push(issue(line, dateName, `Row ${line}, column ${dateName}: the date ${pd.date} already appears in row ${dupOf}`));
+      continue;
+    }
+    firstLineOfDate.set(pd.date, line);
+    for (let k = 0; k < seriesIdx.length; k++) {
+      const cell = row[seriesIdx[k]!]!.trim();
+      let v: number;
+      if (MISSING.has(cell.toLowerCase())) v = NaN;
+      else if (NUMBER_RE.test(cell)) {
+        v = Number(cell);
+        if (!Number.isFinite(v)) {
+          issues.push(issue(line, columns[k], `Row ${line}, column ${columns[k]}: ${quoteCell(cell)} is too large`));
+          if (issues.length >= MAX_ISSUES) break;
+          continue;
+        }
+      } else {
+        const hint = /^[+-]?\d+,\d+$/.test(cell) ? ' (use a point as the decimal mark)' : cell.endsWith('%') ? ' (drop the % sign; percent is chosen for the whole file)' : '';
+        issues.push(issue(line, columns[k], `Row ${line}, column ${columns[k]}: ${quoteCell(cell)} is not a number${hint}`));
+        if (issues.length >= MAX_ISSUES) break;
+        continue;
+      }
+      cols[k]!.push(v);
+    }
+    rowDates.push(pd.date);
+    rowLines.push(line);
+  }
+  if (issues.length) refuse(issues.slice(0, MAX_ISSUES));
+  if (rowDates.length === 0 || frequency === null) refuse([issue(2, undefined, 'The file has a header but no data rows')]);
+
+  const warnings: UploadWarning[] = [];
+  // Order
+  const T = rowDates.length;
+  let order: number[] | null = null;
+  for (let t = 1; t < T; t++) {
+    if (rowDates[t]! < rowDates[t - 1]!) {
+      order = Array.from({ length: T }, (_, i) => i).sort((a, b) => (rowDates[a]! < rowDates[b]! ? -1 : 1));
+      warnings.push({
+        code: 'sorted',
+        row: rowLines[t],
+        message: `Rows were not in date order (row ${rowLines[t]} comes before row ${rowLines[t - 1]}); Keelson sorted them by date, oldest first`,
+      });
+      break;
+    }
+  }
+  const dates = order ? order.map((i) => rowDates[i]!) : rowDates;
+  const lines = order ? order.map((i) => rowLines[i]!) : rowLines;
+  const values = cols.map((c) => {
+    const out = new Float64Array(T);
+    if (order) for (let t = 0; t < T; t++) out[t] = c[order[t]!]!;
+    else out.set(c);
+    return out;
+  });
+
+  // Columns with no values at all are refused: they cannot be estimated with.
+  values.forEach((v, k) => {
+    if (v.every((x) => Number.isNaN(x))) issues.push(issue(undefined, columns[k], `Column ${columns[k]} has no values at all`));
+  });
+  if (issues.length) refuse(issues.slice(0, MAX_ISSUES));
+
+  // Statistics, units and warnings
+  const stats = values.map(columnStats);
+  const scales = values.map(medianAbs);
+  const known = scales.filter((s): s is number => s !== null && s > 0);
+  const pooled = known.length ? median(known) : 0;
+  const units: Units = pooled > PERCENT_SCALE ? 'percent' : 'decimal';
+  columns.forEach((name, k) => {
+    const s = scales[k];
+    const st = stats[k]!;
+    if (s !== null && s > 0 && known.length > 1) {
+      if (units === 'decimal' && s > PERCENT_SCALE && s > SCALE_RATIO * pooled) {
+        warnings.push({ code: 'percent_among_decimals', column: name, message: `${name} looks like percent among decimals (typical size ${s.toPrecision(3)} against ${pooled.toPrecision(3)})` });
+      } else if (units === 'percent' && s < PERCENT_SCALE && s * SCALE_RATIO < pooled) {
+        warnings.push({ code: 'decimal_among_percent', column: name, message: `${name} looks like decimals among percent (typical size ${s.toPrecision(3)} against ${pooled.toPrecision(3)})` });
+      }
+    }
+    if (st.count >= 2 && st.sd === 0) warnings.push({ code: 'constant', column: name, message: `${name} is constant (${st.mean}) in every row` });
+    if (st.sd !== null && st.sd > 0 && st.mean !== null) {
+      const v = values[k]!;
+      let worst = -1;
+      let worstZ = 0;
+      for (let t = 0; t < T; t++) {
+        const z = Math.abs(v[t]! - st.mean) / st.sd;
+        if (z > worstZ) {
+          worstZ = z;
+          worst = t;
+        }
+      }
+      if (worstZ > JUMP_SD && worst >= 0) {
+        warnings.push({
+          code: 'jump',
+          column: name,
+          row: lines[worst],
+          message: `${name} jumps to ${v[worst]} on ${dates[worst]} (row ${lines[worst]}), ${worstZ.toFixed(1)} standard deviations from its mean`,
+        });
+      }
+    }
+    if (st.missing > 0) warnings.push({ code: 'missing', column: name, message: `${name} has ${st.missing} missing value${st.missing === 1 ? '' : 's'}` });
+  });
+
+  const series: UploadColumn[] = columns.map((name, k) => ({ name, stats: stats[k]!, scale: scales[k] ?? null, suggestedKind: suggestKind(name) }));
+  return { frequency, columns, dates, values, units, warnings, series };
+}
+
+/** Column-major T×N Float64Array blob of the parsed values. */
+export function packColumns(values: readonly Float64Array[], T: number): Buffer {
+  const all = new Float64Array(values.length * T);
+  values.forEach((v, k) => all.set(v, k * T));
+  return Buffer.from(all.buffer, all.byteOffset, all.byteLength);
+}
+
+/** Copies a blob into a fresh (aligned) Float64Array. */
+export function blobToFloat64(buf: Uint8Array): Float64Array {
+  const out = new Float64Array(buf.byteLength / 8);
+  new Uint8Array(out.buffer).set(buf);
+  return out;
+}

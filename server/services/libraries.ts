@@ -1,0 +1,467 @@
+/**
+ * Return libraries: pending uploads, confirm into an edition, listing, sharing, archive, delete.
+ * Routes call these; every multi-row write runs in one transaction.
+ */
+import { randomBytes } from 'node:crypto';
+import Papa from 'papaparse';
+import type { Db } from '../db/client';
+import { inTransaction } from '../db/client';
+import { KeelsonApiError } from '../../shared/errors';
+import type { User } from '../../shared/auth';
+import type {
+  ConfirmResponse,
+  ConfirmUploadBody,
+  EditionDetail,
+  EditionSummary,
+  Frequency,
+  LibraryDetail,
+  LibraryListQuery,
+  LibrarySummary,
+  SeriesKind,
+  Upload,
+  UploadColumn,
+  UploadWarning,
+  Units,
+  Visibility,
+} from '../../shared/libraries';
+import { audit } from './audit';
+import { blobToFloat64, columnStats, packColumns, parseReturnCsv } from './csv-import';
+import { canReadLibrary, editionIsUsed, loadEditionArrays } from './edition-data';
+
+const UPLOAD_TTL_MS = 24 * 3600 * 1000;
+
+interface LibraryRow {
+  id: number;
+  name: string;
+  description: string;
+  visibility: Visibility;
+  ownerId: number | null;
+  ownerName: string | null;
+  lastEditionNumber: number;
+  archivedAt: string | null;
+  createdAt: string;
+}
+
+interface EditionRow {
+  id: number;
+  libraryId: number;
+  number: number;
+  frequency: Frequency;
+  rowCount: number;
+  firstDate: string;
+  lastDate: string;
+  sourceUnits: Units;
+  fileName: string;
+  createdAt: string;
+  createdBy: number | null;
+  createdByName: string | null;
+  seriesCount: number;
+}
+
+interface UploadPreview {
+  units: Units;
+  warnings: UploadWarning[];
+  series: UploadColumn[];
+  rows: number;
+  firstDate: string;
+  lastDate: string;
+}
+
+// ───────────────────────── uploads ─────────────────────────
+
+function purgeExpiredUploads(db: Db): void {
+  db.$client.prepare('delete from library_uploads where expires_at < ?').run(new Date().toISOString());
+}
+
+/** Parses an uploaded CSV and keeps it as a pending upload of `user` (nothing else is written). */
+export function createUpload(db: Db, user: User, file: { name: string; buffer: Buffer }): Upload {
+  const parsed = parseReturnCsv(file.buffer);
+  const id = randomBytes(12).toString('base64url');
+  const T = parsed.dates.length;
+  const preview: UploadPreview = {
+    units: parsed.units,
+    warnings: parsed.warnings,
+    series: parsed.series,
+    rows: T,
+    firstDate: parsed.dates[0]!,
+    lastDate: parsed.dates[T - 1]!,
+  };
+  const expiresAt = new Date(Date.now() + UPLOAD_TTL_MS).toISOString();
+  const fileName = (file.name || 'upload.csv').slice(0, 200);
+  inTransaction(db, (tx) => {
+    purgeExpiredUploads(db);
+    db.$client
+      .prepare(
+        `insert into library_uploads (id, owner_id, file_name, frequency, columns, dates, "values", preview, expires_at)
+         values (?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+      )
+      .run(id, user.id, fileName, parsed.frequency, JSON.stringify(parsed.columns), JSON.stringify(parsed.dates), packColumns(parsed.values, T), JSON.stringify(preview), expiresAt);
+  });
+  return toUpload(id, fileName, parsed.frequency, parsed.columns, preview, expiresAt);
+}
+
+function toUpload(id: string, fileName: string, frequency: Frequency, columns: string[], p: UploadPreview, expiresAt: string): Upload {
+  return {
+    id,
+    fileName,
+    columns,
+    frequency,
+    rows: p.rows,
+    firstDate: p.firstDate,
+    lastDate: p.lastDate,
+    units: p.units,
+    warnings: p.warnings,
+    series: p.series,
+    expiresAt,
+  };
+}
+
+interface UploadRow {
+  id: string;
+  ownerId: number;
+  fileName: string;
+  frequency: Frequency;
+  columns: string;
+  dates: string;
+  values: Buffer;
+  preview: string;
+  expiresAt: string;
+}
+
+function findUpload(db: Db, user: User, id: string): UploadRow {
+  const row = db.$client
+    .prepare(
+      `select id, owner_id as ownerId, file_name as fileName, frequency, columns, dates, "values" as "values", preview, expires_at as expiresAt
+         from library_uploads where id = ?`,
+    )
+    .get(id) as UploadRow | undefined;
+  // Only the uploader sees a pending upload; an expired one is as good as gone.
+  if (!row || row.ownerId !== user.id || row.expiresAt < new Date().toISOString()) {
+    throw new KeelsonApiError('not_found', 'No pending upload with that id (uploads are kept for a day, for the person who uploaded them)');
+  }
+  return row;
+}
+
+export function getUpload(db: Db, user: User, id: string): Upload {
+  const r = findUpload(db, user, id);
+  return toUpload(r.id, r.fileName, r.frequency, JSON.parse(r.columns) as string[], JSON.parse(r.preview) as UploadPreview, r.expiresAt);
+}
+
+export function discardUpload(db: Db, user: User, id: string): void {
+  findUpload(db, user, id);
+  db.$client.prepare('delete from library_uploads where id = ?').run(id);
+}
+
+/** Turns a pending upload into a new library (or a new edition of `body.libraryId`), in one transaction. */
+export function confirmUpload(db: Db, user: User, uploadId: string, body: ConfirmUploadBody): ConfirmResponse {
+  const up = findUpload(db, user, uploadId);
+  const columns = JSON.parse(up.columns) as string[];
+  const dates = JSON.parse(up.dates) as string[];
+  const T = dates.length;
+
+  // Series choices
+  const seen = new Set<string>();
+  const picks = body.series.map((s, i) => {
+    const k = columns.indexOf(s.name);
+    if (k < 0) {
+      throw new KeelsonApiError('validation_failed', `Series ${JSON.stringify(s.name)} is not a column of this upload`, [
+        { path: ['series', i, 'name'], message: `Not a column of the upload (columns: ${columns.slice(0, 8).join(', ')}${columns.length > 8 ? ', …' : ''})` },
+      ]);
+    }
+    if (seen.has(s.name)) {
+      throw new KeelsonApiError('validation_failed', `Series ${JSON.stringify(s.name)} is listed twice`, [{ path: ['series', i, 'name'], message: 'Listed twice' }]);
+    }
+    seen.add(s.name);
+    return { column: k, name: s.name, kind: s.kind as SeriesKind, traded: s.kind === 'factor' ? (s.traded ?? false) : s.kind === 'asset' || s.kind === 'rf' };
+  });
+  if (picks.filter((p) => p.kind === 'rf').length > 1) {
+    throw new KeelsonApiError('validation_failed', 'Mark at most one series as risk-free', [{ path: ['series'], message: 'More than one risk-free series' }]);
+  }
+
+  const all = blobToFloat64(up.values);
+  const scale = body.units === 'percent' ? 0.01 : 1;
+
+  const result = inTransaction(db, (tx) => {
+    const c = db.$client;
+    let libraryId: number;
+    let libraryName: string;
+    if (body.libraryId !== undefined) {
+      const lib = libraryRow(db, body.libraryId);
+      if (!lib || !canReadLibrary(user, lib)) throw new KeelsonApiError('not_found', `No library ${body.libraryId} that you can read`);
+      if (!permissions(user, lib).addEdition) {
+        throw new KeelsonApiError('forbidden', lib.visibility === 'shared' ? 'Only admins add editions to shared libraries' : 'Only the owner or an admin adds editions to a private library');
+      }
+      if (lib.archivedAt) throw new KeelsonApiError('conflict', `Library ${lib.name} is archived; restore it before adding an edition`);
+      if (body.visibility && body.visibility !== lib.visibility) {
+        throw new KeelsonApiError('conflict', `Library ${lib.name} is ${lib.visibility}; an edition keeps the library's visibility (use publish to share a private library)`);
+      }
+      const freq = c.prepare('select frequency from library_editions where library_id = ? order by number desc limit 1').get(lib.id) as { frequency: Frequency } | undefined;
+      if (freq && freq.frequency !== up.frequency) {
+        throw new KeelsonApiError('conflict', `Library ${lib.name} holds ${freq.frequency} series; this upload is ${up.frequency}`);
+      }
+      libraryId = lib.id;
+      libraryName = lib.name;
+    } else {
+      if (body.visibility === 'shared' && user.role !== 'admin') {
+        throw new KeelsonApiError('forbidden', 'Only admins publish shared libraries; save it as private and ask an admin to share it');
+      }
+      const info = c
+        .prepare('insert into libraries (name, description, visibility, owner_id) values (?, ?, ?, ?)')
+        .run(body.name!, body.description ?? '', body.visibility!, user.id);
+      libraryId = Number(info.lastInsertRowid);
+      libraryName = body.name!;
+    }
+    const next = (c.prepare('select last_edition_number as n from libraries where id = ?').get(libraryId) as { n: number }).n + 1;
+    c.prepare('update libraries set last_edition_number = ? where id = ?').run(next, libraryId);
+    const ed = c
+      .prepare(
+        `insert into library_editions (library_id, number, frequency, row_count, first_date, last_date, dates, source_units, file_name, created_by)
+         values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+      )
+      .run(libraryId, next, up.frequency, T, dates[0]!, dates[T - 1]!, up.dates, body.units, up.fileName, user.id);
+    const editionId = Number(ed.lastInsertRowid);
+    const ins = c.prepare(
+      `insert into library_series (edition_id, position, name, kind, traded, "values", count, missing, mean, sd, min, max)
+       values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+    );
+    picks.forEach((p, pos) => {
+      const v = all.slice(p.column * T, (p.column + 1) * T);
+      if (scale !== 1) for (let t = 0; t < T; t++) v[t] = v[t]! * scale;
+      const st = columnStats(v);
+      ins.run(editionId, pos, p.name, p.kind, p.traded ? 1 : 0, Buffer.from(v.buffer, v.byteOffset, v.byteLength), st.count, st.missing, st.mean, st.sd, st.min, st.max);
+    });
+    c.prepare('delete from library_uploads where id = ?').run(up.id);
+    audit(tx, user.id, 'library.edition_added', { libraryId, libraryName, edition: next, editionId, rows: T, series: picks.length, units: body.units, file: up.fileName, newLibrary: body.libraryId === undefined });
+    return { library: { id: libraryId, name: libraryName }, edition: { id: editionId, number: next } };
+  });
+  return result;
+}
+
+// ───────────────────────── libraries ─────────────────────────
+
+function libraryRow(db: Db, id: number): LibraryRow | undefined {
+  return db.$client
+    .prepare(
+      `select l.id, l.name, l.description, l.visibility, l.owner_id as ownerId, u.name as ownerName,
+              l.last_edition_number as lastEditionNumber, l.archived_at as archivedAt, l.created_at as createdAt
+         from libraries l left join users u on u.id = l.owner_id where l.id = ?`,
+    )
+    .get(id) as LibraryRow | undefined;
+}
+
+/** The library if `user` may read it, else `not_found` (never 403: existence does not leak). */
+function readableLibrary(db: Db, user: User, id: number): LibraryRow {
+  const lib = Number.isInteger(id) && id > 0 ? libraryRow(db, id) : undefined;
+  if (!lib || !canReadLibrary(user, lib)) throw new KeelsonApiError('not_found', `No library ${id} that you can read`);
+  return lib;
+}
+
+function permissions(user: User, lib: LibraryRow): LibrarySummary['can'] {
+  const admin = user.role === 'admin';
+  const ownPrivate = user.role === 'researcher' && lib.visibility === 'private' && lib.ownerId === user.id;
+  return {
+    addEdition: !lib.archivedAt && (admin || ownPrivate),
+    publish: admin && lib.visibility === 'private' && !lib.archivedAt,
+    archive: admin || ownPrivate,
+    deleteEdition: admin,
+  };
+}
+
+const EDITION_SELECT = `select e.id, e.library_id as libraryId, e.number, e.frequency, e.row_count as rowCount,
+    e.first_date as firstDate, e.last_date as lastDate, e.source_units as sourceUnits, e.file_name as fileName,
+    e.created_at as createdAt, e.created_by as createdBy, u.name as createdByName,
+    (select count(*) from library_series s where s.edition_id = e.id) as seriesCount
+  from library_editions e left join users u on u.id = e.created_by`;
+
+function editionRows(db: Db, libraryId: number): EditionRow[] {
+  return db.$client.prepare(`${EDITION_SELECT} where e.library_id = ? order by e.number desc`).all(libraryId) as EditionRow[];
+}
+
+function toEditionSummary(db: Db, e: EditionRow): EditionSummary {
+  return {
+    id: e.id,
+    number: e.number,
+    frequency: e.frequency,
+    rows: e.rowCount,
+    firstDate: e.firstDate,
+    lastDate: e.lastDate,
+    seriesCount: e.seriesCount,
+    sourceUnits: e.sourceUnits,
+    fileName: e.fileName,
+    createdAt: e.createdAt,
+    createdBy: e.createdBy !== null ? { id: e.createdBy, name: e.createdByName ?? '' } : null,
+    used: editionIsUsed(db, e.id),
+  };
+}
+
+function toSummary(user: User, lib: LibraryRow, editions: EditionRow[]): LibrarySummary {
+  const latest = editions[0];
+  return {
+    id: lib.id,
+    name: lib.name,
+    description: lib.description,
+    visibility: lib.visibility,
+    owner: lib.ownerId !== null ? { id: lib.ownerId, name: lib.ownerName ?? '' } : null,
+    archived: lib.archivedAt !== null,
+    archivedAt: lib.archivedAt,
+    createdAt: lib.createdAt,
+    frequency: latest?.frequency ?? null,
+    firstDate: latest?.firstDate ?? null,
+    lastDate: latest?.lastDate ?? null,
+    editionCount: editions.length,
+    latestEdition: latest?.number ?? null,
+    seriesCount: latest?.seriesCount ?? 0,
+    can: permissions(user, lib),
+  };
+}
+
+export function listLibraries(db: Db, user: User, q: LibraryListQuery): LibrarySummary[] {
+  const rows = db.$client
+    .prepare(
+      `select l.id, l.name, l.description, l.visibility, l.owner_id as ownerId, u.name as ownerName,
+              l.last_edition_number as lastEditionNumber, l.archived_at as archivedAt, l.created_at as createdAt
+         from libraries l left join users u on u.id = l.owner_id order by l.visibility desc, l.name collate nocase, l.id`,
+    )
+    .all() as LibraryRow[];
+  const all = db.$client.prepare(`${EDITION_SELECT} order by e.number desc`).all() as EditionRow[];
+  const byLib = new Map<number, EditionRow[]>();
+  for (const e of all) {
+    const a = byLib.get(e.libraryId) ?? [];
+    a.push(e);
+    byLib.set(e.libraryId, a);
+  }
+  const needle = q.q?.toLowerCase();
+  return rows
+    .filter((l) => canReadLibrary(user, l))
+    .filter((l) => (q.archived === 'hide' ? !l.archivedAt : q.archived === 'only' ? !!l.archivedAt : true))
+    .filter((l) => (q.scope === 'shared' ? l.visibility === 'shared' : q.scope === 'mine' ? l.ownerId === user.id && l.visibility === 'private' : true))
+    .filter((l) => !needle || l.name.toLowerCase().includes(needle) || l.description.toLowerCase().includes(needle))
+    .map((l) => toSummary(user, l, byLib.get(l.id) ?? []))
+    .filter((s) => !q.frequency || s.frequency === q.frequency)
+    .filter((s) => {
+      if (!q.covers) return true;
+      if (!s.firstDate || !s.lastDate) return false;
+      const n = s.firstDate.length;
+      const d = q.covers.slice(0, n);
+      return s.firstDate.slice(0, d.length) <= d && d <= s.lastDate.slice(0, d.length);
+    });
+}
+
+export function getLibrary(db: Db, user: User, id: number): LibraryDetail {
+  const lib = readableLibrary(db, user, id);
+  const eds = editionRows(db, lib.id);
+  return { ...toSummary(user, lib, eds), editions: eds.map((e) => toEditionSummary(db, e)) };
+}
+
+function editionOf(db: Db, user: User, libraryId: number, n: number): { lib: LibraryRow; edition: EditionRow } {
+  const lib = readableLibrary(db, user, libraryId);
+  const edition = Number.isInteger(n)
+    ? (db.$client.prepare(`${EDITION_SELECT} where e.library_id = ? and e.number = ?`).get(lib.id, n) as EditionRow | undefined)
+    : undefined;
+  if (!edition) throw new KeelsonApiError('not_found', `Library ${lib.name} has no edition ${n}`);
+  return { lib, edition };
+}
+
+/** Edition id of edition `n` of a library the user can read. */
+export function editionIdOf(db: Db, user: User, libraryId: number, n: number): number {
+  return editionOf(db, user, libraryId, n).edition.id;
+}
+
+export function getEdition(db: Db, user: User, libraryId: number, n: number): EditionDetail {
+  const { lib, edition } = editionOf(db, user, libraryId, n);
+  const series = db.$client
+    .prepare('select name, kind, traded, count, missing, mean, sd, min, max from library_series where edition_id = ? order by position')
+    .all(edition.id) as { name: string; kind: SeriesKind; traded: number; count: number; missing: number; mean: number | null; sd: number | null; min: number | null; max: number | null }[];
+  return {
+    ...toEditionSummary(db, edition),
+    libraryId: lib.id,
+    libraryName: lib.name,
+    series: series.map((s) => ({
+      name: s.name,
+      kind: s.kind,
+      traded: s.traded === 1,
+      stats: { count: s.count, missing: s.missing, mean: s.mean, sd: s.sd, min: s.min, max: s.max },
+    })),
+  };
+}
+
+/**
+ * The full values of an edition as a JSON text, written by hand because it is the hot read path
+ * (JavaScript's number-to-string is the shortest round-trip form, the same JSON.stringify uses).
+ */
+export function editionDataJson(db: Db, user: User, libraryId: number, n: number): string {
+  const { edition } = editionOf(db, user, libraryId, n);
+  const { head, dates, series } = loadEditionArrays(db, edition.id);
+  const parts: string[] = [
+    `{"editionId":${head.editionId},"libraryId":${head.libraryId},"libraryName":${JSON.stringify(head.libraryName)},"number":${head.number},"frequency":"${head.frequency}","dates":${JSON.stringify(dates)},"series":[`,
+  ];
+  series.forEach((s, i) => {
+    const vals = new Array<string>(s.values.length);
+    for (let t = 0; t < s.values.length; t++) {
+      const x = s.values[t]!;
+      vals[t] = Number.isNaN(x) ? 'null' : String(x);
+    }
+    parts.push(`${i ? ',' : ''}{"name":${JSON.stringify(s.name)},"kind":"${s.kind}","traded":${s.traded},"values":[${vals.join(',')}]}`);
+  });
+  parts.push(']}');
+  return parts.join('');
+}
+
+/** CSV of an edition in decimals: `date` then one column per series, full precision, empty = missing. */
+export function exportEditionCsv(db: Db, user: User, libraryId: number, n: number): { fileName: string; csv: string } {
+  const { lib, edition } = editionOf(db, user, libraryId, n);
+  const { dates, series } = loadEditionArrays(db, edition.id);
+  const lines: string[] = [Papa.unparse([['date', ...series.map((s) => s.name)]], { newline: '\n' })];
+  for (let t = 0; t < dates.length; t++) {
+    let line = dates[t]!;
+    for (const s of series) {
+      const x = s.values[t]!;
+      line += Number.isNaN(x) ? ',' : `,${String(x)}`;
+    }
+    lines.push(line);
+  }
+  const safe = lib.name.replace(/[^A-Za-z0-9._-]+/g, '-').replace(/^-|-$/g, '') || 'library';
+  return { fileName: `${safe}-edition-${edition.number}.csv`, csv: `${lines.join('\n')}\n` };
+}
+
+// ───────────────────────── admin actions ─────────────────────────
+
+export function publishLibrary(db: Db, user: User, id: number): LibraryDetail {
+  const lib = readableLibrary(db, user, id);
+  if (user.role !== 'admin') throw new KeelsonApiError('forbidden', 'Only admins share libraries');
+  if (lib.visibility === 'shared') throw new KeelsonApiError('conflict', `Library ${lib.name} is already shared`);
+  if (lib.archivedAt) throw new KeelsonApiError('conflict', `Library ${lib.name} is archived; restore it before sharing`);
+  inTransaction(db, (tx) => {
+    db.$client.prepare("update libraries set visibility = 'shared' where id = ?").run(lib.id);
+    audit(tx, user.id, 'library.published', { libraryId: lib.id, name: lib.name, ownerId: lib.ownerId });
+  });
+  return getLibrary(db, user, id);
+}
+
+export function setArchived(db: Db, user: User, id: number, archived: boolean): LibraryDetail {
+  const lib = readableLibrary(db, user, id);
+  if (!permissions(user, lib).archive) {
+    throw new KeelsonApiError('forbidden', lib.visibility === 'shared' ? 'Only admins archive shared libraries' : 'Only the owner or an admin archives a private library');
+  }
+  if (archived === !!lib.archivedAt) throw new KeelsonApiError('conflict', `Library ${lib.name} is ${archived ? 'already archived' : 'not archived'}`);
+  inTransaction(db, (tx) => {
+    db.$client.prepare('update libraries set archived_at = ? where id = ?').run(archived ? new Date().toISOString() : null, lib.id);
+    audit(tx, user.id, archived ? 'library.archived' : 'library.restored', { libraryId: lib.id, name: lib.name });
+  });
+  return getLibrary(db, user, id);
+}
+
+export function deleteEdition(db: Db, user: User, libraryId: number, n: number): void {
+  const { lib, edition } = editionOf(db, user, libraryId, n);
+  if (user.role !== 'admin') throw new KeelsonApiError('forbidden', 'Only admins delete editions');
+  inTransaction(db, (tx) => {
+    if (editionIsUsed(db, edition.id)) {
+      throw new KeelsonApiError('conflict', `Edition ${n} of ${lib.name} is used by a run and stays; archive the library instead`);
+    }
+    const left = (db.$client.prepare('select count(*) as n from library_editions where library_id = ?').get(lib.id) as { n: number }).n;
+    if (left <= 1) throw new KeelsonApiError('conflict', `Edition ${n} is the only edition of ${lib.name}; archive the library instead`);
+    db.$client.prepare('delete from library_series where edition_id = ?').run(edition.id);
+    db.$client.prepare('delete from library_editions where id = ?').run(edition.id);
+    audit(tx, user.id, 'library.edition_deleted', { libraryId: lib.id, name: lib.name, edition: n, editionId: edition.id });
+  });
+}
