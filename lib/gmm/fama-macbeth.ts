@@ -12,7 +12,8 @@
  * of Beta-Pricing Models", Review of Financial Studies 5(1), 1–33.
  *
  * @example
- * // famaMacBethCore(m, ['MKT'], false).factors[0].lambda ≈ average cross-sectional slope
+ * // One factor, no intercept: λ_t = Σ_i β_i R_i,t / Σ_i β_i², and λ̂ is its time average.
+ * famaMacBethCore(prepareMoments(returns, factors), ['MKT'], false).factors[0].lambda
  */
 import { cholesky, choleskySolve, spdInverse, quadForm } from './linalg';
 import type { MomentData } from './moments';

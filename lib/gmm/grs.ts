@@ -11,7 +11,8 @@
  * Portfolio", Econometrica 57(5), 1121–1152.
  *
  * @example
- * // grsTest({ returns, factors, factorNames: ['MKT'], traded: [true] }) → { stat, df1: N, df2: T − N − 1, p }
+ * // With T = 600, N = 10, one traded factor and zero true alphas:
+ * grsTest({ returns, factors, factorNames: ['MKT'], traded: [true] }) // → { stat ≈ 1, df1: 10, df2: 589, p, alpha }
  */
 import { fSf } from './distributions';
 import { GmmInputError } from './errors';

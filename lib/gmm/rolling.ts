@@ -126,7 +126,11 @@ export function estimateWindows(input: RollingInput, from: number, to: number): 
     const lags = o.lags === 'auto' ? defaultLag(n) : Math.min(o.lags, n - 1);
     const m = momentsFromPacked(R.subarray(s * N, e * N), F.subarray(s * K, e * K), n, N, K);
     let failure: string | null = null;
-    for (let k = 0; k < K && !failure; k++) if (!(m.sigmaF[k * K + k] > 0)) failure = `factor '${input.factorNames[k]}' is constant in this window`;
+    for (let k = 0; k < K && !failure; k++) {
+      let varies = false;
+      for (let t = s + 1; t < e && !varies; t++) varies = F[t * K + k] !== F[s * K + k];
+      if (!varies) failure = `factor '${input.factorNames[k]}' is constant in this window`;
+    }
     const fit = failure ? null : fitSdfGmm(m, { stage: o.stage, weighting: o.weighting, lags, form: o.form, factorMeansKnown: o.factorMeansKnown });
     if (fit && !fit.ok) failure = fit.message;
     const prem = fit && fit.ok ? fitPremia(m, fit) : null;

@@ -13,8 +13,9 @@
  * 873–888.
  *
  * @example
- * // f_2 = f_1 + 0.01 + noise: its spanning alpha is ≈ 0.01.
+ * // B = 0.5·A + 0.01 + noise (sd 0.005), T = 2000: B's spanning alpha is ≈ 0.01 and significant.
  * spanningTest({ factors, factorNames: ['A', 'B'], traded: [true, true], lags: 0, test: ['B'] })
+ * // → { alpha ≈ 0.01 (± 3·0.005/√2000), se ≈ 0.005/√2000, t ≈ 89, p ≈ 0 }
  */
 import { chiSquareSf } from './distributions';
 import { GmmInputError } from './errors';

@@ -9,7 +9,7 @@
  *
  * @example
  * waldSingle(0.5, 0.25) // → { estimate: 0.5, se: 0.25, t: 2, p: 0.0455 (to 4 d.p.) }
- * waldJoint([1, 0], [[1, 0], [0, 4]], 2) // → { stat: 1, df: 1, … } for index set [0]
+ * waldJoint([1, 0], [[1, 0], [0, 4]], 2, [0]) // → { stat: 1, df: 1, p: 0.3173 (to 4 d.p.) }
  */
 import { chiSquareSf, normalTwoSidedP } from './distributions';
 import { spdInverse, subMatrix } from './linalg';
