@@ -26,3 +26,7 @@ export {
   fromNested,
   toNested,
 } from './linalg';
+// Deep checks (issue 6)
+export * from './bootstrap';
+export * from './subset-sweep';
+export * from './rolling';
