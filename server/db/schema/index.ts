@@ -2,3 +2,4 @@
 export * from './auth';
 export * from './runs';
 export * from './libraries';
+export * from './jobs';
