@@ -113,6 +113,28 @@ function medianAbs(v: Float64Array): number | null {
   return a.length % 2 ? a[h]! : (a[h - 1]! + a[h]!) / 2;
 }
 
+/**
+ * The observation farthest from the median, in robust standard deviations (1.4826 × median absolute
+ * deviation, a common-practice scale that one outlier cannot inflate, unlike the sample sd).
+ */
+function worstJump(v: Float64Array): { t: number; z: number } | null {
+  const xs: number[] = [];
+  for (const x of v) if (!Number.isNaN(x)) xs.push(x);
+  if (xs.length < 5) return null;
+  const med = median(xs);
+  const mad = median(xs.map((x) => Math.abs(x - med)));
+  if (!(mad > 0)) return null;
+  const s = 1.4826 * mad;
+  let best: { t: number; z: number } | null = null;
+  for (let t = 0; t < v.length; t++) {
+    const x = v[t]!;
+    if (Number.isNaN(x)) continue;
+    const z = Math.abs(x - med) / s;
+    if (!best || z > best.z) best = { t, z };
+  }
+  return best;
+}
+
 function median(a: number[]): number {
   const s = [...a].sort((p, q) => p - q);
   const h = s.length >> 1;
@@ -320,26 +342,16 @@ export function parseReturnCsv(buf: Buffer): ParsedCsv {
         warnings.push({ code: 'decimal_among_percent', column: name, message: `${name} looks like decimals among percent (typical size ${s.toPrecision(3)} against ${pooled.toPrecision(3)})` });
       }
     }
-    if (st.count >= 2 && st.sd === 0) warnings.push({ code: 'constant', column: name, message: `${name} is constant (${st.mean}) in every row` });
-    if (st.sd !== null && st.sd > 0 && st.mean !== null) {
-      const v = values[k]!;
-      let worst = -1;
-      let worstZ = 0;
-      for (let t = 0; t < T; t++) {
-        const z = Math.abs(v[t]! - st.mean) / st.sd;
-        if (z > worstZ) {
-          worstZ = z;
-          worst = t;
-        }
-      }
-      if (worstZ > JUMP_SD && worst >= 0) {
-        warnings.push({
-          code: 'jump',
-          column: name,
-          row: lines[worst],
-          message: `${name} jumps to ${v[worst]} on ${dates[worst]} (row ${lines[worst]}), ${worstZ.toFixed(1)} standard deviations from its mean`,
-        });
-      }
+    if (st.count >= 2 && st.min === st.max) warnings.push({ code: 'constant', column: name, message: `${name} is constant (${st.min}) in every row` });
+    const jump = worstJump(values[k]!);
+    if (jump && jump.z > JUMP_SD) {
+      const t = jump.t;
+      warnings.push({
+        code: 'jump',
+        column: name,
+        row: lines[t],
+        message: `${name} jumps to ${values[k]![t]} on ${dates[t]} (row ${lines[t]}), ${jump.z.toFixed(1)} robust standard deviations from its median`,
+      });
     }
     if (st.missing > 0) warnings.push({ code: 'missing', column: name, message: `${name} has ${st.missing} missing value${st.missing === 1 ? '' : 's'}` });
   });

@@ -88,7 +88,7 @@ export function createUpload(db: Db, user: User, file: { name: string; buffer: B
   };
   const expiresAt = new Date(Date.now() + UPLOAD_TTL_MS).toISOString();
   const fileName = (file.name || 'upload.csv').slice(0, 200);
-  inTransaction(db, (tx) => {
+  inTransaction(db, () => {
     purgeExpiredUploads(db);
     db.$client
       .prepare(
@@ -188,7 +188,7 @@ export function confirmUpload(db: Db, user: User, uploadId: string, body: Confir
     if (body.libraryId !== undefined) {
       const lib = libraryRow(db, body.libraryId);
       if (!lib || !canReadLibrary(user, lib)) throw new KeelsonApiError('not_found', `No library ${body.libraryId} that you can read`);
-      if (!permissions(user, lib).addEdition) {
+      if (!permissions(user, { ...lib, archivedAt: null }).addEdition) {
         throw new KeelsonApiError('forbidden', lib.visibility === 'shared' ? 'Only admins add editions to shared libraries' : 'Only the owner or an admin adds editions to a private library');
       }
       if (lib.archivedAt) throw new KeelsonApiError('conflict', `Library ${lib.name} is archived; restore it before adding an edition`);
