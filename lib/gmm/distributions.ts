@@ -14,16 +14,59 @@ function clampP(p: number): number {
   return Math.min(1, Math.max(0, p));
 }
 
-/** Upper-tail probability P(χ²(df) > stat). df = 0 (a degenerate χ²) gives 1. */
+/**
+ * Regularised upper incomplete gamma Q(a, x) = Γ(a, x)/Γ(a): series for x < a + 1 (then 1 − P),
+ * Lentz continued fraction otherwise (Press et al., Numerical Recipes, 3rd ed., §6.2). Computing
+ * the upper tail directly keeps small p-values accurate (1 − cdf underflows to 0 near 1e-16).
+ */
+export function regularizedGammaQ(a: number, x: number): number {
+  if (!(x > 0)) return 1;
+  if (!Number.isFinite(x)) return 0;
+  const lead = -x + a * Math.log(x) - gammaln(a);
+  if (x < a + 1) {
+    let ap = a;
+    let sum = 1 / a;
+    let del = sum;
+    for (let n = 0; n < 100000; n++) {
+      ap += 1;
+      del *= x / ap;
+      sum += del;
+      if (Math.abs(del) < Math.abs(sum) * 1e-16) break;
+    }
+    return clampP(1 - sum * Math.exp(lead));
+  }
+  const FPMIN = 1e-300;
+  let b = x + 1 - a;
+  let c = 1 / FPMIN;
+  let d = 1 / b;
+  let h = d;
+  for (let i = 1; i < 100000; i++) {
+    const an = -i * (i - a);
+    b += 2;
+    d = an * d + b;
+    if (Math.abs(d) < FPMIN) d = FPMIN;
+    c = b + an / c;
+    if (Math.abs(c) < FPMIN) c = FPMIN;
+    d = 1 / d;
+    const del = d * c;
+    h *= del;
+    if (Math.abs(del - 1) < 1e-16) break;
+  }
+  return clampP(Math.exp(lead) * h);
+}
+
+/** Upper-tail probability P(χ²(df) > stat) = Q(df/2, stat/2). df = 0 (a degenerate χ²) gives 1. */
 export function chiSquareSf(stat: number, df: number): number {
   if (df <= 0 || !(stat > 0)) return 1;
-  return clampP(1 - jStat.chisquare.cdf(stat, df));
+  return regularizedGammaQ(df / 2, stat / 2);
 }
 
 /** Two-sided standard normal p-value 2·P(Z > |z|). */
 export function normalTwoSidedP(z: number): number {
   if (!Number.isFinite(z)) return 0;
-  return clampP(2 * (1 - jStat.normal.cdf(Math.abs(z), 0, 1)));
+  // 2·(1 − Φ(|z|)) = P(χ²(1) > z²) = Q(1/2, z²/2), computed directly so that small p-values keep
+  // their digits
+  return regularizedGammaQ(0.5, (z * z) / 2);
 }
 
 /**
