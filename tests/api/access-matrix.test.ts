@@ -67,3 +67,36 @@ describe('route × role matrix', () => {
     expect(allowed).toBeGreaterThan(0);
   });
 });
+
+describe('declared access of specs, runs and review routes', () => {
+  // The walk above checks behaviour; this pins what each route is meant to allow (issue 5).
+  const expected: Record<string, string> = {
+    'get /specs': 'signed-in',
+    'post /specs/check': 'signed-in',
+    'post /specs': 'researcher,admin',
+    'get /specs/:id': 'signed-in',
+    'put /specs/:id': 'researcher,admin',
+    'post /specs/:id/copy': 'researcher,admin',
+    'get /runs': 'signed-in',
+    'post /runs': 'researcher,admin',
+    'get /runs/compare': 'signed-in',
+    'get /runs/:id': 'signed-in',
+    'get /runs/:id/result.json': 'signed-in',
+    'get /runs/:id/export.csv': 'signed-in',
+    'get /runs/:id/export.tex': 'signed-in',
+    'get /review': 'signed-in',
+    'get /review/reviewers': 'researcher,admin',
+    'get /runs/:id/review': 'signed-in',
+    'post /runs/:id/comments': 'reviewer,admin',
+    'post /runs/:id/signoff': 'reviewer,admin',
+    'post /runs/:id/signoff-requests': 'researcher,admin',
+  };
+  it('mounts every route with the intended roles (desk: read, compare, export only)', () => {
+    const table = new Map(t.app.routeTable.map((r) => [`${r.method} ${r.path}`, Array.isArray(r.access) ? [...r.access].join(',') : String(r.access)]));
+    for (const [route, access] of Object.entries(expected)) expect(table.get(route), route).toBe(access);
+    const deskWrites = t.app.routeTable.filter(
+      (r) => r.method !== 'get' && (r.path.startsWith('/runs') || r.path.startsWith('/specs')) && r.path !== '/specs/check' && (r.access === 'signed-in' || (r.access as readonly string[]).includes('desk')),
+    );
+    expect(deskWrites).toEqual([]);
+  });
+});

@@ -1,0 +1,59 @@
+import type { Request, Response } from 'express';
+import { z } from 'zod';
+import type { ApiRouter } from '../middlewares/access';
+import { currentUser } from '../middlewares/access';
+import { parseOr400 } from '../middlewares/errors';
+import { copySpecBodySchema, createSpecBodySchema, modelSpecSchema, updateSpecBodySchema } from '../../shared/specs';
+import { checkSpec, copySpec, createSpec, getSpec, listSpecs, updateSpec } from '../services/specs';
+import { KeelsonApiError } from '../../shared/errors';
+import type { AppDeps } from '../app';
+
+const WRITERS = ['researcher', 'admin'] as const;
+
+export function idParam(req: Request, what = 'id'): number {
+  const id = Number(req.params.id);
+  if (!Number.isInteger(id) || id < 1) throw new KeelsonApiError('bad_request', `The ${what} must be a positive whole number`);
+  return id;
+}
+
+const listQuerySchema = z.object({
+  mine: z.enum(['true', 'false']).optional(),
+  editionId: z.coerce.number().int().positive().optional(),
+});
+const checkBodySchema = z.object({ editionId: z.number().int().positive(), spec: modelSpecSchema });
+
+/** Model specs: list/read for every role, write for researchers and admins (edit: author or admin). */
+export function registerSpecRoutes(api: ApiRouter, deps: AppDeps): void {
+  const { db } = deps;
+
+  api.get('/specs', 'signed-in', (req: Request, res: Response) => {
+    const q = parseOr400(listQuerySchema, req.query, 'spec filter');
+    res.json({ specs: listSpecs(db, currentUser(req), { mine: q.mine === 'true', editionId: q.editionId }) });
+  });
+
+  api.post('/specs/check', 'signed-in', (req: Request, res: Response) => {
+    const body = parseOr400(checkBodySchema, req.body, 'spec');
+    res.json({ check: checkSpec(db, currentUser(req), body.editionId, body.spec) });
+  });
+
+  api.post('/specs', WRITERS, (req: Request, res: Response) => {
+    const body = parseOr400(createSpecBodySchema, req.body, 'spec');
+    res.status(201).json({ spec: createSpec(db, currentUser(req), body) });
+  });
+
+  api.get('/specs/:id', 'signed-in', (req: Request, res: Response) => {
+    res.json({ spec: getSpec(db, currentUser(req), idParam(req, 'spec id')) });
+  });
+
+  api.put('/specs/:id', WRITERS, (req: Request, res: Response) => {
+    const id = idParam(req, 'spec id');
+    const body = parseOr400(updateSpecBodySchema, req.body, 'spec change');
+    res.json({ spec: updateSpec(db, currentUser(req), id, body) });
+  });
+
+  api.post('/specs/:id/copy', WRITERS, (req: Request, res: Response) => {
+    const id = idParam(req, 'spec id');
+    const body = parseOr400(copySpecBodySchema, req.body ?? {}, 'copy');
+    res.status(201).json({ spec: copySpec(db, currentUser(req), id, body.name) });
+  });
+}

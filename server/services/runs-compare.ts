@@ -1,0 +1,64 @@
+/**
+ * Compare two runs side by side, and — when they are nested on the same data — the drop test of
+ * the smaller model against the larger.
+ *
+ * Nested means: same edition, same test assets, window, risk-free series and estimation options
+ * (stage, first-stage weighting, lag, form, factor means), and the factor set of one a strict
+ * subset of the other's. The test is the χ² difference with the larger model's second-stage
+ * weighting (Newey and West 1987, International Economic Review), obtained from lib/gmm's
+ * estimateLedger on the larger model with dropSet = the factors the smaller model lacks.
+ */
+import type { Db } from '../db/client';
+import type { User } from '../../shared/auth';
+import type { CompareResponse, NestedTest, Run } from '../../shared/runs';
+import type { ModelSpec } from '../../shared/specs';
+import { KeelsonApiError } from '../../shared/errors';
+import { estimate, getRun } from './runs';
+import { loadEditionData } from './edition-data';
+
+const sameSet = (a: readonly string[], b: readonly string[]) => a.length === b.length && a.every((x) => b.includes(x));
+
+function whyNotComparable(a: Run, b: Run): string | null {
+  if (a.editionId !== b.editionId) return 'The runs use different library editions.';
+  const sa: ModelSpec = a.spec;
+  const sb: ModelSpec = b.spec;
+  if (!sameSet(sa.assets, sb.assets)) return 'The runs use different test assets.';
+  if ((a.result?.T ?? -1) !== (b.result?.T ?? -2) || (sa.window?.start ?? '') !== (sb.window?.start ?? '') || (sa.window?.end ?? '') !== (sb.window?.end ?? ''))
+    return 'The runs use different sample windows.';
+  if ((sa.rf ?? '') !== (sb.rf ?? '')) return 'The runs treat the risk-free rate differently.';
+  for (const k of ['stage', 'weighting', 'lags', 'form', 'factorMeansKnown'] as const)
+    if (sa[k] !== sb[k]) return `The runs differ in their ${k === 'factorMeansKnown' ? 'factor-mean handling' : k === 'lags' ? 'HAC lag' : k}.`;
+  const aTraded = sa.factors.filter((f) => !sa.nonTraded.includes(f));
+  const bTraded = sb.factors.filter((f) => !sb.nonTraded.includes(f));
+  for (const f of sa.factors) if (sb.factors.includes(f) && aTraded.includes(f) !== bTraded.includes(f)) return `The runs disagree on whether '${f}' is traded.`;
+  return null;
+}
+
+export function nestedTest(db: Db, a: Run, b: Run): NestedTest {
+  const none = (reason: string): NestedTest => ({ nested: false, reason, smallerRunId: null, largerRunId: null, dropped: [], test: null });
+  if (a.status !== 'finished' || b.status !== 'finished') return none('Both runs must have finished.');
+  const why = whyNotComparable(a, b);
+  if (why) return none(why);
+  let small: Run;
+  let large: Run;
+  if (a.spec.factors.length < b.spec.factors.length) [small, large] = [a, b];
+  else if (b.spec.factors.length < a.spec.factors.length) [small, large] = [b, a];
+  else return none(sameSet(a.spec.factors, b.spec.factors) ? 'The runs have the same factors.' : 'Neither factor set contains the other.');
+  if (!small.spec.factors.every((f) => large.spec.factors.includes(f))) return none('The smaller factor set is not a subset of the larger.');
+  const dropped = large.spec.factors.filter((f) => !small.spec.factors.includes(f));
+  const base = { nested: true, smallerRunId: small.id, largerRunId: large.id, dropped };
+  if (large.spec.stage === 'first')
+    return { ...base, reason: 'The drop test needs the larger model’s second-stage weighting; these runs are first-stage.', test: null };
+  const data = loadEditionData(db, large.editionId);
+  const out = estimate(large.spec, data, dropped);
+  if (!out.ok) return { ...base, reason: `The larger model could not be re-estimated: ${out.error}`, test: null };
+  const t = out.result.jointDrop?.chi2Drop ?? null;
+  return { ...base, reason: t ? null : 'The drop test could not be computed.', test: t ? { stat: t.stat, df: t.df, p: t.p } : null };
+}
+
+export function compareRuns(db: Db, user: User, aId: number, bId: number): CompareResponse {
+  if (aId === bId) throw new KeelsonApiError('bad_request', 'Pick two different runs to compare');
+  const a = getRun(db, user, aId);
+  const b = getRun(db, user, bId);
+  return { a, b, nested: nestedTest(db, a, b) };
+}

@@ -1,0 +1,175 @@
+/**
+ * Model specs: saved, named, copied and edited. A spec names an edition; reading or using it needs
+ * read access to that edition's library. Only the author (or an admin) edits a spec.
+ */
+import { and, desc, eq } from 'drizzle-orm';
+import type { Db } from '../db/client';
+import { inTransaction } from '../db/client';
+import { modelSpecs, users } from '../db/schema/index';
+import { KeelsonApiError } from '../../shared/errors';
+import type { User } from '../../shared/auth';
+import {
+  checkSpecAgainstEdition,
+  modelSpecSchema,
+  type ModelSpec,
+  type SavedSpec,
+  type SpecCheck,
+} from '../../shared/specs';
+import { assertEditionReadable, loadEditionData, type EditionData } from './edition-data';
+import { audit } from './audit';
+
+type SpecRow = typeof modelSpecs.$inferSelect;
+
+function toSavedSpec(row: SpecRow, authorName: string): SavedSpec {
+  return {
+    id: row.id,
+    name: row.name,
+    authorId: row.authorId,
+    authorName,
+    editionId: row.editionId,
+    libraryId: row.libraryId,
+    libraryName: row.libraryName,
+    editionNumber: row.editionNumber,
+    spec: modelSpecSchema.parse(JSON.parse(row.spec)),
+    copiedFromId: row.copiedFromId,
+    createdAt: row.createdAt,
+    updatedAt: row.updatedAt,
+  };
+}
+
+/** Is the edition readable by `user`? (false instead of a not_found error) */
+export function canReadEdition(db: Db, user: User, editionId: number, cache?: Map<number, boolean>): boolean {
+  const hit = cache?.get(editionId);
+  if (hit !== undefined) return hit;
+  let ok = true;
+  try {
+    assertEditionReadable(db, user, editionId);
+  } catch (e) {
+    if (e instanceof KeelsonApiError && (e.code === 'not_found' || e.code === 'forbidden')) ok = false;
+    else throw e;
+  }
+  cache?.set(editionId, ok);
+  return ok;
+}
+
+/**
+ * Loads the edition (after the read check) and checks the spec against it. Throws a 422
+ * `unprocessable` naming each problem (unknown series, wrong kind, T ≤ N + K, lag ≥ T).
+ */
+export function loadAndCheck(db: Db, user: User, editionId: number, spec: ModelSpec): { data: EditionData; check: SpecCheck } {
+  assertEditionReadable(db, user, editionId);
+  const data = loadEditionData(db, editionId);
+  const check = checkSpecAgainstEdition(spec, data);
+  if (check.issues.length > 0) {
+    throw new KeelsonApiError(
+      'unprocessable',
+      `The spec does not fit edition ${data.number} of ${data.libraryName}: ${check.issues[0].message}`,
+      check.issues.map((i) => ({ path: ['spec', ...i.path], message: i.message })),
+    );
+  }
+  return { data, check };
+}
+
+function authorNameOf(db: Db, id: number): string {
+  return db.select({ name: users.name }).from(users).where(eq(users.id, id)).get()?.name ?? `user ${id}`;
+}
+
+function findRow(db: Db, user: User, id: number): SpecRow {
+  const row = db.select().from(modelSpecs).where(eq(modelSpecs.id, id)).get();
+  if (!row || !canReadEdition(db, user, row.editionId)) throw new KeelsonApiError('not_found', `No model spec ${id}`);
+  return row;
+}
+
+export function getSpec(db: Db, user: User, id: number): SavedSpec {
+  const row = findRow(db, user, id);
+  return toSavedSpec(row, authorNameOf(db, row.authorId));
+}
+
+/** The frozen spec and edition of a saved spec, for starting a run. */
+export function specForRun(db: Db, user: User, id: number): { row: SpecRow; spec: ModelSpec } {
+  const row = findRow(db, user, id);
+  return { row, spec: modelSpecSchema.parse(JSON.parse(row.spec)) };
+}
+
+export function listSpecs(db: Db, user: User, opts: { mine?: boolean; editionId?: number } = {}): SavedSpec[] {
+  const conds = [];
+  if (opts.mine) conds.push(eq(modelSpecs.authorId, user.id));
+  if (opts.editionId) conds.push(eq(modelSpecs.editionId, opts.editionId));
+  const rows = db
+    .select({ s: modelSpecs, authorName: users.name })
+    .from(modelSpecs)
+    .innerJoin(users, eq(users.id, modelSpecs.authorId))
+    .where(conds.length ? and(...conds) : undefined)
+    .orderBy(desc(modelSpecs.updatedAt), desc(modelSpecs.id))
+    .limit(500)
+    .all();
+  const cache = new Map<number, boolean>();
+  return rows.filter((r) => canReadEdition(db, user, r.s.editionId, cache)).map((r) => toSavedSpec(r.s, r.authorName));
+}
+
+export function createSpec(db: Db, user: User, body: { name: string; editionId: number; spec: ModelSpec }, copiedFromId: number | null = null): SavedSpec {
+  const { data } = loadAndCheck(db, user, body.editionId, body.spec);
+  const row = inTransaction(db, (tx) => {
+    const r = tx
+      .insert(modelSpecs)
+      .values({
+        name: body.name,
+        authorId: user.id,
+        editionId: data.editionId,
+        libraryId: data.libraryId,
+        libraryName: data.libraryName,
+        editionNumber: data.number,
+        spec: JSON.stringify(body.spec),
+        copiedFromId,
+      })
+      .returning()
+      .get();
+    audit(tx, user.id, copiedFromId ? 'spec.copy' : 'spec.create', { specId: r.id, copiedFromId });
+    return r;
+  });
+  return toSavedSpec(row, user.name);
+}
+
+function assertMayEdit(user: User, row: SpecRow): void {
+  if (row.authorId !== user.id && user.role !== 'admin')
+    throw new KeelsonApiError('forbidden', 'Only the author of a spec (or an admin) may edit it; copy it to make your own');
+}
+
+export function updateSpec(db: Db, user: User, id: number, patch: { name?: string; editionId?: number; spec?: ModelSpec }): SavedSpec {
+  const row = findRow(db, user, id);
+  assertMayEdit(user, row);
+  const editionId = patch.editionId ?? row.editionId;
+  const spec = patch.spec ?? modelSpecSchema.parse(JSON.parse(row.spec));
+  const { data } = loadAndCheck(db, user, editionId, spec);
+  const updated = inTransaction(db, (tx) => {
+    const r = tx
+      .update(modelSpecs)
+      .set({
+        name: patch.name ?? row.name,
+        editionId: data.editionId,
+        libraryId: data.libraryId,
+        libraryName: data.libraryName,
+        editionNumber: data.number,
+        spec: JSON.stringify(spec),
+        updatedAt: new Date().toISOString(),
+      })
+      .where(eq(modelSpecs.id, id))
+      .returning()
+      .get();
+    audit(tx, user.id, 'spec.update', { specId: id });
+    return r;
+  });
+  return toSavedSpec(updated, authorNameOf(db, updated.authorId));
+}
+
+export function copySpec(db: Db, user: User, id: number, name?: string): SavedSpec {
+  const src = getSpec(db, user, id);
+  return createSpec(db, user, { name: name ?? `Copy of ${src.name}`.slice(0, 120), editionId: src.editionId, spec: src.spec }, src.id);
+}
+
+/** Checks a spec against an edition without saving: N, K, T, df and the issues (never throws for misfit). */
+export function checkSpec(db: Db, user: User, editionId: number, spec: ModelSpec): SpecCheck & { libraryName: string; editionNumber: number } {
+  assertEditionReadable(db, user, editionId);
+  const data = loadEditionData(db, editionId);
+  return { ...checkSpecAgainstEdition(spec, data), libraryName: data.libraryName, editionNumber: data.number };
+}

@@ -1,0 +1,195 @@
+/**
+ * Runs, their review and compare: request and response shapes shared by client and server.
+ */
+import { z } from 'zod';
+import type { LedgerResult } from '../lib/gmm/ledger';
+import { modelSpecSchema } from './specs';
+
+export type { LedgerResult };
+
+export const RUN_STATUSES = ['queued', 'running', 'finished', 'failed', 'cancelled'] as const;
+export const runStatusSchema = z.enum(RUN_STATUSES);
+export type RunStatus = z.infer<typeof runStatusSchema>;
+
+export const SIGNOFF_DECISIONS = ['approved', 'changes-requested'] as const;
+export const signoffDecisionSchema = z.enum(SIGNOFF_DECISIONS);
+export type SignoffDecision = z.infer<typeof signoffDecisionSchema>;
+
+/** Where a run stands in review: nobody asked, a sign-off is awaited, or the latest decision. */
+export const SIGNOFF_STATES = ['none', 'requested', 'approved', 'changes-requested'] as const;
+export const signoffStateSchema = z.enum(SIGNOFF_STATES);
+export type SignoffState = z.infer<typeof signoffStateSchema>;
+
+export const SIGNOFF_STATE_LABELS: Readonly<Record<SignoffState, string>> = {
+  none: 'no sign-off asked',
+  requested: 'sign-off requested',
+  approved: 'approved',
+  'changes-requested': 'changes requested',
+};
+
+/** `POST /api/v1/runs`: a spec inline with its edition, or a saved spec (optionally on another edition). */
+export const createRunBodySchema = z
+  .object({
+    specId: z.number().int().positive().optional(),
+    editionId: z.number().int().positive().optional(),
+    spec: modelSpecSchema.optional(),
+    name: z.string().trim().max(120).optional(),
+  })
+  .strict()
+  .superRefine((b, ctx) => {
+    if (b.specId !== undefined && b.spec !== undefined)
+      ctx.addIssue({ code: 'custom', path: ['spec'], message: 'Give either a saved spec (specId) or a spec, not both' });
+    if (b.specId === undefined && b.spec === undefined) ctx.addIssue({ code: 'custom', path: ['spec'], message: 'Give a spec with its editionId, or a specId' });
+    if (b.spec !== undefined && b.editionId === undefined) ctx.addIssue({ code: 'custom', path: ['editionId'], message: 'Give the editionId the spec runs on' });
+  });
+export type CreateRunBody = z.input<typeof createRunBodySchema>;
+
+/** The stored result is exactly estimateLedger's output; the client trusts the server's shape. */
+export const ledgerResultLooseSchema = z.custom<LedgerResult>((v) => typeof v === 'object' && v !== null && Array.isArray((v as { factors?: unknown }).factors));
+
+export const runSummarySchema = z.object({
+  id: z.number().int(),
+  status: runStatusSchema,
+  specId: z.number().int().nullable(),
+  specName: z.string().nullable(),
+  editionId: z.number().int(),
+  libraryId: z.number().int(),
+  libraryName: z.string(),
+  editionNumber: z.number().int(),
+  authorId: z.number().int(),
+  authorName: z.string(),
+  keelsonVersion: z.string(),
+  error: z.string().nullable(),
+  createdAt: z.string(),
+  startedAt: z.string().nullable(),
+  finishedAt: z.string().nullable(),
+  signoff: signoffStateSchema,
+  /** N, K, T and J p-value for lists (null when the run did not finish). */
+  N: z.number().int().nullable(),
+  K: z.number().int().nullable(),
+  T: z.number().int().nullable(),
+  factors: z.array(z.string()),
+});
+export type RunSummary = z.infer<typeof runSummarySchema>;
+
+export const runSchema = runSummarySchema.extend({
+  spec: modelSpecSchema,
+  result: ledgerResultLooseSchema.nullable(),
+});
+export type Run = z.infer<typeof runSchema>;
+
+export const runResponseSchema = z.object({ run: runSchema });
+export const runsResponseSchema = z.object({ runs: z.array(runSummarySchema) });
+
+export const runListQuerySchema = z.object({
+  specId: z.coerce.number().int().positive().optional(),
+  libraryId: z.coerce.number().int().positive().optional(),
+  editionId: z.coerce.number().int().positive().optional(),
+  status: runStatusSchema.optional(),
+  authorId: z.coerce.number().int().positive().optional(),
+  signoff: signoffStateSchema.optional(),
+  limit: z.coerce.number().int().min(1).max(500).optional(),
+});
+export type RunListQuery = z.infer<typeof runListQuerySchema>;
+
+// ---- review ----
+
+export const commentBodySchema = z.object({ text: z.string().trim().min(1, 'Write a comment').max(4000, 'Use at most 4000 characters') });
+export const signoffBodySchema = z.object({
+  decision: signoffDecisionSchema,
+  note: z.string().trim().max(4000).optional(),
+});
+export const signoffRequestBodySchema = z.object({
+  reviewerId: z.number().int().positive(),
+  note: z.string().trim().max(1000).optional(),
+});
+
+export const runCommentSchema = z.object({
+  id: z.number().int(),
+  runId: z.number().int(),
+  authorId: z.number().int(),
+  authorName: z.string(),
+  text: z.string(),
+  createdAt: z.string(),
+});
+export type RunComment = z.infer<typeof runCommentSchema>;
+
+export const signoffSchema = z.object({
+  id: z.number().int(),
+  runId: z.number().int(),
+  reviewerId: z.number().int(),
+  reviewerName: z.string(),
+  decision: signoffDecisionSchema,
+  note: z.string().nullable(),
+  createdAt: z.string(),
+});
+export type Signoff = z.infer<typeof signoffSchema>;
+
+export const signoffRequestSchema = z.object({
+  id: z.number().int(),
+  runId: z.number().int(),
+  reviewerId: z.number().int(),
+  reviewerName: z.string(),
+  requestedById: z.number().int(),
+  requestedByName: z.string(),
+  note: z.string().nullable(),
+  answeredAt: z.string().nullable(),
+  createdAt: z.string(),
+});
+export type SignoffRequest = z.infer<typeof signoffRequestSchema>;
+
+export const runReviewSchema = z.object({
+  runId: z.number().int(),
+  state: signoffStateSchema,
+  comments: z.array(runCommentSchema),
+  signoffs: z.array(signoffSchema),
+  requests: z.array(signoffRequestSchema),
+});
+export type RunReview = z.infer<typeof runReviewSchema>;
+export const runReviewResponseSchema = z.object({ review: runReviewSchema });
+
+export const reviewerSchema = z.object({ id: z.number().int(), name: z.string(), role: z.string() });
+export const reviewersResponseSchema = z.object({ reviewers: z.array(reviewerSchema) });
+
+export const reviewQueueSchema = z.object({
+  /** Pending requests addressed to me, with their runs. */
+  awaiting: z.array(z.object({ request: signoffRequestSchema, run: runSummarySchema })),
+  /** Pending requests I made. */
+  requestedByMe: z.array(z.object({ request: signoffRequestSchema, run: runSummarySchema })),
+  /** Latest sign-offs on runs I can read. */
+  recent: z.array(z.object({ signoff: signoffSchema, run: runSummarySchema })),
+});
+export type ReviewQueue = z.infer<typeof reviewQueueSchema>;
+
+// ---- compare ----
+
+export const compareQuerySchema = z.object({
+  a: z.coerce.number().int().positive('Give run a'),
+  b: z.coerce.number().int().positive('Give run b'),
+});
+
+export const nestedTestSchema = z.object({
+  nested: z.boolean(),
+  /** Why the runs are not nested, or why no test is given. */
+  reason: z.string().nullable(),
+  smallerRunId: z.number().int().nullable(),
+  largerRunId: z.number().int().nullable(),
+  /** Factors in the larger model but not the smaller. */
+  dropped: z.array(z.string()),
+  /** χ² difference with the larger model's second-stage weighting. */
+  test: z.object({ stat: z.number(), df: z.number(), p: z.number() }).nullable(),
+});
+export type NestedTest = z.infer<typeof nestedTestSchema>;
+
+export const compareResponseSchema = z.object({
+  a: runSchema,
+  b: runSchema,
+  nested: nestedTestSchema,
+});
+export type CompareResponse = z.infer<typeof compareResponseSchema>;
+
+/** The caution shown once per run, where users act on results. */
+export const RUN_CAUTION =
+  'These results are statistical evidence about a model on past data, not investment advice. ' +
+  'Asymptotic p-values can mislead in small samples or with many test assets. ' +
+  'For factors with a thin-beta flag, λ and b inference is unreliable.';

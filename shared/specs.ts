@@ -1,0 +1,196 @@
+/**
+ * Model spec: the choice of test assets, factors and estimation options that a run estimates.
+ * Used by the spec form (react-hook-form + zod resolver) and by the server.
+ *
+ * `modelSpecSchema` checks what can be checked without the data (no factors, a factor also chosen
+ * as asset, duplicates, non-traded / drop set naming non-factors, window order).
+ * `checkSpecAgainstEdition` checks the rest against an edition's series and dates (unknown series,
+ * wrong kind, T ≤ N + K in the window); client and server call the same function.
+ */
+import { z } from 'zod';
+
+export const STAGES = ['first', 'second', 'iterated'] as const;
+export const WEIGHTINGS = ['identity', 'second-moment'] as const;
+export const FORMS = ['centred', 'uncentred'] as const;
+
+const isoDate = z.string().regex(/^\d{4}-\d{2}(-\d{2})?$/, 'Use a date such as 2010-01-31 or 2010-01');
+const seriesName = z.string().trim().min(1, 'A series name is empty');
+
+export const specWindowSchema = z.object({
+  start: isoDate.optional(),
+  end: isoDate.optional(),
+});
+
+function duplicates(xs: readonly string[]): string[] {
+  const seen = new Set<string>();
+  const dup = new Set<string>();
+  for (const x of xs) (seen.has(x) ? dup : seen).add(x);
+  return [...dup];
+}
+
+export const modelSpecSchema = z
+  .object({
+    /** Test-asset series names (the N). */
+    assets: z.array(seriesName).min(1, 'Choose at least one test asset'),
+    /** Factor series names (the K). */
+    factors: z.array(seriesName).min(1, 'Choose at least one factor'),
+    /** Factors that are not excess returns (no spanning check, no GRS). */
+    nonTraded: z.array(seriesName).default([]),
+    stage: z.enum(STAGES).default('second'),
+    /** First-stage weighting matrix. */
+    weighting: z.enum(WEIGHTINGS).default('identity'),
+    /** HAC (Newey–West) lag: 'auto' for floor(4 (T/100)^(2/9)), or a whole number. */
+    lags: z.union([z.literal('auto'), z.number().int('The lag is a whole number').min(0, 'The lag is 0 or more').max(120, 'The lag is at most 120')]).default('auto'),
+    form: z.enum(FORMS).default('centred'),
+    factorMeansKnown: z.boolean().default(false),
+    /** Significance level of the verdicts, e.g. 0.05. */
+    level: z.number().gt(0, 'The level is above 0').max(0.5, 'The level is at most 0.5').default(0.05),
+    window: specWindowSchema.optional(),
+    /** Risk-free series subtracted from every test asset (when the assets are raw returns). */
+    rf: seriesName.optional(),
+    /** Factors to test jointly (Wald on b and χ² drop test). */
+    dropSet: z.array(seriesName).optional(),
+  })
+  .superRefine((s, ctx) => {
+    for (const d of duplicates(s.assets)) ctx.addIssue({ code: 'custom', path: ['assets'], message: `The test asset '${d}' is chosen twice` });
+    for (const d of duplicates(s.factors)) ctx.addIssue({ code: 'custom', path: ['factors'], message: `The factor '${d}' is chosen twice` });
+    for (const f of s.factors)
+      if (s.assets.includes(f)) ctx.addIssue({ code: 'custom', path: ['factors'], message: `'${f}' is chosen both as a factor and as a test asset` });
+    for (const f of s.nonTraded)
+      if (!s.factors.includes(f)) ctx.addIssue({ code: 'custom', path: ['nonTraded'], message: `'${f}' is marked not traded but is not a chosen factor` });
+    if (s.dropSet) {
+      if (s.dropSet.length === 0) ctx.addIssue({ code: 'custom', path: ['dropSet'], message: 'The joint drop set, when given, names at least one factor' });
+      for (const f of s.dropSet)
+        if (!s.factors.includes(f)) ctx.addIssue({ code: 'custom', path: ['dropSet'], message: `The drop set names '${f}', which is not a chosen factor` });
+      for (const d of duplicates(s.dropSet)) ctx.addIssue({ code: 'custom', path: ['dropSet'], message: `The drop set names '${d}' twice` });
+    }
+    if (s.rf && (s.assets.includes(s.rf) || s.factors.includes(s.rf)))
+      ctx.addIssue({ code: 'custom', path: ['rf'], message: `The risk-free series '${s.rf}' cannot also be a test asset or a factor` });
+    if (s.window?.start && s.window?.end && s.window.start > s.window.end)
+      ctx.addIssue({ code: 'custom', path: ['window', 'end'], message: 'The window ends before it starts' });
+  });
+
+/** What a client sends (defaults may be left out). */
+export type ModelSpecInput = z.input<typeof modelSpecSchema>;
+/** A complete spec, as stored and frozen into a run. */
+export type ModelSpec = z.output<typeof modelSpecSchema>;
+
+export const specNameSchema = z.string().trim().min(1, 'Give the spec a name').max(120, 'Use at most 120 characters');
+
+export const createSpecBodySchema = z.object({
+  name: specNameSchema,
+  editionId: z.number().int().positive(),
+  spec: modelSpecSchema,
+});
+export type CreateSpecBody = z.input<typeof createSpecBodySchema>;
+
+export const updateSpecBodySchema = z
+  .object({ name: specNameSchema.optional(), editionId: z.number().int().positive().optional(), spec: modelSpecSchema.optional() })
+  .refine((v) => v.name !== undefined || v.editionId !== undefined || v.spec !== undefined, 'Give a name, an edition or a spec');
+
+export const copySpecBodySchema = z.object({ name: specNameSchema.optional() });
+
+export const savedSpecSchema = z.object({
+  id: z.number().int(),
+  name: z.string(),
+  authorId: z.number().int(),
+  authorName: z.string(),
+  editionId: z.number().int(),
+  libraryId: z.number().int(),
+  libraryName: z.string(),
+  editionNumber: z.number().int(),
+  spec: modelSpecSchema,
+  copiedFromId: z.number().int().nullable(),
+  createdAt: z.string(),
+  updatedAt: z.string(),
+});
+export type SavedSpec = z.infer<typeof savedSpecSchema>;
+export const specResponseSchema = z.object({ spec: savedSpecSchema });
+export const specsResponseSchema = z.object({ specs: z.array(savedSpecSchema) });
+
+/** What `checkSpecAgainstEdition` needs of an edition. */
+export interface EditionShape {
+  dates: readonly string[];
+  series: readonly { name: string; kind: 'asset' | 'factor' | 'rf' }[];
+}
+
+export interface SpecCheckIssue {
+  path: (string | number)[];
+  message: string;
+}
+
+export interface SpecCheck {
+  /** Periods in the window. */
+  T: number;
+  N: number;
+  K: number;
+  /** Degrees of freedom of the J test, N − K. */
+  df: number;
+  /** First and last date in the window (null when the window is empty). */
+  start: string | null;
+  end: string | null;
+  issues: SpecCheckIssue[];
+}
+
+/** Indices [from, to) of the edition's dates inside the spec's window. */
+export function windowRange(dates: readonly string[], window?: { start?: string; end?: string }): [number, number] {
+  let from = 0;
+  let to = dates.length;
+  if (window?.start) while (from < to && dates[from] < window.start) from += 1;
+  if (window?.end) while (to > from && dates[to - 1] > window.end) to -= 1;
+  return [from, to];
+}
+
+/**
+ * Checks a spec against an edition: each named series exists and has the right kind, and the
+ * window leaves T > N + K periods (GMM needs more periods than assets plus factors).
+ */
+export function checkSpecAgainstEdition(spec: ModelSpecInput, ed: EditionShape): SpecCheck {
+  const issues: SpecCheckIssue[] = [];
+  const kindOf = new Map(ed.series.map((s) => [s.name, s.kind]));
+  const assets = spec.assets ?? [];
+  const factors = spec.factors ?? [];
+  const [from, to] = windowRange(ed.dates, spec.window);
+  const T = Math.max(0, to - from);
+  const N = assets.length;
+  const K = factors.length;
+  assets.forEach((a, i) => {
+    const k = kindOf.get(a);
+    if (!k) issues.push({ path: ['assets', i], message: `The edition has no series '${a}'` });
+    else if (k === 'rf') issues.push({ path: ['assets', i], message: `'${a}' is the risk-free series, not a test asset` });
+  });
+  factors.forEach((f, i) => {
+    const k = kindOf.get(f);
+    if (!k) issues.push({ path: ['factors', i], message: `The edition has no series '${f}'` });
+    else if (k === 'rf') issues.push({ path: ['factors', i], message: `'${f}' is the risk-free series, not a factor` });
+  });
+  if (spec.rf) {
+    const k = kindOf.get(spec.rf);
+    if (!k) issues.push({ path: ['rf'], message: `The edition has no series '${spec.rf}'` });
+  }
+  if (K === 0) issues.push({ path: ['factors'], message: 'Choose at least one factor' });
+  if (N === 0) issues.push({ path: ['assets'], message: 'Choose at least one test asset' });
+  if (T === 0) issues.push({ path: ['window'], message: 'The window holds no dates of this edition' });
+  else if (N + K > 0 && T <= N + K)
+    issues.push({ path: ['window'], message: `T = ${T} periods is too few for N = ${N} assets and K = ${K} factors: need T > N + K = ${N + K}` });
+  if (typeof spec.lags === 'number' && T > 0 && spec.lags >= T)
+    issues.push({ path: ['lags'], message: `A HAC lag of ${spec.lags} needs more than ${spec.lags} periods; the window has ${T}` });
+  return { T, N, K, df: N - K, start: T > 0 ? ed.dates[from] : null, end: T > 0 ? ed.dates[to - 1] : null, issues };
+}
+
+/** One line per option, shown under each field of the spec form. */
+export const SPEC_HELP = {
+  library: 'The return library and edition whose series the model uses.',
+  assets: 'Test assets: the N portfolios whose mean excess returns the model must price.',
+  factors: 'Factors: the K series that make up the SDF, m = 1 − b′(f − μ).',
+  nonTraded: 'Mark factors that are not excess returns; they get no spanning check and no GRS test.',
+  rf: 'Optional risk-free series, subtracted from each test asset when the assets are raw returns.',
+  window: 'Sample window: only dates inside it are used. Leave empty for the whole edition.',
+  form: 'Centred: m = 1 − b′(f − μ), λ = Σ_f b. Uncentred: m = 1 − b′f.',
+  stage: 'First stage uses a fixed weighting; second re-weights by the inverse long-run covariance; iterated repeats until b settles.',
+  weighting: 'First-stage weighting: identity (equal weight on each pricing error) or the inverse second-moment matrix of returns.',
+  factorMeansKnown: 'Estimated (default) corrects standard errors for the sampling error of the factor means.',
+  lags: 'Newey–West lag for every long-run covariance; auto uses floor(4 (T/100)^(2/9)).',
+  level: 'Significance level for the verdicts (needed / priced) and confidence intervals.',
+  dropSet: 'Optional set of factors for a joint drop test (χ² difference with common weighting).',
+} as const;

@@ -1,0 +1,106 @@
+/**
+ * A seeded, invented economy for the runs/specs/review API tests, uploaded through the libraries API.
+ *
+ * Truth (by construction): the SDF is m = 1 − b (MKT − μ) with one factor. ECHO = 0.8·MKT + e is a
+ * correlated factor that carries no extra information, so its true b is 0 while its premium
+ * λ_ECHO = Cov(ECHO, MKT)·b ≠ 0 ("priced, not needed"). CLIMA is non-traded noise. COMBO = MKT + ECHO
+ * exactly (collinear). GAPPY is a test asset with one missing value (2009-05). RF is a small
+ * risk-free series; the assets are raw returns RF + excess.
+ */
+import { prng, monthLabels, uploadCsv, confirm } from './libraries-helpers';
+import type { Agent } from './helpers';
+
+export const FIX_T = 240;
+export const FIX_ASSETS = ['A01', 'A02', 'A03', 'A04', 'A05', 'A06', 'A07', 'A08', 'A09', 'A10'];
+export const GAP_INDEX = 100;
+
+export interface Fixture {
+  dates: string[];
+  /** name → values (decimals; NaN for missing). */
+  cols: Record<string, number[]>;
+  csv: string;
+}
+
+function gaussian(rnd: () => number): () => number {
+  return () => {
+    const u = Math.max(rnd(), 1e-12);
+    const v = rnd();
+    return Math.sqrt(-2 * Math.log(u)) * Math.cos(2 * Math.PI * v);
+  };
+}
+
+export function makeFixture(seed = 9): Fixture {
+  const g = gaussian(prng(seed));
+  const T = FIX_T;
+  const dates = monthLabels(2001, T);
+  const cols: Record<string, number[]> = {};
+  const mkt: number[] = [];
+  const e: number[] = [];
+  const rf: number[] = [];
+  for (let t = 0; t < T; t++) {
+    mkt.push(0.01 + 0.04 * g());
+    e.push(0.02 * g());
+    rf.push(0.002 + 0.0002 * g());
+  }
+  FIX_ASSETS.forEach((name, i) => {
+    const beta = 0.5 + 0.1 * i;
+    const gamma = -1 + (2 * i) / (FIX_ASSETS.length - 1);
+    // mean excess return beta·E[MKT]: priced by MKT alone; exposure to e is unpriced (mean zero)
+    cols[name] = mkt.map((m, t) => rf[t] + beta * m + gamma * e[t] + 0.02 * g());
+  });
+  cols.GAPPY = mkt.map((m, t) => (t === GAP_INDEX ? NaN : rf[t] + 0.9 * m + 0.02 * g()));
+  cols.MKT = mkt;
+  cols.ECHO = mkt.map((m, t) => 0.8 * m + e[t]);
+  cols.CLIMA = mkt.map(() => 0.01 * g());
+  cols.COMBO = mkt.map((m, t) => m + cols.ECHO[t]);
+  cols.RF = rf;
+  const names = Object.keys(cols);
+  const lines = [['date', ...names].join(',')];
+  dates.forEach((d, t) => lines.push([d, ...names.map((n) => (Number.isNaN(cols[n][t]) ? '' : String(cols[n][t])))].join(',')));
+  return { dates, cols, csv: `${lines.join('\n')}\n` };
+}
+
+export const FIX_KINDS: Record<string, { kind: 'asset' | 'factor' | 'rf'; traded?: boolean }> = {
+  MKT: { kind: 'factor', traded: true },
+  ECHO: { kind: 'factor', traded: true },
+  CLIMA: { kind: 'factor', traded: false },
+  COMBO: { kind: 'factor', traded: true },
+  RF: { kind: 'rf' },
+};
+
+/** Uploads the fixture as a library (admin: shared; researcher: private). Returns the edition id. */
+export async function uploadFixture(agent: Agent, fx: Fixture, opts: { name: string; visibility: 'private' | 'shared' }): Promise<{ libraryId: number; editionId: number }> {
+  const up = await uploadCsv(agent, fx.csv, 'invented-economy.csv');
+  if (up.status !== 201) throw new Error(`upload failed ${up.status} ${JSON.stringify(up.body)}`);
+  const series = (up.body.upload.columns as string[]).map((name) => ({ name, kind: FIX_KINDS[name]?.kind ?? 'asset', traded: FIX_KINDS[name]?.traded ?? false }));
+  const r = await confirm(agent, up.body.upload.id, { name: opts.name, visibility: opts.visibility, units: 'decimal', series });
+  if (r.status !== 201) throw new Error(`confirm failed ${r.status} ${JSON.stringify(r.body)}`);
+  return { libraryId: r.body.library.id, editionId: r.body.edition.id };
+}
+
+/** A complete spec with the defaults spelled out. */
+export function spec(over: Record<string, unknown> = {}) {
+  return {
+    assets: FIX_ASSETS,
+    factors: ['MKT', 'ECHO'],
+    nonTraded: [],
+    stage: 'second',
+    weighting: 'identity',
+    lags: 'auto',
+    form: 'centred',
+    factorMeansKnown: false,
+    level: 0.05,
+    ...over,
+  };
+}
+
+/** Polls the caller's outbox until a message whose subject matches arrives (mail is sent in the background). */
+export async function waitForMail(agent: Agent, subject: RegExp, tries = 50): Promise<{ to: string; subject: string; text: string }> {
+  for (let i = 0; i < tries; i++) {
+    const r = await agent.get('/api/v1/auth/outbox');
+    const m = (r.body.messages as { to: string; subject: string; text: string }[]).find((x) => subject.test(x.subject));
+    if (m) return m;
+    await new Promise((res) => setTimeout(res, 100));
+  }
+  throw new Error(`No mail matching ${subject}`);
+}
