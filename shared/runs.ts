@@ -2,10 +2,11 @@
  * Runs, their review and compare: request and response shapes shared by client and server.
  */
 import { z } from 'zod';
-import type { LedgerResult } from '../lib/gmm/ledger';
 import { modelSpecSchema } from './specs';
+import { ledgerResultSchema, type LedgerResultParsed } from './ledger';
 
-export type { LedgerResult };
+/** estimateLedger's output as the API carries it (schema in shared/ledger.ts). */
+export type LedgerResult = LedgerResultParsed;
 
 export const RUN_STATUSES = ['queued', 'running', 'finished', 'failed', 'cancelled'] as const;
 export const runStatusSchema = z.enum(RUN_STATUSES);
@@ -44,8 +45,6 @@ export const createRunBodySchema = z
   });
 export type CreateRunBody = z.input<typeof createRunBodySchema>;
 
-/** The stored result is exactly estimateLedger's output; the client trusts the server's shape. */
-export const ledgerResultLooseSchema = z.custom<LedgerResult>((v) => typeof v === 'object' && v !== null && Array.isArray((v as { factors?: unknown }).factors));
 
 export const runSummarySchema = z.object({
   id: z.number().int(),
@@ -74,7 +73,7 @@ export type RunSummary = z.infer<typeof runSummarySchema>;
 
 export const runSchema = runSummarySchema.extend({
   spec: modelSpecSchema,
-  result: ledgerResultLooseSchema.nullable(),
+  result: ledgerResultSchema.nullable(),
 });
 export type Run = z.infer<typeof runSchema>;
 

@@ -18,6 +18,7 @@ import { KeelsonApiError } from '../../shared/errors';
 import type { User } from '../../shared/auth';
 import { modelSpecSchema, windowRange, type ModelSpec } from '../../shared/specs';
 import type { LedgerResult, Run, RunListQuery, RunStatus, RunSummary, SignoffState } from '../../shared/runs';
+import type { LedgerResult as EngineResult } from '../../lib/gmm/index';
 import { estimateLedger, GmmInputError, GmmNumericalError, type LedgerInput } from '../../lib/gmm/index';
 import type { EditionData } from './edition-data';
 import { canReadEdition, loadAndCheck, specForRun } from './specs';
@@ -120,7 +121,7 @@ export function buildLedgerInput(spec: ModelSpec, data: EditionData, dropSetOver
  * Runs the estimator; data refusals come back as `{ ok: false, error }`, request mistakes throw a
  * 422, anything else propagates.
  */
-export function estimate(spec: ModelSpec, data: EditionData, dropSetOverride?: string[]): { ok: true; result: LedgerResult } | { ok: false; error: string } {
+export function estimate(spec: ModelSpec, data: EditionData, dropSetOverride?: string[]): { ok: true; result: EngineResult } | { ok: false; error: string } {
   let dates: string[] = [];
   try {
     const built = buildLedgerInput(spec, data, dropSetOverride);
