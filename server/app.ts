@@ -19,6 +19,9 @@ import type { User } from '../shared/auth';
 import { KEELSON_VERSION } from './version';
 import { registerAuthRoutes } from './routes/auth';
 import { registerAdminRoutes } from './routes/admin';
+import { registerJobRoutes } from './routes/jobs';
+import { JobRunner } from './jobs/runner';
+import type { JobPool } from './jobs/pool';
 import { registerSpecRoutes } from './routes/specs';
 import { registerRunRoutes } from './routes/runs';
 import { registerReviewRoutes } from './routes/review';
@@ -39,6 +42,10 @@ export interface AppOptions {
   uploadLimit?: number;
   /** Secure cookies (behind HTTPS). */
   secureCookies?: boolean;
+  /** Worker pool for deep checks; created on the first job when absent. */
+  jobPool?: JobPool;
+  /** Mail a job's author when the job took longer than this (default 60 s). */
+  jobMailAfterMs?: number;
 }
 
 /** What every route module receives. */
@@ -53,7 +60,7 @@ export interface AppDeps {
   generateCsrfToken: (req: Request) => string;
 }
 
-export type KeelsonApp = express.Express & { routeTable: readonly RouteSpec[]; close: () => void };
+export type KeelsonApp = express.Express & { routeTable: readonly RouteSpec[]; close: () => void; jobRunner: JobRunner };
 
 /** Deny by default: refuse to start if any API route was mounted without going through ApiRouter. */
 function assertEveryRouteDeclaresAccess(api: ApiRouter): void {
@@ -152,6 +159,8 @@ export function createApp(opts: AppOptions): KeelsonApp {
   });
   registerAuthRoutes(api, deps);
   registerAdminRoutes(api, deps);
+  const jobRunner = new JobRunner({ db, mailer, publicUrl: opts.publicUrl, pool: opts.jobPool, mailAfterMs: opts.jobMailAfterMs });
+  registerJobRoutes(api, deps, jobRunner);
   registerSpecRoutes(api, deps);
   registerRunRoutes(api, deps);
   registerReviewRoutes(api, deps);
@@ -171,6 +180,10 @@ export function createApp(opts: AppOptions): KeelsonApp {
   app.use(errorHandler);
 
   app.routeTable = api.routes;
-  app.close = () => store.close();
+  app.jobRunner = jobRunner;
+  app.close = () => {
+    store.close();
+    void jobRunner.close();
+  };
   return app;
 }

@@ -7,6 +7,8 @@ import { openDb, type Db } from './db/client';
 import { createMailer, type Mailer } from './services/mailer';
 import { seedDemo } from './seed/index';
 import { createApp, type KeelsonApp } from './app';
+import { createJobPool } from './jobs/pool';
+import { markInterruptedJobs } from './jobs/runner';
 
 export const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..');
 
@@ -28,6 +30,9 @@ export async function boot(env: NodeJS.ProcessEnv = process.env): Promise<{ app:
   const db = openDb(config.KEELSON_DB === ':memory:' ? ':memory:' : resolve(ROOT, config.KEELSON_DB));
   if (config.KEELSON_SEED === 'demo') await seedDemo(db);
   const mailer = await createMailer({ smtpUrl: config.SMTP_URL, from: config.MAIL_FROM });
+  // Deep-check jobs that were running when the last process stopped can only be restarted.
+  const interrupted = markInterruptedJobs(db);
+  if (interrupted > 0) console.log(`Keelson marked ${interrupted} deep-check job(s) interrupted by the last shutdown`);
   const app = createApp({
     db,
     mailer,
@@ -35,6 +40,7 @@ export async function boot(env: NodeJS.ProcessEnv = process.env): Promise<{ app:
     webDist: join(ROOT, 'dist'),
     publicUrl: config.PUBLIC_URL,
     uploadLimit: config.UPLOAD_LIMIT_MB * 1024 * 1024,
+    jobPool: createJobPool(),
   });
   return { app, db, mailer, config };
 }

@@ -1,0 +1,248 @@
+/**
+ * Runs deep-check jobs: splits each into chunks, hands them to the worker pool, records progress
+ * after every chunk, and writes the result together with the final status in one transaction.
+ *
+ * Cancel: an AbortController per job; aborting rejects the chunks still queued or running
+ * (piscina stops the worker of a running chunk) and no further chunk is sent. A job whose
+ * process dies is left 'running' in the table; boot marks it 'interrupted' (markInterruptedJobs).
+ */
+import { and, eq, inArray } from 'drizzle-orm';
+import type { Db } from '../db/client';
+import { inTransaction } from '../db/client';
+import { jobs, users } from '../db/schema/index';
+import type { Mailer } from '../services/mailer';
+import { mailInBackground } from '../services/runs';
+import { buildCheckInput, type CheckInput } from '../services/jobs-input';
+import { JOB_KIND_LABELS } from '../../shared/jobs';
+import { createJobPool, type JobPool } from './pool';
+import type { ChunkTask } from './tasks';
+import type { BootstrapBatch, RollingPoint, SweepRow } from '../../lib/gmm/index';
+
+export interface JobRunnerOptions {
+  db: Db;
+  mailer: Mailer;
+  publicUrl?: string;
+  /** A pool to use; when absent one is created on the first job (sized to the machine). */
+  pool?: JobPool;
+  /** Mail the author when a job took longer than this (default one minute). */
+  mailAfterMs?: number;
+}
+
+/** How many chunks a job is cut into (more chunks: finer progress, quicker cancel). */
+function chunkRanges(total: number, kind: CheckInput['kind']): [number, number][] {
+  const target = kind === 'rolling' ? Math.min(total, 20) : Math.min(total, 40);
+  const size = Math.max(1, Math.ceil(total / Math.max(1, target)));
+  const out: [number, number][] = [];
+  for (let a = 0; a < total; a += size) out.push([a, Math.min(total, a + size)]);
+  return out;
+}
+
+const nowIso = () => new Date().toISOString();
+
+export class JobRunner {
+  private readonly db: Db;
+  private readonly mailer: Mailer;
+  private readonly publicUrl?: string;
+  private readonly mailAfterMs: number;
+  private pool: JobPool | null;
+  private readonly ownsPool: boolean;
+  private readonly active = new Map<number, AbortController>();
+  private readonly settled = new Map<number, Promise<void>>();
+  private closed = false;
+
+  constructor(opts: JobRunnerOptions) {
+    this.db = opts.db;
+    this.mailer = opts.mailer;
+    this.publicUrl = opts.publicUrl;
+    this.mailAfterMs = opts.mailAfterMs ?? 60_000;
+    this.pool = opts.pool ?? null;
+    this.ownsPool = !opts.pool;
+  }
+
+  private getPool(): JobPool {
+    if (!this.pool) this.pool = createJobPool();
+    return this.pool;
+  }
+
+  /** Starts a queued job in the background. */
+  start(jobId: number): void {
+    if (this.closed || this.active.has(jobId)) return;
+    const ac = new AbortController();
+    this.active.set(jobId, ac);
+    const p = this.execute(jobId, ac)
+      .catch((e: unknown) => console.error('[keelson] job runner error', jobId, e))
+      .finally(() => {
+        this.active.delete(jobId);
+        this.settled.delete(jobId);
+      });
+    this.settled.set(jobId, p);
+  }
+
+  /** Whether this process is running the job. */
+  isActive(jobId: number): boolean {
+    return this.active.has(jobId);
+  }
+
+  /** Aborts a running job's chunks; the job is marked cancelled by its own loop. */
+  abort(jobId: number): boolean {
+    const ac = this.active.get(jobId);
+    if (!ac) return false;
+    ac.abort();
+    return true;
+  }
+
+  /** Resolves when the job (if this process runs it) has stopped. */
+  async waitFor(jobId: number): Promise<void> {
+    await this.settled.get(jobId);
+  }
+
+  async close(): Promise<void> {
+    this.closed = true;
+    for (const ac of this.active.values()) ac.abort();
+    await Promise.allSettled([...this.settled.values()]);
+    if (this.ownsPool && this.pool) await this.pool.destroy();
+  }
+
+  private async execute(jobId: number, ac: AbortController): Promise<void> {
+    const signal = ac.signal;
+    const db = this.db;
+    const job = db.select().from(jobs).where(eq(jobs.id, jobId)).get();
+    if (!job || job.status !== 'queued') return;
+    const started = Date.now();
+    db.update(jobs)
+      .set({ status: 'running', startedAt: nowIso(), finishedAt: null, done: 0, error: null, result: null })
+      .where(and(eq(jobs.id, jobId), eq(jobs.status, 'queued')))
+      .run();
+    let check: CheckInput;
+    try {
+      const runRow = db.$client.prepare('select id, edition_id as editionId, spec from runs where id = ?').get(job.runId) as
+        | { id: number; editionId: number; spec: string }
+        | undefined;
+      if (!runRow) throw new Error(`Run ${job.runId} no longer exists.`);
+      check = buildCheckInput(db, runRow, job.kind, JSON.parse(job.params));
+    } catch (e) {
+      this.finish(jobId, 'failed', null, messageOf(e), started);
+      return;
+    }
+    db.update(jobs).set({ total: check.total }).where(eq(jobs.id, jobId)).run();
+    const key = `job:${jobId}:${job.attempts}`;
+    const ranges = chunkRanges(check.total, check.kind);
+    let done = 0;
+    const pool = this.getPool();
+    const record = (n: number) => {
+      done += n;
+      db.update(jobs).set({ done }).where(and(eq(jobs.id, jobId), eq(jobs.status, 'running'))).run();
+    };
+    try {
+      let result: unknown;
+      if (check.kind === 'bootstrap') {
+        const input = check.input;
+        const batches = await Promise.all(
+          ranges.map(([from, to]) =>
+            pool.run<BootstrapBatch>({ op: 'bootstrap', key, input, from, to }, signal).then((b) => {
+              record(to - from);
+              return b;
+            }),
+          ),
+        );
+        result = await pool.run({ op: 'bootstrap-summary', key, input, batches } satisfies ChunkTask, signal);
+      } else if (check.kind === 'subset-sweep') {
+        const input = check.input;
+        const parts = await Promise.all(
+          ranges.map(([from, to]) =>
+            pool.run<SweepRow[]>({ op: 'subset-sweep', key, input, from: from + 1, to: to + 1 }, signal).then((r) => {
+              record(to - from);
+              return r;
+            }),
+          ),
+        );
+        result = await pool.run({ op: 'subset-sweep-summary', key, input, rows: parts.flat() } satisfies ChunkTask, signal);
+      } else {
+        const input = check.input;
+        const parts = await Promise.all(
+          ranges.map(([from, to]) =>
+            pool.run<RollingPoint[]>({ op: 'rolling', key, input, from, to }, signal).then((r) => {
+              record(to - from);
+              return r;
+            }),
+          ),
+        );
+        result = await pool.run({ op: 'rolling-summary', key, input, points: parts.flat() } satisfies ChunkTask, signal);
+      }
+      if (signal.aborted) throw abortError();
+      this.finish(jobId, 'finished', result, null, started);
+    } catch (e) {
+      if (signal.aborted || isAbort(e)) this.finish(jobId, 'cancelled', null, null, started);
+      else {
+        ac.abort(); // stop the job's other chunks
+        this.finish(jobId, 'failed', null, messageOf(e), started);
+      }
+    }
+  }
+
+  /** Final status, result and finish time in one transaction; mails the author after a long job. */
+  private finish(jobId: number, status: 'finished' | 'failed' | 'cancelled', result: unknown, error: string | null, started: number): void {
+    const db = this.db;
+    const row = inTransaction(db, (tx) => {
+      const cur = tx.select().from(jobs).where(eq(jobs.id, jobId)).get();
+      // a cancel request may already have set 'cancelled'; never overwrite another final state
+      if (!cur || !['running', 'queued', 'cancelled'].includes(cur.status)) return null;
+      if (cur.status === 'cancelled' && status !== 'cancelled') status = 'cancelled';
+      const set = {
+        status,
+        finishedAt: nowIso(),
+        error,
+        result: status === 'finished' ? JSON.stringify(result) : null,
+        ...(status === 'finished' ? { done: cur.total } : {}),
+      };
+      tx.update(jobs).set(set).where(eq(jobs.id, jobId)).run();
+      return { ...cur, ...set };
+    });
+    if (!row || status === 'cancelled') return;
+    const took = Date.now() - started;
+    if (took < this.mailAfterMs) return;
+    const author = db.select({ email: users.email }).from(users).where(eq(users.id, row.authorId)).get();
+    if (!author) return;
+    const label = JOB_KIND_LABELS[row.kind];
+    const link = this.publicUrl ? `\n${this.publicUrl.replace(/\/$/, '')}/runs/${row.runId}\n` : '';
+    mailInBackground(db, this.mailer, {
+      to: author.email,
+      subject: status === 'finished' ? `${label} on run #${row.runId} finished` : `${label} on run #${row.runId} failed`,
+      text:
+        status === 'finished'
+          ? `Your ${label.toLowerCase()} (job #${jobId}) on run #${row.runId} finished after ${Math.round(took / 1000)} s.${link}\n` +
+            'Results are statistical evidence about a model on past data, not investment advice.\n'
+          : `Your ${label.toLowerCase()} (job #${jobId}) on run #${row.runId} failed: ${error ?? 'unknown error'}${link}`,
+    });
+  }
+}
+
+function abortError(): Error {
+  const e = new Error('The job was cancelled');
+  e.name = 'AbortError';
+  return e;
+}
+
+function isAbort(e: unknown): boolean {
+  return !!e && typeof e === 'object' && ((e as { name?: string }).name === 'AbortError' || /abort/i.test(String((e as { message?: string }).message)));
+}
+
+function messageOf(e: unknown): string {
+  if (e && typeof e === 'object' && 'message' in e && typeof (e as { message: unknown }).message === 'string') return (e as { message: string }).message;
+  return String(e);
+}
+
+/**
+ * Boot-time recovery: jobs left 'running' or 'queued' by a stopped process are marked
+ * 'interrupted' (their partial progress is kept for the record, no result is shown).
+ * @returns how many jobs were marked.
+ */
+export function markInterruptedJobs(db: Db): number {
+  return inTransaction(db, (tx) =>
+    tx
+      .update(jobs)
+      .set({ status: 'interrupted', error: 'The server stopped while this job ran; restart it to run it again.', finishedAt: nowIso(), result: null })
+      .where(inArray(jobs.status, ['running', 'queued']))
+      .run().changes,
+  );
+}

@@ -1,0 +1,49 @@
+import type { Request, Response } from 'express';
+import type { ApiRouter } from '../middlewares/access';
+import { currentUser } from '../middlewares/access';
+import { parseOr400 } from '../middlewares/errors';
+import { KeelsonApiError } from '../../shared/errors';
+import { jobListQuerySchema, startCheckBodySchema } from '../../shared/jobs';
+import { cancelJob, getJob, listJobs, restartJob, startCheck } from '../services/jobs';
+import type { JobRunner } from '../jobs/runner';
+import type { AppDeps } from '../app';
+
+const WRITERS = ['researcher', 'admin'] as const;
+
+function idOf(req: Request, what: string): number {
+  const raw = String(req.params.id ?? '');
+  const id = Number(raw);
+  if (!/^\d+$/.test(raw) || !Number.isSafeInteger(id) || id <= 0) throw new KeelsonApiError('bad_request', `The ${what} must be a positive whole number; got '${raw}'`);
+  return id;
+}
+
+/**
+ * Deep checks as background jobs: start on a finished run (researcher, admin), read and list
+ * (every role, runs they can read), cancel and restart (researcher: own jobs; admin: any).
+ */
+export function registerJobRoutes(api: ApiRouter, deps: AppDeps, runner: JobRunner): void {
+  const { db } = deps;
+
+  api.post('/runs/:id/checks', WRITERS, (req: Request, res: Response) => {
+    const runId = idOf(req, 'run id');
+    const body = parseOr400(startCheckBodySchema, req.body, 'deep check request');
+    res.status(201).json({ job: startCheck(db, runner, currentUser(req), runId, body) });
+  });
+
+  api.get('/jobs', 'signed-in', (req: Request, res: Response) => {
+    const q = parseOr400(jobListQuerySchema, req.query, 'job filter');
+    res.json({ jobs: listJobs(db, currentUser(req), q) });
+  });
+
+  api.get('/jobs/:id', 'signed-in', (req: Request, res: Response) => {
+    res.json({ job: getJob(db, currentUser(req), idOf(req, 'job id')) });
+  });
+
+  api.post('/jobs/:id/cancel', WRITERS, (req: Request, res: Response) => {
+    res.json({ job: cancelJob(db, runner, currentUser(req), idOf(req, 'job id')) });
+  });
+
+  api.post('/jobs/:id/restart', WRITERS, (req: Request, res: Response) => {
+    res.json({ job: restartJob(db, runner, currentUser(req), idOf(req, 'job id')) });
+  });
+}

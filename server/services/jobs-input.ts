@@ -1,0 +1,130 @@
+/**
+ * Turns a finished run plus a deep check's parameters into the pure input of lib/gmm's check,
+ * reusing the run's frozen spec and edition (runs service `buildLedgerInput`). Mistakes that the
+ * request can fix are 422 `unprocessable` before any job is written.
+ */
+import type { Db } from '../db/client';
+import { KeelsonApiError } from '../../shared/errors';
+import { modelSpecSchema, type ModelSpec } from '../../shared/specs';
+import {
+  bootstrapParamsSchema,
+  rollingParamsSchema,
+  subsetSweepParamsSchema,
+  type JobKind,
+} from '../../shared/jobs';
+import { defaultBlockLength, rollingWindows, type BootstrapInput, type RollingInput, type SubsetSweepInput } from '../../lib/gmm/index';
+import { loadEditionData } from './edition-data';
+import { buildLedgerInput, RunDataError } from './runs';
+
+export type CheckInput =
+  | { kind: 'bootstrap'; input: BootstrapInput; total: number }
+  | { kind: 'subset-sweep'; input: SubsetSweepInput; total: number }
+  | { kind: 'rolling'; input: RollingInput; total: number };
+
+export interface RunForCheck {
+  id: number;
+  editionId: number;
+  spec: string;
+}
+
+function unprocessable(message: string, path: string[] = ['params']): never {
+  throw new KeelsonApiError('unprocessable', message, [{ path, message }]);
+}
+
+/**
+ * Builds the check input. `params` must already be parsed by the kind's schema (shared/jobs.ts).
+ * @throws KeelsonApiError 422 when the check does not fit the run's data.
+ */
+export function buildCheckInput(db: Db, run: RunForCheck, kind: JobKind, rawParams: unknown): CheckInput {
+  const spec: ModelSpec = modelSpecSchema.parse(JSON.parse(run.spec));
+  const data = loadEditionData(db, run.editionId);
+  const build = (s: ModelSpec) => {
+    try {
+      return buildLedgerInput(s, data);
+    } catch (e) {
+      if (e instanceof RunDataError) unprocessable(e.message);
+      throw e;
+    }
+  };
+  if (kind === 'bootstrap') {
+    const p = bootstrapParamsSchema.parse(rawParams);
+    if (spec.form !== 'centred') unprocessable('The bootstrap supports runs in the centred SDF form only.');
+    const { input } = build(spec);
+    const T = input.returns.length;
+    const block = p.scheme === 'block' ? (p.blockLength ?? defaultBlockLength(T)) : undefined;
+    if (block !== undefined && block > Math.floor(T / 2))
+      unprocessable(`The block length is at most T/2 = ${Math.floor(T / 2)} periods for this run (T = ${T}).`, ['params', 'blockLength']);
+    return {
+      kind,
+      total: p.draws,
+      input: {
+        returns: input.returns,
+        factors: input.factors,
+        factorNames: input.factorNames,
+        options: {
+          stage: spec.stage,
+          weighting: spec.weighting,
+          lags: spec.lags,
+          form: spec.form,
+          factorMeansKnown: spec.factorMeansKnown,
+          scheme: p.scheme,
+          ...(block !== undefined ? { blockLength: block } : {}),
+          draws: p.draws,
+          seed: p.seed ?? 1,
+        },
+      },
+    };
+  }
+  if (kind === 'subset-sweep') {
+    const p = subsetSweepParamsSchema.parse(rawParams);
+    const candidates = p.candidates ?? spec.factors;
+    if (candidates.length > 15) unprocessable(`The sweep takes at most 15 candidate factors; the run has ${candidates.length}. Name up to 15 candidates.`, ['params', 'candidates']);
+    if (new Set(candidates).size !== candidates.length) unprocessable('A candidate factor is named twice.', ['params', 'candidates']);
+    const kindOf = new Map(data.series.map((s) => [s.name, s]));
+    for (const c of candidates) {
+      const s = kindOf.get(c);
+      if (!s) unprocessable(`The run's edition has no series '${c}'.`, ['params', 'candidates']);
+      if (s.kind !== 'factor') unprocessable(`'${c}' is a ${s.kind === 'rf' ? 'risk-free series' : 'test asset'}, not a factor.`, ['params', 'candidates']);
+      if (spec.assets.includes(c)) unprocessable(`'${c}' is a test asset of this run.`, ['params', 'candidates']);
+    }
+    const sweepSpec: ModelSpec = {
+      ...spec,
+      factors: candidates,
+      nonTraded: candidates.filter((c) => !kindOf.get(c)!.traded),
+      dropSet: undefined,
+    };
+    const { input } = build(sweepSpec);
+    if (input.returns.length <= input.assetNames.length + candidates.length)
+      unprocessable(`T = ${input.returns.length} periods is too few for N = ${input.assetNames.length} assets and ${candidates.length} candidates.`);
+    return {
+      kind,
+      total: 2 ** candidates.length - 1,
+      input: {
+        returns: input.returns,
+        factors: input.factors,
+        factorNames: candidates,
+        options: { lags: spec.lags, form: spec.form, factorMeansKnown: spec.factorMeansKnown, weighting: spec.weighting, level: spec.level, topPerSize: p.topPerSize },
+      },
+    };
+  }
+  const p = rollingParamsSchema.parse(rawParams);
+  const { input, dates } = build(spec);
+  const T = input.returns.length;
+  const N = input.assetNames.length;
+  const K = input.factorNames.length;
+  if (p.length > T) unprocessable(`The window of ${p.length} periods is longer than the run's sample (T = ${T}).`, ['params', 'length']);
+  if (p.length <= N + K) unprocessable(`A window of ${p.length} periods is too short for N = ${N} assets and K = ${K} factors: use more than ${N + K}.`, ['params', 'length']);
+  const windows = rollingWindows(T, { kind: p.window, length: p.length, step: p.step });
+  return {
+    kind,
+    total: windows.length,
+    input: {
+      returns: input.returns,
+      factors: input.factors,
+      factorNames: input.factorNames,
+      dates,
+      window: { kind: p.window, length: p.length, step: p.step },
+      options: { stage: spec.stage, weighting: spec.weighting, lags: spec.lags, form: spec.form, factorMeansKnown: spec.factorMeansKnown, level: spec.level },
+    },
+  };
+}

@@ -1,0 +1,180 @@
+/**
+ * Deep-check jobs: create on a finished run, read, list, cancel, restart.
+ *
+ * Access (server-enforced, deny by default; routes name the roles):
+ * - start, cancel, restart: researchers and admins; a researcher only on runs they can read, and
+ *   cancel/restart only their own jobs (admins any).
+ * - read: anyone who can read the job's run (its library edition). Listing: admins see all jobs;
+ *   researchers their own; reviewers and desk users the jobs of runs they can read.
+ */
+import { and, desc, eq, inArray, type SQL } from 'drizzle-orm';
+import { randomInt } from 'node:crypto';
+import type { Db } from '../db/client';
+import { inTransaction } from '../db/client';
+import { jobs, runs, users } from '../db/schema/index';
+import { KeelsonApiError } from '../../shared/errors';
+import type { User } from '../../shared/auth';
+import {
+  RESTARTABLE_JOB_STATUSES,
+  bootstrapParamsSchema,
+  type Job,
+  type JobListQuery,
+  type JobResult,
+  type StartCheck,
+} from '../../shared/jobs';
+import { audit } from './audit';
+import { canReadEdition } from './specs';
+import { buildCheckInput } from './jobs-input';
+import type { JobRunner } from '../jobs/runner';
+
+type JobRow = typeof jobs.$inferSelect;
+
+function etaSeconds(row: JobRow, now = Date.now()): number | null {
+  if (row.status !== 'running' || !row.startedAt || row.done <= 0 || row.total <= 0) return null;
+  const elapsed = (now - Date.parse(row.startedAt)) / 1000;
+  if (!(elapsed >= 0)) return null;
+  return Math.max(0, (elapsed / row.done) * (row.total - row.done));
+}
+
+export function toJob(row: JobRow, authorName: string, withResult: boolean): Job {
+  return {
+    id: row.id,
+    kind: row.kind,
+    runId: row.runId,
+    authorId: row.authorId,
+    authorName,
+    params: JSON.parse(row.params) as Record<string, unknown>,
+    status: row.status,
+    done: row.done,
+    total: row.total,
+    attempts: row.attempts,
+    createdAt: row.createdAt,
+    startedAt: row.startedAt,
+    finishedAt: row.finishedAt,
+    etaSeconds: etaSeconds(row),
+    error: row.error,
+    result: withResult && row.status === 'finished' && row.result ? (JSON.parse(row.result) as JobResult) : null,
+  };
+}
+
+function runOf(db: Db, user: User, runId: number) {
+  const run = db.select({ id: runs.id, editionId: runs.editionId, spec: runs.spec, status: runs.status }).from(runs).where(eq(runs.id, runId)).get();
+  if (!run || !canReadEdition(db, user, run.editionId)) throw new KeelsonApiError('not_found', `No run ${runId}`);
+  return run;
+}
+
+function nameOf(db: Db, id: number): string {
+  return db.select({ name: users.name }).from(users).where(eq(users.id, id)).get()?.name ?? `user ${id}`;
+}
+
+/** The job row if `user` may read it (may read its run); else 404. */
+export function findJobRow(db: Db, user: User, id: number): JobRow {
+  const row = db.select().from(jobs).where(eq(jobs.id, id)).get();
+  if (!row) throw new KeelsonApiError('not_found', `No job ${id}`);
+  const run = db.select({ editionId: runs.editionId }).from(runs).where(eq(runs.id, row.runId)).get();
+  const readable = user.role === 'admin' || row.authorId === user.id || (run !== undefined && canReadEdition(db, user, run.editionId));
+  if (!readable) throw new KeelsonApiError('not_found', `No job ${id}`);
+  return row;
+}
+
+export function getJob(db: Db, user: User, id: number): Job {
+  const row = findJobRow(db, user, id);
+  return toJob(row, nameOf(db, row.authorId), true);
+}
+
+/** Jobs the user may see, newest first, without their results (read one job for its result). */
+export function listJobs(db: Db, user: User, q: JobListQuery): Job[] {
+  const conds: SQL[] = [];
+  if (q.runId) {
+    runOf(db, user, q.runId); // 404 unless the run is readable
+    conds.push(eq(jobs.runId, q.runId));
+  } else if (user.role === 'researcher') conds.push(eq(jobs.authorId, user.id));
+  if (q.status) conds.push(eq(jobs.status, q.status));
+  const rows = db
+    .select({ j: jobs, authorName: users.name, editionId: runs.editionId })
+    .from(jobs)
+    .innerJoin(users, eq(users.id, jobs.authorId))
+    .leftJoin(runs, eq(runs.id, jobs.runId))
+    .where(conds.length ? and(...conds) : undefined)
+    .orderBy(desc(jobs.id))
+    .limit(500)
+    .all();
+  const cache = new Map<number, boolean>();
+  return rows
+    .filter((x) => user.role === 'admin' || x.j.authorId === user.id || (x.editionId !== null && canReadEdition(db, user, x.editionId, cache)))
+    .map((x) => toJob(x.j, x.authorName, false));
+}
+
+function assertMayChange(user: User, row: JobRow): void {
+  if (user.role !== 'admin' && row.authorId !== user.id)
+    throw new KeelsonApiError('forbidden', `Job ${row.id} was started by someone else; only its author or an admin may change it`);
+}
+
+/**
+ * Starts a deep check on a finished run. Validates the parameters against the run's data first
+ * (422, nothing written), then inserts the job (queued) with an audit line and hands it to the runner.
+ */
+export function startCheck(db: Db, runner: JobRunner, user: User, runId: number, body: StartCheck): Job {
+  const run = runOf(db, user, runId);
+  if (run.status !== 'finished') throw new KeelsonApiError('conflict', `Run ${runId} is ${run.status}; deep checks need a finished run`);
+  let params: Record<string, unknown> = { ...body.params };
+  if (body.kind === 'bootstrap') {
+    const p = bootstrapParamsSchema.parse(body.params);
+    params = { ...p, seed: p.seed ?? randomInt(0, 2 ** 31) };
+  }
+  const check = buildCheckInput(db, run, body.kind, params);
+  const row = inTransaction(db, (tx) => {
+    const r = tx
+      .insert(jobs)
+      .values({ kind: body.kind, runId, authorId: user.id, params: JSON.stringify(params), status: 'queued', done: 0, total: check.total, attempts: 1 })
+      .returning()
+      .get();
+    audit(tx, user.id, 'job.started', { jobId: r.id, runId, kind: body.kind });
+    return r;
+  });
+  runner.start(row.id);
+  return toJob(row, user.name, false);
+}
+
+/** Cancels a queued or running job (409 for a job that has ended). */
+export function cancelJob(db: Db, runner: JobRunner, user: User, id: number): Job {
+  const row = findJobRow(db, user, id);
+  assertMayChange(user, row);
+  if (row.status !== 'queued' && row.status !== 'running')
+    throw new KeelsonApiError('conflict', `Job ${id} is ${row.status}; only a queued or running job can be cancelled`);
+  const updated = inTransaction(db, (tx) => {
+    const r = tx
+      .update(jobs)
+      .set({ status: 'cancelled', finishedAt: new Date().toISOString(), result: null })
+      .where(and(eq(jobs.id, id), inArray(jobs.status, ['queued', 'running'])))
+      .returning()
+      .get();
+    if (r) audit(tx, user.id, 'job.cancelled', { jobId: id });
+    return r;
+  });
+  runner.abort(id);
+  const now = updated ?? db.select().from(jobs).where(eq(jobs.id, id)).get()!;
+  return toJob(now, nameOf(db, now.authorId), true);
+}
+
+/** Runs an interrupted, failed or cancelled job again from the start with the same parameters. */
+export function restartJob(db: Db, runner: JobRunner, user: User, id: number): Job {
+  const row = findJobRow(db, user, id);
+  assertMayChange(user, row);
+  if (!RESTARTABLE_JOB_STATUSES.includes(row.status))
+    throw new KeelsonApiError('conflict', `Job ${id} is ${row.status}; only interrupted, failed or cancelled jobs can be restarted`);
+  if (runner.isActive(id)) throw new KeelsonApiError('conflict', `Job ${id} is still stopping; try again in a moment`);
+  const updated = inTransaction(db, (tx) => {
+    const r = tx
+      .update(jobs)
+      .set({ status: 'queued', done: 0, error: null, result: null, startedAt: null, finishedAt: null, attempts: row.attempts + 1 })
+      .where(and(eq(jobs.id, id), inArray(jobs.status, [...RESTARTABLE_JOB_STATUSES])))
+      .returning()
+      .get();
+    if (!r) throw new KeelsonApiError('conflict', `Job ${id} changed meanwhile; reload it`);
+    audit(tx, user.id, 'job.restarted', { jobId: id, attempt: r.attempts });
+    return r;
+  });
+  runner.start(id);
+  return toJob(updated, nameOf(db, updated.authorId), false);
+}
