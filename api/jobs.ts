@@ -1,0 +1,22 @@
+/** Fetchers for deep-check jobs. */
+import { apiRequest } from './client';
+import { jobResponseSchema, jobsResponseSchema, type Job, type JobListQuery, type StartCheckBody } from '../shared/jobs';
+
+export async function listJobs(q: Partial<JobListQuery> = {}): Promise<Job[]> {
+  const params = new URLSearchParams();
+  for (const [k, v] of Object.entries(q)) if (v !== undefined && v !== null) params.set(k, String(v));
+  const qs = params.toString();
+  return (await apiRequest(`/jobs${qs ? `?${qs}` : ''}`, { schema: jobsResponseSchema })).jobs as Job[];
+}
+export async function getJob(id: number): Promise<Job> {
+  return (await apiRequest(`/jobs/${id}`, { schema: jobResponseSchema })).job as Job;
+}
+export async function startCheck(runId: number, body: StartCheckBody): Promise<Job> {
+  return (await apiRequest(`/runs/${runId}/checks`, { method: 'POST', body, schema: jobResponseSchema })).job as Job;
+}
+export async function cancelJob(id: number): Promise<Job> {
+  return (await apiRequest(`/jobs/${id}/cancel`, { method: 'POST', body: {}, schema: jobResponseSchema })).job as Job;
+}
+export async function restartJob(id: number): Promise<Job> {
+  return (await apiRequest(`/jobs/${id}/restart`, { method: 'POST', body: {}, schema: jobResponseSchema })).job as Job;
+}

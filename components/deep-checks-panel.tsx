@@ -1,0 +1,169 @@
+/**
+ * Deep checks of one finished run (the run page's panel): start a bootstrap, a subset sweep or a
+ * rolling window as a background job (researchers and admins), watch each job's progress (polled
+ * every second while it runs), cancel or restart it, and read a finished job's result.
+ */
+import { useState } from 'react';
+import { Text, View } from 'react-native';
+import { JOB_KIND_LABELS, type JobKind, type StartCheckBody } from '../shared/jobs';
+import { useMe } from '../hooks/use-session';
+import { useJob, useJobs, useStartCheck } from '../hooks/use-jobs';
+import { Button } from './button';
+import { Card } from './card';
+import { DeepCheckResult } from './deep-check-results';
+import { ErrorView } from './error-view';
+import { JobProgress } from './job-progress';
+import { Select } from './select';
+import { TextField } from './text-field';
+import { space, text } from './theme';
+
+const KIND_HELP: Readonly<Record<JobKind, string>> = {
+  bootstrap:
+    'Resamples the run’s periods under the null (recentred moments) to get p-values for J, each b and each drop test that do not lean on large-sample theory — useful with many test assets or a short sample.',
+  'subset-sweep': 'Estimates every combination of up to 15 candidate factors on the same assets and ranks them by HJ distance and by the drop test against the full model.',
+  rolling: 'Re-estimates b and λ with their standard errors on rolling or expanding windows, to see whether they drift.',
+};
+
+function intOrUndefined(s: string): number | undefined {
+  const t = s.trim();
+  if (t === '') return undefined;
+  const n = Number(t);
+  return Number.isFinite(n) ? n : NaN;
+}
+
+function StartForm({ runId }: { runId: number }) {
+  const start = useStartCheck(runId);
+  const [kind, setKind] = useState<JobKind>('bootstrap');
+  const [draws, setDraws] = useState('999');
+  const [scheme, setScheme] = useState<'iid' | 'block'>('iid');
+  const [block, setBlock] = useState('');
+  const [seed, setSeed] = useState('');
+  const [candidates, setCandidates] = useState('');
+  const [windowKind, setWindowKind] = useState<'rolling' | 'expanding'>('rolling');
+  const [length, setLength] = useState('60');
+  const [step, setStep] = useState('12');
+
+  const submit = () => {
+    let body: StartCheckBody;
+    if (kind === 'bootstrap') {
+      const blockLength = scheme === 'block' ? intOrUndefined(block) : undefined;
+      const s = intOrUndefined(seed);
+      body = { kind, params: { draws: intOrUndefined(draws) ?? 999, scheme, ...(blockLength !== undefined ? { blockLength } : {}), ...(s !== undefined ? { seed: s } : {}) } };
+    } else if (kind === 'subset-sweep') {
+      const list = candidates
+        .split(/[,\s]+/)
+        .map((c) => c.trim())
+        .filter(Boolean);
+      body = { kind, params: list.length ? { candidates: list } : {} };
+    } else {
+      body = { kind, params: { window: windowKind, length: intOrUndefined(length) ?? 0, step: intOrUndefined(step) ?? 12 } };
+    }
+    start.mutate(body);
+  };
+
+  return (
+    <View style={{ gap: space.md }}>
+      <Select
+        label="Check"
+        value={kind}
+        options={(['bootstrap', 'subset-sweep', 'rolling'] as const).map((k) => ({ value: k, label: JOB_KIND_LABELS[k] }))}
+        onChange={(k) => {
+          setKind(k);
+          start.reset();
+        }}
+      />
+      <Text style={text.muted}>{KIND_HELP[kind]}</Text>
+      {kind === 'bootstrap' ? (
+        <View style={{ gap: space.sm }}>
+          <TextField label="Draws" value={draws} onChangeText={setDraws} numeric inputMode="numeric" hint="B bootstrap samples; 999 is the default." />
+          <Select
+            label="Resampling"
+            value={scheme}
+            options={[
+              { value: 'iid', label: 'iid periods' },
+              { value: 'block', label: 'moving blocks' },
+            ]}
+            onChange={setScheme}
+          />
+          {scheme === 'block' ? (
+            <TextField label="Block length" value={block} onChangeText={setBlock} numeric inputMode="numeric" hint="Empty: ceil(T^(1/3)) periods." />
+          ) : null}
+          <TextField label="Seed" value={seed} onChangeText={setSeed} numeric inputMode="numeric" hint="Empty: a random seed, stored with the job so it can be repeated." />
+        </View>
+      ) : null}
+      {kind === 'subset-sweep' ? (
+        <TextField
+          label="Candidate factors"
+          value={candidates}
+          onChangeText={setCandidates}
+          hint="Factor series of this run’s edition, separated by commas; empty: the run’s own factors. At most 15 (32,767 models)."
+        />
+      ) : null}
+      {kind === 'rolling' ? (
+        <View style={{ gap: space.sm }}>
+          <Select
+            label="Windows"
+            value={windowKind}
+            options={[
+              { value: 'rolling', label: 'rolling' },
+              { value: 'expanding', label: 'expanding' },
+            ]}
+            onChange={setWindowKind}
+          />
+          <TextField label="Window length" value={length} onChangeText={setLength} numeric inputMode="numeric" hint="Periods per window (the first window when expanding)." />
+          <TextField label="Step" value={step} onChangeText={setStep} numeric inputMode="numeric" hint="Periods between windows." />
+        </View>
+      ) : null}
+      {start.error ? <ErrorView error={start.error} title="The check was not started" /> : null}
+      <View style={{ flexDirection: 'row' }}>
+        <Button label="Start deep check" variant="primary" onPress={submit} busy={start.isPending} />
+      </View>
+    </View>
+  );
+}
+
+function ResultToggle({ jobId }: { jobId: number }) {
+  const job = useJob(jobId);
+  if (job.error) return <ErrorView error={job.error} title="Could not load the result" />;
+  if (!job.data) return <Text style={text.muted}>Loading the result…</Text>;
+  return <DeepCheckResult job={job.data} />;
+}
+
+export function DeepChecksPanel({ runId }: { runId: number }) {
+  const me = useMe().data;
+  const jobs = useJobs({ runId });
+  const [open, setOpen] = useState<number | null>(null);
+  const mayStart = me?.role === 'researcher' || me?.role === 'admin';
+  return (
+    <Card
+      title="Deep checks"
+      subtitle="Bootstrap, subset sweep and rolling window run in the background; this panel follows their progress."
+      accessibilityLabel="Deep checks"
+      aside={<Button label="All jobs" href="/jobs" compact variant="quiet" />}
+    >
+      {mayStart ? <StartForm runId={runId} /> : <Text style={text.muted}>Researchers and admins start deep checks; you can follow and read them here.</Text>}
+      {jobs.error ? <ErrorView error={jobs.error} title="Could not load the deep checks" onRetry={() => void jobs.refetch()} /> : null}
+      {jobs.data && jobs.data.length === 0 ? <Text style={text.muted}>No deep check has been run on this run yet.</Text> : null}
+      <View>
+        {(jobs.data ?? []).map((j) => (
+          <View key={j.id} style={{ gap: space.sm }}>
+            <JobProgress
+              job={j}
+              actions={
+                j.status === 'finished' ? (
+                  <Button
+                    label={open === j.id ? 'Hide result' : 'Show result'}
+                    accessibilityLabel={`${open === j.id ? 'Hide' : 'Show'} result of ${JOB_KIND_LABELS[j.kind]} #${j.id}`}
+                    compact
+                    onPress={() => setOpen(open === j.id ? null : j.id)}
+                  />
+                ) : null
+              }
+            />
+            {open === j.id && j.status === 'finished' ? <ResultToggle jobId={j.id} /> : null}
+          </View>
+        ))}
+      </View>
+    </Card>
+  );
+}
