@@ -1,0 +1,50 @@
+/** Fetchers for sign-in, session and invitations (public side). */
+import { type z } from 'zod';
+import {
+  healthResponseSchema,
+  invitationPreviewSchema,
+  outboxResponseSchema,
+  userResponseSchema,
+  type User,
+} from '../shared/auth';
+import { apiRequest, isApiError, resetCsrfToken } from './client';
+
+export type InvitationPreview = z.infer<typeof invitationPreviewSchema>['invitation'];
+
+export function getHealth() {
+  return apiRequest('/health', { schema: healthResponseSchema });
+}
+
+/** The signed-in user, or null when nobody is signed in. */
+export async function getMe(): Promise<User | null> {
+  try {
+    return (await apiRequest('/auth/me', { schema: userResponseSchema })).user;
+  } catch (e) {
+    if (isApiError(e, 'unauthenticated')) return null;
+    throw e;
+  }
+}
+
+export async function login(email: string, password: string): Promise<User> {
+  return (await apiRequest('/auth/login', { method: 'POST', body: { email, password }, schema: userResponseSchema })).user;
+}
+
+export async function logout(): Promise<void> {
+  try {
+    await apiRequest('/auth/logout', { method: 'POST' });
+  } finally {
+    resetCsrfToken();
+  }
+}
+
+export async function getMyOutbox() {
+  return (await apiRequest('/auth/outbox', { schema: outboxResponseSchema })).messages;
+}
+
+export async function getInvitation(token: string): Promise<InvitationPreview> {
+  return (await apiRequest(`/invitations/${encodeURIComponent(token)}`, { schema: invitationPreviewSchema })).invitation;
+}
+
+export async function acceptInvitation(token: string, password: string): Promise<User> {
+  return (await apiRequest('/invitations/accept', { method: 'POST', body: { token, password }, schema: userResponseSchema })).user;
+}

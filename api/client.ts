@@ -1,0 +1,127 @@
+/**
+ * The one fetch wrapper of the Keelson client. Same-origin, cookie session, CSRF token in
+ * `x-csrf-token` on every state-changing request (fetched once, refetched after sign-out and
+ * once on a `csrf_invalid` 403). Success bodies are parsed with the caller's zod schema; every
+ * failure (error envelope, unexpected body, network) comes out as a `KeelsonApiError`.
+ */
+import type { ZodType } from 'zod';
+import { errorEnvelopeSchema, KeelsonApiError, type ErrorCode } from '../shared/errors';
+import { csrfResponseSchema } from '../shared/auth';
+
+export type HttpMethod = 'GET' | 'POST' | 'PATCH' | 'PUT' | 'DELETE';
+
+export interface ApiRequestOptions<T> {
+  method?: HttpMethod;
+  /** JSON body (objects) or FormData (uploads). */
+  body?: unknown;
+  /** Schema for a success body; omit for 204 responses. */
+  schema?: ZodType<T>;
+  signal?: AbortSignal;
+}
+
+/** Origin of the API; '' means the page's own origin (the web export is served by the API server). */
+let apiBase = '';
+export function setApiBase(base: string): void {
+  apiBase = base.replace(/\/$/, '');
+}
+
+let csrfToken: string | null = null;
+let csrfPending: Promise<string> | null = null;
+
+/** Forgets the CSRF token (call after sign-out: the session that held it is gone). */
+export function resetCsrfToken(): void {
+  csrfToken = null;
+  csrfPending = null;
+}
+
+async function fetchCsrfToken(): Promise<string> {
+  if (csrfToken) return csrfToken;
+  if (!csrfPending) {
+    csrfPending = apiRequest('/auth/csrf', { schema: csrfResponseSchema })
+      .then((r) => {
+        csrfToken = r.token;
+        return r.token;
+      })
+      .finally(() => {
+        csrfPending = null;
+      });
+  }
+  return csrfPending;
+}
+
+const NETWORK_MESSAGE = 'Keelson cannot reach its server; check the connection and try again';
+
+function codeForStatus(status: number): ErrorCode {
+  if (status === 401) return 'unauthenticated';
+  if (status === 403) return 'forbidden';
+  if (status === 404) return 'not_found';
+  if (status === 409) return 'conflict';
+  if (status === 413) return 'payload_too_large';
+  if (status === 429) return 'rate_limited';
+  if (status >= 500) return 'internal';
+  return 'bad_request';
+}
+
+async function toApiError(res: Response): Promise<KeelsonApiError> {
+  let json: unknown = null;
+  try {
+    json = await res.json();
+  } catch {
+    /* not JSON: fall through */
+  }
+  const env = errorEnvelopeSchema.safeParse(json);
+  if (env.success) {
+    const { code, message, issues } = env.data.error;
+    return new KeelsonApiError(code, message, issues, res.status);
+  }
+  return new KeelsonApiError(codeForStatus(res.status), `The server answered ${res.status} ${res.statusText || ''}`.trim(), undefined, res.status);
+}
+
+async function send(path: string, method: HttpMethod, body: unknown, signal?: AbortSignal): Promise<Response> {
+  const headers: Record<string, string> = { accept: 'application/json' };
+  if (method !== 'GET') headers['x-csrf-token'] = await fetchCsrfToken();
+  let payload: BodyInit | undefined;
+  if (body instanceof FormData) payload = body;
+  else if (body !== undefined) {
+    headers['content-type'] = 'application/json';
+    payload = JSON.stringify(body);
+  }
+  try {
+    return await fetch(`${apiBase}/api/v1${path}`, { method, headers, body: payload, credentials: 'same-origin', signal });
+  } catch (e) {
+    if ((e as { name?: string })?.name === 'AbortError') throw e;
+    throw new KeelsonApiError('internal', NETWORK_MESSAGE, undefined, 0);
+  }
+}
+
+/** Calls `/api/v1${path}`; resolves with the parsed body, rejects with a `KeelsonApiError`. */
+export async function apiRequest<T = void>(path: string, opts: ApiRequestOptions<T> = {}): Promise<T> {
+  const method = opts.method ?? 'GET';
+  let res = await send(path, method, opts.body, opts.signal);
+  if (res.status === 403 && method !== 'GET') {
+    const err = await toApiError(res.clone());
+    if (err.code === 'csrf_invalid') {
+      resetCsrfToken();
+      res = await send(path, method, opts.body, opts.signal);
+    }
+  }
+  if (!res.ok) throw await toApiError(res);
+  if (!opts.schema) return undefined as T;
+  let json: unknown;
+  try {
+    json = await res.json();
+  } catch {
+    throw new KeelsonApiError('internal', `The server sent a body that is not JSON for ${method} ${path}`, undefined, res.status);
+  }
+  const parsed = opts.schema.safeParse(json);
+  if (!parsed.success) {
+    const issues = parsed.error.issues.map((i) => ({ path: i.path.map((p) => (typeof p === 'number' ? p : String(p))), message: i.message }));
+    throw new KeelsonApiError('internal', `The server's answer to ${method} ${path} has an unexpected shape`, issues, res.status);
+  }
+  return parsed.data;
+}
+
+/** True when `e` is a KeelsonApiError with one of the given codes. */
+export function isApiError(e: unknown, ...codes: ErrorCode[]): e is KeelsonApiError {
+  return e instanceof KeelsonApiError && (codes.length === 0 || codes.includes(e.code));
+}

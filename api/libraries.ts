@@ -1,0 +1,67 @@
+/** Fetchers for return libraries (see shared/libraries.ts for the shapes). */
+import { apiRequest } from './client';
+import {
+  confirmResponseSchema,
+  editionDataResponseSchema,
+  editionResponseSchema,
+  librariesResponseSchema,
+  libraryResponseSchema,
+  uploadResponseSchema,
+  type ConfirmUploadBody,
+  type LibraryListQuery,
+} from '../shared/libraries';
+
+export async function listLibraries(q: Partial<LibraryListQuery> = {}) {
+  const params = new URLSearchParams();
+  for (const [k, v] of Object.entries(q)) if (v !== undefined && v !== '') params.set(k, String(v));
+  const qs = params.toString();
+  return (await apiRequest(`/libraries${qs ? `?${qs}` : ''}`, { schema: librariesResponseSchema })).libraries;
+}
+
+export async function getLibrary(id: number) {
+  return (await apiRequest(`/libraries/${id}`, { schema: libraryResponseSchema })).library;
+}
+
+export async function getEdition(id: number, n: number) {
+  return (await apiRequest(`/libraries/${id}/editions/${n}`, { schema: editionResponseSchema })).edition;
+}
+
+export async function getEditionData(id: number, n: number) {
+  return apiRequest(`/libraries/${id}/editions/${n}/data`, { schema: editionDataResponseSchema });
+}
+
+/** Same-origin URL of an edition's CSV export (the session cookie authorises the download). */
+export function exportUrl(id: number, n: number): string {
+  return `/api/v1/libraries/${id}/editions/${n}/export.csv`;
+}
+
+/** Uploads a CSV (a web File/Blob) for review. */
+export async function uploadLibraryFile(file: Blob, fileName: string) {
+  const form = new FormData();
+  form.append('file', file, fileName);
+  return (await apiRequest('/libraries/uploads', { method: 'POST', body: form, schema: uploadResponseSchema })).upload;
+}
+
+export async function getUpload(id: string) {
+  return (await apiRequest(`/libraries/uploads/${encodeURIComponent(id)}`, { schema: uploadResponseSchema })).upload;
+}
+
+export async function discardUpload(id: string) {
+  await apiRequest(`/libraries/uploads/${encodeURIComponent(id)}`, { method: 'DELETE' });
+}
+
+export async function confirmUpload(id: string, body: ConfirmUploadBody) {
+  return apiRequest(`/libraries/uploads/${encodeURIComponent(id)}/confirm`, { method: 'POST', body, schema: confirmResponseSchema });
+}
+
+export async function publishLibrary(id: number) {
+  return (await apiRequest(`/libraries/${id}/publish`, { method: 'POST', body: {}, schema: libraryResponseSchema })).library;
+}
+
+export async function archiveLibrary(id: number, archived: boolean) {
+  return (await apiRequest(`/libraries/${id}/${archived ? 'archive' : 'restore'}`, { method: 'POST', body: {}, schema: libraryResponseSchema })).library;
+}
+
+export async function deleteEdition(id: number, n: number) {
+  await apiRequest(`/libraries/${id}/editions/${n}`, { method: 'DELETE' });
+}

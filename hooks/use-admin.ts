@@ -1,0 +1,35 @@
+/** TanStack Query hooks for the admin (Team) section. */
+import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
+import type { InviteBody } from '../shared/auth';
+import type { Role } from '../shared/roles';
+import type { KeelsonApiError } from '../shared/errors';
+import { createInvitation, listAudit, listInvitations, listOutbox, listUsers, updateUser } from '../api/admin';
+
+export const adminKeys = {
+  all: ['admin'] as const,
+  users: ['admin', 'users'] as const,
+  invitations: ['admin', 'invitations'] as const,
+  outbox: ['admin', 'outbox'] as const,
+  audit: ['admin', 'audit'] as const,
+};
+
+export const useAdminUsers = () => useQuery({ queryKey: adminKeys.users, queryFn: listUsers });
+export const useInvitations = () => useQuery({ queryKey: adminKeys.invitations, queryFn: listInvitations });
+export const useAdminOutbox = () => useQuery({ queryKey: adminKeys.outbox, queryFn: listOutbox });
+export const useAuditLog = () => useQuery({ queryKey: adminKeys.audit, queryFn: listAudit });
+
+export function useUpdateUser() {
+  const qc = useQueryClient();
+  return useMutation<unknown, KeelsonApiError, { id: number; role?: Role; active?: boolean }>({
+    mutationFn: ({ id, ...patch }) => updateUser(id, patch),
+    onSuccess: () => qc.invalidateQueries({ queryKey: adminKeys.all }),
+  });
+}
+
+export function useCreateInvitation() {
+  const qc = useQueryClient();
+  return useMutation<Awaited<ReturnType<typeof createInvitation>>, KeelsonApiError, InviteBody>({
+    mutationFn: (body) => createInvitation(body),
+    onSuccess: () => qc.invalidateQueries({ queryKey: adminKeys.all }),
+  });
+}

@@ -1,0 +1,241 @@
+/**
+ * Client shell end to end against the real server: sign-in per role, role-aware navigation,
+ * wrong password, invitation round trip through the outbox, 404, and no request leaving the origin.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { Browser } from 'playwright-core';
+import type { Role } from '../../shared/roles';
+import {
+  DEMO_ROLES,
+  PHONE,
+  WIDE,
+  baseUrl,
+  expectSameOrigin,
+  goNav,
+  goTeamPage,
+  launchBrowser,
+  navLabels,
+  openPage,
+  shot,
+  signIn,
+  signInHere,
+  signOut,
+} from './helpers';
+
+let browser: Browser;
+beforeAll(async () => {
+  browser = await launchBrowser();
+});
+afterAll(async () => {
+  await browser?.close();
+});
+
+/** Phone bar (≤ 4) and wide rail per role, as designed in components/nav-items.ts. */
+const PHONE_NAV: Record<Role, string[]> = {
+  desk: ['Home', 'Libraries', 'Runs'],
+  researcher: ['Home', 'Libraries', 'Runs'],
+  reviewer: ['Home', 'Libraries', 'Runs', 'Sign-offs'],
+  admin: ['Home', 'Libraries', 'Runs', 'Team'],
+};
+const WIDE_NAV: Record<Role, string[]> = {
+  desk: ['Home', 'Libraries', 'Runs'],
+  researcher: ['Home', 'Libraries', 'Runs'],
+  reviewer: ['Home', 'Libraries', 'Runs', 'Sign-offs'],
+  admin: ['Home', 'Libraries', 'Runs', 'Sign-offs', 'Team'],
+};
+
+describe('sign-in', () => {
+  it('sends an unauthenticated visitor to /sign-in and back to the page they asked for', async () => {
+    const { context, page, requests, errors } = await openPage(browser, PHONE);
+    await page.goto('/runs');
+    await page.waitForURL(/\/sign-in\?next=%2Fruns/);
+    await page.getByRole('heading', { name: 'Sign in' }).waitFor();
+    await shot(page, 'sign-in-phone');
+    await signInHere(page, 'researcher@keelson.test', 'keelson-demo');
+    await page.waitForURL(`${baseUrl()}/runs`);
+    await expect(page.getByRole('heading', { name: 'Runs', level: 1 }).isVisible()).resolves.toBe(true);
+    expectSameOrigin(requests);
+    expect(errors).toEqual([]);
+    await context.close();
+  });
+
+  it('shows the server message for a wrong password and stays on sign-in', async () => {
+    const { context, page, requests } = await openPage(browser, WIDE);
+    await page.goto('/sign-in');
+    await shot(page, 'sign-in-wide');
+    await signInHere(page, 'desk@keelson.test', 'not-the-password');
+    const alert = page.getByRole('alert').filter({ hasText: 'Sign-in failed' });
+    await alert.waitFor();
+    // Message text from server/routes/auth.ts (the 401 envelope).
+    await expect(alert.textContent()).resolves.toContain('E-mail or password is wrong, or the account is deactivated');
+    expect(new URL(page.url()).pathname).toBe('/sign-in');
+    await shot(page, 'sign-in-wrong-password-wide');
+    expectSameOrigin(requests);
+    await context.close();
+  });
+
+  it('checks the form before calling the server', async () => {
+    const { context, page } = await openPage(browser, PHONE);
+    await page.goto('/sign-in');
+    await page.getByLabel('E-mail', { exact: true }).fill('not-an-address');
+    await page.getByRole('button', { name: 'Sign in', exact: true }).click();
+    await page.getByText('Enter an e-mail address such as name@example.org').waitFor();
+    await context.close();
+  });
+});
+
+describe('navigation by role', () => {
+  for (const role of DEMO_ROLES) {
+    it(`${role}: phone bar and wide rail list only the role's destinations; sign out works`, async () => {
+      const phone = await openPage(browser, PHONE);
+      await signIn(phone.page, role);
+      expect(await navLabels(phone.page)).toEqual(PHONE_NAV[role]);
+      await phone.page.getByRole('heading', { level: 1 }).filter({ hasText: 'Welcome' }).waitFor();
+      await shot(phone.page, `home-${role}-phone`);
+
+      // Same session cookie, wide viewport: the rail.
+      const wide = await phone.context.newPage();
+      await wide.setViewportSize(WIDE);
+      await wide.goto('/');
+      expect(await navLabels(wide)).toEqual(WIDE_NAV[role]);
+      await wide.getByRole('heading', { level: 1 }).filter({ hasText: 'Welcome' }).waitFor();
+      await shot(wide, `home-${role}-wide`);
+      await wide.close();
+
+      // Runs: only researchers see the "New model spec" card.
+      await goNav(phone.page, 'Runs');
+      await phone.page.getByRole('heading', { name: 'Runs', level: 1 }).waitFor();
+      expect(await phone.page.getByRole('heading', { name: 'New model spec' }).count()).toBe(role === 'researcher' ? 1 : 0);
+
+      // Team is admin-only: others who type the URL see why, not the user list.
+      await phone.page.goto('/admin');
+      if (role === 'admin') await phone.page.getByRole('table', { name: 'Users' }).or(phone.page.getByRole('list', { name: 'Users' })).waitFor();
+      else await phone.page.getByText('Not part of your role').waitFor();
+
+      await signOut(phone.page);
+      // After sign-out a protected page sends us back to sign-in.
+      await phone.page.goto('/runs');
+      await phone.page.waitForURL(/\/sign-in/);
+      expectSameOrigin(phone.requests);
+      expect(phone.errors).toEqual([]);
+      await phone.context.close();
+    });
+  }
+});
+
+describe('admin invites a user', () => {
+  it('invitation e-mail in the outbox; the invitee sets a password and lands signed in with the invited role', async () => {
+    const admin = await openPage(browser, WIDE);
+    await signIn(admin.page, 'admin');
+    await goNav(admin.page, 'Team');
+    await admin.page.getByRole('table', { name: 'Users' }).waitFor();
+    await shot(admin.page, 'admin-users-wide');
+
+    await goTeamPage(admin.page, 'Invitations');
+    await admin.page.getByLabel('Invitee e-mail').fill('wren.halyard@example.org');
+    await admin.page.getByLabel('Invitee name').fill('Wren Halyard');
+    await admin.page.getByRole('radiogroup', { name: 'Invitee role' }).getByRole('radio', { name: 'Reviewer' }).click();
+    await admin.page.getByRole('button', { name: 'Send invitation' }).click();
+    await admin.page.getByRole('status').filter({ hasText: 'Invitation sent to wren.halyard@example.org as reviewer' }).waitFor();
+    const invitations = admin.page.getByRole('table', { name: 'Invitations' });
+    await invitations.getByRole('row').filter({ hasText: 'wren.halyard@example.org' }).filter({ hasText: 'pending' }).waitFor();
+    await shot(admin.page, 'admin-invitations-wide');
+
+    await goTeamPage(admin.page, 'Outbox');
+    await admin.page.getByRole('button', { name: /You are invited to Keelson as Reviewer, to wren\.halyard@example\.org/ }).click();
+    const body = await admin.page.getByRole('article', { name: /You are invited to Keelson/ }).textContent();
+    await shot(admin.page, 'admin-outbox-wide');
+    const link = body?.match(/https?:\/\/\S+\/accept-invite\?token=[A-Za-z0-9_-]+/)?.[0];
+    expect(link, `no invitation link in the e-mail body: ${body}`).toBeTruthy();
+    expect(new URL(link!).origin).toBe(new URL(baseUrl()).origin);
+
+    // The invitee: a fresh context (no cookies), at phone size.
+    const invitee = await openPage(browser, PHONE);
+    await invitee.page.goto(link!);
+    await invitee.page.getByRole('heading', { name: 'Accept your invitation' }).waitFor();
+    await invitee.page.getByText('wren.halyard@example.org').waitFor();
+    await invitee.page.getByLabel('New password', { exact: true }).fill('sturdy-keel-42');
+    await invitee.page.getByLabel('Repeat the password', { exact: true }).fill('sturdy-keel-4');
+    await invitee.page.getByRole('button', { name: 'Set password and sign in' }).click();
+    await invitee.page.getByText('The two passwords differ').waitFor();
+    await invitee.page.getByLabel('Repeat the password', { exact: true }).fill('sturdy-keel-42');
+    await shot(invitee.page, 'accept-invite-phone');
+    await invitee.page.getByRole('button', { name: 'Set password and sign in' }).click();
+    await invitee.page.waitForURL(`${baseUrl()}/`);
+    await invitee.page.getByRole('heading', { name: 'Welcome, Wren', level: 1 }).waitFor();
+    expect(await navLabels(invitee.page)).toEqual(PHONE_NAV.reviewer);
+    await invitee.page.getByText('Signed in as reviewer').waitFor();
+    // The link works once.
+    const again = await openPage(browser, PHONE);
+    await again.page.goto(link!);
+    await again.page.getByText('This invitation cannot be used').waitFor();
+    await again.context.close();
+
+    // Back on the admin side: the invitation is accepted, the new user is listed, the audit log shows it.
+    await goTeamPage(admin.page, 'Invitations');
+    await admin.page.reload();
+    await invitations.getByRole('row').filter({ hasText: 'wren.halyard@example.org' }).filter({ hasText: 'accepted' }).waitFor();
+    await goTeamPage(admin.page, 'Users');
+    await admin.page.getByRole('table', { name: 'Users' }).getByRole('row').filter({ hasText: 'Wren Halyard' }).filter({ hasText: 'Reviewer' }).waitFor();
+    await goTeamPage(admin.page, 'Audit log');
+    await admin.page.getByRole('table', { name: 'Audit log' }).getByText('invitation.accept').first().waitFor();
+    await shot(admin.page, 'admin-audit-wide');
+
+    expectSameOrigin(admin.requests);
+    expectSameOrigin(invitee.requests);
+    expect(admin.errors).toEqual([]);
+    expect(invitee.errors).toEqual([]);
+    await invitee.context.close();
+    await admin.context.close();
+  });
+
+  it('admin changes a role and deactivates a user after confirming (phone)', async () => {
+    const { context, page, requests } = await openPage(browser, PHONE);
+    await signIn(page, 'admin');
+    await page.goto('/admin');
+    const users = page.getByRole('list', { name: 'Users' });
+    await users.waitFor();
+    await shot(page, 'admin-users-phone');
+    await page.getByRole('button', { name: 'Change Wren Halyard' }).click();
+    await page.getByRole('radiogroup', { name: 'Role of Wren Halyard' }).getByRole('radio', { name: 'Desk' }).click();
+    await page.getByRole('button', { name: 'Save role' }).click();
+    await page.getByRole('status').filter({ hasText: 'Saved.' }).waitFor();
+    await page.getByRole('button', { name: 'Deactivate Wren Halyard' }).click();
+    await page.getByRole('alertdialog', { name: 'Confirm deactivation' }).waitFor();
+    await shot(page, 'admin-deactivate-confirm-phone');
+    await page.getByRole('button', { name: 'Yes, deactivate' }).click();
+    await page.getByRole('region', { name: 'Edit Wren Halyard' }).getByText('deactivated').waitFor();
+
+    // The server's own rule shows through: the last admin cannot demote themself.
+    await page.getByRole('button', { name: 'Close' }).click();
+    await page.getByRole('button', { name: 'Change Ada Quarrier' }).click();
+    await page.getByRole('radiogroup', { name: 'Role of Ada Quarrier' }).getByRole('radio', { name: 'Desk' }).click();
+    await page.getByRole('button', { name: 'Save role' }).click();
+    await page.getByText('Keelson needs at least one active admin').waitFor();
+
+    await goTeamPage(page, 'Outbox');
+    await page.getByRole('list', { name: 'Messages' }).waitFor();
+    await shot(page, 'admin-outbox-phone');
+    expectSameOrigin(requests);
+    await context.close();
+
+    // The deactivated invitee can no longer sign in.
+    const gone = await openPage(browser, PHONE);
+    await gone.page.goto('/sign-in');
+    await signInHere(gone.page, 'wren.halyard@example.org', 'sturdy-keel-42');
+    await gone.page.getByText('E-mail or password is wrong, or the account is deactivated').waitFor();
+    await gone.context.close();
+  });
+});
+
+describe('unknown pages', () => {
+  it('shows the 404 page for an unknown URL', async () => {
+    const { context, page, requests } = await openPage(browser, PHONE);
+    await page.goto('/no-such-place/here');
+    await page.getByRole('heading', { name: 'Page not found' }).waitFor();
+    await page.getByText('/no-such-place/here').waitFor();
+    await shot(page, 'not-found-phone');
+    expectSameOrigin(requests);
+    await context.close();
+  });
+});
