@@ -101,6 +101,82 @@ export function symmetricCrossProduct(Qc: Float64Array, M: number, p: number): F
 }
 
 /**
+ * Bartlett window sums of one series x (length T) into out[off .. off + T + L − 1]:
+ * out[off + i] = Σ_{t=max(0,i−L)..min(T−1,i)} x_t. Sliding, refreshed exactly every 64 windows so
+ * that rounding cannot drift.
+ */
+export function windowSumsInto(x: Float64Array, T: number, L: number, out: Float64Array, off: number): void {
+  if (L === 0) {
+    out.set(x.subarray(0, T), off);
+    return;
+  }
+  const M = T + L;
+  let q = 0;
+  for (let i = 0; i < M; i++) {
+    const m = i - L;
+    if ((i & 63) === 0) {
+      q = 0;
+      const hi = Math.min(T - 1, m + L);
+      for (let t = Math.max(0, m); t <= hi; t++) q += x[t];
+    } else {
+      const add = m + L;
+      if (add < T) q += x[add];
+      if (m >= 1) q -= x[m - 1];
+    }
+    out[off + i] = q;
+  }
+}
+
+/**
+ * HAC long-run covariance of a p-variate series given column by column: `fill(a, buf)` writes
+ * series a (length T) into buf. The hot path of every N×N long-run covariance (the moment series
+ * are generated straight into columns, never stored row-major). Returns the full p×p matrix.
+ */
+export function hacFromColumns(
+  T: number,
+  p: number,
+  lags: number,
+  fill: (a: number, buf: Float64Array) => void,
+  demean = false,
+): Float64Array {
+  const L = lags;
+  const M = T + L;
+  const Qc = new Float64Array(M * p);
+  const buf = new Float64Array(T);
+  for (let a = 0; a < p; a++) {
+    fill(a, buf);
+    if (demean) {
+      let mean = 0;
+      for (let t = 0; t < T; t++) mean += buf[t];
+      mean /= T;
+      for (let t = 0; t < T; t++) buf[t] -= mean;
+    }
+    windowSumsInto(buf, T, L, Qc, a * M);
+  }
+  const S = symmetricCrossProduct(Qc, M, p);
+  const scale = 1 / (T * (L + 1));
+  for (let i = 0; i < S.length; i++) S[i] *= scale;
+  return S;
+}
+
+/** Column-major copy (p×T) of a row-major T×p matrix, by cache blocks. */
+export function toColumnMajor(x: Float64Array, T: number, p: number): Float64Array {
+  const xc = new Float64Array(T * p);
+  const B = 32;
+  for (let t0 = 0; t0 < T; t0 += B) {
+    const t1 = Math.min(T, t0 + B);
+    for (let a0 = 0; a0 < p; a0 += B) {
+      const a1 = Math.min(p, a0 + B);
+      for (let t = t0; t < t1; t++) {
+        const row = t * p;
+        for (let a = a0; a < a1; a++) xc[a * T + t] = x[row + a];
+      }
+    }
+  }
+  return xc;
+}
+
+/**
  * HAC long-run covariance of a row-major series x (T×p) on precomputed data. Returns the full
  * symmetric p×p matrix (row-major). The caller guarantees finite input and 0 ≤ lags < T.
  */
@@ -111,49 +187,9 @@ export function hacCovariance(
   lags: number,
   demean = false,
 ): Float64Array {
-  const L = lags;
-  let mean: Float64Array | null = null;
-  if (demean) {
-    mean = new Float64Array(p);
-    for (let t = 0; t < T; t++) {
-      const row = t * p;
-      for (let a = 0; a < p; a++) mean[a] += x[row + a];
-    }
-    for (let a = 0; a < p; a++) mean[a] /= T;
-  }
-  const M = T + L;
-  const Qc = new Float64Array(M * p);
-  if (L === 0) {
-    for (let t = 0; t < T; t++) {
-      const row = t * p;
-      for (let a = 0; a < p; a++) Qc[a * M + t] = mean ? x[row + a] - mean[a] : x[row + a];
-    }
-  } else {
-    // Window sums q_m for m = −L..T−1 (stored at index m + L), sliding, refreshed exactly
-    // every 64 windows so that rounding does not drift.
-    const q = new Float64Array(p);
-    const add = (t: number, sign: number) => {
-      if (t < 0 || t >= T) return;
-      const row = t * p;
-      if (mean) for (let a = 0; a < p; a++) q[a] += sign * (x[row + a] - mean[a]);
-      else for (let a = 0; a < p; a++) q[a] += sign * x[row + a];
-    };
-    for (let i = 0; i < M; i++) {
-      const m = i - L;
-      if (i % 64 === 0) {
-        q.fill(0);
-        for (let t = Math.max(0, m); t <= Math.min(T - 1, m + L); t++) add(t, 1);
-      } else {
-        add(m + L, 1);
-        add(m - 1, -1);
-      }
-      for (let a = 0; a < p; a++) Qc[a * M + i] = q[a];
-    }
-  }
-  const S = symmetricCrossProduct(Qc, M, p);
-  const scale = 1 / (T * (L + 1));
-  for (let i = 0; i < S.length; i++) S[i] *= scale;
-  return S;
+  if (p === 1) return hacFromColumns(T, 1, lags, (_a, buf) => buf.set(x.subarray(0, T)), demean);
+  const xc = toColumnMajor(x, T, p);
+  return hacFromColumns(T, p, lags, (a, buf) => buf.set(xc.subarray(a * T, a * T + T)), demean);
 }
 
 /** Options of {@link longRunCovariance}. */

@@ -10,7 +10,7 @@
  * const m = prepareMoments([[0.01], [0.03]], [[0.02], [0.04]]);
  * // m.meanR[0] = 0.02, m.meanF[0] = 0.03, m.sigmaF[0] = 1e-4, m.covRF[0] = 1e-4
  */
-import { symmetricCrossProduct } from './hac';
+import { symmetricCrossProduct, toColumnMajor } from './hac';
 import { fromNested } from './linalg';
 
 /** Row-major data and first/second moments shared by every estimator. */
@@ -73,13 +73,24 @@ export function crossMoment(X: Float64Array, px: number, Y: Float64Array, py: nu
   return out;
 }
 
+const columnCache = new WeakMap<Float64Array, Float64Array>();
+
+/**
+ * Column-major copy (p×T) of a row-major T×p data matrix, computed once per array and cached
+ * (weakly) so that every long-run covariance on the same returns shares it.
+ */
+export function columnMajorOf(X: Float64Array, T: number, p: number): Float64Array {
+  let c = columnCache.get(X);
+  if (!c || c.length !== T * p) {
+    c = toColumnMajor(X, T, p);
+    columnCache.set(X, c);
+  }
+  return c;
+}
+
 /** E_T[x x'] = (1/T) X'X for row-major X (T×p), by the blocked symmetric kernel. */
 export function secondMomentMatrix(X: Float64Array, T: number, p: number): Float64Array {
-  const Xc = new Float64Array(T * p);
-  for (let t = 0; t < T; t++) {
-    const row = t * p;
-    for (let a = 0; a < p; a++) Xc[a * T + t] = X[row + a];
-  }
+  const Xc = columnMajorOf(X, T, p);
   const S = symmetricCrossProduct(Xc, T, p);
   for (let i = 0; i < S.length; i++) S[i] /= T;
   return S;

@@ -31,7 +31,7 @@
  */
 import { chiSquareSf } from './distributions';
 import { validateMatrices } from './validate';
-import { hacCovariance } from './hac';
+import { hacFromColumns } from './hac';
 import {
   cholesky,
   choleskyInverse,
@@ -42,7 +42,7 @@ import {
   quadForm,
   toNested,
 } from './linalg';
-import { prepareMoments, secondMomentMatrix, type MomentData } from './moments';
+import { columnMajorOf, prepareMoments, secondMomentMatrix, type MomentData } from './moments';
 
 export type GmmStage = 'first' | 'second' | 'iterated';
 export type FirstStageWeighting = 'identity' | 'second-moment';
@@ -132,6 +132,41 @@ export function sdfMomentSeries(m: MomentData, b: ArrayLike<number>, form: SdfFo
   return h;
 }
 
+/** s_t = (f_t − μ)'b (centred) or f_t'b (uncentred), length T. */
+function sdfIndex(m: MomentData, b: ArrayLike<number>, form: SdfForm): Float64Array {
+  const { T, K, F, Fc } = m;
+  const X = form === 'uncentred' ? F : Fc;
+  const s = new Float64Array(T);
+  for (let t = 0; t < T; t++) {
+    let v = 0;
+    const fr = t * K;
+    for (let k = 0; k < K; k++) v += X[fr + k] * b[k];
+    s[t] = v;
+  }
+  return s;
+}
+
+/**
+ * HAC long-run covariance Ŝ(b) of the SDF moment series h_t(b) (N×N), generated column by
+ * column from the column-major returns (no T×N intermediate).
+ */
+export function sdfLongRunCovariance(m: MomentData, b: ArrayLike<number>, form: SdfForm, factorMeansKnown: boolean, lags: number): Float64Array {
+  const { T, N, meanR } = m;
+  const Rc = columnMajorOf(m.R, T, N);
+  const s = sdfIndex(m, b, form);
+  const corrected = form === 'centred' && !factorMeansKnown;
+  return hacFromColumns(T, N, lags, (i, buf) => {
+    const off = i * T;
+    if (corrected) {
+      const mi = meanR[i];
+      for (let t = 0; t < T; t++) {
+        const r = Rc[off + t];
+        buf[t] = r - (r - mi) * s[t];
+      }
+    } else for (let t = 0; t < T; t++) buf[t] = Rc[off + t] * (1 - s[t]);
+  });
+}
+
 interface WeightedSolution {
   b: Float64Array;
   H: Float64Array;
@@ -203,7 +238,7 @@ export function fitSdfGmm(m: MomentData, options: SdfGmmOptions): SdfGmmFit | Sd
     const cap = options.stage === 'iterated' ? maxIt : 1;
     converged = options.stage !== 'iterated';
     for (let it = 1; it <= cap; it++) {
-      const S = hacCovariance(sdfMomentSeries(m, b, form, meansKnown), T, N, lags);
+      const S = sdfLongRunCovariance(m, b, form, meansKnown, lags);
       const L = cholesky(S, N);
       if (!L) return fail('S', 'The long-run covariance Ŝ of the moment series is singular; the second stage is impossible.');
       const Wn = choleskyInverse(L, N);
@@ -225,7 +260,7 @@ export function fitSdfGmm(m: MomentData, options: SdfGmmOptions): SdfGmmFit | Sd
 
   const alpha = pricingErrors(X, b, meanR, N, K);
   const h = sdfMomentSeries(m, b, form, meansKnown);
-  const Sb = hacCovariance(h, T, N, lags);
+  const Sb = sdfLongRunCovariance(m, b, form, meansKnown, lags);
   // Var(b̂) = H Ŝ_b H' / T
   const HS = matMul(H, K, N, Sb, N); // K×N
   const covB = new Float64Array(K * K);

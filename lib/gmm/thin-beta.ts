@@ -15,9 +15,9 @@
  * // about 90% of seeds (p uniform under the null)
  */
 import { chiSquareSf } from './distributions';
-import { hacCovariance } from './hac';
+import { hacFromColumns } from './hac';
 import { cholesky, choleskySolve } from './linalg';
-import type { MomentData } from './moments';
+import { columnMajorOf, type MomentData } from './moments';
 
 /** Level at which the thin-beta test must reject for the factor not to be flagged. */
 export const THIN_BETA_LEVEL = 0.1;
@@ -32,14 +32,17 @@ export interface ThinBetaTest {
 
 /** The thin-beta test for factor k on precomputed moments; null when Var(Ĉ_k) is singular. */
 export function thinBetaTest(m: MomentData, k: number, lags: number): ThinBetaTest | null {
-  const { T, N, K, R, Fc, meanR, covRF } = m;
-  const z = new Float64Array(T * N);
-  for (let t = 0; t < T; t++) {
-    const f = Fc[t * K + k];
-    const row = t * N;
-    for (let i = 0; i < N; i++) z[row + i] = (R[row + i] - meanR[i]) * f - covRF[i * K + k];
-  }
-  const V = hacCovariance(z, T, N, lags);
+  const { T, N, K, Fc, meanR, covRF } = m;
+  const Rc = columnMajorOf(m.R, T, N);
+  const f = new Float64Array(T);
+  for (let t = 0; t < T; t++) f[t] = Fc[t * K + k];
+  // z_i,t = (R_i,t − E[R_i]) (f_k,t − μ_k) − C_ik, generated column by column
+  const V = hacFromColumns(T, N, lags, (i, buf) => {
+    const off = i * T;
+    const mi = meanR[i];
+    const c = covRF[i * K + k];
+    for (let t = 0; t < T; t++) buf[t] = (Rc[off + t] - mi) * f[t] - c;
+  });
   const L = cholesky(V, N);
   if (!L) return null;
   const c = Float64Array.from({ length: N }, (_, i) => covRF[i * K + k]);
