@@ -6,6 +6,7 @@
  * (piscina stops the worker of a running chunk) and no further chunk is sent. A job whose
  * process dies is left 'running' in the table; boot marks it 'interrupted' (markInterruptedJobs).
  */
+import { setMaxListeners } from 'node:events';
 import { and, eq, inArray } from 'drizzle-orm';
 import type { Db } from '../db/client';
 import { inTransaction } from '../db/client';
@@ -68,6 +69,7 @@ export class JobRunner {
   start(jobId: number): void {
     if (this.closed || this.active.has(jobId)) return;
     const ac = new AbortController();
+    setMaxListeners(0, ac.signal); // every chunk of the job listens to the one signal
     this.active.set(jobId, ac);
     const p = this.execute(jobId, ac)
       .catch((e: unknown) => console.error('[keelson] job runner error', jobId, e))
