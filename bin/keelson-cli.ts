@@ -6,6 +6,7 @@
 import { readFileSync } from 'node:fs';
 import { parseArgs } from 'node:util';
 import Papa from 'papaparse';
+import { isRemoteCommand, REMOTE_USAGE, runRemote } from './remote';
 import { estimateLedger, GmmInputError, GmmNumericalError, type LedgerOptions, type LedgerResult } from '../lib/gmm/index';
 
 /** A caller mistake: reported on one line, exit code 2. */
@@ -282,9 +283,10 @@ export async function main(argv: string[], io: Io = defaultIo): Promise<number> 
   try {
     const [command, ...rest] = argv;
     if (command === undefined || command === '--help' || command === '-h' || command === 'help') {
-      io.out(USAGE + '\n');
+      io.out(USAGE + '\n\n' + REMOTE_USAGE + '\n');
       return command === undefined ? 2 : 0;
     }
+    if (isRemoteCommand(command)) return await runRemote(command, rest, io);
     if (command !== 'estimate') throw new CliInputError(`unknown command "${command}" (try: keelson estimate --help)`);
     let parsed;
     try {

@@ -1,0 +1,161 @@
+/**
+ * The server-facing `keelson` commands, run in process against a real listening Keelson server on
+ * 127.0.0.1: sign-in, upload, run, show, export, compare, comment, and the exit codes on refusals.
+ * The check: what the command line prints equals what the JSON API returns for the same run.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import type { AddressInfo } from 'node:net';
+import type { Server } from 'node:http';
+import { runRemote } from '../../bin/remote';
+import { main } from '../../bin/keelson-cli';
+import { agentAs, makeTestApp, type TestApp } from './helpers';
+
+let t: TestApp;
+let server: Server;
+let base: string;
+const dirs: string[] = [];
+
+function tempDir(): string {
+  const d = mkdtempSync(join(tmpdir(), 'keelson-cli-'));
+  dirs.push(d);
+  return d;
+}
+
+/** Runs one command; returns exit code and what it printed. */
+async function cli(home: string, args: string[], password?: string) {
+  let out = '';
+  let err = '';
+  const code = await runRemote(args[0], args.slice(1), {
+    out: (s) => (out += s),
+    err: (s) => (err += s),
+    env: { KEELSON_HOME: home, ...(password ? { KEELSON_PASSWORD: password } : {}) },
+  });
+  return { code, out, err };
+}
+
+/** A small seeded monthly library: 8 test assets priced by two traded factors (mulberry32 PRNG). */
+function sampleCsv(): string {
+  let a = 20261201;
+  const u = () => {
+    a = (a + 0x6d2b79f5) | 0;
+    let x = Math.imul(a ^ (a >>> 15), 1 | a);
+    x = (x + Math.imul(x ^ (x >>> 7), 61 | x)) ^ x;
+    return ((x ^ (x >>> 14)) >>> 0) / 4294967296;
+  };
+  const n = () => Math.sqrt(-2 * Math.log(u() + 1e-300)) * Math.cos(2 * Math.PI * u());
+  const lines = ['date,' + Array.from({ length: 8 }, (_, i) => `P${i + 1}`).join(',') + ',MKT,TILT'];
+  for (let i = 0; i < 240; i += 1) {
+    const y = 2000 + Math.floor(i / 12);
+    const m = String((i % 12) + 1).padStart(2, '0');
+    const f1 = 0.006 + 0.045 * n();
+    const f2 = 0.002 + 0.03 * n();
+    const assets = Array.from({ length: 8 }, (_, j) => (0.8 + j * 0.05) * f1 + (j - 4) * 0.1 * f2 + 0.02 * n());
+    lines.push([`${y}-${m}`, ...assets.map((v) => v.toFixed(6)), f1.toFixed(6), f2.toFixed(6)].join(','));
+  }
+  return lines.join('\n') + '\n';
+}
+
+beforeAll(async () => {
+  t = await makeTestApp();
+  server = t.app.listen(0, '127.0.0.1');
+  await new Promise<void>((r) => server.once('listening', () => r()));
+  base = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
+});
+afterAll(async () => {
+  await new Promise<void>((r) => server.close(() => r()));
+  await t.close();
+  for (const d of dirs) rmSync(d, { recursive: true, force: true });
+});
+
+describe('keelson command line against the server', () => {
+  it('signs in, uploads, runs, shows and exports a run equal to the API', async () => {
+    const home = tempDir();
+    const csv = join(home, 'sample.csv');
+    writeFileSync(csv, sampleCsv());
+    const signIn = await cli(home, ['sign-in', '--server', base, '--email', 'researcher@keelson.test'], 'keelson-demo');
+    expect(signIn.err).toBe('');
+    expect(signIn.code).toBe(0);
+    expect(signIn.out).toContain('Rhea Tolland (researcher)');
+    expect((await cli(home, ['whoami'])).out).toContain('researcher@keelson.test');
+
+    const up = await cli(home, ['upload', csv, '--name', 'CLI sample', '--factors', 'MKT,TILT', '--json']);
+    expect(up.err).toBe('');
+    expect(up.code).toBe(0);
+    const stored = JSON.parse(up.out) as { library: { id: number }; edition: { id: number; number: number } };
+    expect(stored.edition.number).toBe(1);
+
+    const run = await cli(home, ['run', '--edition', String(stored.edition.id), '--factors', 'MKT,TILT', '--stage', 'iterated', '--json']);
+    expect(run.err).toBe('');
+    expect(run.code).toBe(0);
+    const fromCli = JSON.parse(run.out) as { run: { id: number; status: string; result: { N: number; K: number; factors: { name: string; b: number }[] } } };
+    expect(fromCli.run.status).toBe('finished');
+    expect(fromCli.run.result.N).toBe(8); // every asset column, by default
+    expect(fromCli.run.result.K).toBe(2);
+
+    const agent = await agentAs(t.app, 'researcher');
+    const api = (await agent.get(`/api/v1/runs/${fromCli.run.id}`).expect(200)).body as { run: { result: unknown } };
+    expect(fromCli.run.result).toEqual(api.run.result);
+
+    const shown = await cli(home, ['show', String(fromCli.run.id)]);
+    expect(shown.code).toBe(0);
+    expect(shown.out).toMatch(/MKT/);
+    expect(shown.out).toContain('not investment advice');
+
+    const csvOut = await cli(home, ['export', String(fromCli.run.id), '--format', 'csv']);
+    const apiCsv = await agent.get(`/api/v1/runs/${fromCli.run.id}/export.csv`).expect(200);
+    expect(csvOut.out).toBe(apiCsv.text);
+    const tex = await cli(home, ['export', String(fromCli.run.id), '--format', 'tex']);
+    expect(tex.out).toContain('\\begin{tabular}');
+
+    const smaller = await cli(home, ['run', '--edition', String(stored.edition.id), '--factors', 'MKT', '--stage', 'iterated', '--json']);
+    const smallId = (JSON.parse(smaller.out) as { run: { id: number } }).run.id;
+    const cmp = await cli(home, ['compare', String(smallId), String(fromCli.run.id), '--json']);
+    expect(cmp.code).toBe(0);
+    const apiCmp = await agent.get(`/api/v1/runs/compare?a=${smallId}&b=${fromCli.run.id}`).expect(200);
+    expect(JSON.parse(cmp.out).nested).toEqual(apiCmp.body.nested);
+
+    const edition = await cli(home, ['edition-csv', String(stored.library.id), '1']);
+    expect(edition.out.split('\n')[0]).toMatch(/^date,/);
+  });
+
+  it('exits 3 when not signed in or not allowed, 2 on caller mistakes, 1 when the server is unreachable', async () => {
+    const nobody = tempDir();
+    const notSigned = await cli(nobody, ['runs']);
+    expect(notSigned.code).toBe(3);
+    expect(notSigned.err).toMatch(/not signed in/);
+
+    const desk = tempDir();
+    expect((await cli(desk, ['sign-in', '--server', base, '--email', 'desk@keelson.test'], 'keelson-demo')).code).toBe(0);
+    const denied = await cli(desk, ['comment', '1', '--text', 'looks fine']);
+    expect(denied.code).toBe(3);
+    expect(denied.err).toMatch(/reviewer/);
+
+    const badId = await cli(desk, ['show', 'abc']);
+    expect(badId.code).toBe(2);
+    expect(badId.err).toMatch(/run id must be a positive whole number/);
+    const badFormat = await cli(desk, ['export', '1', '--format', 'pdf']);
+    expect(badFormat.code).toBe(2);
+    const badOption = await cli(desk, ['runs', '--colour']);
+    expect(badOption.code).toBe(2);
+    expect(badOption.err).toMatch(/--colour/);
+
+    const wrong = await cli(tempDir(), ['sign-in', '--server', base, '--email', 'desk@keelson.test'], 'not-the-password');
+    expect(wrong.code).toBe(3);
+    expect(wrong.err).toMatch(/E-mail or password is wrong/);
+
+    const away = await cli(tempDir(), ['sign-in', '--server', 'http://127.0.0.1:9', '--email', 'desk@keelson.test'], 'x');
+    expect(away.code).toBe(1);
+    expect(away.err).toMatch(/cannot reach/);
+  });
+
+  it('is reached through the same entry point as estimate', async () => {
+    let out = '';
+    const code = await main(['--help'], { out: (s) => (out += s), err: () => undefined });
+    expect(code).toBe(0);
+    expect(out).toContain('keelson sign-in');
+    expect(out).toContain('keelson estimate');
+  });
+});
