@@ -49,12 +49,18 @@ export interface DataTableProps<T> {
 function cellNode(node: ReactNode, numeric?: boolean): ReactNode {
   if (typeof node === 'string' || typeof node === 'number') {
     return (
-      <Text style={numeric ? styles.num : text.body} numberOfLines={2}>
+      <Text style={[numeric ? styles.num : text.body, styles.wrapText]} numberOfLines={3}>
         {String(node)}
       </Text>
     );
   }
   return node ?? null;
+}
+
+/** Default cell: the value as text in the app's faces (TanStack's own default would render bare text). */
+function DefaultCell({ value, numeric }: { value: unknown; numeric?: boolean }) {
+  if (value === null || value === undefined || value === '') return <Text style={text.muted}>{'\u2014'}</Text>;
+  return <>{cellNode(typeof value === 'number' ? value : String(value), numeric)}</>;
 }
 
 function colStyle(meta: DataColumnMeta | undefined): ViewStyle {
@@ -78,6 +84,9 @@ export function DataTable<T>(props: DataTableProps<T>) {
     onSortingChange: setSorting,
     onGlobalFilterChange: setFilter,
     getRowId,
+    defaultColumn: {
+      cell: (info) => <DefaultCell value={info.getValue()} numeric={(info.column.columnDef.meta as DataColumnMeta | undefined)?.numeric} />,
+    },
     getCoreRowModel: getCoreRowModel(),
     getSortedRowModel: getSortedRowModel(),
     getFilteredRowModel: getFilteredRowModel(),
@@ -193,7 +202,8 @@ const styles = StyleSheet.create({
     borderTopRightRadius: radius.md,
   },
   selected: { backgroundColor: colors.brassTint },
-  cell: { paddingHorizontal: space.md, paddingVertical: space.sm, justifyContent: 'center' },
+  cell: { paddingHorizontal: space.md, paddingVertical: space.sm, justifyContent: 'center', overflow: 'hidden' },
+  wrapText: { wordBreak: 'break-word' } as object,
   headPress: { flexDirection: 'row', alignItems: 'center', gap: 4, minHeight: 28 },
   headText: { fontFamily: fonts.textStrong, fontSize: 13, color: colors.slate },
   sortMark: { fontSize: 10, color: colors.slate, width: 12 },

@@ -16,7 +16,7 @@ export interface LinkCardProps {
 /** A "what you can do next" card: title, one or two sentences, one button onward. */
 export function LinkCard({ title, body, action, href, primary }: LinkCardProps) {
   return (
-    <Card title={title} style={{ flexGrow: 1, flexBasis: 280 }}>
+    <Card title={title} style={{ flexGrow: 1, flexBasis: 280, maxWidth: 560 }}>
       <Text style={[text.body, { color: colors.slate }]}>{body}</Text>
       <Button label={action} href={href} variant={primary ? 'primary' : 'secondary'} />
     </Card>

@@ -201,7 +201,9 @@ describe('admin invites a user', () => {
     await page.getByRole('button', { name: 'Save role' }).click();
     await page.getByRole('status').filter({ hasText: 'Saved.' }).waitFor();
     await page.getByRole('button', { name: 'Deactivate Wren Halyard' }).click();
-    await page.getByRole('alertdialog', { name: 'Confirm deactivation' }).waitFor();
+    const confirm = page.getByRole('alertdialog', { name: 'Confirm deactivation' });
+    await confirm.waitFor();
+    await confirm.scrollIntoViewIfNeeded();
     await shot(page, 'admin-deactivate-confirm-phone');
     await page.getByRole('button', { name: 'Yes, deactivate' }).click();
     await page.getByRole('region', { name: 'Edit Wren Halyard' }).getByText('deactivated').waitFor();
@@ -225,6 +227,29 @@ describe('admin invites a user', () => {
     await signInHere(gone.page, 'wren.halyard@example.org', 'sturdy-keel-42');
     await gone.page.getByText('E-mail or password is wrong, or the account is deactivated').waitFor();
     await gone.context.close();
+  });
+});
+
+describe('fonts and network', () => {
+  it('loads the shipped fonts from the server itself; no request leaves the origin', async () => {
+    const { context, page, requests } = await openPage(browser, WIDE);
+    await signIn(page, 'desk');
+    await page.evaluate(() => document.fonts.ready);
+    // Each face resolves to a shipped file: document.fonts.load() fetches it (from the origin) and reports it loaded.
+    const families = ['Inter_400Regular', 'Inter_600SemiBold', 'IBMPlexMono_400Regular', 'IBMPlexMono_500Medium'];
+    const loaded = await page.evaluate(async (fams) => {
+      const out: string[] = [];
+      for (const f of fams) {
+        const faces = await document.fonts.load(`16px "${f}"`);
+        if (faces.some((x) => x.status === 'loaded')) out.push(f);
+      }
+      return out;
+    }, families);
+    expect(loaded).toEqual(families);
+    const fontFiles = requests.filter((u) => u.endsWith('.ttf'));
+    expect(fontFiles.length).toBeGreaterThanOrEqual(4);
+    expectSameOrigin(requests);
+    await context.close();
   });
 });
 

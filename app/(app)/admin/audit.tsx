@@ -22,7 +22,7 @@ export default function TeamAudit() {
   }, [audit.data, users.data]);
   const columns = useMemo(
     () => [
-      col.accessor('createdAt', { header: 'When', cell: (c) => formatWhen(c.getValue()), meta: { width: 170 } }),
+      col.accessor('createdAt', { header: 'When', cell: (c) => <Text style={[text.num, { fontSize: 13 }]}>{formatWhen(c.getValue())}</Text>, meta: { width: 200 } }),
       col.accessor('who', { header: 'Who', meta: { flex: 0.8 } }),
       col.accessor('action', { header: 'Action', cell: (c) => <Text style={{ fontFamily: fonts.mono, fontSize: 13 }}>{c.getValue()}</Text>, meta: { flex: 0.9 } }),
       col.accessor((e) => e.detail ?? '', { id: 'detail', header: 'Detail', cell: (c) => <Text style={[text.muted, { fontFamily: fonts.mono }]} numberOfLines={3}>{c.getValue() || '—'}</Text>, meta: { flex: 1.6 } }),
