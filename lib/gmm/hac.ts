@@ -127,6 +127,18 @@ export function windowSumsInto(x: Float64Array, T: number, L: number, out: Float
   }
 }
 
+let scratchBuffer = new Float64Array(0);
+
+/**
+ * A reusable work array for window sums (grown on demand, never shrunk): every long-run
+ * covariance is computed to completion before the next starts (no re-entrancy), so one buffer
+ * saves allocating and collecting T×p arrays on every call.
+ */
+function scratch(n: number): Float64Array {
+  if (scratchBuffer.length < n) scratchBuffer = new Float64Array(Math.max(n, Math.floor(scratchBuffer.length * 1.5)));
+  return scratchBuffer.subarray(0, n);
+}
+
 /**
  * HAC long-run covariance of a p-variate series given column by column: `fill(a, buf)` writes
  * series a (length T) into buf. The hot path of every N×N long-run covariance (the moment series
@@ -141,7 +153,7 @@ export function hacFromColumns(
 ): Float64Array {
   const L = lags;
   const M = T + L;
-  const Qc = new Float64Array(M * p);
+  const Qc = scratch(M * p);
   const buf = new Float64Array(T);
   for (let a = 0; a < p; a++) {
     fill(a, buf);

@@ -9,7 +9,7 @@
  * @example
  * // Exactly identified (N = K): α̂ = 0, so HJ = 0.
  */
-import { cholesky, choleskyInverse, choleskySolve, quadForm } from './linalg';
+import { cholesky, choleskySolve } from './linalg';
 import type { MomentData } from './moments';
 
 /** HJ distance from moments and a precomputed E_T[RR']; null when a matrix is singular. */
@@ -18,7 +18,6 @@ export function hjDistance(m: MomentData, secondMoment: Float64Array, form: 'cen
   const X = form === 'centred' ? m.covRF : m.crossRF;
   const Le = cholesky(secondMoment, N);
   if (!Le) return null;
-  const W = choleskyInverse(Le, N);
   const WX = choleskySolve(Le, N, X, K); // N×K
   const A = new Float64Array(K * K);
   const rhs = new Float64Array(K);
@@ -41,5 +40,9 @@ export function hjDistance(m: MomentData, secondMoment: Float64Array, form: 'cen
     for (let k = 0; k < K; k++) s -= X[i * K + k] * b[k];
     alpha[i] = s;
   }
-  return Math.sqrt(Math.max(0, quadForm(W, N, alpha)));
+  // α' E[RR']⁻¹ α through the factor: no explicit inverse
+  const Wa = choleskySolve(Le, N, alpha, 1);
+  let q = 0;
+  for (let i = 0; i < N; i++) q += alpha[i] * Wa[i];
+  return Math.sqrt(Math.max(0, q));
 }

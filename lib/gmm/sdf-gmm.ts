@@ -270,18 +270,20 @@ export function fitSdfGmm(m: MomentData, options: SdfGmmOptions): SdfGmmFit | Sd
       for (let i = 0; i < N; i++) s += HS[a * N + i] * H[c * N + i];
       covB[a * K + c] = s / T;
     }
-  // M = I − X H (N×N); Var(α̂) = M Ŝ_b M' / T
-  const XH = matMul(X, N, K, H, N);
-  const M = new Float64Array(N * N);
-  for (let i = 0; i < N; i++) for (let j = 0; j < N; j++) M[i * N + j] = (i === j ? 1 : 0) - XH[i * N + j];
-  const MS = matMul(M, N, N, Sb, N);
+  // Var(α̂) = M Ŝ_b M' / T with M = I − X H, expanded so that no N×N×N product is needed:
+  // M S M' = S − X (H S) − (H S)' X' + X (H S H') X'
+  const XHS = matMul(X, N, K, HS, N); // N×N
+  const HSHt = new Float64Array(K * K);
+  for (let a = 0; a < K; a++) for (let c = 0; c < K; c++) HSHt[a * K + c] = covB[a * K + c] * T;
+  const XHSH = matMul(X, N, K, HSHt, K); // N×K
   const covAlpha = new Float64Array(N * N);
   for (let i = 0; i < N; i++)
     for (let j = i; j < N; j++) {
-      let s = 0;
-      for (let l = 0; l < N; l++) s += MS[i * N + l] * M[j * N + l];
-      covAlpha[i * N + j] = s / T;
-      covAlpha[j * N + i] = s / T;
+      let q = 0;
+      for (let k = 0; k < K; k++) q += XHSH[i * K + k] * X[j * K + k];
+      const v = (Sb[i * N + j] - XHS[i * N + j] - XHS[j * N + i] + q) / T;
+      covAlpha[i * N + j] = v;
+      covAlpha[j * N + i] = v;
     }
 
   const df = N - K;
