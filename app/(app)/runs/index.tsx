@@ -1,51 +1,123 @@
+import { useState } from 'react';
 import { Text, View } from 'react-native';
+import { router, useLocalSearchParams } from 'expo-router';
+import type { ColumnDef } from '@tanstack/react-table';
 import { useMe } from '../../../hooks/use-session';
-import { Card } from '../../../components/card';
-import { Caution } from '../../../components/caution';
-import { Chip } from '../../../components/chip';
-import { LinkCard } from '../../../components/link-card';
+import { useRuns } from '../../../hooks/use-runs';
 import { Screen } from '../../../components/screen';
+import { Button } from '../../../components/button';
+import { Card } from '../../../components/card';
+import { DataTable } from '../../../components/data-table';
+import { ErrorView } from '../../../components/error-view';
+import { Select } from '../../../components/select';
+import { TextField } from '../../../components/text-field';
+import { formatWhen } from '../../../components/format';
+import { RunStatusChip } from '../../../components/run-summary';
+import { SignoffChip } from '../../../components/run-review';
 import { space, text } from '../../../components/theme';
+import type { RunListQuery, RunSummary } from '../../../shared/runs';
 
-const STATES = [
-  { label: 'queued', shape: 'dashed', tone: 'fog' },
-  { label: 'running', shape: 'outlined', tone: 'brass' },
-  { label: 'finished', shape: 'filled', tone: 'kelp' },
-  { label: 'failed', shape: 'filled', tone: 'rust' },
-  { label: 'cancelled', shape: 'dashed', tone: 'slate' },
-] as const;
+type StatusFilter = 'all' | 'finished' | 'failed';
+type SignoffFilter = 'all' | 'none' | 'requested' | 'approved' | 'changes-requested';
 
 export default function Runs() {
   const me = useMe().data;
-  const researcher = me?.role === 'researcher';
+  const params = useLocalSearchParams<{ specId?: string; libraryId?: string }>();
+  const [status, setStatus] = useState<StatusFilter>('all');
+  const [signoff, setSignoff] = useState<SignoffFilter>('all');
+  const [mine, setMine] = useState<'all' | 'mine'>('all');
+  const [a, setA] = useState('');
+  const [b, setB] = useState('');
+  const q: Partial<RunListQuery> = {
+    ...(status !== 'all' ? { status } : {}),
+    ...(signoff !== 'all' ? { signoff } : {}),
+    ...(mine === 'mine' && me ? { authorId: me.id } : {}),
+    ...(params.specId ? { specId: Number(params.specId) } : {}),
+    ...(params.libraryId ? { libraryId: Number(params.libraryId) } : {}),
+  };
+  const runs = useRuns(q);
+  const writer = me?.role === 'researcher' || me?.role === 'admin';
+
+  const columns: ColumnDef<RunSummary, unknown>[] = [
+    { accessorKey: 'id', header: '#', meta: { width: 64, numeric: true } },
+    { id: 'spec', accessorFn: (r) => r.specName ?? '(unsaved spec)', header: 'Spec', meta: { flex: 2 } },
+    { id: 'lib', accessorFn: (r) => `${r.libraryName} · ed. ${r.editionNumber}`, header: 'Library', meta: { flex: 2 } },
+    { id: 'factors', accessorFn: (r) => r.factors.join(', '), header: 'Factors', meta: { flex: 2 } },
+    { id: 'nkt', accessorFn: (r) => (r.N ? `${r.N} / ${r.K} / ${r.T}` : '—'), header: 'N / K / T', meta: { numeric: true, width: 120 } },
+    { accessorKey: 'status', header: 'State', meta: { width: 120 }, cell: ({ row }) => <RunStatusChip status={row.original.status} /> },
+    { accessorKey: 'signoff', header: 'Sign-off', meta: { width: 190 }, cell: ({ row }) => <SignoffChip state={row.original.signoff} /> },
+    { accessorKey: 'authorName', header: 'Author' },
+    { id: 'when', accessorFn: (r) => r.createdAt, header: 'Started', cell: ({ row }) => formatWhen(row.original.createdAt), meta: { width: 170 } },
+  ];
+
   return (
-    <Screen title="Runs" subtitle="Each run estimates one model spec on one library edition.">
-      {researcher ? (
-        <Card title="New model spec" subtitle="Researchers only">
-          <Text style={text.body}>
-            A model spec names the test assets and factors from a library edition and sets the moment conditions: first or second stage, the weighting
-            matrix and the HAC (Newey–West) lags. Starting it creates a run.
-          </Text>
-          <Text style={text.muted}>Start by choosing the library edition the spec will use.</Text>
-        </Card>
+    <Screen
+      title="Runs"
+      subtitle="Each run estimates one model spec on one library edition; a finished run never changes."
+      actions={
+        <View style={{ flexDirection: 'row', gap: space.sm, flexWrap: 'wrap' }}>
+          <Button label="Model specs" href="/specs" compact />
+          {writer ? <Button label="New model spec" variant="primary" href="/runs/new" compact /> : null}
+        </View>
+      }
+      fullWidth
+    >
+      <Card title="Filter">
+        <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.lg }}>
+          <Select<StatusFilter> label="State" value={status} options={[{ value: 'all', label: 'all' }, { value: 'finished', label: 'finished' }, { value: 'failed', label: 'failed' }]} onChange={setStatus} />
+          <Select<SignoffFilter>
+            label="Sign-off"
+            value={signoff}
+            options={[
+              { value: 'all', label: 'all' },
+              { value: 'requested', label: 'requested' },
+              { value: 'approved', label: 'approved' },
+              { value: 'changes-requested', label: 'changes requested' },
+              { value: 'none', label: 'none asked' },
+            ]}
+            onChange={setSignoff}
+          />
+          <Select<'all' | 'mine'> label="Author" value={mine} options={[{ value: 'all', label: 'anyone' }, { value: 'mine', label: 'me' }]} onChange={setMine} />
+        </View>
+        {params.specId ? <Text style={text.muted}>Showing runs of spec #{params.specId}. <Text onPress={() => router.replace('/runs')} style={{ textDecorationLine: 'underline' }}>Show all</Text></Text> : null}
+      </Card>
+      {runs.isError ? <ErrorView error={runs.error} title="Runs could not be loaded" onRetry={() => void runs.refetch()} /> : null}
+      {runs.data ? (
+        <DataTable
+          label="Runs"
+          data={runs.data}
+          columns={columns}
+          filterable
+          getRowId={(r) => String(r.id)}
+          onRowPress={(r) => router.push(`/runs/${r.id}`)}
+          emptyTitle="No runs match"
+          emptyBody={writer ? 'Start one from New model spec.' : 'Researchers start runs; they appear here.'}
+          renderCard={(r) => (
+            <Card title={`#${r.id} ${r.specName ?? '(unsaved spec)'}`} subtitle={`${r.libraryName} · edition ${r.editionNumber} · ${r.authorName}`}>
+              <View style={{ flexDirection: 'row', gap: space.sm, flexWrap: 'wrap' }}>
+                <RunStatusChip status={r.status} />
+                <SignoffChip state={r.signoff} />
+              </View>
+              <Text style={text.muted}>
+                {r.factors.join(', ')}
+                {r.N ? ` · N ${r.N} · K ${r.K} · T ${r.T}` : ''} · {formatWhen(r.createdAt)}
+              </Text>
+              <Button label={`Open run ${r.id}`} compact href={`/runs/${r.id}`} />
+            </Card>
+          )}
+        />
       ) : null}
-      <Card title="What this section holds">
-        <Text style={text.body}>
-          The list of runs with their state, and for each finished run its factor ledger: SDF loadings b (needed?) beside prices of risk λ (priced?),
-          drop tests with a common weighting matrix, the spanning check, the thin-beta flag and a verdict per factor, with J, HJ distance, pricing
-          errors, GRS and Fama–MacBeth beside it. A finished run never changes; two runs can be compared side by side.
-        </Text>
-        <Text style={text.label}>Run states</Text>
-        <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.sm }}>
-          {STATES.map((s) => (
-            <Chip key={s.label} label={s.label} shape={s.shape} tone={s.tone} />
-          ))}
+      <Card title="Compare two runs" subtitle="Ledgers, J and pricing errors side by side; a drop test when one model nests the other on the same data.">
+        <View style={{ flexDirection: 'row', gap: space.sm, alignItems: 'flex-end', flexWrap: 'wrap' }}>
+          <View style={{ width: 130 }}>
+            <TextField label="Run A" value={a} onChangeText={setA} numeric inputMode="numeric" />
+          </View>
+          <View style={{ width: 130 }}>
+            <TextField label="Run B" value={b} onChangeText={setB} numeric inputMode="numeric" />
+          </View>
+          <Button label="Compare" disabled={!/^\d+$/.test(a) || !/^\d+$/.test(b) || a === b} onPress={() => router.push({ pathname: '/runs/compare', params: { a, b } })} />
         </View>
       </Card>
-      <Caution />
-      <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
-        <LinkCard title="Return libraries" body="The library editions runs are built on." action="Open libraries" href="/libraries" primary={researcher} />
-      </View>
     </Screen>
   );
 }

@@ -1,0 +1,105 @@
+import { useState } from 'react';
+import { Text, View } from 'react-native';
+import { router, useLocalSearchParams } from 'expo-router';
+import { useMe } from '../../../hooks/use-session';
+import { useRun } from '../../../hooks/use-runs';
+import { Screen } from '../../../components/screen';
+import { Card } from '../../../components/card';
+import { Button } from '../../../components/button';
+import { ErrorView } from '../../../components/error-view';
+import { TextField } from '../../../components/text-field';
+import { formatWhen } from '../../../components/format';
+import { JointDropCard, LedgerTable } from '../../../components/ledger-table';
+import { LedgerFit } from '../../../components/ledger-fit';
+import { LedgerCharts } from '../../../components/ledger-charts';
+import { RunCaution, RunExports, RunSpecSummary, RunStatusChip } from '../../../components/run-summary';
+import { RunReview, SignoffChip } from '../../../components/run-review';
+import { space, text } from '../../../components/theme';
+import { DeepChecksPanel } from '../../../components/deep-checks-panel';
+
+export default function RunPage() {
+  const { id } = useLocalSearchParams<{ id: string }>();
+  const runId = Number(id);
+  const me = useMe().data;
+  const q = useRun(Number.isInteger(runId) && runId > 0 ? runId : undefined);
+  const [other, setOther] = useState('');
+
+  if (q.isPending) return <Screen title={`Run #${id}`} subtitle="Loading…" />;
+  if (q.isError)
+    return (
+      <Screen title={`Run #${id}`}>
+        <ErrorView error={q.error} title="This run could not be opened" onRetry={() => void q.refetch()} />
+        <Button label="All runs" href="/runs" />
+      </Screen>
+    );
+  const run = q.data;
+  const r = run.result;
+  return (
+    <Screen
+      title={`Run #${run.id}${run.specName ? ` · ${run.specName}` : ''}`}
+      subtitle={`${run.libraryName}, edition ${run.editionNumber} · by ${run.authorName} · ${formatWhen(run.finishedAt ?? run.createdAt)}`}
+      actions={<RunExports run={run} />}
+      fullWidth
+    >
+      <View style={{ flexDirection: 'row', gap: space.sm, flexWrap: 'wrap', alignItems: 'center' }}>
+        <RunStatusChip status={run.status} />
+        <SignoffChip state={run.signoff} />
+        {r ? <Text style={text.muted}>N {r.N} · K {r.K} · T {r.T} · df {r.N - r.K}</Text> : null}
+      </View>
+      {run.status === 'failed' ? (
+        <ErrorView error={new Error(run.error ?? 'The run failed.')} title="The estimator refused this model on these data" />
+      ) : null}
+      {r ? <RunCaution /> : null}
+      {r ? (
+        <Card title="Factor ledger" subtitle="b answers “needed?”, λ answers “priced?”. Verdict last.">
+          <LedgerTable result={r} />
+          <JointDropCard result={r} />
+        </Card>
+      ) : null}
+      {r ? (
+        <Card title="Fit">
+          <LedgerFit result={r} />
+        </Card>
+      ) : null}
+      {r ? (
+        <Card title="Charts">
+          <LedgerCharts result={r} />
+        </Card>
+      ) : null}
+      {/* Deep checks (owned by the checks module): mount its run panel on the next line. */}
+      {r ? <DeepChecksPanel runId={run.id} /> : null}
+      {r && r.warnings.length > 0 ? (
+        <Card title="Notes from the estimator">
+          {r.warnings.map((w) => (
+            <Text key={w} style={text.body}>
+              • {w}
+            </Text>
+          ))}
+        </Card>
+      ) : null}
+      <Card title="Model spec (frozen with the run)">
+        <RunSpecSummary run={run} />
+        {run.specId ? <Button label="Open the saved spec" href={`/specs/${run.specId}`} compact /> : null}
+      </Card>
+      {r ? (
+        <Card title="Compare with another run">
+          <View style={{ flexDirection: 'row', gap: space.sm, alignItems: 'flex-end', flexWrap: 'wrap' }}>
+            <View style={{ width: 160 }}>
+              <TextField label="Other run number" value={other} onChangeText={setOther} numeric inputMode="numeric" />
+            </View>
+            <Button
+              label="Compare"
+              disabled={!/^\d+$/.test(other) || Number(other) === run.id}
+              onPress={() => router.push({ pathname: '/runs/compare', params: { a: String(run.id), b: other } })}
+            />
+          </View>
+        </Card>
+      ) : null}
+      {me ? (
+        <Card title="Review">
+          <RunReview run={run} me={me} />
+        </Card>
+      ) : null}
+    </Screen>
+  );
+}

@@ -1,0 +1,91 @@
+/** Run header pieces: status chip, the frozen spec in words, export links, the run caution. */
+import { Platform, StyleSheet, Text, View } from 'react-native';
+import type { Run, RunStatus } from '../shared/runs';
+import { RUN_CAUTION } from '../shared/runs';
+import { exportHref } from '../api/runs';
+import { Chip, type ChipShape, type ChipTone } from './chip';
+import { Caution } from './caution';
+import { colors, fonts, radius, space, text } from './theme';
+
+const STATUS: Record<RunStatus, { shape: ChipShape; tone: ChipTone }> = {
+  queued: { shape: 'dashed', tone: 'fog' },
+  running: { shape: 'outlined', tone: 'brass' },
+  finished: { shape: 'filled', tone: 'kelp' },
+  failed: { shape: 'filled', tone: 'rust' },
+  cancelled: { shape: 'dashed', tone: 'slate' },
+};
+
+export function RunStatusChip({ status }: { status: RunStatus }) {
+  return <Chip label={status} {...STATUS[status]} accessibilityLabel={`Run ${status}`} />;
+}
+
+function Pair({ k, v }: { k: string; v: string }) {
+  return (
+    <View style={styles.pair}>
+      <Text style={text.label}>{k}</Text>
+      <Text style={text.body}>{v}</Text>
+    </View>
+  );
+}
+
+export function RunSpecSummary({ run }: { run: Run }) {
+  const s = run.spec;
+  const r = run.result;
+  return (
+    <View style={styles.grid}>
+      <Pair k="Library" v={`${run.libraryName}, edition ${run.editionNumber}`} />
+      <Pair k="Test assets (N)" v={`${s.assets.length}${s.rf ? `, minus ${s.rf}` : ''}`} />
+      <Pair k="Factors (K)" v={s.factors.map((f) => (s.nonTraded.includes(f) ? `${f} (not traded)` : f)).join(', ')} />
+      <Pair k="Window" v={r ? `T = ${r.T}${s.window?.start || s.window?.end ? ` (${s.window?.start ?? 'start'} – ${s.window?.end ?? 'end'})` : ', whole edition'}` : `${s.window?.start ?? 'start'} – ${s.window?.end ?? 'end'}`} />
+      <Pair k="Estimation" v={`${s.stage} stage, ${s.weighting} first-stage weighting, ${s.form} SDF`} />
+      <Pair k="Standard errors" v={`HAC lag ${s.lags === 'auto' ? `auto${r ? ` (${r.lags})` : ''}` : s.lags}; factor means ${s.factorMeansKnown ? 'known' : 'estimated'}`} />
+      <Pair k="Level" v={String(s.level)} />
+      {s.dropSet?.length ? <Pair k="Joint drop set" v={s.dropSet.join(', ')} /> : null}
+      <Pair k="Keelson" v={`version ${run.keelsonVersion}`} />
+    </View>
+  );
+}
+
+/** Download links (same-origin anchors on web). */
+export function RunExports({ run }: { run: Run }) {
+  if (run.status !== 'finished') return null;
+  const links: [string, 'export.csv' | 'export.tex' | 'result.json'][] = [
+    ['CSV', 'export.csv'],
+    ['LaTeX', 'export.tex'],
+    ['JSON', 'result.json'],
+  ];
+  return (
+    <View style={{ flexDirection: 'row', gap: space.sm, flexWrap: 'wrap' }}>
+      {links.map(([label, kind]) => {
+        const href = exportHref(run.id, kind);
+        const webProps = Platform.OS === 'web' ? ({ href, hrefAttrs: { download: `keelson-run-${run.id}.${kind.split('.')[1]}` } } as object) : {};
+        return (
+          <Text key={kind} role="link" style={styles.link} aria-label={`Export ${label}`} {...webProps}>
+            ↓ {label}
+          </Text>
+        );
+      })}
+    </View>
+  );
+}
+
+/** Shown once per run. */
+export function RunCaution() {
+  return <Caution>{RUN_CAUTION.replace('These results are statistical evidence about a model on past data, not investment advice. ', 'They describe a model on past data. ')}</Caution>;
+}
+
+const styles = StyleSheet.create({
+  grid: { flexDirection: 'row', flexWrap: 'wrap', gap: space.md },
+  pair: { flexGrow: 1, flexBasis: 220, gap: 2 },
+  link: {
+    fontFamily: fonts.textStrong,
+    fontSize: 15,
+    color: colors.ink,
+    borderWidth: 1,
+    borderColor: colors.ink,
+    borderRadius: radius.sm,
+    paddingHorizontal: space.md,
+    paddingVertical: 8,
+    backgroundColor: colors.card,
+  },
+});
