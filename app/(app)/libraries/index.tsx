@@ -1,34 +1,114 @@
-import { Text, View } from 'react-native';
+import { useState } from 'react';
+import { ActivityIndicator, Text, View } from 'react-native';
 import { useMe } from '../../../hooks/use-session';
-import { Card } from '../../../components/card';
-import { LinkCard } from '../../../components/link-card';
+import { useLibraries } from '../../../hooks/use-libraries';
+import { Button } from '../../../components/button';
+import { EmptyState } from '../../../components/empty-state';
+import { ErrorView } from '../../../components/error-view';
+import { LibraryCard } from '../../../components/library-card';
 import { Screen } from '../../../components/screen';
+import { Select } from '../../../components/select';
+import { TextField } from '../../../components/text-field';
 import { colors, space, text } from '../../../components/theme';
+import type { LibraryListQuery } from '../../../shared/libraries';
+
+type Freq = 'any' | 'monthly' | 'daily';
 
 export default function Libraries() {
   const me = useMe().data;
+  const [q, setQ] = useState('');
+  const [frequency, setFrequency] = useState<Freq>('any');
+  const [scope, setScope] = useState<LibraryListQuery['scope']>('all');
+  const [archived, setArchived] = useState<LibraryListQuery['archived']>('hide');
+  const [covers, setCovers] = useState('');
+  const coversOk = covers === '' || /^\d{4}-\d{2}(-\d{2})?$/.test(covers);
+  const query: Partial<LibraryListQuery> = {
+    ...(q.trim() ? { q: q.trim() } : {}),
+    ...(frequency !== 'any' ? { frequency } : {}),
+    ...(scope !== 'all' ? { scope } : {}),
+    ...(archived !== 'hide' ? { archived } : {}),
+    ...(covers && coversOk ? { covers } : {}),
+  };
+  const libs = useLibraries(query);
   const canUpload = me?.role === 'researcher' || me?.role === 'admin';
+
   return (
-    <Screen title="Return libraries" subtitle="Tables of dated return series that model specs are built on.">
-      <Card title="What this section holds">
-        <Text style={text.body}>
-          Each return library is one uploaded table of dated returns. Every upload of a changed table becomes a new edition (edition 1, 2, …), so a
-          finished run always points at the exact edition it used.
-        </Text>
-        <Text style={text.body}>
-          Each column is a series of one kind: test asset, factor (traded or not traded) or risk-free rate. Libraries are shared with the whole team
-          (set by an admin) or private to the researcher who uploaded them.
-        </Text>
-        <Text style={[text.body, { color: colors.slate }]}>
-          {canUpload
-            ? 'You can upload libraries. Bad rows, misaligned dates, missing values and percent-vs-decimal mix-ups are reported before anything is saved.'
-            : 'Your role reads libraries; researchers and admins upload them.'}
-        </Text>
-      </Card>
-      <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
-        <LinkCard title="Runs" body="Runs built on a library edition, with their factor ledgers." action="See runs" href="/runs" />
-        <LinkCard title="Home" body="Back to what you can do next." action="Go to Home" href="/" />
+    <Screen
+      title="Return libraries"
+      subtitle="Dated tables of test-asset, factor and risk-free series, versioned as editions."
+      actions={canUpload ? <Button variant="primary" label="Upload a library" href="/libraries/upload" /> : null}
+    >
+      <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md, alignItems: 'flex-start' }}>
+        <View style={{ flexGrow: 2, flexBasis: 260 }}>
+          <TextField label="Search libraries" value={q} onChangeText={setQ} placeholder="Name or description" />
+        </View>
+        <View style={{ flexGrow: 1, flexBasis: 180 }}>
+          <TextField
+            label="Covers date"
+            value={covers}
+            onChangeText={setCovers}
+            placeholder="YYYY-MM"
+            error={coversOk ? undefined : 'Use YYYY-MM or YYYY-MM-DD'}
+          />
+        </View>
       </View>
+      <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.lg }}>
+        <Select<Freq>
+          label="Frequency"
+          value={frequency}
+          onChange={setFrequency}
+          options={[
+            { value: 'any', label: 'Any' },
+            { value: 'monthly', label: 'Monthly' },
+            { value: 'daily', label: 'Daily' },
+          ]}
+        />
+        {me?.role === 'researcher' || me?.role === 'admin' ? (
+          <Select<LibraryListQuery['scope']>
+            label="Show"
+            value={scope}
+            onChange={setScope}
+            options={[
+              { value: 'all', label: 'All I can read' },
+              { value: 'shared', label: 'Shared' },
+              { value: 'mine', label: 'My private' },
+            ]}
+          />
+        ) : null}
+        <Select<LibraryListQuery['archived']>
+          label="Archived"
+          value={archived}
+          onChange={setArchived}
+          options={[
+            { value: 'hide', label: 'Hide' },
+            { value: 'include', label: 'Include' },
+            { value: 'only', label: 'Only archived' },
+          ]}
+        />
+      </View>
+      {libs.isPending ? (
+        <ActivityIndicator color={colors.brass} accessibilityLabel="Loading libraries" />
+      ) : libs.isError ? (
+        <ErrorView error={libs.error} title="Libraries could not be loaded" onRetry={() => void libs.refetch()} />
+      ) : libs.data.length === 0 ? (
+        <EmptyState
+          title={Object.keys(query).length ? 'No library matches' : 'No libraries yet'}
+          body={canUpload ? 'Upload a CSV with a date column and one column per series.' : 'Shared libraries appear here once an admin publishes one.'}
+        />
+      ) : (
+        <View style={{ gap: space.sm }}>
+          <Text style={text.muted}>
+            {libs.data.length} librar{libs.data.length === 1 ? 'y' : 'ies'}
+          </Text>
+          <View role="list" aria-label="Libraries" style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
+            {libs.data.map((l) => (
+              <View role="listitem" key={l.id} style={{ flexGrow: 1, flexBasis: 300, maxWidth: '100%' }}>
+                <LibraryCard lib={l} />
+              </View>
+            ))}
+          </View>
+        </View>
+      )}
     </Screen>
   );
 }
