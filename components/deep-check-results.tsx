@@ -144,7 +144,7 @@ function FactorWindowChart({ result, k, what }: { result: RollingResult; k: numb
       {data.length === 0 ? (
         <Text style={text.muted}>No window could be estimated.</Text>
       ) : (
-        <VictoryChart width={w} height={200} padding={{ top: 10, bottom: 36, left: 52, right: 12 }}>
+        <VictoryChart width={w} height={200} padding={{ top: 10, bottom: 36, left: 52, right: 30 }}>
           <VictoryAxis style={axisStyle} tickValues={ticks} tickFormat={(t: number) => data[t]?.label ?? ''} />
           <VictoryAxis dependentAxis style={axisStyle} tickFormat={(t: number) => formatNum(t, 2)} />
           <VictoryArea data={data.map((d) => ({ x: d.x, y: d.hi, y0: d.lo }))} style={{ data: { fill: colors.brassTint, stroke: 'none' } }} />

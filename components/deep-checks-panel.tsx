@@ -24,6 +24,9 @@ const KIND_HELP: Readonly<Record<JobKind, string>> = {
   rolling: 'Re-estimates b and λ with their standard errors on rolling or expanding windows, to see whether they drift.',
 };
 
+/** Numbers need no full-width input on wide screens. */
+const NUMBER_BOX = { maxWidth: 320 } as const;
+
 function intOrUndefined(s: string): number | undefined {
   const t = s.trim();
   if (t === '') return undefined;
@@ -75,7 +78,9 @@ function StartForm({ runId }: { runId: number }) {
       <Text style={text.muted}>{KIND_HELP[kind]}</Text>
       {kind === 'bootstrap' ? (
         <View style={{ gap: space.sm }}>
-          <TextField label="Draws" value={draws} onChangeText={setDraws} numeric inputMode="numeric" hint="B bootstrap samples; 999 is the default." />
+          <View style={NUMBER_BOX}>
+            <TextField label="Draws" value={draws} onChangeText={setDraws} numeric inputMode="numeric" hint="B bootstrap samples; 999 is the default." />
+          </View>
           <Select
             label="Resampling"
             value={scheme}
@@ -86,9 +91,13 @@ function StartForm({ runId }: { runId: number }) {
             onChange={setScheme}
           />
           {scheme === 'block' ? (
-            <TextField label="Block length" value={block} onChangeText={setBlock} numeric inputMode="numeric" hint="Empty: ceil(T^(1/3)) periods." />
+            <View style={NUMBER_BOX}>
+              <TextField label="Block length" value={block} onChangeText={setBlock} numeric inputMode="numeric" hint="Empty: ceil(T^(1/3)) periods." />
+            </View>
           ) : null}
-          <TextField label="Seed" value={seed} onChangeText={setSeed} numeric inputMode="numeric" hint="Empty: a random seed, stored with the job so it can be repeated." />
+          <View style={NUMBER_BOX}>
+            <TextField label="Seed" value={seed} onChangeText={setSeed} numeric inputMode="numeric" hint="Empty: a random seed, stored with the job so it can be repeated." />
+          </View>
         </View>
       ) : null}
       {kind === 'subset-sweep' ? (
@@ -110,8 +119,12 @@ function StartForm({ runId }: { runId: number }) {
             ]}
             onChange={setWindowKind}
           />
-          <TextField label="Window length" value={length} onChangeText={setLength} numeric inputMode="numeric" hint="Periods per window (the first window when expanding)." />
-          <TextField label="Step" value={step} onChangeText={setStep} numeric inputMode="numeric" hint="Periods between windows." />
+          <View style={NUMBER_BOX}>
+            <TextField label="Window length" value={length} onChangeText={setLength} numeric inputMode="numeric" hint="Periods per window (the first window when expanding)." />
+          </View>
+          <View style={NUMBER_BOX}>
+            <TextField label="Step" value={step} onChangeText={setStep} numeric inputMode="numeric" hint="Periods between windows." />
+          </View>
         </View>
       ) : null}
       {start.error ? <ErrorView error={start.error} title="The check was not started" /> : null}

@@ -1,0 +1,149 @@
+/**
+ * Deep checks end to end (real server with its worker pool + the web export, Debian Chromium):
+ * a researcher opens a finished run of the demo library, starts a long bootstrap, watches its
+ * progress bar move (aria-valuenow grows), cancels it; starts a subset sweep, lets it finish and
+ * reads its result; a bootstrap with few draws finishes and its p-value table shows. The jobs list
+ * shows the same jobs. Screenshots at 390×844 and 1280×800 (screenshots/deep-checks-*.png).
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { Browser, Page } from 'playwright-core';
+import { PHONE, WIDE, expectSameOrigin, launchBrowser, openPage, shot, signIn } from './helpers';
+
+let browser: Browser;
+beforeAll(async () => {
+  browser = await launchBrowser();
+});
+afterAll(async () => {
+  await browser?.close();
+});
+
+/** Creates a finished run on the demo library "Harbour market" through the API, as the signed-in user. */
+async function demoRun(page: Page): Promise<number> {
+  return page.evaluate(async () => {
+    const j = async (r: Response) => {
+      const body = await r.json();
+      if (!r.ok) throw new Error(JSON.stringify(body));
+      return body;
+    };
+    const { token } = await j(await fetch('/api/v1/auth/csrf'));
+    const { libraries } = await j(await fetch('/api/v1/libraries'));
+    const lib = libraries.find((l: { name: string }) => l.name.startsWith('Harbour market'));
+    const { edition } = await j(await fetch(`/api/v1/libraries/${lib.id}/editions/${lib.latestEdition}`));
+    const series = edition.series as { name: string; kind: string; traded: boolean }[];
+    const assets = series.filter((s) => s.kind === 'asset').map((s) => s.name);
+    const factors = series.filter((s) => s.kind === 'factor').map((s) => s.name);
+    const nonTraded = series.filter((s) => s.kind === 'factor' && !s.traded).map((s) => s.name);
+    const rf = series.find((s) => s.kind === 'rf')?.name;
+    const { run } = await j(
+      await fetch('/api/v1/runs', {
+        method: 'POST',
+        headers: { 'content-type': 'application/json', 'x-csrf-token': token },
+        body: JSON.stringify({ editionId: edition.id, spec: { assets, factors, nonTraded, ...(rf ? { rf } : {}) } }),
+      }),
+    );
+    if (run.status !== 'finished') throw new Error(`demo run ${run.status}: ${run.error}`);
+    return run.id as number;
+  });
+}
+
+async function progressNow(page: Page, name: RegExp): Promise<number> {
+  const v = await page.getByRole('progressbar', { name }).getAttribute('aria-valuenow');
+  return Number(v);
+}
+
+describe('deep checks in the browser', () => {
+  it('starts, watches, cancels, finishes and reads deep checks on a demo run (wide)', async () => {
+    const { page, requests, errors } = await openPage(browser, WIDE);
+    await signIn(page, 'researcher');
+    const runId = await demoRun(page);
+    await page.goto(`/runs/${runId}`);
+    const panel = page.getByRole('region', { name: 'Deep checks' });
+    await panel.waitFor();
+
+    // 1. a long bootstrap: the progress bar moves, then we cancel it
+    await panel.getByRole('radio', { name: 'Bootstrap' }).click();
+    await panel.getByLabel('Draws', { exact: true }).fill('30000');
+    await panel.getByLabel('Seed', { exact: true }).fill('11');
+    await panel.getByRole('button', { name: 'Start deep check' }).click();
+    const bar = /^Bootstrap #\d+ progress$/;
+    await panel.getByRole('progressbar', { name: bar }).waitFor();
+    await expect.poll(() => progressNow(page, bar), { timeout: 60_000, interval: 250 }).toBeGreaterThan(0);
+    const first = await progressNow(page, bar);
+    await expect.poll(() => progressNow(page, bar), { timeout: 60_000, interval: 250 }).toBeGreaterThan(first);
+    await expect.poll(async () => (await panel.getByText(/s left|min left/).count()) > 0, { timeout: 10_000 }).toBe(true);
+    await panel.getByRole('progressbar', { name: bar }).scrollIntoViewIfNeeded();
+    await shot(page, 'deep-checks-running-wide');
+    await panel.getByRole('button', { name: /^Cancel Bootstrap #\d+ progress$/ }).click();
+    await panel.getByLabel('Job state: cancelled').first().waitFor();
+    await expect.poll(() => panel.getByRole('progressbar', { name: bar }).count()).toBe(0);
+    await expect(panel.getByText(/No result is kept for a cancelled check/).count()).resolves.toBeGreaterThan(0);
+
+    // 2. a subset sweep over the run's factors: it finishes and its result reads
+    await panel.getByRole('radio', { name: 'Subset sweep' }).click();
+    await panel.getByRole('button', { name: 'Start deep check' }).click();
+    const showSweep = panel.getByRole('button', { name: /^Show result of Subset sweep #\d+$/ });
+    await showSweep.waitFor({ timeout: 60_000 });
+    await showSweep.click();
+    const sweep = panel.getByLabel('Subset sweep result');
+    await sweep.waitFor();
+    await expect(sweep.getByText(/31 models estimated/).count()).resolves.toBe(1);
+    await expect(sweep.getByRole('table', { name: 'Best models by HJ distance' }).getByRole('row').count()).resolves.toBeGreaterThan(5);
+    await expect(sweep.getByText('How often each factor is among the best models').count()).resolves.toBe(1);
+    await sweep.getByRole('table', { name: 'Best models by HJ distance' }).scrollIntoViewIfNeeded();
+    await shot(page, 'deep-checks-sweep-wide');
+
+    // 3. a short bootstrap finishes; its p-value table shows J and every factor
+    await panel.getByRole('button', { name: /^Hide result/ }).click();
+    await panel.getByRole('radio', { name: 'Bootstrap' }).click();
+    await panel.getByLabel('Draws', { exact: true }).fill('199');
+    await panel.getByRole('button', { name: 'Start deep check' }).click();
+    const showBoot = panel.getByRole('button', { name: /^Show result of Bootstrap #\d+$/ });
+    await showBoot.waitFor({ timeout: 60_000 });
+    await showBoot.click();
+    const table = panel.getByRole('table', { name: 'Bootstrap p-values' });
+    await table.waitFor();
+    await expect(table.getByRole('row', { name: /^J \(df \d+\)$/ }).count()).resolves.toBe(1);
+    await expect(table.getByRole('row', { name: /^drop / }).count()).resolves.toBe(5);
+    await expect(panel.getByText(/199 of 199 draws used/).count()).resolves.toBe(1);
+    await table.scrollIntoViewIfNeeded();
+    await shot(page, 'deep-checks-bootstrap-wide');
+
+    // 4. the jobs list shows all three
+    await panel.getByRole('link', { name: 'All jobs' }).click();
+    await page.waitForURL(/\/jobs$/);
+    await page.getByRole('group', { name: /^Subset sweep #\d+$/ }).first().waitFor();
+    await expect(page.getByLabel('Job state: cancelled').count()).resolves.toBeGreaterThan(0);
+    await expect(page.getByLabel('Job state: finished').count()).resolves.toBeGreaterThanOrEqual(2);
+    await shot(page, 'deep-checks-jobs-wide');
+    expectSameOrigin(requests);
+    expect(errors).toEqual([]);
+    await page.context().close();
+  });
+
+  it('phone: the panel, a rolling-window chart and the jobs list fit 390 px', async () => {
+    const { page, requests, errors } = await openPage(browser, PHONE);
+    await signIn(page, 'researcher');
+    const runId = await demoRun(page);
+    await page.goto(`/runs/${runId}`);
+    const panel = page.getByRole('region', { name: 'Deep checks' });
+    await panel.waitFor();
+    await panel.getByRole('radio', { name: 'Rolling window' }).click();
+    await panel.getByLabel('Window length', { exact: true }).fill('240');
+    await panel.getByLabel('Step', { exact: true }).fill('60');
+    await panel.getByRole('button', { name: 'Start deep check' }).click();
+    const show = panel.getByRole('button', { name: /^Show result of Rolling window #\d+$/ });
+    await show.waitFor({ timeout: 60_000 });
+    await show.click();
+    await panel.getByRole('img', { name: /^b of .+, by window$/ }).first().waitFor();
+    await panel.getByRole('img', { name: /^b of .+, by window$/ }).first().scrollIntoViewIfNeeded();
+    await shot(page, 'deep-checks-rolling-phone');
+    const overflow = await page.evaluate(() => document.documentElement.scrollWidth - window.innerWidth);
+    expect(overflow).toBeLessThanOrEqual(1);
+    await page.goto('/jobs');
+    await page.getByRole('group', { name: /^Rolling window #\d+$/ }).first().waitFor();
+    await shot(page, 'deep-checks-jobs-phone');
+    expectSameOrigin(requests);
+    expect(errors).toEqual([]);
+    await page.context().close();
+  });
+});
