@@ -1,0 +1,72 @@
+/**
+ * The worker pool under vitest: worker threads load the TypeScript task module through
+ * server/jobs/worker.mjs (tsx registered in the worker), a chunk computed in a worker equals the
+ * same chunk computed in process (identity), and an AbortSignal stops a running chunk.
+ */
+import { afterAll, describe, expect, it } from 'vitest';
+import { createJobPool, defaultThreadCount } from '../../server/jobs/pool';
+import { runChunk, type ChunkTask } from '../../server/jobs/tasks';
+import { simulateEconomy } from '../gmm/helpers';
+import type { BootstrapBatch, SweepRow } from '../../lib/gmm/index';
+
+const pool = createJobPool({ threads: 1 });
+afterAll(() => pool.destroy());
+
+const e = simulateEconomy({ T: 240, N: 8, K: 3, seed: 4 });
+const names = ['F1', 'F2', 'F3'];
+
+describe('job pool', () => {
+  it('sizes itself to the machine, at least one thread', () => {
+    expect(defaultThreadCount()).toBeGreaterThanOrEqual(1);
+    expect(pool.threads).toBe(1);
+  });
+
+  it('runs TypeScript tasks in a worker thread with the same numbers as in process', async () => {
+    const boot: ChunkTask = {
+      op: 'bootstrap',
+      key: 'pool-test-b',
+      input: { returns: e.returns, factors: e.factors, factorNames: names, options: { stage: 'second', weighting: 'identity', lags: 2, form: 'centred', factorMeansKnown: false, scheme: 'iid', draws: 99, seed: 5 } },
+      from: 10,
+      to: 30,
+    };
+    const inWorker = await pool.run<BootstrapBatch>(boot);
+    expect(inWorker).toEqual(runChunk(boot));
+    expect(inWorker.J).toHaveLength(20 - inWorker.failed);
+    const sweep: ChunkTask = {
+      op: 'subset-sweep',
+      key: 'pool-test-s',
+      input: { returns: e.returns, factors: e.factors, factorNames: names, options: { lags: 2, form: 'centred', factorMeansKnown: false, weighting: 'identity' } },
+      from: 1,
+      to: 8,
+    };
+    const rows = await pool.run<SweepRow[]>(sweep);
+    expect(rows.map((r) => r.mask)).toEqual([1, 2, 3, 4, 5, 6, 7]);
+    expect(rows).toEqual(runChunk(sweep));
+  });
+
+  it('an aborted signal stops a running chunk with an AbortError and the pool keeps working', async () => {
+    const ac = new AbortController();
+    const long: ChunkTask = {
+      op: 'bootstrap',
+      key: 'pool-test-long',
+      input: { returns: e.returns, factors: e.factors, factorNames: names, options: { stage: 'iterated', weighting: 'identity', lags: 2, form: 'centred', factorMeansKnown: false, scheme: 'iid', draws: 100_000, seed: 1 } },
+      from: 0,
+      to: 100_000,
+    };
+    const p = pool.run(long, ac.signal);
+    setTimeout(() => ac.abort(), 300);
+    await expect(p).rejects.toMatchObject({ name: 'AbortError' });
+    expect(await pool.run({ op: 'ping' })).toEqual({ pong: true });
+  });
+
+  it('a caller mistake in a worker comes back as a rejected task with the library’s message', async () => {
+    const bad: ChunkTask = {
+      op: 'bootstrap',
+      key: 'pool-test-bad',
+      input: { returns: e.returns, factors: e.factors, factorNames: names, options: { stage: 'second', weighting: 'identity', lags: 2, form: 'uncentred', factorMeansKnown: false, scheme: 'iid', draws: 99, seed: 5 } },
+      from: 0,
+      to: 10,
+    };
+    await expect(pool.run(bad)).rejects.toThrow(/centred SDF form only/);
+  });
+});
