@@ -288,8 +288,6 @@ export function runBootstrapDraws(plan: BootstrapPlan, options: BootstrapOptions
   const { T, N, K, m, fit, lags } = plan;
   const R = m.R;
   const F = m.F;
-  const Rs = new Float64Array(T * N);
-  const Fs = new Float64Array(T * K);
   const J: number[] = [];
   const t: number[][] = [];
   const drop: number[][] = [];
@@ -298,6 +296,9 @@ export function runBootstrapDraws(plan: BootstrapPlan, options: BootstrapOptions
   for (let d = from; d < to; d++) {
     const u = mulberry32(streamSeed(options.seed, d));
     const idx = bootstrapResample(T, options.scheme, plan.blockLength, u);
+    // Fresh arrays every draw: lib/gmm caches derived copies of a data array by its identity.
+    const Rs = new Float64Array(T * N);
+    const Fs = new Float64Array(T * K);
     for (let r = 0; r < T; r++) {
       const src = idx[r];
       const ro = r * N;
