@@ -39,7 +39,13 @@ export interface FamaMacBethResult {
   readonly shankenC: number;
 }
 
-/** Fama–MacBeth on precomputed moments; null when Σ_f or the cross-sectional X'X is singular. */
+/**
+ * Fama–MacBeth on precomputed moments.
+ * @param m moments; @param names factor names (K); @param intercept add a cross-sectional
+ *   intercept (reported as zeroBeta).
+ * @returns premia with plain and Shanken-corrected SEs, or null when Σ_f or the
+ *   cross-sectional X'X is singular.
+ */
 export function famaMacBethCore(m: MomentData, names: readonly string[], intercept: boolean): FamaMacBethResult | null {
   const { T, N, K, R, sigmaF, covRF } = m;
   const Lf = cholesky(sigmaF, K);

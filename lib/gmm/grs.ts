@@ -30,8 +30,9 @@ export interface GrsTest {
 }
 
 /**
- * GRS on precomputed moments and E_T[RR'] (N×N). Returns null when a covariance matrix is
- * singular or T ≤ N + K.
+ * GRS on precomputed moments and E_T[RR'] (N×N). The caller checks that every factor is traded.
+ * @returns { stat, df1 = N, df2 = T − N − K, p, alpha }, or null when a covariance matrix is
+ *   singular or T ≤ N + K.
  */
 export function grsCore(m: MomentData, secondMoment: Float64Array): GrsTest | null {
   const { T, N, K, meanR, meanF, sigmaF, covRF } = m;

@@ -12,7 +12,11 @@
 import { cholesky, choleskySolve } from './linalg';
 import type { MomentData } from './moments';
 
-/** HJ distance from moments and a precomputed E_T[RR']; null when a matrix is singular. */
+/**
+ * HJ distance from moments and a precomputed E_T[RR'].
+ * @param form 'centred' uses X = C, 'uncentred' X = D.
+ * @returns the distance (≥ 0), or null when E[RR'] or X'WX is singular.
+ */
 export function hjDistance(m: MomentData, secondMoment: Float64Array, form: 'centred' | 'uncentred' = 'centred'): number | null {
   const { N, K, meanR } = m;
   const X = form === 'centred' ? m.covRF : m.crossRF;

@@ -46,7 +46,10 @@ export interface PremiaFailure {
 
 /**
  * λ̂ and Var(λ̂) from a GMM fit on the same moments.
- * @returns typed failure when 1 − μ'b̂ is zero in the uncentred form.
+ * @param m the moments the fit was computed on.
+ * @param fit a successful fitSdfGmm result (its lag is reused).
+ * @returns λ̂ (K) and Var(λ̂) (K×K, row-major), or a typed failure when 1 − μ'b̂ is zero in the
+ *   uncentred form.
  */
 export function fitPremia(m: MomentData, fit: SdfGmmFit): PremiaFit | PremiaFailure {
   const { T, N, K, Fc, sigmaF, meanF } = m;

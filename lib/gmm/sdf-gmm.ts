@@ -201,8 +201,13 @@ function pricingErrors(X: Float64Array, b: Float64Array, meanR: Float64Array, N:
 }
 
 /**
- * Fit the SDF model on precomputed moments. Returns a typed failure when X'WX or Ŝ is
- * singular; never NaN. See the module comment for formulas and papers.
+ * Fit the SDF model on precomputed moments. See the module comment for formulas and papers.
+ * @param m moments from prepareMoments / momentsFromPacked (or selectFactors for a subset).
+ * @param options stage, first-stage weighting, lag, form, factorMeansKnown, iteration cap and
+ *   tolerance, optional precomputed E_T[RR'].
+ * @returns the fit on typed arrays (b̂, W, H, α̂, Ŝ_b, Var(b̂), Var(α̂), J, iterations,
+ *   converged), or `{ ok: false, reason: 'singular', matrix }` when X'WX, E[RR'] or Ŝ cannot be
+ *   inverted. Never NaN; does not throw for numerical failures.
  */
 export function fitSdfGmm(m: MomentData, options: SdfGmmOptions): SdfGmmFit | SdfGmmFailure {
   const { T, N, K, meanR } = m;

@@ -30,7 +30,11 @@ export interface ThinBetaTest {
   readonly flag: boolean;
 }
 
-/** The thin-beta test for factor k on precomputed moments; null when Var(Ĉ_k) is singular. */
+/**
+ * The thin-beta test for factor k on precomputed moments.
+ * @param m moments; @param k factor index (0-based); @param lags Bartlett lag.
+ * @returns { stat, df = N, p, flag = p ≥ 0.10 }, or null when Var(Ĉ_k) is singular.
+ */
 export function thinBetaTest(m: MomentData, k: number, lags: number): ThinBetaTest | null {
   const { T, N, K, Fc, meanR, covRF } = m;
   const Rc = columnMajorOf(m.R, T, N);

@@ -9,6 +9,7 @@ import {
   fitPremia,
   fitSdfGmm,
   hacCovariance,
+  olsFit,
   prepareMoments,
   type LedgerOptions,
 } from '../../lib/gmm/index';
@@ -96,6 +97,18 @@ describe.each(cases)('Python reference: $name', (c) => {
     expect(maxRel(S, ref.hacStatsmodels, 'hac vs statsmodels')).toBeLessThan(TOL);
     const Sd = hacCovariance(R, c.T, c.N, c.options.lags, true);
     expect(maxRel(Sd, ref.hacDemeaned, 'hac demeaned')).toBeLessThan(TOL);
+  });
+
+  it('time-series OLS with classical and HAC SEs against statsmodels OLS (cov_type=HAC, use_correction=False)', () => {
+    const y = eco.returns.map((r) => r[0]);
+    const X = eco.factors.map((f) => [1, ...f]);
+    const hac = olsFit(y, X, { covariance: 'hac', lags: c.options.lags });
+    const cls = olsFit(y, X);
+    if (!hac.ok || !cls.ok) throw new Error('ols failed');
+    expect(maxRel(hac.coef, ref.olsHac.params, 'ols coef')).toBeLessThan(TOL);
+    expect(maxRel(hac.se, ref.olsHac.bse, 'ols HAC se')).toBeLessThan(TOL);
+    expect(maxRel(cls.se, ref.olsClassical.bse, 'ols classical se')).toBeLessThan(TOL);
+    expect(maxRel(cls.rSquared, ref.olsClassical.rsquared, 'ols R2')).toBeLessThan(TOL);
   });
 
   it('b̂ (first stage and reported), iterations, Var(b̂) through the influence function (numpy)', () => {

@@ -231,6 +231,12 @@ def main():
     out['thinBeta'] = [thin_beta(R, F, k, L) for k in range(K)]
     out['grs'] = grs(R, F) if all(traded) else None
     out['famaMacBeth'] = fama_macbeth(R, F, bool(inp.get('fmIntercept', False)))
+    # time-series OLS of the first asset on a constant and the factors, statsmodels HAC SEs
+    Xo = sm.add_constant(F, prepend=True)
+    ro = sm.OLS(R[:, 0], Xo).fit(cov_type='HAC', cov_kwds={'maxlags': L, 'use_correction': False})
+    rc = sm.OLS(R[:, 0], Xo).fit()
+    out['olsHac'] = {'params': ro.params.tolist(), 'bse': ro.bse.tolist()}
+    out['olsClassical'] = {'params': rc.params.tolist(), 'bse': rc.bse.tolist(), 'rsquared': float(rc.rsquared)}
     # OLS of mean returns on covariances without intercept (identity check for W = I)
     ER = R.mean(axis=0)
     C = (R - ER).T @ (F - F.mean(axis=0)) / R.shape[0]
