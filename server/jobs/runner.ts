@@ -40,6 +40,26 @@ function chunkRanges(total: number, kind: CheckInput['kind']): [number, number][
 
 const nowIso = () => new Date().toISOString();
 
+/** Maps `items` through async `fn` with at most `limit` calls pending; stops at the first rejection. */
+async function mapLimited<T, R>(items: readonly T[], limit: number, fn: (item: T) => Promise<R>): Promise<R[]> {
+  const out = new Array<R>(items.length);
+  let next = 0;
+  let failed = false;
+  const lane = async () => {
+    while (!failed && next < items.length) {
+      const i = next++;
+      try {
+        out[i] = await fn(items[i]);
+      } catch (e) {
+        failed = true;
+        throw e;
+      }
+    }
+  };
+  await Promise.all(Array.from({ length: Math.max(1, Math.min(limit, items.length)) }, lane));
+  return out;
+}
+
 export class JobRunner {
   private readonly db: Db;
   private readonly mailer: Mailer;
@@ -131,6 +151,9 @@ export class JobRunner {
     const ranges = chunkRanges(check.total, check.kind);
     let done = 0;
     const pool = this.getPool();
+    // At most threads + 1 chunks in flight per job: jobs started later interleave with a long
+    // one instead of queueing behind all its chunks.
+    const limit = pool.threads + 1;
     const record = (n: number) => {
       done += n;
       db.update(jobs).set({ done }).where(and(eq(jobs.id, jobId), eq(jobs.status, 'running'))).run();
@@ -139,36 +162,27 @@ export class JobRunner {
       let result: unknown;
       if (check.kind === 'bootstrap') {
         const input = check.input;
-        const batches = await Promise.all(
-          ranges.map(([from, to]) =>
-            pool.run<BootstrapBatch>({ op: 'bootstrap', key, input, from, to }, signal).then((b) => {
-              record(to - from);
-              return b;
-            }),
-          ),
-        );
+        const batches = await mapLimited(ranges, limit, async ([from, to]) => {
+          const b = await pool.run<BootstrapBatch>({ op: 'bootstrap', key, input, from, to }, signal);
+          record(to - from);
+          return b;
+        });
         result = await pool.run({ op: 'bootstrap-summary', key, input, batches } satisfies ChunkTask, signal);
       } else if (check.kind === 'subset-sweep') {
         const input = check.input;
-        const parts = await Promise.all(
-          ranges.map(([from, to]) =>
-            pool.run<SweepRow[]>({ op: 'subset-sweep', key, input, from: from + 1, to: to + 1 }, signal).then((r) => {
-              record(to - from);
-              return r;
-            }),
-          ),
-        );
+        const parts = await mapLimited(ranges, limit, async ([from, to]) => {
+          const r = await pool.run<SweepRow[]>({ op: 'subset-sweep', key, input, from: from + 1, to: to + 1 }, signal);
+          record(to - from);
+          return r;
+        });
         result = await pool.run({ op: 'subset-sweep-summary', key, input, rows: parts.flat() } satisfies ChunkTask, signal);
       } else {
         const input = check.input;
-        const parts = await Promise.all(
-          ranges.map(([from, to]) =>
-            pool.run<RollingPoint[]>({ op: 'rolling', key, input, from, to }, signal).then((r) => {
-              record(to - from);
-              return r;
-            }),
-          ),
-        );
+        const parts = await mapLimited(ranges, limit, async ([from, to]) => {
+          const r = await pool.run<RollingPoint[]>({ op: 'rolling', key, input, from, to }, signal);
+          record(to - from);
+          return r;
+        });
         result = await pool.run({ op: 'rolling-summary', key, input, points: parts.flat() } satisfies ChunkTask, signal);
       }
       if (signal.aborted) throw abortError();
