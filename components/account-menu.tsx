@@ -3,7 +3,7 @@ import { Pressable, StyleSheet, Text, View } from 'react-native';
 import { useRouter } from 'expo-router';
 import type { User } from '../shared/auth';
 import { ROLE_LABELS } from '../shared/roles';
-import { useLogout } from '../hooks/use-session';
+import { useForgetSession, useLogout } from '../hooks/use-session';
 import { Button } from './button';
 import { colors, fonts, radius, space, text } from './theme';
 
@@ -12,12 +12,19 @@ export function initials(name: string): string {
   return ((parts[0]?.[0] ?? '') + (parts.length > 1 ? (parts[parts.length - 1]?.[0] ?? '') : '')).toUpperCase() || '?';
 }
 
-/** Sign-out with the query cache cleared, then to the sign-in screen. */
+/** Sign-out: server session ended, to the sign-in screen (no "next"), then the query cache cleared. */
 export function useSignOut() {
   const logout = useLogout();
+  const forget = useForgetSession();
   const router = useRouter();
   return {
-    signOut: () => logout.mutate(undefined, { onSettled: () => router.replace('/sign-in') }),
+    signOut: () =>
+      logout.mutate(undefined, {
+        onSettled: () => {
+          router.replace('/sign-in');
+          forget();
+        },
+      }),
     pending: logout.isPending,
   };
 }

@@ -1,7 +1,6 @@
 import { useState, type ReactNode } from 'react';
 import { Pressable, StyleSheet, Text, View, type ViewStyle } from 'react-native';
 import {
-  flexRender,
   getCoreRowModel,
   getFilteredRowModel,
   getPaginationRowModel,
@@ -55,6 +54,14 @@ function cellNode(node: ReactNode, numeric?: boolean): ReactNode {
     );
   }
   return node ?? null;
+}
+
+/**
+ * Header/cell renderer: functions are called (not mounted as components), so a function that returns
+ * a string gets the app's text style; do not call hooks inside column `cell`/`header` functions.
+ */
+function renderPart<C>(part: unknown, ctx: C): ReactNode {
+  return typeof part === 'function' ? (part as (c: C) => ReactNode)(ctx) : (part as ReactNode);
 }
 
 /** Default cell: the value as text in the app's faces (TanStack's own default would render bare text). */
@@ -126,7 +133,7 @@ export function DataTable<T>(props: DataTableProps<T>) {
                 const meta = h.column.columnDef.meta as DataColumnMeta | undefined;
                 const sorted = h.column.getIsSorted();
                 const canSort = h.column.getCanSort();
-                const title = flexRender(h.column.columnDef.header, h.getContext());
+                const title = renderPart(h.column.columnDef.header, h.getContext());
                 return (
                   <View
                     key={h.id}
@@ -159,7 +166,7 @@ export function DataTable<T>(props: DataTableProps<T>) {
               const meta = c.column.columnDef.meta as DataColumnMeta | undefined;
               return (
                 <View key={c.id} role="cell" style={[styles.cell, colStyle(meta), meta?.numeric && { alignItems: 'flex-end' }]}>
-                  {cellNode(flexRender(c.column.columnDef.cell, c.getContext()), meta?.numeric)}
+                  {cellNode(renderPart(c.column.columnDef.cell, c.getContext()), meta?.numeric)}
                 </View>
               );
             });

@@ -22,15 +22,18 @@ export function useLogin() {
   });
 }
 
+/** Signs out on the server. Call `forgetSession` afterwards (after leaving signed-in screens). */
 export function useLogout() {
+  return useMutation<void, KeelsonApiError, void>({ mutationFn: () => logout() });
+}
+
+/** Drops every cached query and records "nobody signed in". */
+export function useForgetSession() {
   const qc = useQueryClient();
-  return useMutation<void, KeelsonApiError, void>({
-    mutationFn: () => logout(),
-    onSettled: () => {
-      qc.clear();
-      qc.setQueryData(sessionKeys.me, null);
-    },
-  });
+  return () => {
+    qc.clear();
+    qc.setQueryData(sessionKeys.me, null);
+  };
 }
 
 export function useInvitationPreview(token: string | undefined) {

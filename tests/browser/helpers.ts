@@ -66,7 +66,7 @@ export async function openPage(browser: Browser, viewport: Viewport = PHONE): Pr
     // HTTP error statuses (401 from /auth/me before sign-in, a wrong password…) are expected answers, not page errors.
     if (m.type() === 'error' && !m.text().startsWith('Failed to load resource')) errors.push(`console: ${m.text()}`);
   });
-  page.setDefaultTimeout(15_000);
+  page.setDefaultTimeout(30_000); // generous: the machine is shared with builds and other suites
   return { context, page, requests, errors };
 }
 

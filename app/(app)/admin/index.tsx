@@ -81,11 +81,15 @@ export default function TeamUsers() {
   const [selected, setSelected] = useState<number | null>(null);
   const columns = useMemo(
     () => [
-      col.accessor('name', { header: 'Name', meta: { flex: 1.2 } }),
-      col.accessor('email', { header: 'E-mail', meta: { flex: 1.6 } }),
-      col.accessor((u) => ROLE_LABELS[u.role], { id: 'role', header: 'Role', meta: { flex: 0.8 } }),
-      col.accessor('active', { header: 'Status', cell: (c) => <StatusChip active={c.getValue()} />, meta: { flex: 0.9 } }),
-      col.accessor('lastLoginAt', { header: 'Last sign-in', cell: (c) => formatWhen(c.getValue()), meta: { flex: 1.1 } }),
+      col.accessor('name', { header: 'Name', meta: { flex: 1 } }),
+      col.accessor('email', { header: 'E-mail', meta: { flex: 1.5 } }),
+      col.accessor((u) => ROLE_LABELS[u.role], { id: 'role', header: 'Role', meta: { width: 112 } }),
+      col.accessor('active', { header: 'Status', cell: (c) => <StatusChip active={c.getValue()} />, meta: { width: 132 } }),
+      col.accessor('lastLoginAt', {
+        header: 'Last sign-in',
+        cell: (c) => <Text style={[text.num, { fontSize: 13 }]}>{formatWhen(c.getValue())}</Text>,
+        meta: { width: 120 },
+      }),
     ],
     [],
   );
@@ -124,7 +128,7 @@ export default function TeamUsers() {
             />
           </View>
           {wide ? (
-            <View style={{ flex: 1, minWidth: 300 }}>
+            <View style={{ width: 300 }}>
               {editor ?? <Card title="Choose a user"><Text style={text.muted}>Press a row to change the role or deactivate the account.</Text></Card>}
             </View>
           ) : null}

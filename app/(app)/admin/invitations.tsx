@@ -71,9 +71,9 @@ export default function TeamInvitations() {
     () => [
       col.accessor('name', { header: 'Name' }),
       col.accessor('email', { header: 'E-mail', meta: { flex: 1.5 } }),
-      col.accessor((i) => ROLE_LABELS[i.role], { id: 'role', header: 'Role', meta: { flex: 0.8 } }),
-      col.accessor((i) => invitationState(i), { id: 'state', header: 'State', cell: (c) => <InvitationStateChip state={c.getValue()} />, meta: { flex: 0.9 } }),
-      col.accessor('createdAt', { header: 'Sent', cell: (c) => formatWhen(c.getValue()) }),
+      col.accessor((i) => ROLE_LABELS[i.role], { id: 'role', header: 'Role', meta: { width: 112 } }),
+      col.accessor((i) => invitationState(i), { id: 'state', header: 'State', cell: (c) => <InvitationStateChip state={c.getValue()} />, meta: { width: 128 } }),
+      col.accessor('createdAt', { header: 'Sent', cell: (c) => <Text style={[text.num, { fontSize: 13 }]}>{formatWhen(c.getValue())}</Text>, meta: { width: 120 } }),
     ],
     [],
   );
