@@ -22,6 +22,9 @@ const axisStyle = {
   axisLabel: { fill: colors.slate, fontSize: 11, padding: 30, fontFamily: 'Inter_400Regular' },
 };
 
+/** Tick labels with at most three significant digits, no trailing zeros. */
+const tick = (t: number) => String(Number(t.toPrecision(3)));
+
 function useWidth(initial = 320): [number, (e: LayoutChangeEvent) => void] {
   const [w, setW] = useState(initial);
   return [w, (e) => setW(Math.max(240, Math.floor(e.nativeEvent.layout.width)))];
@@ -40,7 +43,7 @@ function ChartBox({ title, caption, children, onLayout }: { title: string; capti
 export function PredictedRealisedChart({ result }: { result: LedgerResult }) {
   const [w, onLayout] = useWidth();
   const z = criticalZ(result);
-  const pts = result.pricingErrors.map((e) => ({ x: e.predicted * 100, y: e.meanReturn * 100, errorY: z * e.se * 100, label: e.asset }));
+  const pts = result.pricingErrors.map((e) => ({ x: e.predicted * 100, y: e.meanReturn * 100, errorY: z * e.se * 100 }));
   const all = pts.flatMap((p) => [p.x, p.y - p.errorY, p.y + p.errorY]);
   const lo = Math.min(0, ...all);
   const hi = Math.max(...all);
@@ -53,8 +56,8 @@ export function PredictedRealisedChart({ result }: { result: LedgerResult }) {
       onLayout={onLayout}
     >
       <VictoryChart width={w} height={Math.min(w, 340)} domain={{ x: dom, y: dom }} padding={{ top: 10, bottom: 44, left: 52, right: 12 }}>
-        <VictoryAxis label="predicted" style={axisStyle} tickFormat={(t: number) => t.toFixed(2)} />
-        <VictoryAxis dependentAxis label="realised" style={axisStyle} tickFormat={(t: number) => t.toFixed(2)} />
+        <VictoryAxis label="predicted" style={axisStyle} tickFormat={tick} />
+        <VictoryAxis dependentAxis label="realised" style={axisStyle} tickFormat={tick} />
         <VictoryLine data={[{ x: dom[0], y: dom[0] }, { x: dom[1], y: dom[1] }]} style={{ data: { stroke: colors.fog, strokeDasharray: '4,4', strokeWidth: 1 } }} />
         <VictoryErrorBar data={pts} style={{ data: { stroke: colors.slate, strokeWidth: 1 } }} />
         <VictoryScatter data={pts} size={3.5} style={{ data: { fill: colors.ink } }} />
@@ -69,8 +72,8 @@ function CoefChart({ title, caption, items }: { title: string; caption: string; 
   return (
     <ChartBox title={title} caption={caption} onLayout={onLayout}>
       <VictoryChart width={w} height={240} domainPadding={{ x: 24 }} padding={{ top: 10, bottom: 40, left: 56, right: 12 }}>
-        <VictoryAxis tickValues={items.map((_, i) => i + 1)} tickFormat={(t: number) => items[t - 1]?.x ?? ''} style={axisStyle} />
-        <VictoryAxis dependentAxis style={axisStyle} tickFormat={(t: number) => (Math.abs(t) >= 10 ? t.toFixed(0) : t.toFixed(2))} />
+        <VictoryAxis tickValues={items.map((_, i) => i + 1)} tickFormat={(t: number) => items[t - 1]?.x ?? ''} style={axisStyle} offsetY={40} />
+        <VictoryAxis dependentAxis style={axisStyle} tickFormat={tick} />
         <VictoryLine data={[{ x: 0.5, y: 0 }, { x: items.length + 0.5, y: 0 }]} style={{ data: { stroke: colors.fog, strokeWidth: 1 } }} />
         <VictoryErrorBar data={data} borderWidth={6} style={{ data: { stroke: colors.ink, strokeWidth: 1.5 } }} />
         <VictoryScatter data={data} size={4} symbol="square" style={{ data: { fill: colors.brass } }} />
@@ -105,8 +108,8 @@ export function PricingErrorChart({ result }: { result: LedgerResult }) {
   return (
     <ChartBox title="Pricing error per test asset, %" caption={`α = realised − predicted mean excess return; bars ±${z.toFixed(2)} standard errors.`} onLayout={onLayout}>
       <VictoryChart horizontal width={w} height={h} domainPadding={{ x: 10 }} padding={{ top: 10, bottom: 36, left: 110, right: 16 }}>
-        <VictoryAxis tickValues={data.map((d) => d.x)} tickFormat={(t: number) => data[t - 1]?.asset ?? ''} style={axisStyle} />
-        <VictoryAxis dependentAxis style={axisStyle} tickFormat={(t: number) => t.toFixed(2)} />
+        <VictoryAxis tickValues={data.map((d) => d.x)} tickFormat={(t: number) => data[t - 1]?.asset ?? ''} style={axisStyle} offsetX={110} />
+        <VictoryAxis dependentAxis style={axisStyle} tickFormat={tick} />
         <VictoryBar data={data} barWidth={Math.max(4, Math.min(12, (h - 60) / data.length - 4))} style={{ data: { fill: colors.slate } }} />
         <VictoryErrorBar data={data} style={{ data: { stroke: colors.ink, strokeWidth: 1 } }} />
       </VictoryChart>

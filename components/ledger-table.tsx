@@ -4,11 +4,9 @@
  * one card per factor. One tap on a cell opens what the test asks and the numbers behind it.
  */
 import { useState, type ReactNode } from 'react';
-import { Pressable, StyleSheet, Text, View } from 'react-native';
-import type { ColumnDef } from '@tanstack/react-table';
+import { Pressable, ScrollView, StyleSheet, Text, View, type ViewStyle } from 'react-native';
 import type { LedgerResult } from '../shared/runs';
 import { useIsWide } from '../hooks/use-layout';
-import { DataTable } from './data-table';
 import { VerdictChip } from './chip';
 import { Num, formatNum } from './num';
 import { LedgerDetailModal, TEST_TITLES, type LedgerTest } from './ledger-detail';
@@ -34,80 +32,80 @@ export function LedgerTable({ result }: { result: LedgerResult }) {
   const sig = (p: number | null | undefined) => p !== null && p !== undefined && p < level;
   const show = (f: Factor, test: LedgerTest) => () => setOpen({ f, test });
   const n = (v: number | null | undefined, d: number, marked: boolean, label: string) => (
-    <Num value={v} decimals={d} marked={marked} accessibilityLabel={`${label} ${formatNum(v, d)}${marked ? ', significant' : ''}`} />
+    <Num value={v} decimals={d} marked={marked} style={{ fontSize: 14 }} accessibilityLabel={`${label} ${formatNum(v, d)}${marked ? ', significant' : ''}`} />
   );
 
-  const columns: ColumnDef<Factor>[] = [
+  const est = (v: number | null | undefined, d: number, t: number | null | undefined, marked: boolean, label: string) => (
+    <View style={styles.estWrap}>
+      <Text style={[styles.num, marked && styles.marked]} aria-label={`${label} ${formatNum(v, d)}${marked ? ', significant' : ''}`}>
+        {formatNum(v, d)}
+        {marked ? '*' : ' '}
+      </Text>
+      {t !== undefined ? <Text style={[styles.tInline, marked && styles.tMarked]}>({formatNum(t, 2)})</Text> : null}
+    </View>
+  );
+  const cols: { key: string; title: string; w: number; render: (f: Factor) => ReactNode }[] = [
+    { key: 'b', title: 'b (t)', w: 128, render: (f) => <Cell onPress={show(f, 'b')} label={`b of ${f.name}: what the test asks`}>{est(f.b, LEDGER_DECIMALS.b, f.tB, sig(f.pB), 'b')}</Cell> },
+    { key: 'pb', title: 'p(b)', w: 66, render: (f) => <Cell onPress={show(f, 'b')} label={`p of b for ${f.name}`}>{n(f.pB, LEDGER_DECIMALS.p, sig(f.pB), 'p')}</Cell> },
+    { key: 'l', title: 'λ, % (t)', w: 118, render: (f) => <Cell onPress={show(f, 'lambda')} label={`λ of ${f.name}: what the test asks`}>{est(f.lambda * 100, LEDGER_DECIMALS.lambdaPct, f.tLambda, sig(f.pLambda), 'λ percent')}</Cell> },
+    { key: 'pl', title: 'p(λ)', w: 66, render: (f) => <Cell onPress={show(f, 'lambda')} label={`p of λ for ${f.name}`}>{n(f.pLambda, LEDGER_DECIMALS.p, sig(f.pLambda), 'p')}</Cell> },
+    { key: 'd', title: 'drop χ²', w: 64, render: (f) => <Cell onPress={show(f, 'drop')} label={`drop test of ${f.name}`}>{n(f.chi2Drop?.stat, LEDGER_DECIMALS.chi2, sig(f.chi2Drop?.p), 'χ²')}</Cell> },
+    { key: 'pd', title: 'p(drop)', w: 66, render: (f) => <Cell onPress={show(f, 'drop')} label={`p of drop test for ${f.name}`}>{n(f.chi2Drop?.p, LEDGER_DECIMALS.p, sig(f.chi2Drop?.p), 'p')}</Cell> },
     {
-      id: 'factor',
-      header: 'Factor',
-      meta: { flex: 1.3 },
-      cell: ({ row: { original: f } }) => (
-        <View>
-          <Text style={text.strong}>
-            {f.name}
-            {f.thinBeta?.flag ? <Text style={styles.flag}> ◌ thin β</Text> : null}
-          </Text>
-          {!f.traded ? <Text style={text.muted}>not traded</Text> : null}
-        </View>
-      ),
-    },
-    { id: 'b', header: 'b', meta: { numeric: true }, cell: ({ row: { original: f } }) => <Cell onPress={show(f, 'b')} label={`b of ${f.name}: what the test asks`}>{n(f.b, LEDGER_DECIMALS.b, sig(f.pB), 'b')}</Cell> },
-    { id: 'tb', header: 't(b)', meta: { numeric: true }, cell: ({ row: { original: f } }) => <Cell onPress={show(f, 'b')} label={`t of b for ${f.name}`}>{n(f.tB, LEDGER_DECIMALS.t, sig(f.pB), 't')}</Cell> },
-    { id: 'pb', header: 'p(b)', meta: { numeric: true }, cell: ({ row: { original: f } }) => <Cell onPress={show(f, 'b')} label={`p of b for ${f.name}`}>{n(f.pB, LEDGER_DECIMALS.p, sig(f.pB), 'p')}</Cell> },
-    {
-      id: 'lambda',
-      header: 'λ, %',
-      meta: { numeric: true },
-      cell: ({ row: { original: f } }) => <Cell onPress={show(f, 'lambda')} label={`λ of ${f.name}: what the test asks`}>{n(f.lambda * 100, LEDGER_DECIMALS.lambdaPct, sig(f.pLambda), 'λ percent')}</Cell>,
-    },
-    { id: 'tl', header: 't(λ)', meta: { numeric: true }, cell: ({ row: { original: f } }) => <Cell onPress={show(f, 'lambda')} label={`t of λ for ${f.name}`}>{n(f.tLambda, LEDGER_DECIMALS.t, sig(f.pLambda), 't')}</Cell> },
-    { id: 'pl', header: 'p(λ)', meta: { numeric: true }, cell: ({ row: { original: f } }) => <Cell onPress={show(f, 'lambda')} label={`p of λ for ${f.name}`}>{n(f.pLambda, LEDGER_DECIMALS.p, sig(f.pLambda), 'p')}</Cell> },
-    {
-      id: 'drop',
-      header: 'χ² drop',
-      meta: { numeric: true },
-      cell: ({ row: { original: f } }) => <Cell onPress={show(f, 'drop')} label={`drop test of ${f.name}`}>{n(f.chi2Drop?.stat, LEDGER_DECIMALS.chi2, sig(f.chi2Drop?.p), 'χ²')}</Cell>,
-    },
-    { id: 'pdrop', header: 'p(drop)', meta: { numeric: true }, cell: ({ row: { original: f } }) => <Cell onPress={show(f, 'drop')} label={`p of drop test for ${f.name}`}>{n(f.chi2Drop?.p, LEDGER_DECIMALS.p, sig(f.chi2Drop?.p), 'p')}</Cell> },
-    {
-      id: 'span',
-      header: 'span α, % (t)',
-      meta: { numeric: true, flex: 1.3 },
-      cell: ({ row: { original: f } }) => (
+      key: 's',
+      title: 'span α, % (t)',
+      w: 116,
+      render: (f) => (
         <Cell onPress={show(f, 'spanning')} label={`spanning check of ${f.name}`}>
-          {f.spanning ? (
-            <View style={{ flexDirection: 'row', gap: 4, justifyContent: 'flex-end' }}>
-              {n(f.spanning.alpha * 100, LEDGER_DECIMALS.alphaPct, sig(f.spanning.p), 'α percent')}
-              <Text style={styles.tInline}>({formatNum(f.spanning.t, 2)})</Text>
-            </View>
-          ) : (
-            <Text style={[text.muted, { textAlign: 'right' }]}>{f.traded ? '—' : 'not traded'}</Text>
-          )}
+          {f.spanning ? est(f.spanning.alpha * 100, LEDGER_DECIMALS.alphaPct, f.spanning.t, sig(f.spanning.p), 'α percent') : <Text style={[text.muted, { textAlign: 'right' }]}>{f.traded ? '—' : 'not traded'}</Text>}
         </Cell>
       ),
     },
     {
-      id: 'thin',
-      header: 'thin β p',
-      meta: { numeric: true },
-      cell: ({ row: { original: f } }) => (
+      key: 'th',
+      title: 'thin β p',
+      w: 60,
+      render: (f) => (
         <Cell onPress={show(f, 'thin')} label={`thin-beta test of ${f.name}`}>
           <Num value={f.thinBeta?.p} decimals={LEDGER_DECIMALS.p} marked={!!f.thinBeta?.flag} marker="◌" accessibilityLabel={`thin-beta p ${formatNum(f.thinBeta?.p, 3)}${f.thinBeta?.flag ? ', flagged' : ''}`} />
         </Cell>
       ),
     },
-    {
-      id: 'verdict',
-      header: 'Verdict',
-      meta: { width: 200 },
-      cell: ({ row: { original: f } }) => (
-        <Pressable onPress={show(f, 'verdict')} role="button" aria-label={`Verdict for ${f.name}: ${f.verdict}`}>
-          <VerdictChip verdict={f.verdict} />
-        </Pressable>
-      ),
-    },
   ];
+  const [tableW, setTableW] = useState(0);
+  const MIN_W = 88 + cols.reduce((a, c) => a + c.w, 0) + 184;
+  const tableBody = (
+    <View role="table" aria-label="Factor ledger" style={[styles.table, { minWidth: MIN_W }]}>
+      <View role="row" style={[styles.tr, styles.thead]}>
+        <Text role="columnheader" style={[styles.th, { flex: 1, minWidth: 88, textAlign: 'left' }]}>Factor</Text>
+        {cols.map((c) => (
+          <Text key={c.key} role="columnheader" style={[styles.th, { width: c.w }]}>
+            {c.title}
+          </Text>
+        ))}
+        <Text role="columnheader" style={[styles.th, { width: 184, textAlign: 'left' }]}>Verdict</Text>
+      </View>
+      {result.factors.map((f) => (
+        <View key={f.name} role="row" style={styles.tr}>
+          <View role="rowheader" style={[styles.td, { flex: 1, minWidth: 88 }]}>
+            <Text style={text.strong}>{f.name}</Text>
+            {!f.traded ? <Text style={text.muted}>not traded</Text> : null}
+            {f.thinBeta?.flag ? <Text style={styles.flag}>◌ thin β</Text> : null}
+          </View>
+          {cols.map((c) => (
+            <View key={c.key} role="cell" style={[styles.td, { width: c.w }]}>
+              {c.render(f)}
+            </View>
+          ))}
+          <View role="cell" style={[styles.td, { width: 184 }]}>
+            <Pressable onPress={show(f, 'verdict')} role="button" aria-label={`Verdict for ${f.name}: ${f.verdict}`}>
+              <VerdictChip verdict={f.verdict} />
+            </Pressable>
+          </View>
+        </View>
+      ))}
+    </View>
+  );
 
   const card = (f: Factor) => (
     <View style={styles.card} aria-label={`Factor ${f.name}`}>
@@ -144,7 +142,25 @@ export function LedgerTable({ result }: { result: LedgerResult }) {
       ) : (
         <Text style={text.muted}>Bold with * : significant at {level}. Tap a line for what the test asks.</Text>
       )}
-      <DataTable label="Factor ledger" data={result.factors} columns={columns} renderCard={card} getRowId={(f) => f.name} pageSize={100} />
+      {wide ? (
+        <View onLayout={(e) => setTableW(e.nativeEvent.layout.width)}>
+          {tableW > 0 && tableW < MIN_W ? (
+            <ScrollView horizontal contentContainerStyle={{ minWidth: MIN_W }}>
+              {tableBody}
+            </ScrollView>
+          ) : (
+            tableBody
+          )}
+        </View>
+      ) : (
+        <View role="list" aria-label="Factor ledger" style={{ gap: space.sm }}>
+          {result.factors.map((f) => (
+            <View role="listitem" key={f.name}>
+              {card(f)}
+            </View>
+          ))}
+        </View>
+      )}
       <LedgerDetailModal factor={open?.f ?? null} test={open?.test ?? null} level={level} onClose={() => setOpen(null)} />
     </View>
   );
@@ -153,7 +169,7 @@ export function LedgerTable({ result }: { result: LedgerResult }) {
 function CardLine({ label, est, t, p, marked, onPress }: { label: string; est: string; t?: number; p?: number | null; marked?: boolean; onPress: () => void }) {
   return (
     <Pressable onPress={onPress} role="button" aria-label={`${label}: ${est}${p !== undefined && p !== null ? `, p ${formatNum(p, 3)}` : ''}`} style={styles.line}>
-      <Text style={[text.body, { flex: 1 }]}>{label}</Text>
+      <Text style={[text.body, { flex: 1, fontSize: 14 }]}>{label}</Text>
       <Text style={[styles.lineNum, marked && styles.marked]}>
         {est}
         {marked ? '*' : ' '}
@@ -200,12 +216,20 @@ export { TEST_TITLES };
 const styles = StyleSheet.create({
   cellPress: { borderRadius: radius.sm, paddingVertical: 2, paddingHorizontal: 2, alignSelf: 'stretch' },
   flag: { fontFamily: fonts.text, fontSize: 12, color: colors.slate },
-  tInline: { fontFamily: fonts.mono, fontSize: 12, color: colors.slate },
+  tInline: { fontFamily: fonts.mono, fontSize: 11, color: colors.slate, minWidth: 48, textAlign: 'right' },
+  tMarked: { fontFamily: fonts.monoStrong, color: colors.ink },
+  estWrap: { flexDirection: 'row', alignItems: 'baseline', justifyContent: 'flex-end', gap: 2 },
+  num: { fontFamily: fonts.mono, fontSize: 14, color: colors.ink, textAlign: 'right', fontVariant: ['tabular-nums'] },
+  table: { borderWidth: 1, borderColor: colors.rule, borderRadius: radius.md, backgroundColor: colors.card },
+  thead: { position: 'sticky' as ViewStyle['position'], top: 0, zIndex: 1, backgroundColor: colors.paper, borderTopLeftRadius: radius.md, borderTopRightRadius: radius.md },
+  tr: { flexDirection: 'row', alignItems: 'center', borderBottomWidth: 1, borderBottomColor: colors.rule },
+  th: { fontFamily: fonts.textStrong, fontSize: 12, color: colors.slate, textAlign: 'right', paddingHorizontal: 6, paddingVertical: space.sm },
+  td: { paddingHorizontal: 4, paddingVertical: 6, justifyContent: 'center' },
   card: { backgroundColor: colors.card, borderWidth: 1, borderColor: colors.rule, borderRadius: radius.md, padding: space.md, gap: 2 },
   cardHead: { flexDirection: 'row', alignItems: 'flex-start', gap: space.sm, marginBottom: space.xs },
-  line: { flexDirection: 'row', alignItems: 'center', gap: space.sm, minHeight: 36, borderTopWidth: 1, borderTopColor: colors.rule },
-  lineNum: { fontFamily: fonts.mono, fontSize: 15, color: colors.ink, textAlign: 'right', minWidth: 72 },
-  lineSmall: { fontFamily: fonts.mono, fontSize: 12, color: colors.slate, textAlign: 'right', minWidth: 58 },
+  line: { flexDirection: 'row', alignItems: 'center', gap: 6, minHeight: 36, borderTopWidth: 1, borderTopColor: colors.rule },
+  lineNum: { fontFamily: fonts.mono, fontSize: 15, color: colors.ink, textAlign: 'right', minWidth: 64 },
+  lineSmall: { fontFamily: fonts.mono, fontSize: 12, color: colors.slate, textAlign: 'right', minWidth: 50 },
   marked: { fontFamily: fonts.monoStrong, color: colors.ink },
   joint: { borderWidth: 1, borderColor: colors.rule, borderRadius: radius.md, padding: space.md, gap: 2, backgroundColor: colors.card },
 });
