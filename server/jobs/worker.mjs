@@ -1,7 +1,20 @@
 // Worker-thread entry for the deep-check pool. Worker threads start with no TypeScript loader,
 // so register tsx's ESM hooks here (tsx/esm/api `register`) before importing the TS task module.
 // This works the same when the server runs under `tsx`, `node --import tsx` or vitest.
+import { readlinkSync } from 'node:fs';
+import { setPriority } from 'node:os';
 import { register } from 'tsx/esm/api';
+
+// Lower this thread's scheduling priority (nice 10) so that, when cores are scarce, the API's own
+// thread wins the CPU and keeps answering while checks run. Linux treats a thread id as a
+// process id for setpriority, so only this worker thread is affected; elsewhere this is skipped.
+export const WORKER_NICE = 10;
+try {
+  const tid = Number(readlinkSync('/proc/thread-self').split('/').pop());
+  if (Number.isInteger(tid) && tid > 0) setPriority(tid, WORKER_NICE);
+} catch {
+  /* not Linux, or not permitted: run at normal priority */
+}
 
 register();
 const mod = await import('./tasks.ts');
