@@ -33,7 +33,7 @@ export function LibraryCard({ lib }: { lib: LibrarySummary }) {
         {lib.firstDate ?? '—'} – {lib.lastDate ?? '—'}
       </Text>
       <Text style={text.muted}>
-        {lib.seriesCount} series · edition {lib.latestEdition ?? '—'} of {lib.editionCount} · {lib.owner ? `by ${lib.owner.name}` : 'no owner'}
+        {lib.seriesCount} series · latest edition {lib.latestEdition ?? '—'} ({lib.editionCount} kept) · {lib.owner ? `by ${lib.owner.name}` : 'no owner'}
       </Text>
     </Pressable>
   );

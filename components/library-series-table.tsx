@@ -17,8 +17,8 @@ function kindLabel(s: EditionSeriesInfo): string {
 const columns = [
   col.accessor('name', { header: 'Series', meta: { flex: 2 } satisfies DataColumnMeta }),
   col.accessor((s) => kindLabel(s), { id: 'kind', header: 'Kind', meta: { flex: 1.6 } satisfies DataColumnMeta }),
-  col.accessor((s) => s.stats.count, { id: 'n', header: 'n', meta: NUM }),
-  col.accessor((s) => s.stats.missing, { id: 'missing', header: 'Missing', meta: NUM }),
+  col.accessor((s) => s.stats.count, { id: 'n', header: 'n', meta: { numeric: true, flex: 0.8 } satisfies DataColumnMeta }),
+  col.accessor((s) => s.stats.missing, { id: 'missing', header: 'Missing', meta: { numeric: true, flex: 1.4 } satisfies DataColumnMeta }),
   col.accessor((s) => s.stats.mean, { id: 'mean', header: 'Mean', meta: NUM, cell: (c) => formatNum(c.getValue(), 4), sortUndefined: 'last' }),
   col.accessor((s) => s.stats.sd, { id: 'sd', header: 'SD', meta: NUM, cell: (c) => formatNum(c.getValue(), 4) }),
   col.accessor((s) => s.stats.min, { id: 'min', header: 'Min', meta: NUM, cell: (c) => formatNum(c.getValue(), 4) }),

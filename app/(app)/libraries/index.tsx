@@ -1,6 +1,7 @@
 import { useState } from 'react';
 import { ActivityIndicator, Text, View } from 'react-native';
 import { useMe } from '../../../hooks/use-session';
+import { useIsWide } from '../../../hooks/use-layout';
 import { useLibraries } from '../../../hooks/use-libraries';
 import { Button } from '../../../components/button';
 import { EmptyState } from '../../../components/empty-state';
@@ -31,6 +32,9 @@ export default function Libraries() {
   };
   const libs = useLibraries(query);
   const canUpload = me?.role === 'researcher' || me?.role === 'admin';
+  const wide = useIsWide();
+  const [showFilters, setShowFilters] = useState(false);
+  const filtersOn = frequency !== 'any' || scope !== 'all' || archived !== 'hide' || covers !== '';
 
   return (
     <Screen
@@ -42,7 +46,19 @@ export default function Libraries() {
         <View style={{ flexGrow: 2, flexBasis: 260 }}>
           <TextField label="Search libraries" value={q} onChangeText={setQ} placeholder="Name or description" />
         </View>
-        <View style={{ flexGrow: 1, flexBasis: 180 }}>
+        {!wide ? (
+          <Button
+            compact
+            variant="quiet"
+            label={showFilters ? 'Hide filters' : `Filters${filtersOn ? ' (on)' : ''}`}
+            onPress={() => setShowFilters((v) => !v)}
+          />
+        ) : null}
+      </View>
+      {wide || showFilters ? (
+      <>
+      <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md, alignItems: 'flex-start' }}>
+        <View style={{ flexGrow: 1, flexBasis: 180, maxWidth: 320 }}>
           <TextField
             label="Covers date"
             value={covers}
@@ -86,6 +102,8 @@ export default function Libraries() {
           ]}
         />
       </View>
+      </>
+      ) : null}
       {libs.isPending ? (
         <ActivityIndicator color={colors.brass} accessibilityLabel="Loading libraries" />
       ) : libs.isError ? (

@@ -1,0 +1,166 @@
+/**
+ * Return libraries in the browser against the real server: an admin uploads a percent CSV,
+ * reviews it (units, kinds), saves it private, shares it, adds edition 2 and downloads it; a
+ * malformed file is refused with row and column; a researcher and a desk user see what their
+ * roles allow. Screenshots at 390×844 and 1280×800 under screenshots/.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { Browser, Page } from 'playwright-core';
+import { readFileSync } from 'node:fs';
+import { PHONE, WIDE, expectSameOrigin, launchBrowser, openPage, shot, signIn } from './helpers';
+
+let browser: Browser;
+beforeAll(async () => {
+  browser = await launchBrowser();
+});
+afterAll(async () => {
+  await browser?.close();
+});
+
+const LIB_NAME = 'Breakwater test library';
+
+/** A small monthly CSV in percent: three portfolios, one traded factor, a bill rate. */
+function percentCsv(T: number, seed: number): string {
+  let s = seed;
+  const rnd = () => {
+    s = (s * 1103515245 + 12345) % 2147483648;
+    return s / 2147483648;
+  };
+  const lines = ['date,Pier A,Pier B,Pier C,MOORING,RF'];
+  for (let t = 0; t < T; t++) {
+    const d = `${2010 + Math.floor(t / 12)}-${String((t % 12) + 1).padStart(2, '0')}`;
+    const f = (rnd() - 0.45) * 8;
+    const row = [0.9, 1.1, 1.3].map((b) => (b * f + (rnd() - 0.5) * 2).toFixed(4));
+    lines.push([d, ...row, f.toFixed(4), (0.1 + 0.05 * rnd()).toFixed(4)].join(','));
+  }
+  return `${lines.join('\n')}\n`;
+}
+
+async function pickFile(page: Page, name: string, body: string): Promise<void> {
+  await page.getByLabel('CSV file').setInputFiles({ name, mimeType: 'text/csv', buffer: Buffer.from(body) });
+}
+
+describe('return libraries', () => {
+  it('admin: upload → review → save private → share → edition 2 → download', async () => {
+    const { context, page, requests, errors } = await openPage(browser, WIDE);
+    await signIn(page, 'admin');
+    await page.goto('/libraries');
+    await page.getByRole('heading', { name: 'Return libraries', level: 1 }).waitFor();
+    await page.getByRole('link', { name: 'Open library Harbour market (demo)' }).waitFor();
+    await shot(page, 'libraries-list-wide');
+
+    // A malformed file is refused with row and column, nothing saved.
+    await page.getByRole('link', { name: 'Upload a library' }).click();
+    await page.waitForURL(/\/libraries\/upload/);
+    await pickFile(page, 'broken.csv', 'date,A,B\n2020-01,0.1,0.2\n2020-02,0.1,oops\n');
+    await page.getByText('The file was refused; nothing was saved').waitFor();
+    await expect(page.getByText('Row 3, column B: "oops" is not a number', { exact: false }).first().isVisible()).resolves.toBe(true);
+    await shot(page, 'libraries-upload-refused-wide');
+
+    // A good file in percent: review.
+    await pickFile(page, 'breakwater.csv', percentCsv(48, 7));
+    await page.getByRole('heading', { name: 'What Keelson read' }).waitFor();
+    await expect(page.getByRole('radiogroup', { name: 'Values in the file are' }).getByRole('radio', { name: 'Percent (1 = 1%)' }).getAttribute('aria-checked')).resolves.toBe('true');
+    await page.getByRole('radiogroup', { name: 'Kind of MOORING' }).getByRole('radio', { name: 'Factor', exact: true }).click();
+    await page.getByRole('radiogroup', { name: 'Is MOORING traded' }).getByRole('radio', { name: 'Traded', exact: true }).click();
+    await expect(page.getByRole('radiogroup', { name: 'Kind of RF' }).getByRole('radio', { name: 'Risk-free' }).getAttribute('aria-checked')).resolves.toBe('true');
+    await page.getByLabel('Library name').fill(LIB_NAME);
+    await shot(page, 'libraries-upload-review-wide');
+    await page.getByRole('button', { name: 'Confirm and save' }).click();
+
+    // Detail of edition 1, private.
+    await page.waitForURL(/\/libraries\/\d+/);
+    await page.getByRole('heading', { name: LIB_NAME, level: 1 }).waitFor();
+    await page.getByRole('heading', { name: 'Edition 1' }).waitFor();
+    await page.getByRole('table', { name: 'Series' }).waitFor();
+    await expect(page.getByRole('table', { name: 'Series' }).getByText('Factor (traded)').isVisible()).resolves.toBe(true);
+    await page.getByRole('img', { name: /Cumulative return chart: MOORING/ }).waitFor();
+
+    // Share it.
+    await page.getByRole('button', { name: 'Share with the team' }).click();
+    await page.getByRole('button', { name: 'Share with the team' }).waitFor({ state: 'detached' });
+    await expect(page.getByLabel('shared', { exact: true }).first().isVisible()).resolves.toBe(true);
+    await shot(page, 'libraries-detail-wide');
+
+    // Edition 2.
+    await page.getByRole('link', { name: 'Upload new edition' }).click();
+    await page.waitForURL(/\/libraries\/upload\?libraryId=\d+/);
+    await page.getByRole('heading', { name: `New edition of ${LIB_NAME}`, level: 1 }).waitFor();
+    await pickFile(page, 'breakwater-2.csv', percentCsv(60, 11));
+    await page.getByRole('radiogroup', { name: 'Kind of MOORING' }).getByRole('radio', { name: 'Factor', exact: true }).click();
+    await page.getByRole('button', { name: 'Confirm new edition' }).click();
+    await page.waitForURL(/\/libraries\/\d+\?edition=2/);
+    await page.getByRole('heading', { name: 'Edition 2' }).waitFor();
+    await expect(page.getByRole('listitem', { name: 'Edition 1' }).isVisible()).resolves.toBe(true);
+
+    // Download edition 2 as CSV: decimals (percent divided by 100), 60 rows.
+    const [download] = await Promise.all([page.waitForEvent('download'), page.getByRole('link', { name: 'Download edition 2 as CSV' }).first().click()]);
+    const csv = readFileSync((await download.path())!, 'utf8').trim().split('\n');
+    expect(csv[0]).toBe('date,Pier A,Pier B,Pier C,MOORING,RF');
+    expect(csv).toHaveLength(61);
+    const rf = Number(csv[1]!.split(',')[5]);
+    expect(rf).toBeGreaterThan(0.0009);
+    expect(rf).toBeLessThan(0.0016);
+
+    // Admins may delete an unused edition (not the last one).
+    await page.getByRole('button', { name: 'Delete edition 1' }).click();
+    await page.getByRole('button', { name: 'Yes, delete edition 1' }).click();
+    await page.getByRole('listitem', { name: 'Edition 1' }).waitFor({ state: 'detached' });
+    await shot(page, 'libraries-edition2-wide');
+
+    expectSameOrigin(requests);
+    expect(errors).toEqual([]);
+    await context.close();
+  });
+
+  it('researcher on a phone: reads shared libraries, cannot share or archive them, uploads privately', async () => {
+    const { context, page, requests, errors } = await openPage(browser, PHONE);
+    await signIn(page, 'researcher');
+    await page.goto('/libraries');
+    await page.getByRole('link', { name: `Open library ${LIB_NAME}` }).waitFor();
+    await shot(page, 'libraries-list-phone');
+    await page.getByRole('link', { name: 'Open library Harbour market (demo)' }).click();
+    await page.getByRole('heading', { name: 'Harbour market (demo)', level: 1 }).waitFor();
+    await page.getByRole('heading', { name: 'Edition 1' }).waitFor();
+    await page.getByRole('img', { name: /Cumulative return chart: TIDE/ }).waitFor();
+    await expect(page.getByRole('button', { name: 'Share with the team' }).count()).resolves.toBe(0);
+    await expect(page.getByRole('button', { name: 'Archive library' }).count()).resolves.toBe(0);
+    await expect(page.getByRole('link', { name: 'Upload new edition' }).count()).resolves.toBe(0);
+    await expect(page.getByRole('button', { name: /Delete edition/ }).count()).resolves.toBe(0);
+    await shot(page, 'libraries-detail-phone');
+
+    // Upload privately: sharing is not offered.
+    await page.goto('/libraries/upload');
+    await pickFile(page, 'mine.csv', percentCsv(24, 3));
+    await page.getByRole('heading', { name: 'What Keelson read' }).waitFor();
+    await expect(page.getByRole('radio', { name: 'The whole team (shared)' }).count()).resolves.toBe(0);
+    await shot(page, 'libraries-upload-review-phone');
+    await page.getByLabel('Library name').fill('Rhea scratch');
+    await page.getByRole('button', { name: 'Confirm and save' }).click();
+    await page.getByRole('heading', { name: 'Rhea scratch', level: 1 }).waitFor();
+    await expect(page.getByRole('button', { name: 'Archive library' }).isVisible()).resolves.toBe(true);
+    expectSameOrigin(requests);
+    expect(errors).toEqual([]);
+    await context.close();
+  });
+
+  it("desk: reads shared libraries only, no upload, another's private library is not found", async () => {
+    const { context, page, errors } = await openPage(browser, PHONE);
+    await signIn(page, 'desk');
+    await page.goto('/libraries');
+    await page.getByRole('link', { name: `Open library ${LIB_NAME}` }).waitFor();
+    await expect(page.getByRole('link', { name: 'Upload a library' }).count()).resolves.toBe(0);
+    await expect(page.getByRole('link', { name: 'Open library Rhea scratch' }).count()).resolves.toBe(0);
+    const privateId = await page.evaluate(async () => {
+      const r = await fetch('/api/v1/libraries?q=Breakwater');
+      return ((await r.json()) as { libraries: { id: number }[] }).libraries[0]!.id;
+    });
+    // The researcher's private library has the next id after the shared one; the desk gets the same answer as for nothing.
+    await page.goto(`/libraries/${privateId + 1}`);
+    await page.getByText('This library could not be opened').waitFor();
+    await page.goto('/libraries/upload');
+    await page.getByText('Not part of your role').waitFor();
+    expect(errors).toEqual([]);
+    await context.close();
+  });
+});
