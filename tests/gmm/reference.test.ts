@@ -67,11 +67,12 @@ afterAll(() => {
   console.log(`largest relative disagreement with the Python reference: ${disagreement.max.toExponential(2)} (${disagreement.where})`);
 });
 
-describe.each(cases)('Python reference: $name', (c) => {
-  const eco = simulateEconomy({ T: c.T, N: c.N, K: c.K, seed: c.seed });
-  const ref = runReference({
-    returns: eco.returns,
-    factors: eco.factors,
+const economies = cases.map((c) => simulateEconomy({ T: c.T, N: c.N, K: c.K, seed: c.seed }));
+// one Python process for every case (statsmodels takes ~2 s of CPU to import)
+const references = runReference(
+  cases.map((c, i) => ({
+    returns: economies[i].returns,
+    factors: economies[i].factors,
     traded: c.traded,
     lags: c.options.lags,
     stage: c.options.stage,
@@ -81,7 +82,12 @@ describe.each(cases)('Python reference: $name', (c) => {
     fmIntercept: c.options.fmIntercept ?? false,
     dropSets: c.dropSets,
     jointSpanning: c.jointSpanning,
-  });
+  })),
+);
+
+describe.each(cases.map((c, i) => ({ ...c, i })))('Python reference: $name', (c) => {
+  const eco = economies[c.i];
+  const ref = references[c.i];
   const assetNames = eco.returns[0].map((_, i) => `P${i + 1}`);
   const factorNames = eco.factors[0].map((_, k) => `F${k + 1}`);
   const m = prepareMoments(eco.returns, eco.factors);

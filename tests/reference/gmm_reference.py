@@ -4,7 +4,7 @@ scipy and statsmodels (Debian python3 packages). It does not follow the TypeScri
 the textbook Gamma_j sum (checked against statsmodels' S_hac_simple), regressions use statsmodels
 OLS with cov_type='HAC' (use_correction=False), solves use numpy.linalg.
 
-usage: /usr/bin/python3 gmm_reference.py IN.json OUT.json
+usage: /usr/bin/python3 gmm_reference.py IN.json OUT.json   (IN may hold one input or a list)
 IN: {returns: T x N, factors: T x K, traded: [bool], lags: int, stage, weighting, form,
      factorMeansKnown, fmIntercept, dropSets: [[k,...],...], level}
 """
@@ -211,7 +211,15 @@ def fama_macbeth(R, F, intercept):
 
 
 def main():
-    inp = json.load(open(sys.argv[1]))
+    data = json.load(open(sys.argv[1]))
+    # a list of inputs is answered with a list of outputs (one interpreter start for many cases)
+    if isinstance(data, list):
+        json.dump([one(d) for d in data], open(sys.argv[2], 'w'))
+    else:
+        json.dump(one(data), open(sys.argv[2], 'w'))
+
+
+def one(inp):
     R = np.array(inp['returns'], dtype=float)
     F = np.array(inp['factors'], dtype=float)
     L = int(inp['lags'])
@@ -241,7 +249,7 @@ def main():
     ER = R.mean(axis=0)
     C = (R - ER).T @ (F - F.mean(axis=0)) / R.shape[0]
     out['olsMeanOnCov'] = np.linalg.lstsq(C, ER, rcond=None)[0].tolist()
-    json.dump(out, open(sys.argv[2], 'w'))
+    return out
 
 
 if __name__ == '__main__':
