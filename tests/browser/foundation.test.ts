@@ -219,7 +219,12 @@ describe('admin invites a user', () => {
 
     await goTeamPage(page, 'Outbox');
     await page.getByRole('list', { name: 'Messages' }).waitFor();
+    await page.getByRole('button', { name: /You are invited to Keelson as Reviewer/ }).click();
+    await page.getByRole('article', { name: /You are invited to Keelson/ }).getByText(/accept-invite\?token=/).waitFor();
     await shot(page, 'admin-outbox-phone');
+    await page.getByRole('button', { name: 'Account menu' }).click();
+    await page.getByRole('menu', { name: 'Account' }).getByText('admin@keelson.test').waitFor();
+    await shot(page, 'account-menu-phone');
     expectSameOrigin(requests);
     await context.close();
 
@@ -229,6 +234,41 @@ describe('admin invites a user', () => {
     await signInHere(gone.page, 'wren.halyard@example.org', 'sturdy-keel-42');
     await gone.page.getByText('E-mail or password is wrong, or the account is deactivated').waitFor();
     await gone.context.close();
+  });
+});
+
+describe('CSRF', () => {
+  it('a stale token (session replaced in another tab) is refetched and the write retried once', async () => {
+    const { context, page, requests } = await openPage(browser, WIDE);
+    await signIn(page, 'admin');
+    // Navigate inside the app (no reload), so the token cached by the sign-in POST is kept.
+    await goNav(page, 'Team');
+    await goTeamPage(page, 'Invitations');
+    await page.getByLabel('Invitee e-mail').waitFor();
+    // Another tab of the same browser signs out and in again: new session, so this tab's token is stale.
+    const other = await context.newPage();
+    await other.goto('/');
+    await other.getByRole('navigation', { name: 'Main' }).waitFor();
+    await other.getByRole('button', { name: 'Account menu' }).click();
+    await other.getByRole('button', { name: 'Sign out' }).click();
+    await other.waitForURL(/\/sign-in/);
+    await signInHere(other, 'admin@keelson.test', 'keelson-demo');
+    await other.getByRole('navigation', { name: 'Main' }).waitFor();
+    const csrfBefore = requests.filter((u) => u.endsWith('/api/v1/auth/csrf')).length;
+    const postStatuses: number[] = [];
+    page.on('response', (r) => {
+      if (r.url().endsWith('/api/v1/admin/invitations') && r.request().method() === 'POST') postStatuses.push(r.status());
+    });
+
+    await page.getByLabel('Invitee e-mail').fill('moss.capstan@example.org');
+    await page.getByLabel('Invitee name').fill('Moss Capstan');
+    await page.getByRole('button', { name: 'Send invitation' }).click();
+    await page.getByRole('status').filter({ hasText: 'Invitation sent to moss.capstan@example.org' }).waitFor();
+    // The token cached at sign-in belongs to the replaced session: refused once, refetched, retried once.
+    expect(postStatuses).toEqual([403, 201]);
+    expect(requests.filter((u) => u.endsWith('/api/v1/auth/csrf')).length).toBe(csrfBefore + 1);
+    expectSameOrigin(requests);
+    await context.close();
   });
 });
 
