@@ -10,24 +10,46 @@ import { Button } from './button';
 import { colors, fonts, radius, space, text } from './theme';
 
 function MiniLedger({ run }: { run: Run }) {
+  const wide = useIsWide();
   const r = run.result;
   if (!r) return <Text style={text.body}>{run.status === 'failed' ? `Failed: ${run.error}` : `This run is ${run.status}.`}</Text>;
   const level = r.options.level;
+  if (!wide)
+    return (
+      <View style={styles.table} role="list" aria-label={`Ledger of run ${run.id}`}>
+        {r.factors.map((f) => (
+          <View key={f.name} style={[styles.tr, { alignItems: 'flex-start' }]} role="listitem">
+            <View style={{ flex: 1, gap: 4 }}>
+              <Text style={text.strong}>{f.name}</Text>
+              <VerdictChip verdict={f.verdict} />
+            </View>
+            <View style={{ gap: 2 }}>
+              <Text style={[styles.n, f.pB < level && styles.m]} numberOfLines={1}>
+                b {formatNum(f.b, 2)} ({formatNum(f.tB, 1)}){f.pB < level ? '*' : ' '}
+              </Text>
+              <Text style={[styles.n, f.pLambda < level && styles.m]} numberOfLines={1}>
+                λ% {formatNum(f.lambda * 100, 3)} ({formatNum(f.tLambda, 1)}){f.pLambda < level ? '*' : ' '}
+              </Text>
+            </View>
+          </View>
+        ))}
+      </View>
+    );
   return (
     <View style={styles.table} role="table" aria-label={`Ledger of run ${run.id}`}>
       <View style={[styles.tr, styles.th]} role="row">
         <Text style={[styles.h, { flex: 1.2, textAlign: 'left' }]}>Factor</Text>
-        <Text style={styles.h}>b (t)</Text>
-        <Text style={styles.h}>λ, % (t)</Text>
+        <Text style={[styles.h, styles.numCol]}>b (t)</Text>
+        <Text style={[styles.h, styles.numCol]}>λ, % (t)</Text>
         <Text style={[styles.h, { flex: 1.6, textAlign: 'left' }]}>Verdict</Text>
       </View>
       {r.factors.map((f) => (
         <View key={f.name} style={styles.tr} role="row">
           <Text style={[text.body, { flex: 1.2 }]}>{f.name}</Text>
-          <Text style={[styles.n, f.pB < level && styles.m]}>
+          <Text style={[styles.n, styles.numCol, f.pB < level && styles.m]} numberOfLines={1}>
             {formatNum(f.b, 2)} ({formatNum(f.tB, 1)}){f.pB < level ? '*' : ' '}
           </Text>
-          <Text style={[styles.n, f.pLambda < level && styles.m]}>
+          <Text style={[styles.n, styles.numCol, f.pLambda < level && styles.m]} numberOfLines={1}>
             {formatNum(f.lambda * 100, 3)} ({formatNum(f.tLambda, 1)}){f.pLambda < level ? '*' : ' '}
           </Text>
           <View style={{ flex: 1.6 }}>
@@ -126,7 +148,8 @@ const styles = StyleSheet.create({
   tr: { flexDirection: 'row', alignItems: 'center', gap: space.sm, paddingHorizontal: space.sm, paddingVertical: 6, borderBottomWidth: 1, borderBottomColor: colors.rule },
   th: { backgroundColor: colors.paper },
   h: { flex: 1, fontFamily: fonts.textStrong, fontSize: 13, color: colors.slate, textAlign: 'right' },
-  n: { flex: 1, fontFamily: fonts.mono, fontSize: 13, color: colors.ink, textAlign: 'right', fontVariant: ['tabular-nums'] },
+  numCol: { flex: 0, width: 112 },
+  n: { flex: 1, fontFamily: fonts.mono, fontSize: 12, color: colors.ink, textAlign: 'right', fontVariant: ['tabular-nums'] },
   m: { fontFamily: fonts.monoStrong },
   line: { fontFamily: fonts.mono, fontSize: 13, color: colors.ink },
   big: { fontFamily: fonts.mono, fontSize: 18, color: colors.ink },

@@ -13,7 +13,7 @@
 import { and, desc, eq, inArray, type SQL } from 'drizzle-orm';
 import type { Db } from '../db/client';
 import { inTransaction } from '../db/client';
-import { runs, signoffRequests, signoffs, users } from '../db/schema/index';
+import { runs, signoffs, users } from '../db/schema/index';
 import { KeelsonApiError } from '../../shared/errors';
 import type { User } from '../../shared/auth';
 import { modelSpecSchema, windowRange, type ModelSpec } from '../../shared/specs';

@@ -5,6 +5,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import Papa from 'papaparse';
+import type { Test } from 'supertest';
 import { agentAs, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp } from './helpers';
 import { FIX_ASSETS, GAP_INDEX, makeFixture, spec, uploadFixture, waitForMail, type Fixture } from './runs-fixture';
 import { estimateLedger } from '../../lib/gmm/index';
@@ -309,7 +310,7 @@ describe('immutability and frozen specs', () => {
   it('has no route that changes or deletes a run', async () => {
     const run = await startRun(researcher, { editionId: shared.editionId, spec: spec() });
     for (const m of ['patch', 'put', 'delete'] as const) {
-      const r = await (researcher as unknown as Record<string, (u: string) => import('supertest').Test>)[m](`/api/v1/runs/${run.id}`).set('x-csrf-token', researcher.csrf).send({ status: 'queued' });
+      const r = await (researcher as unknown as Record<string, (u: string) => Test>)[m](`/api/v1/runs/${run.id}`).set('x-csrf-token', researcher.csrf).send({ status: 'queued' });
       expect(r.status).toBe(404);
     }
     // Routes under a run only add things beside it (comments, sign-offs, deep-check jobs); none targets the run itself.
