@@ -26,6 +26,29 @@
  */
 import { GmmInputError } from './errors';
 import { toNested } from './linalg';
+import { wasmLayout, wasmSymmetricCrossProduct, wasmWorkArea } from './syrk-wasm';
+
+let simdEnabled = true;
+
+/**
+ * Choose the kernel for the symmetric cross-products: the WebAssembly SIMD kernel (default, when
+ * the engine supports it) or the plain TypeScript kernel. Both give the same numbers to rounding;
+ * the switch exists for tests and benchmarks. Returns the previous setting.
+ */
+export function useSimdKernel(enabled: boolean): boolean {
+  const prev = simdEnabled;
+  simdEnabled = enabled;
+  return prev;
+}
+
+/** Q'Q for column-major Qc (M×p), through the SIMD kernel when enabled and available. */
+export function crossProductColumns(Qc: Float64Array, M: number, p: number): Float64Array {
+  const work = simdEnabled ? wasmWorkArea(M, p) : null;
+  if (!work) return symmetricCrossProduct(Qc, M, p);
+  const { stride } = wasmLayout(M, p);
+  for (let a = 0; a < p; a++) work.set(Qc.subarray(a * M, a * M + M), a * stride);
+  return wasmSymmetricCrossProduct(M, p);
+}
 
 /** Plug-in lag rule L = floor(4 (T/100)^(2/9)) (common practice; Newey and West 1994). */
 export function defaultLag(T: number): number {
@@ -153,7 +176,10 @@ export function hacFromColumns(
 ): Float64Array {
   const L = lags;
   const M = T + L;
-  const Qc = scratch(M * p);
+  // window sums go straight into the SIMD kernel's memory when it is in use
+  const work = simdEnabled ? wasmWorkArea(M, p) : null;
+  const stride = work ? wasmLayout(M, p).stride : M;
+  const Qc = work ?? scratch(M * p);
   const buf = new Float64Array(T);
   for (let a = 0; a < p; a++) {
     fill(a, buf);
@@ -163,9 +189,9 @@ export function hacFromColumns(
       mean /= T;
       for (let t = 0; t < T; t++) buf[t] -= mean;
     }
-    windowSumsInto(buf, T, L, Qc, a * M);
+    windowSumsInto(buf, T, L, Qc, a * stride);
   }
-  const S = symmetricCrossProduct(Qc, M, p);
+  const S = work ? wasmSymmetricCrossProduct(M, p) : symmetricCrossProduct(Qc, M, p);
   const scale = 1 / (T * (L + 1));
   for (let i = 0; i < S.length; i++) S[i] *= scale;
   return S;

@@ -2,6 +2,7 @@
 export * from './errors';
 export * from './distributions';
 export * from './hac';
+export { wasmKernelAvailable } from './syrk-wasm';
 export * from './moments';
 export * from './validate';
 export * from './ols';

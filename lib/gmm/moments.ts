@@ -10,7 +10,7 @@
  * const m = prepareMoments([[0.01], [0.03]], [[0.02], [0.04]]);
  * // m.meanR[0] = 0.02, m.meanF[0] = 0.03, m.sigmaF[0] = 1e-4, m.covRF[0] = 1e-4
  */
-import { symmetricCrossProduct, toColumnMajor } from './hac';
+import { crossProductColumns, toColumnMajor } from './hac';
 import { fromNested } from './linalg';
 
 /** Row-major data and first/second moments shared by every estimator. */
@@ -91,7 +91,7 @@ export function columnMajorOf(X: Float64Array, T: number, p: number): Float64Arr
 /** E_T[x x'] = (1/T) X'X for row-major X (T×p), by the blocked symmetric kernel. */
 export function secondMomentMatrix(X: Float64Array, T: number, p: number): Float64Array {
   const Xc = columnMajorOf(X, T, p);
-  const S = symmetricCrossProduct(Xc, T, p);
+  const S = crossProductColumns(Xc, T, p);
   for (let i = 0; i < S.length; i++) S[i] /= T;
   return S;
 }
