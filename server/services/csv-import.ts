@@ -104,13 +104,57 @@ export function columnStats(v: Float64Array | readonly number[]): SeriesStats {
   return { count: n, missing: v.length - n, mean, sd: Math.sqrt(ss / n), min, max };
 }
 
+/** k-th smallest value of `a` (0-based), rearranging `a` in place: Hoare's quickselect, O(n) on average. */
+function select(a: Float64Array, k: number): number {
+  let lo = 0;
+  let hi = a.length - 1;
+  while (lo < hi) {
+    const pivot = a[(lo + hi) >> 1]!;
+    let i = lo;
+    let j = hi;
+    while (i <= j) {
+      while (a[i]! < pivot) i++;
+      while (a[j]! > pivot) j--;
+      if (i <= j) {
+        const tmp = a[i]!;
+        a[i] = a[j]!;
+        a[j] = tmp;
+        i++;
+        j--;
+      }
+    }
+    if (k <= j) hi = j;
+    else if (k >= i) lo = i;
+    else return a[k]!;
+  }
+  return a[k]!;
+}
+
+/** Median of `a` (no NaN); works on a copy. */
+function medianOf(a: Float64Array): number {
+  const s = Float64Array.from(a);
+  const h = s.length >> 1;
+  if (s.length % 2) return select(s, h);
+  const upper = select(s, h);
+  let lower = -Infinity;
+  for (let i = 0; i < h; i++) if (s[i]! > lower) lower = s[i]!; // after select, s[0..h-1] ≤ s[h]
+  return (lower + upper) / 2;
+}
+
+function finite(v: Float64Array): Float64Array {
+  let n = 0;
+  for (let i = 0; i < v.length; i++) if (!Number.isNaN(v[i]!)) n++;
+  if (n === v.length) return v;
+  const out = new Float64Array(n);
+  let j = 0;
+  for (let i = 0; i < v.length; i++) if (!Number.isNaN(v[i]!)) out[j++] = v[i]!;
+  return out;
+}
+
 function medianAbs(v: Float64Array): number | null {
-  const a: number[] = [];
-  for (const x of v) if (!Number.isNaN(x)) a.push(Math.abs(x));
-  if (a.length === 0) return null;
-  a.sort((p, q) => p - q);
-  const h = a.length >> 1;
-  return a.length % 2 ? a[h]! : (a[h - 1]! + a[h]!) / 2;
+  const f = finite(v);
+  if (f.length === 0) return null;
+  return medianOf(f.map(Math.abs));
 }
 
 /**
@@ -118,11 +162,10 @@ function medianAbs(v: Float64Array): number | null {
  * deviation, a common-practice scale that one outlier cannot inflate, unlike the sample sd).
  */
 function worstJump(v: Float64Array): { t: number; z: number } | null {
-  const xs: number[] = [];
-  for (const x of v) if (!Number.isNaN(x)) xs.push(x);
+  const xs = finite(v);
   if (xs.length < 5) return null;
-  const med = median(xs);
-  const mad = median(xs.map((x) => Math.abs(x - med)));
+  const med = medianOf(xs);
+  const mad = medianOf(xs.map((x) => Math.abs(x - med)));
   if (!(mad > 0)) return null;
   const s = 1.4826 * mad;
   let best: { t: number; z: number } | null = null;
@@ -136,9 +179,7 @@ function worstJump(v: Float64Array): { t: number; z: number } | null {
 }
 
 function median(a: number[]): number {
-  const s = [...a].sort((p, q) => p - q);
-  const h = s.length >> 1;
-  return s.length % 2 ? s[h]! : (s[h - 1]! + s[h]!) / 2;
+  return medianOf(Float64Array.from(a));
 }
 
 export function suggestKind(name: string): SeriesKind {
@@ -238,7 +279,8 @@ export function parseReturnCsv(buf: Buffer): ParsedCsv {
   // Rows
   const rowDates: string[] = [];
   const rowLines: number[] = [];
-  const cols: number[][] = columns.map(() => []);
+  const cols: Float64Array[] = columns.map(() => new Float64Array(Math.max(0, data.length - 1)));
+  let nRows = 0;
   let frequency: Frequency | null = null;
   let frequencyLine = 0;
   const firstLineOfDate = new Map<string, number>();
@@ -272,10 +314,16 @@ export function parseReturnCsv(buf: Buffer): ParsedCsv {
     }
     firstLineOfDate.set(pd.date, line);
     for (let k = 0; k < seriesIdx.length; k++) {
-      const cell = row[seriesIdx[k]!]!.trim();
+      // Fast path first: a plain number needs no trim and no lower-casing (no garbage per cell).
+      let cell = row[seriesIdx[k]!]!;
+      let isNumber = NUMBER_RE.test(cell);
+      if (!isNumber) {
+        cell = cell.trim();
+        isNumber = NUMBER_RE.test(cell);
+      }
       let v: number;
-      if (MISSING.has(cell.toLowerCase())) v = NaN;
-      else if (NUMBER_RE.test(cell)) {
+      if (!isNumber && (cell === '' || MISSING.has(cell.toLowerCase()))) v = NaN;
+      else if (isNumber) {
         v = Number(cell);
         if (!Number.isFinite(v)) {
           issues.push(issue(line, columns[k], `Row ${line}, column ${columns[k]}: ${quoteCell(cell)} is too large`));
@@ -288,10 +336,11 @@ export function parseReturnCsv(buf: Buffer): ParsedCsv {
         if (issues.length >= MAX_ISSUES) break;
         continue;
       }
-      cols[k]!.push(v);
+      cols[k]![nRows] = v;
     }
     rowDates.push(pd.date);
     rowLines.push(line);
+    nRows++;
   }
   if (issues.length) refuse(issues.slice(0, MAX_ISSUES));
   if (rowDates.length === 0 || frequency === null) refuse([issue(2, undefined, 'The file has a header but no data rows')]);
@@ -314,9 +363,9 @@ export function parseReturnCsv(buf: Buffer): ParsedCsv {
   const dates = order ? order.map((i) => rowDates[i]!) : rowDates;
   const lines = order ? order.map((i) => rowLines[i]!) : rowLines;
   const values = cols.map((c) => {
+    if (!order) return c.slice(0, T);
     const out = new Float64Array(T);
-    if (order) for (let t = 0; t < T; t++) out[t] = c[order[t]!]!;
-    else out.set(c);
+    for (let t = 0; t < T; t++) out[t] = c[order[t]!]!;
     return out;
   });
 

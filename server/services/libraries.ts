@@ -221,14 +221,14 @@ export function confirmUpload(db: Db, user: User, uploadId: string, body: Confir
       .run(libraryId, next, up.frequency, T, dates[0]!, dates[T - 1]!, up.dates, body.units, up.fileName, user.id);
     const editionId = Number(ed.lastInsertRowid);
     const ins = c.prepare(
-      `insert into library_series (edition_id, position, name, kind, traded, "values", count, missing, mean, sd, min, max)
-       values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+      `insert into library_series (edition_id, position, name, kind, traded, "values", values_json, count, missing, mean, sd, min, max)
+       values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
     );
     picks.forEach((p, pos) => {
       const v = all.slice(p.column * T, (p.column + 1) * T);
       if (scale !== 1) for (let t = 0; t < T; t++) v[t] = v[t]! * scale;
       const st = columnStats(v);
-      ins.run(editionId, pos, p.name, p.kind, p.traded ? 1 : 0, Buffer.from(v.buffer, v.byteOffset, v.byteLength), st.count, st.missing, st.mean, st.sd, st.min, st.max);
+      ins.run(editionId, pos, p.name, p.kind, p.traded ? 1 : 0, Buffer.from(v.buffer, v.byteOffset, v.byteLength), valuesJson(v), st.count, st.missing, st.mean, st.sd, st.min, st.max);
     });
     c.prepare('delete from library_uploads where id = ?').run(up.id);
     audit(tx, user.id, 'library.edition_added', { libraryId, libraryName, edition: next, editionId, rows: T, series: picks.length, units: body.units, file: up.fileName, newLibrary: body.libraryId === undefined });
@@ -385,23 +385,27 @@ export function getEdition(db: Db, user: User, libraryId: number, n: number): Ed
   };
 }
 
+/** JSON array text of a series' values: NaN → null, numbers in shortest round-trip form (JSON.stringify's own). */
+export function valuesJson(v: Float64Array): string {
+  return JSON.stringify(Array.from(v));
+}
+
 /**
- * The full values of an edition as a JSON text, written by hand because it is the hot read path
- * (JavaScript's number-to-string is the shortest round-trip form, the same JSON.stringify uses).
+ * The full values of an edition as a JSON text. The hot read path: each series' JSON array text
+ * was written on confirm, so this only concatenates stored text (a row without it is formatted here).
  */
 export function editionDataJson(db: Db, user: User, libraryId: number, n: number): string {
-  const { edition } = editionOf(db, user, libraryId, n);
-  const { head, dates, series } = loadEditionArrays(db, edition.id);
+  const { lib, edition } = editionOf(db, user, libraryId, n);
+  const head = db.$client.prepare('select dates from library_editions where id = ?').get(edition.id) as { dates: string };
+  const rows = db.$client
+    .prepare('select name, kind, traded, values_json as json, case when values_json is null then "values" end as blob from library_series where edition_id = ? order by position')
+    .all(edition.id) as { name: string; kind: SeriesKind; traded: number; json: string | null; blob: Buffer | null }[];
   const parts: string[] = [
-    `{"editionId":${head.editionId},"libraryId":${head.libraryId},"libraryName":${JSON.stringify(head.libraryName)},"number":${head.number},"frequency":"${head.frequency}","dates":${JSON.stringify(dates)},"series":[`,
+    `{"editionId":${edition.id},"libraryId":${lib.id},"libraryName":${JSON.stringify(lib.name)},"number":${edition.number},"frequency":"${edition.frequency}","dates":${head.dates},"series":[`,
   ];
-  series.forEach((s, i) => {
-    const vals = new Array<string>(s.values.length);
-    for (let t = 0; t < s.values.length; t++) {
-      const x = s.values[t]!;
-      vals[t] = Number.isNaN(x) ? 'null' : String(x);
-    }
-    parts.push(`${i ? ',' : ''}{"name":${JSON.stringify(s.name)},"kind":"${s.kind}","traded":${s.traded},"values":[${vals.join(',')}]}`);
+  rows.forEach((r, i) => {
+    const values = r.json ?? valuesJson(blobToFloat64(r.blob!));
+    parts.push(`${i ? ',' : ''}{"name":${JSON.stringify(r.name)},"kind":"${r.kind}","traded":${r.traded === 1},"values":${values}}`);
   });
   parts.push(']}');
   return parts.join('');

@@ -57,6 +57,8 @@ export const librarySeries = sqliteTable(
     kind: text('kind', { enum: ['asset', 'factor', 'rf'] }).notNull(),
     traded: integer('traded', { mode: 'boolean' }).notNull(),
     values: blob('values', { mode: 'buffer' }).notNull(),
+    /** The same values as a JSON array text (null for missing), written on confirm so API read-back needs no number formatting. */
+    valuesJson: text('values_json'),
     count: integer('count').notNull(),
     missing: integer('missing').notNull(),
     mean: real('mean'),

@@ -1,0 +1,1 @@
+ALTER TABLE `library_series` ADD `values_json` text;
