@@ -55,6 +55,20 @@ describe('upload and review', () => {
     expect((await a.researcher.get(`/api/v1/libraries/uploads/${upload.id}`)).status).toBe(404);
   });
 
+  it('expires a pending upload after a day: it can no longer be read or confirmed, and the next upload purges it', async () => {
+    const { upload } = uploadResponseSchema.parse((await uploadCsv(a.researcher, makeCsv({ T: 6 }).csv).expect(201)).body);
+    const left = Date.parse(upload.expiresAt) - Date.now();
+    expect(left).toBeGreaterThan(23.9 * 3600 * 1000);
+    expect(left).toBeLessThanOrEqual(24 * 3600 * 1000);
+    t.db.$client.prepare('update library_uploads set expires_at = ? where id = ?').run(new Date(Date.now() - 1000).toISOString(), upload.id);
+    expect((await a.researcher.get(`/api/v1/libraries/uploads/${upload.id}`)).status).toBe(404);
+    const r = await confirm(a.researcher, upload.id, { name: 'Late', visibility: 'private', units: 'decimal', series: [{ name: 'GRAIN', kind: 'asset' }] });
+    expect(r.status).toBe(404);
+    expect(expectEnvelope(r.body, 'not_found').message).toMatch(/kept for a day/);
+    await uploadCsv(a.researcher, makeCsv({ T: 6 }).csv).expect(201);
+    expect(t.db.$client.prepare('select 1 from library_uploads where id = ?').get(upload.id)).toBeUndefined();
+  });
+
   it('computes per-series stats (divisor T) that match a hand computation', async () => {
     const csv = 'date,A,B\n2020-01,1,0.5\n2020-02,2,\n2020-03,3,0.7\n2020-04,6,NA\n';
     const { upload } = uploadResponseSchema.parse((await uploadCsv(a.researcher, csv).expect(201)).body);
