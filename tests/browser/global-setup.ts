@@ -4,10 +4,10 @@
  * `baseUrl` to the tests (`inject('baseUrl')`). Teardown stops the server and removes the files.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
-import { mkdtempSync, rmSync } from 'node:fs';
+import { mkdirSync, mkdtempSync, rmSync, statSync } from 'node:fs';
 import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { dirname, join } from 'node:path';
 import type { TestProject } from 'vitest/node';
 import { buildWeb, ROOT, webBuildIsStale } from '../../scripts/web-build';
 
@@ -45,12 +45,41 @@ async function waitForHealth(url: string, child: ChildProcess, log: () => string
   throw new Error(`The server did not answer /api/v1/health within ${timeoutMs} ms:\n${log()}`);
 }
 
-export default async function setup(project: TestProject) {
-  if (webBuildIsStale()) {
-    const t0 = Date.now();
-    if (buildWeb({ quiet: true }) !== 0) throw new Error('expo export failed; see the output above');
-    console.log(`[browser tests] web export built in ${((Date.now() - t0) / 1000).toFixed(1)} s`);
+/**
+ * Builds dist/ when stale, under a lock directory so two suites started together (several engineers
+ * share the tree) do not run `expo export` into the same folder at once. A lock older than 5 min is stale.
+ */
+async function buildWebOnce(): Promise<void> {
+  const lock = join(ROOT, '.tmp', 'web-build.lock');
+  mkdirSync(dirname(lock), { recursive: true });
+  const until = Date.now() + 10 * 60_000;
+  for (;;) {
+    try {
+      mkdirSync(lock);
+      break;
+    } catch {
+      try {
+        if (Date.now() - statSync(lock).mtimeMs > 5 * 60_000) rmSync(lock, { recursive: true, force: true });
+      } catch {
+        /* released meanwhile */
+      }
+      if (Date.now() > until) throw new Error(`Timed out waiting for ${lock}`);
+      await new Promise((r) => setTimeout(r, 1000));
+    }
   }
+  try {
+    if (webBuildIsStale()) {
+      const t0 = Date.now();
+      if (buildWeb({ quiet: true }) !== 0) throw new Error('expo export failed; see the output above');
+      console.log(`[browser tests] web export built in ${((Date.now() - t0) / 1000).toFixed(1)} s`);
+    }
+  } finally {
+    rmSync(lock, { recursive: true, force: true });
+  }
+}
+
+export default async function setup(project: TestProject) {
+  await buildWebOnce();
   const dir = mkdtempSync(join(tmpdir(), 'keelson-browser-'));
   const port = await freePort();
   let out = '';
