@@ -1,5 +1,5 @@
 import { useState } from 'react';
-import { Text, View } from 'react-native';
+import { StyleSheet, Text, View } from 'react-native';
 import { router, useLocalSearchParams } from 'expo-router';
 import type { ColumnDef } from '@tanstack/react-table';
 import { useMe } from '../../../hooks/use-session';
@@ -39,15 +39,27 @@ export default function Runs() {
   const writer = me?.role === 'researcher' || me?.role === 'admin';
 
   const columns: ColumnDef<RunSummary, unknown>[] = [
-    { accessorKey: 'id', header: '#', meta: { width: 64, numeric: true } },
-    { id: 'spec', accessorFn: (r) => r.specName ?? '(unsaved spec)', header: 'Spec', meta: { flex: 2 } },
-    { id: 'lib', accessorFn: (r) => `${r.libraryName} · ed. ${r.editionNumber}`, header: 'Library', meta: { flex: 2 } },
+    { accessorKey: 'id', header: '#', meta: { width: 56, numeric: true } },
+    {
+      id: 'spec',
+      accessorFn: (r) => r.specName ?? '(unsaved spec)',
+      header: 'Spec',
+      meta: { flex: 2 },
+      cell: ({ row }) => (
+        <View>
+          <Text style={text.body} numberOfLines={2}>
+            {row.original.specName ?? '(unsaved spec)'}
+          </Text>
+          <Text style={text.muted}>{formatWhen(row.original.createdAt)}</Text>
+        </View>
+      ),
+    },
+    { id: 'lib', accessorFn: (r) => `${r.libraryName} · ed. ${r.editionNumber}`, header: 'Library', meta: { flex: 1.6 } },
     { id: 'factors', accessorFn: (r) => r.factors.join(', '), header: 'Factors', meta: { flex: 2 } },
-    { id: 'nkt', accessorFn: (r) => (r.N ? `${r.N} / ${r.K} / ${r.T}` : '—'), header: 'N / K / T', meta: { numeric: true, width: 120 } },
-    { accessorKey: 'status', header: 'State', meta: { width: 120 }, cell: ({ row }) => <RunStatusChip status={row.original.status} /> },
-    { accessorKey: 'signoff', header: 'Sign-off', meta: { width: 190 }, cell: ({ row }) => <SignoffChip state={row.original.signoff} /> },
-    { accessorKey: 'authorName', header: 'Author' },
-    { id: 'when', accessorFn: (r) => r.createdAt, header: 'Started', cell: ({ row }) => formatWhen(row.original.createdAt), meta: { width: 170 } },
+    { id: 'nkt', accessorFn: (r) => (r.N ? `${r.N}/${r.K}/${r.T}` : '—'), header: 'N/K/T', meta: { numeric: true, width: 104 } },
+    { accessorKey: 'status', header: 'State', meta: { width: 112 }, cell: ({ row }) => <RunStatusChip status={row.original.status} /> },
+    { accessorKey: 'signoff', header: 'Sign-off', meta: { width: 176 }, cell: ({ row }) => <SignoffChip state={row.original.signoff} /> },
+    { accessorKey: 'authorName', header: 'Author', meta: { width: 128 } },
   ];
 
   return (
@@ -64,7 +76,10 @@ export default function Runs() {
     >
       <Card title="Filter">
         <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.lg }}>
+          <View style={styles.filter}>
           <Select<StatusFilter> label="State" value={status} options={[{ value: 'all', label: 'all' }, { value: 'finished', label: 'finished' }, { value: 'failed', label: 'failed' }]} onChange={setStatus} />
+          </View>
+          <View style={styles.filter}>
           <Select<SignoffFilter>
             label="Sign-off"
             value={signoff}
@@ -77,7 +92,10 @@ export default function Runs() {
             ]}
             onChange={setSignoff}
           />
+          </View>
+          <View style={styles.filter}>
           <Select<'all' | 'mine'> label="Author" value={mine} options={[{ value: 'all', label: 'anyone' }, { value: 'mine', label: 'me' }]} onChange={setMine} />
+          </View>
         </View>
         {params.specId ? <Text style={text.muted}>Showing runs of spec #{params.specId}. <Text onPress={() => router.replace('/runs')} style={{ textDecorationLine: 'underline' }}>Show all</Text></Text> : null}
       </Card>
@@ -121,3 +139,5 @@ export default function Runs() {
     </Screen>
   );
 }
+
+const styles = StyleSheet.create({ filter: { maxWidth: '100%', flexShrink: 1 } });
