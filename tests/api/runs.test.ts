@@ -340,6 +340,19 @@ describe('immutability and frozen specs', () => {
     const bySpec = runsResponseSchema.parse((await desk.get(`/api/v1/runs?specId=${specId}`).expect(200)).body).runs;
     expect(bySpec.map((x) => x.id).sort()).toEqual([run.id, run2.id].sort());
   });
+
+  it('runs a saved spec on another edition with the same series (specId + editionId)', async () => {
+    const s = await post(researcher, '/specs', { name: 'Portable', editionId: shared.editionId, spec: spec({ rf: 'RF' }) });
+    const other = await startRun(researcher, { specId: s.body.spec.id, editionId: priv.editionId });
+    expect(other.editionId).toBe(priv.editionId);
+    expect(other.libraryName).toBe('My private economy');
+    const same = await startRun(researcher, { specId: s.body.spec.id });
+    // the same invented data in both libraries: identical results
+    expect(other.result).toEqual(same.result);
+    // a reviewer cannot run it (role) and cannot see the private edition run
+    expectEnvelope((await post(reviewer, '/runs', { specId: s.body.spec.id, editionId: priv.editionId }).expect(403)).body, 'forbidden');
+    expectEnvelope((await reviewer.get(`/api/v1/runs/${other.id}`).expect(404)).body, 'not_found');
+  });
 });
 
 describe('compare', () => {
