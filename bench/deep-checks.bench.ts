@@ -14,6 +14,7 @@
  * Seeded invented data; medians of 5 timed repetitions after one warm-up.
  */
 import { spawn } from 'node:child_process';
+import { existsSync, readFileSync } from 'node:fs';
 import { performance } from 'node:perf_hooks';
 import { availableParallelism } from 'node:os';
 import type { AddressInfo } from 'node:net';
@@ -108,6 +109,20 @@ const bootInput: BootstrapInput = {
   options: { stage: 'second', weighting: 'identity', lags: 'auto', form: 'centred', factorMeansKnown: false, scheme: 'iid', draws: 999, seed: 7 },
 };
 
+/** Median process CPU time (user + system, ms) of `fn`: the compute cost, less sensitive to other load than wall time. */
+async function cpuTime(fn: () => unknown, reps = 3): Promise<number> {
+  const ms: number[] = [];
+  for (let i = 0; i < reps; i++) {
+    const c0 = process.cpuUsage();
+    await fn();
+    const c = process.cpuUsage(c0);
+    ms.push((c.user + c.system) / 1000);
+  }
+  return median(ms);
+}
+const loadAvg = () => (existsSync('/proc/loadavg') ? readFileSync('/proc/loadavg', 'utf8').split(' ').slice(0, 3).join(' ') : 'n/a');
+console.log(`load average at start: ${loadAvg()}`);
+
 const sweepInProcess = await time(() => {
   const plan = prepareSubsetSweep(sweepInput);
   return summariseSubsetSweep(plan, evaluateSubsets(plan, 1, 4096), sweepInput.options);
@@ -116,6 +131,14 @@ const bootInProcess = await time(() => {
   const plan = prepareBootstrap(bootInput);
   return summariseBootstrap(plan, bootInput, [runBootstrapDraws(plan, bootInput.options, 0, 999)]);
 }, 3);
+const sweepCpu = await cpuTime(() => {
+  const plan = prepareSubsetSweep(sweepInput);
+  return summariseSubsetSweep(plan, evaluateSubsets(plan, 1, 4096), sweepInput.options);
+});
+const bootCpu = await cpuTime(() => {
+  const plan = prepareBootstrap(bootInput);
+  return summariseBootstrap(plan, bootInput, [runBootstrapDraws(plan, bootInput.options, 0, 999)]);
+});
 let k = 0;
 const results: Record<string, { sweep: number; boot: number }> = {};
 for (const threads of [1, 2]) {
@@ -133,6 +156,7 @@ row('subset sweep 12 candidates, worker pool, 2 threads', results[2].sweep, 1000
 row('bootstrap 999 draws N=25 K=3 T=600, in process', bootInProcess, 2000);
 row('bootstrap 999 draws, worker pool, 1 thread', results[1].boot, 2000);
 row('bootstrap 999 draws, worker pool, 2 threads', results[2].boot, 2000);
+console.log(`CPU time in process (user + system): sweep ${sweepCpu.toFixed(0)} ms, bootstrap ${bootCpu.toFixed(0)} ms`);
 console.log(`speed-up of 2 worker threads over one thread in process: sweep ×${(sweepInProcess / results[2].sweep).toFixed(2)}, bootstrap ×${(bootInProcess / results[2].boot).toFixed(2)}`);
 
 // ---- 3: API latency under load ----
@@ -209,6 +233,7 @@ const report = (label: string, r: Awaited<ReturnType<typeof load>>) =>
     `${label.padEnd(64)} p50 ${r.p50.toFixed(1).padStart(6)} ms  p95 ${r.p95.toFixed(1).padStart(6)} ms  p99 ${r.p99.toFixed(1).padStart(6)} ms  ${Math.round(r.rps)} req/s  (n = ${r.n}${r.non2xx ? `, non-2xx ${r.non2xx}` : ''})  ${r.p95 <= 50 ? 'within' : 'OVER'} 50 ms`,
   );
 
+console.log(`load average before the API runs: ${loadAvg()}`);
 report('idle: GET /runs/:id', await load(`/runs/${run.id}`));
 
 // Keep the pool busy for the whole window: a long bootstrap plus back-to-back subset sweeps.

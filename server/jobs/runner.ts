@@ -29,10 +29,15 @@ export interface JobRunnerOptions {
   mailAfterMs?: number;
 }
 
-/** How many chunks a job is cut into (more chunks: finer progress, quicker cancel). */
-function chunkRanges(total: number, kind: CheckInput['kind']): [number, number][] {
-  const target = kind === 'rolling' ? Math.min(total, 20) : Math.min(total, 40);
-  const size = Math.max(1, Math.ceil(total / Math.max(1, target)));
+/**
+ * How a job is cut into chunks: small enough that progress moves and a cancel bites within a
+ * fraction of a second, and that another job's chunks never wait long behind this one's; large
+ * enough that sending the data to a worker stays cheap. Bootstrap: 10–100 draws per chunk;
+ * sweep: at least 512 subsets per chunk (a whole small sweep is one chunk); rolling: ~20 chunks.
+ */
+export function chunkRanges(total: number, kind: CheckInput['kind']): [number, number][] {
+  const even = Math.ceil(total / (kind === 'rolling' ? 20 : 40));
+  const size = Math.max(1, kind === 'bootstrap' ? Math.min(100, Math.max(10, even)) : kind === 'subset-sweep' ? Math.max(512, even) : even);
   const out: [number, number][] = [];
   for (let a = 0; a < total; a += size) out.push([a, Math.min(total, a + size)]);
   return out;

@@ -6,6 +6,7 @@
 import { afterAll, describe, expect, it } from 'vitest';
 import { createJobPool, defaultThreadCount } from '../../server/jobs/pool';
 import { runChunk, type ChunkTask } from '../../server/jobs/tasks';
+import { chunkRanges } from '../../server/jobs/runner';
 import { simulateEconomy } from '../gmm/helpers';
 import type { BootstrapBatch, SweepRow } from '../../lib/gmm/index';
 
@@ -68,5 +69,19 @@ describe('job pool', () => {
       to: 10,
     };
     await expect(pool.run(bad)).rejects.toThrow(/centred SDF form only/);
+  });
+});
+
+describe('chunking', () => {
+  it('covers every unit once, in order, with bounded chunk sizes', () => {
+    for (const [kind, total] of [['bootstrap', 999], ['bootstrap', 40_000], ['subset-sweep', 31], ['subset-sweep', 32_767], ['rolling', 7]] as const) {
+      const r = chunkRanges(total, kind);
+      expect(r[0][0]).toBe(0);
+      expect(r[r.length - 1][1]).toBe(total);
+      for (let i = 1; i < r.length; i++) expect(r[i][0]).toBe(r[i - 1][1]);
+      const sizes = r.map(([a, b]) => b - a);
+      if (kind === 'bootstrap') expect(Math.max(...sizes)).toBeLessThanOrEqual(100);
+    }
+    expect(chunkRanges(31, 'subset-sweep')).toEqual([[0, 31]]); // a small sweep is one chunk
   });
 });
