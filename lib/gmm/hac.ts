@@ -200,15 +200,13 @@ export function hacFromColumns(
 /** Column-major copy (p×T) of a row-major T×p matrix, by cache blocks. */
 export function toColumnMajor(x: Float64Array, T: number, p: number): Float64Array {
   const xc = new Float64Array(T * p);
-  const B = 32;
+  const B = 64;
   for (let t0 = 0; t0 < T; t0 += B) {
     const t1 = Math.min(T, t0 + B);
-    for (let a0 = 0; a0 < p; a0 += B) {
-      const a1 = Math.min(p, a0 + B);
-      for (let t = t0; t < t1; t++) {
-        const row = t * p;
-        for (let a = a0; a < a1; a++) xc[a * T + t] = x[row + a];
-      }
+    // the B rows of this block stay in cache; each column's run of B values is written contiguously
+    for (let a = 0; a < p; a++) {
+      const col = a * T;
+      for (let t = t0; t < t1; t++) xc[col + t] = x[t * p + a];
     }
   }
   return xc;

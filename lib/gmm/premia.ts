@@ -52,8 +52,8 @@ export interface PremiaFailure {
  *   uncentred form.
  */
 export function fitPremia(m: MomentData, fit: SdfGmmFit): PremiaFit | PremiaFailure {
-  const { T, N, K, Fc, sigmaF, meanF } = m;
-  const { b, H, h, lags } = fit;
+  const { T, N, K, F, Fc, R, meanR, sigmaF, meanF } = m;
+  const { b, H, lags } = fit;
   let c = 1;
   if (fit.form === 'uncentred') {
     c = 1;
@@ -74,16 +74,31 @@ export function fitPremia(m: MomentData, fit: SdfGmmFit): PremiaFit | PremiaFail
       if (v === 0) continue;
       for (let i = 0; i < N; i++) AH[a * N + i] += v * H[d * N + i];
     }
+  // h_t = R_t (1 − s_t) + E[R] s_t (centred, factor means estimated) or R_t (1 − s_t), with
+  // s_t = (f_t − μ)'b (centred) or f_t'b (uncentred); so A H h_t needs only A H R_t (K per t).
+  const corrected = fit.form === 'centred' && !fit.factorMeansKnown;
+  const AHER = new Float64Array(K);
+  for (let a = 0; a < K; a++) {
+    let v = 0;
+    for (let i = 0; i < N; i++) v += AH[a * N + i] * meanR[i];
+    AHER[a] = v;
+  }
+  const S = fit.form === 'uncentred' ? F : Fc;
   const psi = new Float64Array(T * K);
   for (let t = 0; t < T; t++) {
     const hr = t * N;
     const fr = t * K;
     let fb = 0;
-    for (let k = 0; k < K; k++) fb += Fc[fr + k] * b[k];
+    let st = 0;
+    for (let k = 0; k < K; k++) {
+      fb += Fc[fr + k] * b[k];
+      st += S[fr + k] * b[k];
+    }
     for (let a = 0; a < K; a++) {
-      let s = 0;
+      let v = 0;
       const ar = a * N;
-      for (let i = 0; i < N; i++) s += AH[ar + i] * h[hr + i];
+      for (let i = 0; i < N; i++) v += AH[ar + i] * R[hr + i];
+      let s = v * (1 - st) + (corrected ? AHER[a] * st : 0);
       // (f̃ f̃' − Σ_f) b = f̃ (f̃'b) − Σ_f b
       s += Fc[fr + a] * fb - sigB[a];
       if (fit.form === 'uncentred') s += lambda[a] * fb;

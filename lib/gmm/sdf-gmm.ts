@@ -94,8 +94,6 @@ export interface SdfGmmFit {
   /** H = (X'WX)^{-1} X'W (K×N). */
   readonly H: Float64Array;
   readonly alpha: Float64Array;
-  /** Moment series h_t at the reported b̂ (T×N row-major). */
-  readonly h: Float64Array;
   /** HAC of h_t at the reported b̂ (N×N). */
   readonly Sb: Float64Array;
   readonly covB: Float64Array;
@@ -264,7 +262,6 @@ export function fitSdfGmm(m: MomentData, options: SdfGmmOptions): SdfGmmFit | Sd
   }
 
   const alpha = pricingErrors(X, b, meanR, N, K);
-  const h = sdfMomentSeries(m, b, form, meansKnown);
   const Sb = sdfLongRunCovariance(m, b, form, meansKnown, lags);
   // Var(b̂) = H Ŝ_b H' / T
   const HS = matMul(H, K, N, Sb, N); // K×N
@@ -321,7 +318,6 @@ export function fitSdfGmm(m: MomentData, options: SdfGmmOptions): SdfGmmFit | Sd
     weightingS,
     H,
     alpha,
-    h,
     Sb,
     covB,
     covAlpha,
