@@ -1,7 +1,9 @@
 import type { NextFunction, Request, Response } from 'express';
 import multer from 'multer';
+import { mkdirSync } from 'node:fs';
 import { readFile, unlink } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
+import { join } from 'node:path';
 import type { ApiRouter } from '../middlewares/access';
 import { currentUser } from '../middlewares/access';
 import { parseOr400 } from '../middlewares/errors';
@@ -30,6 +32,9 @@ function positiveInt(raw: unknown, what: string): number {
   return n;
 }
 
+/** Where multer streams uploads before parsing (one folder per server process); every file is removed once read or refused. */
+export const UPLOAD_TMP = join(tmpdir(), `keelson-uploads-${process.pid}`);
+
 /** Return-library routes: uploads and their review, editions, sharing, archive (see shared/libraries.ts). */
 export function registerLibraryRoutes(api: ApiRouter, deps: AppDeps): void {
   const { db } = deps;
@@ -38,7 +43,8 @@ export function registerLibraryRoutes(api: ApiRouter, deps: AppDeps): void {
   const limitMb = Math.round((deps.uploadLimit / 1024 / 1024) * 10) / 10;
 
   // Streamed to a temporary file, read once for parsing, then removed.
-  const upload = multer({ storage: multer.diskStorage({ destination: tmpdir() }), limits: { fileSize: deps.uploadLimit, files: 1, fields: 10 } });
+  mkdirSync(UPLOAD_TMP, { recursive: true });
+  const upload = multer({ storage: multer.diskStorage({ destination: UPLOAD_TMP }), limits: { fileSize: deps.uploadLimit, files: 1, fields: 10 } });
   const receiveFile = (req: Request, res: Response, next: NextFunction) => {
     upload.single('file')(req, res, (err: unknown) => {
       if (!err) return next();

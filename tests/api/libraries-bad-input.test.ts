@@ -8,6 +8,8 @@ import request from 'supertest';
 import { agentAs, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp } from './helpers';
 import { uploadCsv } from './libraries-helpers';
 import { uploadResponseSchema } from '../../shared/libraries';
+import { readdirSync } from 'node:fs';
+import { UPLOAD_TMP } from '../../server/routes/libraries';
 
 let t: TestApp;
 let me: Agent;
@@ -113,8 +115,14 @@ describe('refused uploads', () => {
 
   it('a file over the limit: 413, nothing stored, temp file removed', async () => {
     const big = `date,A\n${'2020-01,0.1\n'.repeat(8000)}`; // ~96 KB over a 64 KB limit
+    const before = new Set(readdirSync(UPLOAD_TMP));
     const r = await refused(big, 413, /larger than the upload limit of 0\.1 MB/);
     expect(r.issues).toEqual([]);
+    await refused('date,A\n2020-01,x\n', 422, /not a number/);
+    await new Promise((res) => setTimeout(res, 200));
+    // The folder is this process's own; none of the files these requests wrote may remain.
+    const left = readdirSync(UPLOAD_TMP).filter((f) => !before.has(f));
+    expect(left).toEqual([]);
   });
 
   it('a million-column header is refused fast with the column cap', async () => {
