@@ -52,6 +52,11 @@ export default function SpecPage() {
     >
       {run.isError ? <ErrorView error={run.error} title="The run did not start" /> : null}
       {copy.isError ? <ErrorView error={copy.error} title="The spec was not copied" /> : null}
+      {save.isSuccess ? (
+        <Text style={text.muted} role="status">
+          Saved. Runs already made keep the spec they were run with.
+        </Text>
+      ) : null}
       {mayEdit ? (
         <SpecForm
           key={s.updatedAt}
