@@ -71,9 +71,9 @@ function nameOf(db: Db, id: number): string {
 export function findJobRow(db: Db, user: User, id: number): JobRow {
   const row = db.select().from(jobs).where(eq(jobs.id, id)).get();
   if (!row) throw new KeelsonApiError('not_found', `No job ${id}`);
+  if (user.role === 'admin' || row.authorId === user.id) return row;
   const run = db.select({ editionId: runs.editionId }).from(runs).where(eq(runs.id, row.runId)).get();
-  const readable = user.role === 'admin' || row.authorId === user.id || (run !== undefined && canReadEdition(db, user, run.editionId));
-  if (!readable) throw new KeelsonApiError('not_found', `No job ${id}`);
+  if (!run || !canReadEdition(db, user, run.editionId)) throw new KeelsonApiError('not_found', `No job ${id}`);
   return row;
 }
 
