@@ -39,7 +39,7 @@ function makeData(T: number, N: number, K: number, seed: number) {
   let prev = new Array<number>(K).fill(0);
   for (let t = 0; t < T; t++) {
     const c = z();
-    const f = prev.map((p, k) => 0.2 * p + 0.8 * (0.7 * z() + 0.3 * c));
+    const f = prev.map((p) => 0.2 * p + 0.8 * (0.7 * z() + 0.3 * c));
     prev = f;
     const fv = f.map((v, k) => 0.004 + 0.001 * k + (0.03 + 0.005 * k) * v);
     factors.push(fv);

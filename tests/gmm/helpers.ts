@@ -93,6 +93,7 @@ const here = dirname(fileURLToPath(import.meta.url));
 export const REFERENCE_SCRIPT = join(here, '..', 'reference', 'gmm_reference.py');
 
 /** Run the numpy/scipy/statsmodels reference on `input` (JSON) and return its output. */
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- untyped JSON from the Python reference
 export function runReference(input: unknown): any {
   const dir = mkdtempSync(join(tmpdir(), 'keelson-ref-'));
   const inFile = join(dir, 'in.json');
