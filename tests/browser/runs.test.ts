@@ -195,6 +195,8 @@ describe('desk: compare, and no editing', () => {
       const { context, page, errors } = await openPage(browser, vp);
       await signIn(page, 'desk');
       await page.goto('/runs');
+      await page.getByText('Five harbour factors', { exact: false }).first().waitFor();
+      await shot(page, `runs-list-${label}`);
       await page.getByLabel('Run A', { exact: true }).fill(String(smallRunId));
       await page.getByLabel('Run B', { exact: true }).fill(String(runId));
       await page.getByRole('button', { name: 'Compare', exact: true }).click();
