@@ -10,6 +10,7 @@ import {
   olsFit,
   prepareMoments,
   secondMomentMatrix,
+  selectFactors,
   spdInverse,
   toNested,
 } from '../../lib/gmm/index';
@@ -69,6 +70,18 @@ describe('identities', () => {
       weighting: 'identity', form: 'centred', factorMeansKnown: false, dropSets: [],
     });
     expect(maxRel(fit.b, ref.olsMeanOnCov, 'OLS mean on cov (numpy lstsq)')).toBeLessThan(1e-8);
+  });
+
+  it('selectFactors (shared moments for a subset sweep) equals recomputing on the subset', () => {
+    const eco = simulateEconomy({ T: 300, N: 7, K: 4, seed: 14 });
+    const full = prepareMoments(eco.returns, eco.factors);
+    const sub = selectFactors(full, [3, 1]);
+    const direct = prepareMoments(eco.returns, eco.factors.map((f) => [f[3], f[1]]));
+    for (const key of ['meanF', 'sigmaF', 'covRF', 'crossRF', 'Fc'] as const) expect(maxRel(sub[key], direct[key])).toBeLessThan(1e-12);
+    const a = fitSdfGmm(sub, { stage: 'second', lags: 2 });
+    const b = fitSdfGmm(direct, { stage: 'second', lags: 2 });
+    if (!a.ok || !b.ok) throw new Error('fit failed');
+    expect(maxRel(a.b, b.b)).toBeLessThan(1e-10);
   });
 
   it('HJ distance equals the objective of the second-moment-weighted first stage', () => {

@@ -198,6 +198,19 @@ describe('singular systems give typed results, never NaN', () => {
     expect(fit.ok).toBe(false);
   });
 
+  it('iterated GMM that hits its cap reports converged: false with the last iterate (typed, finite)', () => {
+    const e = simulateEconomy({ T: 200, N: 6, K: 2, seed: 9 });
+    const fit = fitSdfGmm(prepareMoments(e.returns, e.factors), { stage: 'iterated', lags: 2, maxIterations: 2, tolerance: 1e-300 });
+    expect(fit.ok).toBe(true);
+    if (fit.ok) {
+      expect(fit.converged).toBe(false);
+      expect(fit.iterations).toBe(2);
+      expect(allFinite(Array.from(fit.b))).toBe(true);
+      expect(allFinite(Array.from(fit.covB))).toBe(true);
+      expect(Number.isFinite(fit.J.stat)).toBe(true);
+    }
+  });
+
   it('a zero standard error gives t = 0 and p = 1, not NaN', () => {
     expect(waldSingle(0.3, 0)).toEqual({ estimate: 0.3, se: 0, t: 0, p: 1 });
   });
