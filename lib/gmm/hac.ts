@@ -11,7 +11,9 @@
  *   S = (1 / (T (L+1))) Σ_{m=−L..T−1} q_m q_m',   q_m = Σ_{t=max(0,m)..min(T−1,m+L)} x_t
  * (0-based t). This is the same number as the Γ_j sum (every pair (t, s) with |t − s| = j ≤ L
  * lies in exactly L + 1 − j windows) but costs one symmetric rank-(T+L) update instead of L + 1
- * cross-products, and it is positive semidefinite by construction.
+ * cross-products, and it is positive semidefinite by construction. The symmetric product runs in
+ * a WebAssembly SIMD kernel (syrk-wasm.ts) when available, else in the TypeScript kernel below;
+ * `hacFromColumns` lets callers generate moment series column by column without a T×p copy.
  *
  * Paper: Newey, W. K. and West, K. D. (1987), "A Simple, Positive Semi-Definite,
  * Heteroskedasticity and Autocorrelation Consistent Covariance Matrix", Econometrica 55(3),
