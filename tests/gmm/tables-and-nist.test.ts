@@ -90,10 +90,10 @@ describe('least squares against NIST StRD Longley certified values', () => {
   const fit = olsFit(y, X);
   if (!fit.ok) throw new Error('singular');
 
-  it('coefficients and standard errors to ≥ 8 significant digits (LRE ≥ 8)', () => {
+  it('coefficients and standard errors to ≥ 11 significant digits (LRE ≥ 11; measured ≥ 12.5)', () => {
     for (let j = 0; j < 7; j++) {
-      expect(lre(fit.coef[j], CERT_COEF[j])).toBeGreaterThanOrEqual(8);
-      expect(lre(fit.se[j], CERT_SE[j])).toBeGreaterThanOrEqual(8);
+      expect(lre(fit.coef[j], CERT_COEF[j])).toBeGreaterThanOrEqual(11);
+      expect(lre(fit.se[j], CERT_SE[j])).toBeGreaterThanOrEqual(11);
     }
     expect(lre(fit.residualSd, CERT_RESID_SD)).toBeGreaterThanOrEqual(8);
     expect(lre(fit.rSquared, CERT_R2)).toBeGreaterThanOrEqual(8);
