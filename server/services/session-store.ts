@@ -10,7 +10,7 @@ const DAY_MS = 24 * 60 * 60 * 1000;
  * and swept on a timer that never keeps the process alive.
  */
 export class SqliteSessionStore extends session.Store {
-  private readonly timer: NodeJS.Timeout;
+  private readonly timer: ReturnType<typeof setInterval>;
 
   constructor(
     private readonly db: Db,

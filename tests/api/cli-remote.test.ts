@@ -31,7 +31,7 @@ async function cli(home: string, args: string[], password?: string) {
   const code = await runRemote(args[0], args.slice(1), {
     out: (s) => (out += s),
     err: (s) => (err += s),
-    env: { KEELSON_HOME: home, ...(password ? { KEELSON_PASSWORD: password } : {}) },
+    env: { KEELSON_HOME: home, ...(password ? { KEELSON_PASSWORD: password } : {}) } as NodeJS.ProcessEnv,
   });
   return { code, out, err };
 }

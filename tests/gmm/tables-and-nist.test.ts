@@ -54,7 +54,7 @@ describe('quantiles against printed tables', () => {
 // NIST Statistical Reference Datasets, Linear Least Squares, "Longley" (higher difficulty),
 // https://www.itl.nist.gov/div898/strd/lls/data/Longley.shtml. Data: Longley (1967, JASA 62,
 // 819–841), as shipped in Debian's python3-statsmodels (statsmodels/datasets/longley/longley.csv).
-// Certified values: from memory of the NIST page, identical to the transcription in
+// Certified values: from memory of the NIST page, identical to the copy in
 // statsmodels/regression/tests/results/results_regression.py (class Longley); cross-checked
 // below with numpy.linalg.lstsq.
 const LONGLEY = [
