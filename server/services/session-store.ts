@@ -19,7 +19,8 @@ export class SqliteSessionStore extends session.Store {
   ) {
     super();
     this.timer = setInterval(() => this.sweep(), 15 * 60 * 1000);
-    this.timer.unref();
+    // Never keep the process alive for the sweep (Node timers have unref; the DOM typing does not say so).
+    (this.timer as unknown as { unref?: () => void }).unref?.();
   }
 
   private expiry(sess: session.SessionData): number {

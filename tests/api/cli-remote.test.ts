@@ -31,7 +31,7 @@ async function cli(home: string, args: string[], password?: string) {
   const code = await runRemote(args[0], args.slice(1), {
     out: (s) => (out += s),
     err: (s) => (err += s),
-    env: { KEELSON_HOME: home, ...(password ? { KEELSON_PASSWORD: password } : {}) } as NodeJS.ProcessEnv,
+    env: { NODE_ENV: 'test', KEELSON_HOME: home, ...(password ? { KEELSON_PASSWORD: password } : {}) },
   });
   return { code, out, err };
 }
