@@ -32,6 +32,11 @@ export function LibraryCard({ lib }: { lib: LibrarySummary }) {
       <Text style={styles.mono}>
         {lib.firstDate ?? '—'} – {lib.lastDate ?? '—'}
       </Text>
+      {lib.description ? (
+        <Text style={text.body} numberOfLines={2}>
+          {lib.description}
+        </Text>
+      ) : null}
       <Text style={text.muted}>
         {lib.seriesCount} series · latest edition {lib.latestEdition ?? '—'} ({lib.editionCount} kept) · {lib.owner ? `by ${lib.owner.name}` : 'no owner'}
       </Text>
@@ -40,7 +45,7 @@ export function LibraryCard({ lib }: { lib: LibrarySummary }) {
 }
 
 const styles = StyleSheet.create({
-  card: { flexGrow: 1, flexBasis: 300, gap: space.xs, padding: space.lg, backgroundColor: colors.card, borderWidth: 1, borderColor: colors.rule, borderRadius: radius.md },
+  card: { gap: space.xs, padding: space.lg, backgroundColor: colors.card, borderWidth: 1, borderColor: colors.rule, borderRadius: radius.md },
   hover: { borderColor: colors.brass },
   chips: { flexDirection: 'row', flexWrap: 'wrap', gap: space.xs },
   mono: { fontFamily: fonts.mono, fontSize: 14, color: colors.ink, fontVariant: ['tabular-nums'] },

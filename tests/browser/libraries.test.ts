@@ -75,6 +75,20 @@ describe('return libraries', () => {
     await page.getByRole('table', { name: 'Series' }).waitFor();
     await expect(page.getByRole('table', { name: 'Series' }).getByText('Factor (traded)').isVisible()).resolves.toBe(true);
     await page.getByRole('img', { name: /Cumulative return chart: MOORING/ }).waitFor();
+    // The series table sorts and filters.
+    const table = page.getByRole('table', { name: 'Series' });
+    await page.getByRole('button', { name: 'Sort by Mean' }).click();
+    const dir = await table.getByRole('columnheader', { name: /Mean/ }).getAttribute('aria-sort');
+    expect(['ascending', 'descending']).toContain(dir);
+    const means = (await table.getByRole('row').evaluateAll((rows) => rows.slice(1).map((r) => r.querySelectorAll('[role=cell]')[4]?.textContent ?? '')))
+      .map((x) => Number(x.replace('\u2212', '-')));
+    const sorted = [...means].sort((p, q) => (dir === 'ascending' ? p - q : q - p));
+    expect(means).toEqual(sorted);
+    await page.getByLabel('Filter series').fill('Pier');
+    await expect(table.getByRole('row').count()).resolves.toBe(4); // header + Pier A, B, C
+    await table.scrollIntoViewIfNeeded();
+    await shot(page, 'libraries-series-table-wide');
+    await page.getByLabel('Filter series').fill('');
 
     // Share it.
     await page.getByRole('button', { name: 'Share with the team' }).click();
