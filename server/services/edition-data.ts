@@ -124,3 +124,15 @@ export function editionIsUsed(db: Db, editionId: number): boolean {
   if (!cols.some((c) => c.name === 'edition_id')) return false;
   return db.$client.prepare('select 1 from runs where edition_id = ? limit 1').get(editionId) !== undefined;
 }
+
+/**
+ * How many saved model specs point at the edition (the `model_specs` table of the runs module,
+ * read with raw SQL and guarded like `editionIsUsed`).
+ */
+export function editionSpecCount(db: Db, editionId: number): number {
+  const has = db.$client.prepare("select 1 from sqlite_master where type = 'table' and name = 'model_specs'").get();
+  if (!has) return 0;
+  const cols = db.$client.prepare("select name from pragma_table_info('model_specs')").all() as { name: string }[];
+  if (!cols.some((c) => c.name === 'edition_id')) return 0;
+  return (db.$client.prepare('select count(*) as n from model_specs where edition_id = ?').get(editionId) as { n: number }).n;
+}

@@ -26,7 +26,7 @@ import type {
 } from '../../shared/libraries';
 import { audit } from './audit';
 import { blobToFloat64, columnStats, packColumns, parseReturnCsv } from './csv-import';
-import { canReadLibrary, editionIsUsed, loadEditionArrays } from './edition-data';
+import { canReadLibrary, editionIsUsed, editionSpecCount, loadEditionArrays } from './edition-data';
 
 const UPLOAD_TTL_MS = 24 * 3600 * 1000;
 
@@ -461,6 +461,10 @@ export function deleteEdition(db: Db, user: User, libraryId: number, n: number):
   inTransaction(db, (tx) => {
     if (editionIsUsed(db, edition.id)) {
       throw new KeelsonApiError('conflict', `Edition ${n} of ${lib.name} is used by a run and stays; archive the library instead`);
+    }
+    const specs = editionSpecCount(db, edition.id);
+    if (specs > 0) {
+      throw new KeelsonApiError('conflict', `Edition ${n} of ${lib.name} is the edition of ${specs} saved model spec${specs === 1 ? '' : 's'}; point ${specs === 1 ? 'it' : 'them'} at another edition first`);
     }
     const left = (db.$client.prepare('select count(*) as n from library_editions where library_id = ?').get(lib.id) as { n: number }).n;
     if (left <= 1) throw new KeelsonApiError('conflict', `Edition ${n} is the only edition of ${lib.name}; archive the library instead`);

@@ -407,6 +407,27 @@ describe('visibility and roles', () => {
     const r = await a.admin.delete(`/api/v1/libraries/${lib.library.id}/editions/3`).set('x-csrf-token', a.admin.csrf);
     expect(r.status).toBe(409);
     expect(expectEnvelope(r.body, 'conflict').message).toMatch(/used by a run/);
+    const detail = libraryResponseSchema.parse((await a.admin.get(`/api/v1/libraries/${lib.library.id}`)).body).library;
+    expect(detail.editions.find((e) => e.number === 3)!.used).toBe(true);
+    expect(detail.editions.find((e) => e.number === 4)!.used).toBe(false);
+  });
+
+  it('keeps an edition that a saved model spec points at', async () => {
+    const lib = await createLibrary(a.admin, makeCsv({ T: 6 }).csv, { name: 'Spec-held', visibility: 'shared' });
+    const e2 = await createLibrary(a.admin, makeCsv({ T: 7 }).csv, { libraryId: lib.library.id });
+    const hasSpecs = t.db.$client.prepare("select 1 from sqlite_master where type='table' and name='model_specs'").get();
+    if (!hasSpecs) t.db.$client.exec('create table model_specs (id integer primary key, edition_id integer)');
+    const cols = t.db.$client.prepare("select name, \"notnull\" as nn, dflt_value as d, pk from pragma_table_info('model_specs')").all() as { name: string; nn: number; d: unknown; pk: number }[];
+    const required = cols.filter((c) => c.nn && c.d === null && !c.pk && c.name !== 'edition_id').map((c) => c.name);
+    t.db.$client.pragma('foreign_keys = OFF');
+    t.db.$client.prepare(`insert into model_specs (${['edition_id', ...required].map((x) => `"${x}"`).join(',')}) values (${['edition_id', ...required].map(() => '?').join(',')})`).run(e2.edition.id, ...required.map(() => 1));
+    t.db.$client.pragma('foreign_keys = ON');
+    const before = tableCounts(t.db);
+    const r = await a.admin.delete(`/api/v1/libraries/${lib.library.id}/editions/2`).set('x-csrf-token', a.admin.csrf);
+    expect(r.status).toBe(409);
+    expect(expectEnvelope(r.body, 'conflict').message).toMatch(/1 saved model spec/);
+    expect(tableCounts(t.db)).toEqual(before);
+    await a.admin.delete(`/api/v1/libraries/${lib.library.id}/editions/1`).set('x-csrf-token', a.admin.csrf).expect(204);
   });
 
   it('filters the list by search text, frequency and covered date', async () => {
