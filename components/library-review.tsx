@@ -93,7 +93,7 @@ export function LibraryReview({ upload, target, canShare, busy, error, onConfirm
       </Card>
 
       <Card title="Series" subtitle={`${included.length} of ${upload.series.length} kept. Stats are in the file's units; sd uses divisor T.`}>
-        <View style={{ gap: space.sm }}>
+        <View style={{ gap: space.sm, flexDirection: 'row', flexWrap: 'wrap' }}>
           {upload.series.map((s) => {
             const c = choices[s.name]!;
             const warns = warningsByColumn.get(s.name) ?? [];
@@ -189,7 +189,7 @@ const styles = StyleSheet.create({
   facts: { flexDirection: 'row', flexWrap: 'wrap', gap: space.lg },
   fact: { minWidth: 110, gap: 2 },
   warn: { fontFamily: fonts.text, fontSize: 14, color: colors.rust, lineHeight: 20 },
-  series: { borderWidth: 1, borderColor: colors.rule, borderRadius: radius.sm, padding: space.md, gap: space.sm, backgroundColor: colors.card },
+  series: { flexGrow: 1, flexBasis: 400, minWidth: 0, borderWidth: 1, borderColor: colors.rule, borderRadius: radius.sm, padding: space.md, gap: space.sm, backgroundColor: colors.card },
   seriesHead: { flexDirection: 'row', alignItems: 'center', gap: space.sm, flexWrap: 'wrap' },
   pickers: { flexDirection: 'row', flexWrap: 'wrap', gap: space.md },
   buttons: { flexDirection: 'row', flexWrap: 'wrap', gap: space.sm, marginTop: space.sm },

@@ -26,7 +26,7 @@ export function LibraryStats({ stats, decimals = 4 }: { stats: SeriesStats; deci
 }
 
 const styles = StyleSheet.create({
-  row: { flexDirection: 'row', flexWrap: 'wrap', columnGap: space.lg, rowGap: space.xs },
-  cell: { minWidth: 64, alignItems: 'flex-end' },
-  num: { fontFamily: fonts.mono, fontSize: 14, color: colors.ink, fontVariant: ['tabular-nums'] },
+  row: { flexDirection: 'row', flexWrap: 'wrap', columnGap: space.md, rowGap: space.xs },
+  cell: { minWidth: 54, alignItems: 'flex-end' },
+  num: { fontFamily: fonts.mono, fontSize: 13, color: colors.ink, fontVariant: ['tabular-nums'] },
 });
