@@ -93,6 +93,6 @@ export function grsTest(input: GrsInput): GrsTest | { readonly ok: false; readon
     });
   validateMatrices(input.returns, input.factors, { factorNames: input.factorNames });
   const m = prepareMoments(input.returns, input.factors);
-  const r = grsCore(m, secondMomentMatrix(m.R, m.T, m.N));
+  const r = grsCore(m, secondMomentMatrix(m.R, m.T, m.N, m.Rcols));
   return r ?? { ok: false, reason: 'singular', message: 'The residual or factor covariance matrix is singular.' };
 }

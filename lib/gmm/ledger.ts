@@ -198,7 +198,7 @@ export function estimateLedger(input: LedgerInput): LedgerResult {
   const names = input.factorNames;
 
   const m = momentsFromPacked(fromNested(input.returns, N), fromNested(input.factors, K), T, N, K);
-  const second = secondMomentMatrix(m.R, T, N);
+  const second = secondMomentMatrix(m.R, T, N, m.Rcols);
   checkCollinear(
     covarianceFromSecondMoment(second, m.meanR),
     N,

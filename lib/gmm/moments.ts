@@ -34,6 +34,8 @@ export interface MomentData {
   readonly covRF: Float64Array;
   /** D = E_T[R f'] (N×K). */
   readonly crossRF: Float64Array;
+  /** The returns again, column-major (N×T): the layout of the HAC and second-moment kernels. */
+  readonly Rcols: Float64Array;
 }
 
 /** Column means of a row-major T×p matrix. */
@@ -73,24 +75,12 @@ export function crossMoment(X: Float64Array, px: number, Y: Float64Array, py: nu
   return out;
 }
 
-const columnCache = new WeakMap<Float64Array, Float64Array>();
-
 /**
- * Column-major copy (p×T) of a row-major T×p data matrix, computed once per array and cached
- * (weakly) so that every long-run covariance on the same returns shares it.
+ * E_T[x x'] = (1/T) X'X for row-major X (T×p), by the blocked symmetric kernel.
+ * @param columns X column-major (p×T) when the caller has it (e.g. `MomentData.Rcols`); made here otherwise.
  */
-export function columnMajorOf(X: Float64Array, T: number, p: number): Float64Array {
-  let c = columnCache.get(X);
-  if (!c || c.length !== T * p) {
-    c = toColumnMajor(X, T, p);
-    columnCache.set(X, c);
-  }
-  return c;
-}
-
-/** E_T[x x'] = (1/T) X'X for row-major X (T×p), by the blocked symmetric kernel. */
-export function secondMomentMatrix(X: Float64Array, T: number, p: number): Float64Array {
-  const Xc = columnMajorOf(X, T, p);
+export function secondMomentMatrix(X: Float64Array, T: number, p: number, columns?: Float64Array): Float64Array {
+  const Xc = columns ?? toColumnMajor(X, T, p);
   const S = crossProductColumns(Xc, T, p);
   for (let i = 0; i < S.length; i++) S[i] /= T;
   return S;
@@ -119,7 +109,7 @@ export function momentsFromPacked(R: Float64Array, F: Float64Array, T: number, N
   const covRF = crossMoment(R, N, Fc, K, T);
   const crossRF = new Float64Array(N * K);
   for (let i = 0; i < N; i++) for (let k = 0; k < K; k++) crossRF[i * K + k] = covRF[i * K + k] + meanR[i] * meanF[k];
-  return { T, N, K, R, F, Fc, meanR, meanF, sigmaF, covRF, crossRF };
+  return { T, N, K, R, F, Fc, meanR, meanF, sigmaF, covRF, crossRF, Rcols: toColumnMajor(R, T, N) };
 }
 
 /**
@@ -158,5 +148,5 @@ export function selectFactors(m: MomentData, idx: readonly number[]): MomentData
       covRF[i * K2 + j] = m.covRF[i * K + idx[j]];
       crossRF[i * K2 + j] = m.crossRF[i * K + idx[j]];
     }
-  return { T, N, K: K2, R: m.R, F, Fc, meanR: m.meanR, meanF, sigmaF, covRF, crossRF };
+  return { T, N, K: K2, R: m.R, F, Fc, meanR: m.meanR, meanF, sigmaF, covRF, crossRF, Rcols: m.Rcols };
 }

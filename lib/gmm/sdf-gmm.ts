@@ -42,7 +42,7 @@ import {
   quadForm,
   toNested,
 } from './linalg';
-import { columnMajorOf, prepareMoments, secondMomentMatrix, type MomentData } from './moments';
+import { prepareMoments, secondMomentMatrix, type MomentData } from './moments';
 
 export type GmmStage = 'first' | 'second' | 'iterated';
 export type FirstStageWeighting = 'identity' | 'second-moment';
@@ -150,7 +150,7 @@ function sdfIndex(m: MomentData, b: ArrayLike<number>, form: SdfForm): Float64Ar
  */
 export function sdfLongRunCovariance(m: MomentData, b: ArrayLike<number>, form: SdfForm, factorMeansKnown: boolean, lags: number): Float64Array {
   const { T, N, meanR } = m;
-  const Rc = columnMajorOf(m.R, T, N);
+  const Rc = m.Rcols;
   const s = sdfIndex(m, b, form);
   const corrected = form === 'centred' && !factorMeansKnown;
   return hacFromColumns(T, N, lags, (i, buf) => {
@@ -219,7 +219,7 @@ export function fitSdfGmm(m: MomentData, options: SdfGmmOptions): SdfGmmFit | Sd
 
   let W1: Float64Array;
   if ((options.weighting ?? 'identity') === 'second-moment') {
-    const E = options.secondMoment ?? secondMomentMatrix(m.R, T, N);
+    const E = options.secondMoment ?? secondMomentMatrix(m.R, T, N, m.Rcols);
     const L = cholesky(E, N);
     if (!L) return fail('E[RR\']', 'The second-moment matrix of the returns is singular; second-moment weighting is impossible.');
     W1 = choleskyInverse(L, N);

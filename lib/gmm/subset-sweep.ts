@@ -168,7 +168,7 @@ export function prepareSubsetSweep(input: SubsetSweepInput): SweepPlan {
   if (!Number.isInteger(lags) || lags < 0 || lags >= T)
     throw new GmmInputError('invalid-lags', `lags must be 'auto' or an integer from 0 to ${T - 1}; got ${String(o.lags)}.`);
   const m = momentsFromPacked(fromNested(input.returns, N), fromNested(input.factors, K), T, N, K);
-  const second = secondMomentMatrix(m.R, T, N);
+  const second = secondMomentMatrix(m.R, T, N, m.Rcols);
   const Le = cholesky(second, N);
   if (!Le) throw new GmmInputError('collinear-asset', 'E_T[RR\'] is singular: the HJ distance cannot be computed (collinear test assets).');
   const Whj = choleskyInverse(Le, N);

@@ -17,7 +17,7 @@
 import { chiSquareSf } from './distributions';
 import { hacFromColumns } from './hac';
 import { cholesky, choleskySolve } from './linalg';
-import { columnMajorOf, type MomentData } from './moments';
+import type { MomentData } from './moments';
 
 /** Level at which the thin-beta test must reject for the factor not to be flagged. */
 export const THIN_BETA_LEVEL = 0.1;
@@ -37,7 +37,7 @@ export interface ThinBetaTest {
  */
 export function thinBetaTest(m: MomentData, k: number, lags: number): ThinBetaTest | null {
   const { T, N, K, Fc, meanR, covRF } = m;
-  const Rc = columnMajorOf(m.R, T, N);
+  const Rc = m.Rcols;
   const f = new Float64Array(T);
   for (let t = 0; t < T; t++) f[t] = Fc[t * K + k];
   // z_i,t = (R_i,t − E[R_i]) (f_k,t − μ_k) − C_ik, generated column by column
