@@ -5,6 +5,15 @@
  * generates the (invented, seeded) data, so the generator is independent too. Agreement to 1e-8
  * relative; p-values to 1e-8 relative with an absolute floor of 1e-12 (scipy vs our own
  * incomplete gamma/beta).
+ *
+ * Where methods.md can be read two ways, this test pins the library's current reading (named
+ * beside the check) and the reference computes the other reading too, for the audit report:
+ *  - Var(α̂) uses Ŝ of h_t at the reported b̂ (not the weighting Ŝ at the first-stage b̂; at the
+ *    second stage the two give standard errors about 1% apart on these data);
+ *  - iterated GMM: the drop test's W* is the last iterate's Ŝ⁻¹ (not the Ŝ⁻¹ of the first
+ *    second-stage step, which the subset sweep uses; about 1% apart here);
+ *  - the ledger reports no drop test at the first stage (the reference computes the contract's
+ *    W* from the unrestricted second stage all the same).
  */
 import { spawnSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
