@@ -45,9 +45,12 @@ export function MailList({ messages, emptyBody }: { messages: readonly OutboxMes
               <Text style={text.strong} numberOfLines={2}>
                 {m.subject}
               </Text>
-              <Text style={text.muted} numberOfLines={1}>
-                {m.to} · {formatWhen(m.createdAt)}
-              </Text>
+              {/* Open on a phone: the body below carries the "To … · time" line; show it once. */}
+              {isOpen && !wide ? null : (
+                <Text style={text.muted} numberOfLines={1}>
+                  {m.to} · {formatWhen(m.createdAt)}
+                </Text>
+              )}
             </Pressable>
             {isOpen && !wide ? (
               <View style={styles.inline}>

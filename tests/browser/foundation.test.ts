@@ -131,6 +131,15 @@ describe('admin invites a user', () => {
     await signIn(admin.page, 'admin');
     await goNav(admin.page, 'Team');
     await admin.page.getByRole('table', { name: 'Users' }).waitFor();
+    // Long e-mails wrap after the @ at most, never mid-word: each part sits whole on one line.
+    const mailCell = admin.page.getByRole('table', { name: 'Users' }).getByLabel('researcher@keelson.test', { exact: true });
+    const lines = await mailCell.evaluate((el) => {
+      const r = document.createRange();
+      r.selectNodeContents(el);
+      return new Set([...r.getClientRects()].map((x) => Math.round(x.top))).size;
+    });
+    expect(lines).toBeLessThanOrEqual(2);
+    await expect(mailCell.textContent()).resolves.toMatch(/^researcher@\u200B?keelson\.test$/);
     await shot(admin.page, 'admin-users-wide');
 
     await goTeamPage(admin.page, 'Invitations');
@@ -221,6 +230,9 @@ describe('admin invites a user', () => {
     await page.getByRole('list', { name: 'Messages' }).waitFor();
     await page.getByRole('button', { name: /You are invited to Keelson as Reviewer/ }).click();
     await page.getByRole('article', { name: /You are invited to Keelson/ }).getByText(/accept-invite\?token=/).waitFor();
+    // The open message shows its "To … · time" line once (in the body), not again in the head.
+    const openItem = page.getByRole('listitem').filter({ has: page.getByRole('article', { name: /You are invited to Keelson/ }) });
+    await expect(openItem.getByText(/wren\.halyard@example\.org ·/).count()).resolves.toBe(1);
     await shot(page, 'admin-outbox-phone');
     await page.getByRole('button', { name: 'Account menu' }).click();
     await page.getByRole('menu', { name: 'Account' }).getByText('admin@keelson.test').waitFor();

@@ -82,7 +82,16 @@ export default function TeamUsers() {
   const columns = useMemo(
     () => [
       col.accessor('name', { header: 'Name', meta: { flex: 1 } }),
-      col.accessor('email', { header: 'E-mail', meta: { flex: 1.5 } }),
+      col.accessor('email', {
+        header: 'E-mail',
+        // Wrap only after the @ (a zero-width space there), never mid-word: "researcher@ / keelson.test".
+        cell: (c) => (
+          <Text style={[text.body, styles.email]} aria-label={c.getValue()}>
+            {c.getValue().replace('@', '@\u200B')}
+          </Text>
+        ),
+        meta: { flex: 1.8 },
+      }),
       col.accessor((u) => ROLE_LABELS[u.role], { id: 'role', header: 'Role', meta: { width: 112 } }),
       col.accessor('active', { header: 'Status', cell: (c) => <StatusChip active={c.getValue()} />, meta: { width: 132 } }),
       col.accessor('lastLoginAt', {
@@ -142,5 +151,6 @@ const styles = StyleSheet.create({
   split: { gap: space.lg },
   splitWide: { flexDirection: 'row', alignItems: 'flex-start' },
   actions: { flexDirection: 'row', flexWrap: 'wrap', gap: space.sm },
+  email: { wordBreak: 'normal', overflowWrap: 'normal' } as object,
   confirm: { gap: space.sm, padding: space.md, borderWidth: 1, borderColor: '#B5533C', borderRadius: 6, backgroundColor: '#FBF1EE' },
 });
