@@ -41,6 +41,8 @@ export function barItemsFor(role: Role): NavItem[] {
 /** True when `pathname` is inside destination `href`. */
 export function isActive(href: NavItem['href'], pathname: string): boolean {
   if (href === '/') return pathname === '/' || pathname === '';
+  // Model specs and deep checks are pages of the Runs section.
+  if (href === '/runs' && (pathname === '/specs' || pathname.startsWith('/specs/') || pathname === '/jobs' || pathname.startsWith('/jobs/'))) return true;
   return pathname === href || pathname.startsWith(`${href}/`);
 }
 

@@ -8,6 +8,7 @@ import { Button } from '../../../components/button';
 import { Card } from '../../../components/card';
 import { DataTable } from '../../../components/data-table';
 import { ErrorView } from '../../../components/error-view';
+import { RunsTabs } from '../../../components/runs-tabs';
 import { formatWhen } from '../../../components/format';
 import { text } from '../../../components/theme';
 import type { SavedSpec } from '../../../shared/specs';
@@ -25,6 +26,7 @@ export default function Specs() {
   ];
   return (
     <Screen title="Model specs" subtitle="Saved choices of test assets, factors and options." actions={writer ? <Button label="New model spec" variant="primary" href="/runs/new" /> : undefined}>
+      <RunsTabs />
       {q.isError ? <ErrorView error={q.error} title="Specs could not be loaded" onRetry={() => void q.refetch()} /> : null}
       {q.data ? (
         <DataTable
