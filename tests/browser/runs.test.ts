@@ -197,9 +197,26 @@ describe('desk: compare, and no editing', () => {
       await page.goto('/runs');
       await page.getByText('Five harbour factors', { exact: false }).first().waitFor();
       await shot(page, `runs-list-${label}`);
-      await page.getByLabel('Run A', { exact: true }).fill(String(smallRunId));
-      await page.getByLabel('Run B', { exact: true }).fill(String(runId));
-      await page.getByRole('button', { name: 'Compare', exact: true }).click();
+      // the typed fallback is still there
+      await page.getByLabel('Run A', { exact: true }).waitFor();
+      // the Runs section links to its deep checks (the bottom bar stays at four destinations)
+      await page.getByRole('navigation', { name: 'Runs pages' }).getByRole('link', { name: 'Deep checks', exact: true }).waitFor();
+      if (label === 'wide') {
+        // pick two runs in the list, then Compare
+        await page.getByRole('checkbox', { name: `Pick run ${smallRunId} to compare` }).click();
+        await expect(page.getByRole('button', { name: 'Compare (pick two runs)' }).getAttribute('aria-disabled')).resolves.toBe('true');
+        await page.getByRole('checkbox', { name: `Pick run ${runId} to compare` }).click();
+        await expect(page.getByRole('checkbox', { name: `Pick run ${runId} to compare` }).getAttribute('aria-checked')).resolves.toBe('true');
+        await shot(page, `runs-picked-${label}`);
+        await page.getByRole('button', { name: `Compare runs ${smallRunId} and ${runId}` }).click();
+      } else {
+        // from the run page: "Compare with…" lists the other finished runs on the same edition
+        await page.goto(`/runs/${smallRunId}`);
+        const others = page.getByRole('list', { name: 'Runs on the same edition' });
+        await others.waitFor();
+        await expect(others.getByRole('button', { name: `Compare with run ${smallRunId}` }).count()).resolves.toBe(0);
+        await others.getByRole('button', { name: `Compare with run ${runId}` }).click();
+      }
       await page.waitForURL(/\/runs\/compare\?/);
       await page.getByText(`drops SWELL from run #${runId}`, { exact: false }).waitFor();
       const cmp = await api<{ nested: { test: { stat: number } } }>(page, `/runs/compare?a=${smallRunId}&b=${runId}`);

@@ -16,6 +16,7 @@ import { RunCaution, RunExports, RunSpecSummary, RunStatusChip } from '../../../
 import { RunReview, SignoffChip } from '../../../components/run-review';
 import { space, text } from '../../../components/theme';
 import { DeepChecksPanel } from '../../../components/deep-checks-panel';
+import { CompareWithPicker } from '../../../components/compare-pick';
 
 export default function RunPage() {
   const { id } = useLocalSearchParams<{ id: string }>();
@@ -82,10 +83,11 @@ export default function RunPage() {
         {run.specId ? <Button label="Open the saved spec" href={`/specs/${run.specId}`} compact /> : null}
       </Card>
       {r ? (
-        <Card title="Compare with another run">
+        <Card title="Compare with…" subtitle={`Finished runs on ${run.libraryName}, edition ${run.editionNumber}. Same data: a drop test shows when one model nests the other.`}>
+          <CompareWithPicker run={run} />
           <View style={{ flexDirection: 'row', gap: space.sm, alignItems: 'flex-end', flexWrap: 'wrap' }}>
-            <View style={{ width: 160 }}>
-              <TextField label="Other run number" value={other} onChangeText={setOther} numeric inputMode="numeric" />
+            <View style={{ width: 200 }}>
+              <TextField label="Or type a run number" value={other} onChangeText={setOther} numeric inputMode="numeric" />
             </View>
             <Button
               label="Compare"

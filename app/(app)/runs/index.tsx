@@ -4,6 +4,7 @@ import { router, useLocalSearchParams } from 'expo-router';
 import type { ColumnDef } from '@tanstack/react-table';
 import { useMe } from '../../../hooks/use-session';
 import { useRuns } from '../../../hooks/use-runs';
+import { useIsWide } from '../../../hooks/use-layout';
 import { Screen } from '../../../components/screen';
 import { Button } from '../../../components/button';
 import { Card } from '../../../components/card';
@@ -11,6 +12,8 @@ import { DataTable } from '../../../components/data-table';
 import { ErrorView } from '../../../components/error-view';
 import { Select } from '../../../components/select';
 import { TextField } from '../../../components/text-field';
+import { RunsTabs } from '../../../components/runs-tabs';
+import { CompareBar, PickBox, togglePick } from '../../../components/compare-pick';
 import { formatWhen } from '../../../components/format';
 import { RunStatusChip } from '../../../components/run-summary';
 import { SignoffChip } from '../../../components/run-review';
@@ -28,6 +31,8 @@ export default function Runs() {
   const [mine, setMine] = useState<'all' | 'mine'>('all');
   const [a, setA] = useState('');
   const [b, setB] = useState('');
+  const [picked, setPicked] = useState<number[]>([]);
+  const pick = (id: number) => setPicked((p) => togglePick(p, id));
   const q: Partial<RunListQuery> = {
     ...(status !== 'all' ? { status } : {}),
     ...(signoff !== 'all' ? { signoff } : {}),
@@ -37,8 +42,20 @@ export default function Runs() {
   };
   const runs = useRuns(q);
   const writer = me?.role === 'researcher' || me?.role === 'admin';
+  const wide = useIsWide();
+  const [showFilters, setShowFilters] = useState(false);
+  const filtersOn = status !== 'all' || signoff !== 'all' || mine !== 'all';
 
   const columns: ColumnDef<RunSummary, unknown>[] = [
+    {
+      id: 'pick',
+      header: 'Pick',
+      enableSorting: false,
+      meta: { width: 64 },
+      cell: ({ row }) => (
+        <PickBox runId={row.original.id} checked={picked.includes(row.original.id)} finished={row.original.status === 'finished'} onToggle={() => pick(row.original.id)} />
+      ),
+    },
     { accessorKey: 'id', header: '#', meta: { width: 56, numeric: true } },
     {
       id: 'spec',
@@ -54,8 +71,22 @@ export default function Runs() {
         </View>
       ),
     },
-    { id: 'lib', accessorFn: (r) => `${r.libraryName} · ed. ${r.editionNumber}`, header: 'Library', meta: { flex: 1.6 } },
-    { id: 'factors', accessorFn: (r) => r.factors.join(', '), header: 'Factors', meta: { flex: 2 } },
+    {
+      id: 'lib',
+      accessorFn: (r) => `${r.libraryName} · ed. ${r.editionNumber}`,
+      header: 'Library',
+      meta: { flex: 1.8 },
+      // name and edition on their own lines: a long name must never clip the edition away
+      cell: ({ row }) => (
+        <View>
+          <Text style={text.body} numberOfLines={2}>
+            {row.original.libraryName}
+          </Text>
+          <Text style={text.muted}>edition {row.original.editionNumber}</Text>
+        </View>
+      ),
+    },
+    { id: 'factors', accessorFn: (r) => r.factors.join(', '), header: 'Factors', meta: { flex: 1.8 } },
     { id: 'nkt', accessorFn: (r) => (r.N ? `${r.N}/${r.K}/${r.T}` : '—'), header: 'N/K/T', meta: { numeric: true, width: 104 } },
     { accessorKey: 'status', header: 'State', meta: { width: 112 }, cell: ({ row }) => <RunStatusChip status={row.original.status} /> },
     { accessorKey: 'signoff', header: 'Sign-off', meta: { width: 176 }, cell: ({ row }) => <SignoffChip state={row.original.signoff} /> },
@@ -66,14 +97,21 @@ export default function Runs() {
     <Screen
       title="Runs"
       subtitle="Each run estimates one model spec on one library edition; a finished run never changes."
-      actions={
-        <View style={{ flexDirection: 'row', gap: space.sm, flexWrap: 'wrap' }}>
-          <Button label="Model specs" href="/specs" compact />
-          {writer ? <Button label="New model spec" variant="primary" href="/runs/new" compact /> : null}
-        </View>
-      }
+      actions={writer ? <Button label="New model spec" variant="primary" href="/runs/new" compact /> : undefined}
       fullWidth
     >
+      <RunsTabs />
+      <Text style={text.muted}>Tick two finished runs to compare them side by side.</Text>
+      {!wide ? (
+        <Button
+          compact
+          variant="quiet"
+          label={showFilters ? 'Hide filters' : `Filters${filtersOn ? ' (on)' : ''}`}
+          onPress={() => setShowFilters((v) => !v)}
+          style={{ alignSelf: 'flex-start' }}
+        />
+      ) : null}
+      {wide || showFilters ? (
       <Card title="Filter">
         <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.lg }}>
           <View style={styles.filter}>
@@ -99,6 +137,9 @@ export default function Runs() {
         </View>
         {params.specId ? <Text style={text.muted}>Showing runs of spec #{params.specId}. <Text onPress={() => router.replace('/runs')} style={{ textDecorationLine: 'underline' }}>Show all</Text></Text> : null}
       </Card>
+      ) : params.specId ? (
+        <Text style={text.muted}>Showing runs of spec #{params.specId}. <Text onPress={() => router.replace('/runs')} style={{ textDecorationLine: 'underline' }}>Show all</Text></Text>
+      ) : null}
       {runs.isError ? <ErrorView error={runs.error} title="Runs could not be loaded" onRetry={() => void runs.refetch()} /> : null}
       {runs.data ? (
         <DataTable
@@ -120,12 +161,16 @@ export default function Runs() {
                 {r.factors.join(', ')}
                 {r.N ? ` · N ${r.N} · K ${r.K} · T ${r.T}` : ''} · {formatWhen(r.createdAt)}
               </Text>
-              <Button label={`Open run ${r.id}`} compact href={`/runs/${r.id}`} />
+              <View style={{ flexDirection: 'row', gap: space.md, flexWrap: 'wrap', alignItems: 'center', justifyContent: 'space-between' }}>
+                <Button label={`Open run ${r.id}`} compact href={`/runs/${r.id}`} />
+                <PickBox runId={r.id} checked={picked.includes(r.id)} finished={r.status === 'finished'} onToggle={() => pick(r.id)} withText />
+              </View>
             </Card>
           )}
         />
       ) : null}
-      <Card title="Compare two runs" subtitle="Ledgers, J and pricing errors side by side; a drop test when one model nests the other on the same data.">
+      <CompareBar picked={picked} onClear={() => setPicked([])} />
+      <Card title="Compare by run number" subtitle="Or type two run numbers. Ledgers, J and pricing errors side by side; a drop test when one model nests the other on the same data.">
         <View style={{ flexDirection: 'row', gap: space.sm, alignItems: 'flex-end', flexWrap: 'wrap' }}>
           <View style={{ width: 130 }}>
             <TextField label="Run A" value={a} onChangeText={setA} numeric inputMode="numeric" />
