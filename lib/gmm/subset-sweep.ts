@@ -8,7 +8,7 @@
  *   HJ distance (Hansen and Jagannathan 1997): W = (E_T[RR'])^{-1}, HJ(s) = sqrt(Q_W(s)); the same
  *     weighting for every subset, so the distances are comparable across models.
  *   Drop test against the full model (Newey and West 1987): W* = Ŝ_u^{-1} from the full model's
- *     second stage; D(s) = T (Q_W*(s) − Q_W*(all)) ~ χ²(K − |s|) (the test that the factors outside
+ *     second stage (or its last iterate when `stage` is 'iterated', as the ledger's drop test); D(s) = T (Q_W*(s) − Q_W*(all)) ~ χ²(K − |s|) (the test that the factors outside
  *     s can be dropped, with the full model's weighting for both).
  * The N×N work (E_T[RR'], its inverse, Ŝ_u, the products A and c) is done once; each subset costs
  * one |s|×|s| Cholesky solve. HJ(s) equals hjDistance on the subset's own moments and D(s) equals
@@ -40,6 +40,8 @@ export interface SubsetSweepOptions {
   readonly factorMeansKnown: boolean;
   /** First-stage weighting of the full model's two-step estimate (its Ŝ_u gives W*). */
   readonly weighting: FirstStageWeighting;
+  /** How the full model is estimated for W*: two-step (default) or iterated, matching the run's ledger. */
+  readonly stage?: 'second' | 'iterated';
   /** Level for "not rejected against the full model" (default 0.05). */
   readonly level?: number;
   /** How many models per size to list and to count factor appearances in (default 5). */
@@ -174,7 +176,7 @@ export function prepareSubsetSweep(input: SubsetSweepInput): SweepPlan {
   const Whj = choleskyInverse(Le, N);
   const X = o.form === 'centred' ? m.covRF : m.crossRF;
   const hj = products(X, Whj, m.meanR, N, K);
-  const full = fitSdfGmm(m, { stage: 'second', weighting: o.weighting, lags, form: o.form, factorMeansKnown: o.factorMeansKnown, secondMoment: second });
+  const full = fitSdfGmm(m, { stage: o.stage ?? 'second', weighting: o.weighting, lags, form: o.form, factorMeansKnown: o.factorMeansKnown, secondMoment: second });
   if (!full.ok) throw new GmmInputError('invalid-option', `The full model cannot be estimated: ${full.message}`);
   const w = products(X, full.W, m.meanR, N, K);
   const all = Int32Array.from({ length: K }, (_, k) => k);

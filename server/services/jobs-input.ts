@@ -103,7 +103,16 @@ export function buildCheckInput(db: Db, run: RunForCheck, kind: JobKind, rawPara
         returns: input.returns,
         factors: input.factors,
         factorNames: candidates,
-        options: { lags: spec.lags, form: spec.form, factorMeansKnown: spec.factorMeansKnown, weighting: spec.weighting, level: spec.level, topPerSize: p.topPerSize },
+        options: {
+          lags: spec.lags,
+          form: spec.form,
+          factorMeansKnown: spec.factorMeansKnown,
+          weighting: spec.weighting,
+          // W* as in the run's own drop tests: the last iterate for an iterated run, else the two-step estimate.
+          stage: spec.stage === 'iterated' ? 'iterated' : 'second',
+          level: spec.level,
+          topPerSize: p.topPerSize,
+        },
       },
     };
   }

@@ -66,6 +66,26 @@ describe('subset sweep against brute force (identity)', () => {
     });
   }
 
+  it('with stage iterated, D equals the iterated ledger\'s joint drop test (same W*: the last iterate)', () => {
+    const iter = prepareSubsetSweep({ ...input, options: { ...input.options, stage: 'iterated' } });
+    const [row] = evaluateSubsets(iter, 6, 7); // mask 6 = factors 2 and 3; complement: factors 1 and 4
+    const sub = subsetFactors(6, names);
+    const complement = names.filter((n) => !sub.includes(n));
+    const full = estimateLedger({
+      assetNames: e.returns[0].map((_, i) => `P${i + 1}`),
+      returns: e.returns,
+      factorNames: names,
+      factors: e.factors,
+      traded: names.map(() => true),
+      options: { stage: 'iterated', weighting: 'identity', lags: 3, form: 'centred', factorMeansKnown: false, level: 0.05, dropSet: complement },
+    });
+    const d = full.jointDrop!.chi2Drop!;
+    expect(row.drop! / d.stat).toBeCloseTo(1, 9);
+    // and it is not the two-step W*: the two statistics differ on these data
+    const twoStep = rows.find((r) => r.mask === 6)!;
+    expect(Math.abs(twoStep.drop! - row.drop!)).toBeGreaterThan(1e-6);
+  });
+
   it('chunked evaluation summarises to the same result as one pass', () => {
     const one = subsetSweep(input);
     const chunked = summariseSubsetSweep(plan, [...evaluateSubsets(plan, 9, 16), ...evaluateSubsets(plan, 1, 9)], input.options);
