@@ -15,15 +15,23 @@ export function LibraryChips({ lib }: { lib: Pick<LibrarySummary, 'visibility' |
   );
 }
 
-/** One library in the list: name, chips, date range, editions, series, owner. Opens the library. */
-export function LibraryCard({ lib }: { lib: LibrarySummary }) {
+/**
+ * One library in the list: name, chips, date range, editions, series, owner. Opens the library's page,
+ * or with `onSelect` (wide list beside its detail) shows it in the detail pane.
+ */
+export function LibraryCard({ lib, onSelect, selected }: { lib: LibrarySummary; onSelect?: () => void; selected?: boolean }) {
   const router = useRouter();
   return (
     <Pressable
-      role="link"
-      aria-label={`Open library ${lib.name}`}
-      onPress={() => router.push(`/libraries/${lib.id}`)}
-      style={(state) => [styles.card, ((state as { hovered?: boolean }).hovered || (state as { focused?: boolean }).focused) && styles.hover]}
+      role={onSelect ? 'button' : 'link'}
+      aria-label={onSelect ? `Show library ${lib.name}` : `Open library ${lib.name}`}
+      aria-pressed={onSelect ? !!selected : undefined}
+      onPress={onSelect ?? (() => router.push(`/libraries/${lib.id}`))}
+      style={(state) => [
+        styles.card,
+        ((state as { hovered?: boolean }).hovered || (state as { focused?: boolean }).focused) && styles.hover,
+        selected && styles.selected,
+      ]}
     >
       <Text style={text.heading} numberOfLines={2}>
         {lib.name}
@@ -47,6 +55,7 @@ export function LibraryCard({ lib }: { lib: LibrarySummary }) {
 const styles = StyleSheet.create({
   card: { gap: space.xs, padding: space.lg, backgroundColor: colors.card, borderWidth: 1, borderColor: colors.rule, borderRadius: radius.md },
   hover: { borderColor: colors.brass },
+  selected: { borderColor: colors.brass, borderLeftWidth: 4, backgroundColor: colors.brassTint },
   chips: { flexDirection: 'row', flexWrap: 'wrap', gap: space.xs },
   mono: { fontFamily: fonts.mono, fontSize: 14, color: colors.ink, fontVariant: ['tabular-nums'] },
 });

@@ -46,7 +46,15 @@ describe('return libraries', () => {
     await signIn(page, 'admin');
     await page.goto('/libraries');
     await page.getByRole('heading', { name: 'Return libraries', level: 1 }).waitFor();
-    await page.getByRole('link', { name: 'Open library Harbour market (demo)' }).waitFor();
+    // Wide: the list beside the chosen library (the first one until another is picked); no page change.
+    await page.getByRole('button', { name: 'Show library Harbour market (demo)' }).click();
+    await expect(page.getByRole('button', { name: 'Show library Harbour market (demo)' }).getAttribute('aria-pressed')).resolves.toBe('true');
+    const pane = page.getByRole('region', { name: 'Library Harbour market (demo)' });
+    await pane.getByRole('heading', { name: 'Harbour market (demo)', level: 2 }).waitFor();
+    await pane.getByRole('table', { name: 'Series' }).waitFor();
+    expect(new URL(page.url()).pathname).toBe('/libraries');
+    const [listBox, paneBox] = [await page.getByRole('list', { name: 'Libraries' }).boundingBox(), await pane.boundingBox()];
+    expect(paneBox!.x).toBeGreaterThan(listBox!.x + listBox!.width - 1); // side by side
     await shot(page, 'libraries-list-wide');
 
     // A malformed file is refused with row and column, nothing saved.

@@ -1,5 +1,6 @@
 import { useState } from 'react';
 import { ActivityIndicator, Text, View } from 'react-native';
+import { router, useLocalSearchParams } from 'expo-router';
 import { useMe } from '../../../hooks/use-session';
 import { useIsWide } from '../../../hooks/use-layout';
 import { useLibraries } from '../../../hooks/use-libraries';
@@ -7,6 +8,7 @@ import { Button } from '../../../components/button';
 import { EmptyState } from '../../../components/empty-state';
 import { ErrorView } from '../../../components/error-view';
 import { LibraryCard } from '../../../components/library-card';
+import { LibraryDetail } from '../../../components/library-detail';
 import { Screen } from '../../../components/screen';
 import { Select } from '../../../components/select';
 import { TextField } from '../../../components/text-field';
@@ -35,12 +37,17 @@ export default function Libraries() {
   const wide = useIsWide();
   const [showFilters, setShowFilters] = useState(false);
   const filtersOn = frequency !== 'any' || scope !== 'all' || archived !== 'hide' || covers !== '';
+  // Wide: the list beside the chosen library (?open=id; the first one until the user picks).
+  const { open } = useLocalSearchParams<{ open?: string }>();
+  const openId = libs.data?.some((l) => String(l.id) === open) ? Number(open) : libs.data?.[0]?.id;
+  const [edition, setEdition] = useState<{ lib: number; n: number } | null>(null);
 
   return (
     <Screen
       title="Return libraries"
       subtitle="Dated tables of test-asset, factor and risk-free series, versioned as editions."
       actions={canUpload ? <Button variant="primary" label="Upload a library" href="/libraries/upload" /> : null}
+      fullWidth={wide}
     >
       <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md, alignItems: 'flex-start' }}>
         <View style={{ flexGrow: 2, flexBasis: 260 }}>
@@ -114,17 +121,35 @@ export default function Libraries() {
           body={canUpload ? 'Upload a CSV with a date column and one column per series.' : 'Shared libraries appear here once an admin publishes one.'}
         />
       ) : (
-        <View style={{ gap: space.sm }}>
-          <Text style={text.muted}>
-            {libs.data.length} librar{libs.data.length === 1 ? 'y' : 'ies'}
-          </Text>
-          <View role="list" aria-label="Libraries" style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
-            {libs.data.map((l) => (
-              <View role="listitem" key={l.id} style={{ flexGrow: 1, flexBasis: 300, maxWidth: '100%' }}>
-                <LibraryCard lib={l} />
-              </View>
-            ))}
+        <View style={wide ? { flexDirection: 'row', gap: space.lg, alignItems: 'flex-start' } : undefined}>
+          <View style={[{ gap: space.sm }, wide && { width: 340, flexShrink: 0 }]}>
+            <Text style={text.muted}>
+              {libs.data.length} librar{libs.data.length === 1 ? 'y' : 'ies'}
+              {wide ? ' · pick one to see it beside the list' : ''}
+            </Text>
+            <View role="list" aria-label="Libraries" style={wide ? { gap: space.sm } : { flexDirection: 'row', flexWrap: 'wrap', gap: space.md }}>
+              {libs.data.map((l) => (
+                <View role="listitem" key={l.id} style={wide ? undefined : { flexGrow: 1, flexBasis: 300, maxWidth: '100%' }}>
+                  {wide ? (
+                    <LibraryCard lib={l} selected={l.id === openId} onSelect={() => router.setParams({ open: String(l.id) })} />
+                  ) : (
+                    <LibraryCard lib={l} />
+                  )}
+                </View>
+              ))}
+            </View>
           </View>
+          {wide && openId !== undefined ? (
+            <View style={{ flex: 1, minWidth: 0 }}>
+              <LibraryDetail
+                key={openId}
+                id={openId}
+                embedded
+                edition={edition?.lib === openId ? edition.n : undefined}
+                onSelectEdition={(n) => setEdition({ lib: openId, n })}
+              />
+            </View>
+          ) : null}
         </View>
       )}
     </Screen>
