@@ -36,16 +36,10 @@ import { createApp } from '../server/app';
 import { createMailer } from '../server/services/mailer';
 import { DEMO_PASSWORD, seedDemoUsers } from '../server/seed/users';
 import { seedDemoLibraries } from '../server/seed/demo-libraries';
+import { mulberry32 } from '../lib/gmm/random';
 
 function normals(seed: number) {
-  let a = seed >>> 0;
-  const u = () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
+  const u = mulberry32(seed);
   return () => Math.sqrt(-2 * Math.log(u() + 1e-300)) * Math.cos(2 * Math.PI * u());
 }
 

@@ -15,19 +15,13 @@ import { cpus, loadavg, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { defaultLag, estimateLedger, type LedgerInput } from '../lib/gmm/index';
+import { mulberry32 } from '../lib/gmm/random';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const quick = process.argv.includes('--quick');
 
 function rng(seed: number) {
-  let a = seed >>> 0;
-  const u = () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
+  const u = mulberry32(seed);
   return () => Math.sqrt(-2 * Math.log(u() + 1e-300)) * Math.cos(2 * Math.PI * u());
 }
 

@@ -15,17 +15,8 @@ import { createApp } from '../server/app';
 import { createMailer } from '../server/services/mailer';
 import { DEMO_PASSWORD, seedDemoUsers } from '../server/seed/users';
 import { loadEditionData } from '../server/services/edition-data';
+import { mulberry32 } from '../lib/gmm/random';
 
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 function makeCsv(kind: 'daily' | 'monthly', T: number, N: number): string {
   const rnd = mulberry32(42);

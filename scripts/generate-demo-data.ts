@@ -29,21 +29,11 @@
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { mulberry32 } from '../lib/gmm/random';
 
 /** Chosen so that the sample verdicts match the population ones under every stage and weighting (checked by tests/api/libraries-demo.test.ts). */
 export const DEMO_SEED = 20261205;
 
-/** mulberry32: a small, well-known 32-bit seeded PRNG. */
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /** Standard normal draws by the Box–Muller transform. */
 function normals(rnd: () => number): () => number {

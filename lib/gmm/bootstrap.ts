@@ -53,18 +53,8 @@ import { fromNested, spdSolve } from './linalg';
 import { momentsFromPacked, secondMomentMatrix, type MomentData } from './moments';
 import { fitSdfGmm, type FirstStageWeighting, type GmmStage, type SdfGmmFit } from './sdf-gmm';
 import { validateMatrices } from './validate';
+import { mulberry32 } from './random';
 
-/** mulberry32: a 32-bit state generator of uniforms on [0, 1). */
-export function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /** murmur3's 32-bit finaliser of (seed, stream): the per-draw seed. */
 export function streamSeed(seed: number, stream: number): number {

@@ -29,5 +29,6 @@ export {
 } from './linalg';
 // Deep checks (issue 6)
 export * from './bootstrap';
+export * from './random';
 export * from './subset-sweep';
 export * from './rolling';

@@ -10,6 +10,7 @@ import { join } from 'node:path';
 import type { AddressInfo } from 'node:net';
 import type { Server } from 'node:http';
 import { runRemote } from '../../bin/remote';
+import { mulberry32 } from '../../lib/gmm/random';
 import { main } from '../../bin/keelson-cli';
 import { agentAs, makeTestApp, type TestApp } from './helpers';
 
@@ -38,13 +39,7 @@ async function cli(home: string, args: string[], password?: string) {
 
 /** A small seeded monthly library: 8 test assets priced by two traded factors (mulberry32 PRNG). */
 function sampleCsv(): string {
-  let a = 20261201;
-  const u = () => {
-    a = (a + 0x6d2b79f5) | 0;
-    let x = Math.imul(a ^ (a >>> 15), 1 | a);
-    x = (x + Math.imul(x ^ (x >>> 7), 61 | x)) ^ x;
-    return ((x ^ (x >>> 14)) >>> 0) / 4294967296;
-  };
+  const u = mulberry32(20261201);
   const n = () => Math.sqrt(-2 * Math.log(u() + 1e-300)) * Math.cos(2 * Math.PI * u());
   const lines = ['date,' + Array.from({ length: 8 }, (_, i) => `P${i + 1}`).join(',') + ',MKT,TILT'];
   for (let i = 0; i < 240; i += 1) {

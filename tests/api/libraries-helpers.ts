@@ -1,17 +1,9 @@
 /** Helpers for the return-library API tests: CSV builders and upload/confirm shortcuts. */
 import type { Agent } from './helpers';
+import { mulberry32 } from '../../lib/gmm/random';
 
 /** A seeded PRNG (mulberry32), so generated test files are the same on every run. */
-export function prng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+export const prng = mulberry32;
 
 export function monthLabels(start: number, T: number, startMonth = 1): string[] {
   const out: string[] = [];

@@ -12,13 +12,13 @@ import {
   bootstrapResample,
   bootstrapSdfTests,
   defaultBlockLength,
-  mulberry32,
   prepareBootstrap,
   runBootstrapDraws,
   summariseBootstrap,
   type BootstrapInput,
 } from '../../lib/gmm/bootstrap';
 import { GmmInputError } from '../../lib/gmm/errors';
+import { mulberry32 } from '../../lib/gmm/random';
 import { normalSampler, simulateEconomy } from './helpers';
 
 /**
