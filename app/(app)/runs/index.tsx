@@ -51,23 +51,26 @@ export default function Runs() {
       id: 'pick',
       header: 'Pick',
       enableSorting: false,
-      meta: { width: 64 },
+      meta: { width: 52 },
       cell: ({ row }) => (
         <PickBox runId={row.original.id} checked={picked.includes(row.original.id)} finished={row.original.status === 'finished'} onToggle={() => pick(row.original.id)} />
       ),
     },
-    { accessorKey: 'id', header: '#', meta: { width: 56, numeric: true } },
+    { accessorKey: 'id', header: '#', meta: { width: 52, numeric: true } },
     {
       id: 'spec',
-      accessorFn: (r) => r.specName ?? '(unsaved spec)',
-      header: 'Spec',
+      // the author rides in this column (second line) so the library and factors keep room
+      accessorFn: (r) => `${r.specName ?? '(unsaved spec)'} · ${r.authorName}`,
+      header: 'Spec · author',
       meta: { flex: 2 },
       cell: ({ row }) => (
         <View>
           <Text style={text.body} numberOfLines={2}>
             {row.original.specName ?? '(unsaved spec)'}
           </Text>
-          <Text style={text.muted}>{formatWhen(row.original.createdAt)}</Text>
+          <Text style={text.muted}>
+            {row.original.authorName} · {formatWhen(row.original.createdAt)}
+          </Text>
         </View>
       ),
     },
@@ -75,7 +78,7 @@ export default function Runs() {
       id: 'lib',
       accessorFn: (r) => `${r.libraryName} · ed. ${r.editionNumber}`,
       header: 'Library',
-      meta: { flex: 1.8 },
+      meta: { flex: 1.6 },
       // name and edition on their own lines: a long name must never clip the edition away
       cell: ({ row }) => (
         <View>
@@ -87,10 +90,9 @@ export default function Runs() {
       ),
     },
     { id: 'factors', accessorFn: (r) => r.factors.join(', '), header: 'Factors', meta: { flex: 1.8 } },
-    { id: 'nkt', accessorFn: (r) => (r.N ? `${r.N}/${r.K}/${r.T}` : '—'), header: 'N/K/T', meta: { numeric: true, width: 104 } },
-    { accessorKey: 'status', header: 'State', meta: { width: 112 }, cell: ({ row }) => <RunStatusChip status={row.original.status} /> },
-    { accessorKey: 'signoff', header: 'Sign-off', meta: { width: 176 }, cell: ({ row }) => <SignoffChip state={row.original.signoff} /> },
-    { accessorKey: 'authorName', header: 'Author', meta: { width: 128 } },
+    { id: 'nkt', accessorFn: (r) => (r.N ? `${r.N}/${r.K}/${r.T}` : '—'), header: 'N/K/T', meta: { numeric: true, width: 96 } },
+    { accessorKey: 'status', header: 'State', meta: { width: 108 }, cell: ({ row }) => <RunStatusChip status={row.original.status} /> },
+    { accessorKey: 'signoff', header: 'Sign-off', meta: { width: 164 }, cell: ({ row }) => <SignoffChip state={row.original.signoff} /> },
   ];
 
   return (
