@@ -152,7 +152,7 @@ export function DeepChecksPanel({ runId }: { runId: number }) {
       title="Deep checks"
       subtitle="Bootstrap, subset sweep and rolling window run in the background; this panel follows their progress."
       accessibilityLabel="Deep checks"
-      aside={<Button label="All jobs" href="/jobs" compact variant="quiet" />}
+      aside={<Button label="All deep checks" href="/jobs" compact variant="quiet" />}
     >
       {mayStart ? <StartForm runId={runId} /> : <Text style={text.muted}>Researchers and admins start deep checks; you can follow and read them here.</Text>}
       {jobs.error ? <ErrorView error={jobs.error} title="Could not load the deep checks" onRetry={() => void jobs.refetch()} /> : null}

@@ -73,7 +73,7 @@ function CoefChart({ title, caption, items }: { title: string; caption: string; 
     <ChartBox title={title} caption={caption} onLayout={onLayout}>
       <VictoryChart width={w} height={240} domainPadding={{ x: 24 }} padding={{ top: 10, bottom: 40, left: 56, right: 12 }}>
         <VictoryAxis tickValues={items.map((_, i) => i + 1)} tickFormat={(t: number) => items[t - 1]?.x ?? ''} style={axisStyle} offsetY={40} />
-        <VictoryAxis dependentAxis style={axisStyle} tickFormat={tick} />
+        <VictoryAxis dependentAxis crossAxis={false} style={axisStyle} tickFormat={tick} />
         <VictoryLine data={[{ x: 0.5, y: 0 }, { x: items.length + 0.5, y: 0 }]} style={{ data: { stroke: colors.fog, strokeWidth: 1 } }} />
         <VictoryErrorBar data={data} borderWidth={6} style={{ data: { stroke: colors.ink, strokeWidth: 1.5 } }} />
         <VictoryScatter data={data} size={4} symbol="square" style={{ data: { fill: colors.brass } }} />
@@ -109,7 +109,7 @@ export function PricingErrorChart({ result }: { result: LedgerResult }) {
     <ChartBox title="Pricing error per test asset, %" caption={`α = realised − predicted mean excess return; bars ±${z.toFixed(2)} standard errors.`} onLayout={onLayout}>
       <VictoryChart horizontal width={w} height={h} domainPadding={{ x: 10 }} padding={{ top: 10, bottom: 36, left: 110, right: 16 }}>
         <VictoryAxis tickValues={data.map((d) => d.x)} tickFormat={(t: number) => data[t - 1]?.asset ?? ''} style={axisStyle} offsetX={110} />
-        <VictoryAxis dependentAxis style={axisStyle} tickFormat={tick} />
+        <VictoryAxis dependentAxis crossAxis={false} style={axisStyle} tickFormat={tick} />
         <VictoryBar data={data} barWidth={Math.max(4, Math.min(12, (h - 60) / data.length - 4))} style={{ data: { fill: colors.slate } }} />
         <VictoryErrorBar data={data} style={{ data: { stroke: colors.ink, strokeWidth: 1 } }} />
       </VictoryChart>

@@ -109,7 +109,7 @@ describe('deep checks in the browser', () => {
     await shot(page, 'deep-checks-bootstrap-wide');
 
     // 4. the jobs list shows all three
-    await panel.getByRole('link', { name: 'All jobs' }).click();
+    await panel.getByRole('link', { name: 'All deep checks' }).click();
     await page.waitForURL(/\/jobs$/);
     await page.getByRole('group', { name: /^Subset sweep #\d+$/ }).first().waitFor();
     await expect(page.getByLabel('Job state: cancelled').count()).resolves.toBeGreaterThan(0);
