@@ -97,6 +97,7 @@ export function RunReview({ run, me }: { run: Run; me: User }) {
             <Button label="Approve" variant="primary" busy={signoff.isPending} onPress={() => signoff.mutate({ decision: 'approved', note: note.trim() || undefined }, { onSuccess: () => setNote('') })} />
             <Button label="Request changes" variant="danger" busy={signoff.isPending} onPress={() => signoff.mutate({ decision: 'changes-requested', note: note.trim() || undefined }, { onSuccess: () => setNote('') })} />
           </View>
+          <Text style={text.muted}>A sign-off says the method and evidence hold up; the results stay statistical evidence, not investment advice.</Text>
           {signoff.isError ? <ErrorView error={signoff.error} title="The sign-off was not saved" /> : null}
         </View>
       ) : null}
