@@ -41,6 +41,17 @@ export default function Libraries() {
   const { open } = useLocalSearchParams<{ open?: string }>();
   const openId = libs.data?.some((l) => String(l.id) === open) ? Number(open) : libs.data?.[0]?.id;
   const [edition, setEdition] = useState<{ lib: number; n: number } | null>(null);
+  const coversField = (
+    <View style={{ flexGrow: 1, flexBasis: 180, maxWidth: 320 }}>
+      <TextField
+        label="Covers date"
+        value={covers}
+        onChangeText={setCovers}
+        placeholder="YYYY-MM"
+        error={coversOk ? undefined : 'Use YYYY-MM or YYYY-MM-DD'}
+      />
+    </View>
+  );
 
   return (
     <Screen
@@ -53,6 +64,7 @@ export default function Libraries() {
         <View style={{ flexGrow: 2, flexBasis: 260 }}>
           <TextField label="Search libraries" value={q} onChangeText={setQ} placeholder="Name or description" />
         </View>
+        {wide ? coversField : null}
         {!wide ? (
           <Button
             compact
@@ -64,17 +76,11 @@ export default function Libraries() {
       </View>
       {wide || showFilters ? (
       <>
+      {wide ? null : (
       <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.md, alignItems: 'flex-start' }}>
-        <View style={{ flexGrow: 1, flexBasis: 180, maxWidth: 320 }}>
-          <TextField
-            label="Covers date"
-            value={covers}
-            onChangeText={setCovers}
-            placeholder="YYYY-MM"
-            error={coversOk ? undefined : 'Use YYYY-MM or YYYY-MM-DD'}
-          />
-        </View>
+        {coversField}
       </View>
+      )}
       <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.lg }}>
         <Select<Freq>
           label="Frequency"
