@@ -20,9 +20,10 @@ export default function Specs() {
   const columns: ColumnDef<SavedSpec, unknown>[] = [
     { accessorKey: 'name', header: 'Spec', meta: { flex: 2 } },
     { id: 'lib', accessorFn: (s) => `${s.libraryName} · ed. ${s.editionNumber}`, header: 'Library', meta: { flex: 2 } },
-    { id: 'nk', accessorFn: (s) => `${s.spec.assets.length} / ${s.spec.factors.length}`, header: 'N / K', meta: { numeric: true } },
+    { id: 'nk', accessorFn: (s) => `${s.spec.assets.length}/${s.spec.factors.length}`, header: 'N/K', meta: { numeric: true, width: 88 } },
     { accessorKey: 'authorName', header: 'Author' },
-    { id: 'when', accessorFn: (s) => s.updatedAt, header: 'Saved', cell: ({ row }) => formatWhen(row.original.updatedAt) },
+    // one line: the date and time never wrap away from "UTC"
+    { id: 'when', accessorFn: (s) => s.updatedAt, header: 'Saved', meta: { width: 190 }, cell: ({ row }) => formatWhen(row.original.updatedAt) },
   ];
   return (
     <Screen title="Model specs" subtitle="Saved choices of test assets, factors and options." actions={writer ? <Button label="New model spec" variant="primary" href="/runs/new" /> : undefined}>
