@@ -69,9 +69,13 @@ export function PredictedRealisedChart({ result }: { result: LedgerResult }) {
 function CoefChart({ title, caption, items }: { title: string; caption: string; items: { x: string; y: number; lo: number; hi: number }[] }) {
   const [w, onLayout] = useWidth();
   const data = items.map((d, i) => ({ x: i + 1, y: d.y, errorY: [d.hi - d.y, d.y - d.lo] as [number, number] }));
+  // Victory sizes the axis to the points only; widen it to the whole intervals (and 0) so no bar is cut off.
+  const lo = Math.min(0, ...items.map((d) => d.lo));
+  const hi = Math.max(0, ...items.map((d) => d.hi));
+  const pad = (hi - lo) * 0.06 || 1;
   return (
     <ChartBox title={title} caption={caption} onLayout={onLayout}>
-      <VictoryChart width={w} height={240} domainPadding={{ x: 24 }} padding={{ top: 10, bottom: 40, left: 56, right: 12 }}>
+      <VictoryChart width={w} height={240} domain={{ x: [0.5, items.length + 0.5], y: [lo - pad, hi + pad] }} domainPadding={{ x: 24 }} padding={{ top: 10, bottom: 40, left: 56, right: 12 }}>
         <VictoryAxis tickValues={items.map((_, i) => i + 1)} tickFormat={(t: number) => items[t - 1]?.x ?? ''} style={axisStyle} offsetY={40} />
         <VictoryAxis dependentAxis crossAxis={false} style={axisStyle} tickFormat={tick} />
         <VictoryLine data={[{ x: 0.5, y: 0 }, { x: items.length + 0.5, y: 0 }]} style={{ data: { stroke: colors.fog, strokeWidth: 1 } }} />
