@@ -65,12 +65,14 @@ function weightedObjective(inp: DropTestInput, WX: Float64Array, WR: Float64Arra
   return quadForm(W, N, g);
 }
 
-/**
- * A tester that shares W*X, W*E[R] and the unrestricted objective across many drop sets
- * (per-factor tests, chosen sets, a subset sweep).
- */
-export function dropTester(inp: DropTestInput): (drop: readonly number[]) => DropTest | null {
-  const { N, K, X, W, meanR, T } = inp;
+/** W X (N×K) and W E_T[R] (N) for a symmetric weighting W (N×N): the products every drop test and sweep reuses. */
+export function weightProducts(
+  X: ArrayLike<number>,
+  W: ArrayLike<number>,
+  meanR: ArrayLike<number>,
+  N: number,
+  K: number,
+): { WX: Float64Array; WR: Float64Array } {
   const WX = new Float64Array(N * K);
   const WR = new Float64Array(N);
   for (let i = 0; i < N; i++) {
@@ -82,6 +84,16 @@ export function dropTester(inp: DropTestInput): (drop: readonly number[]) => Dro
     }
     WR[i] = r;
   }
+  return { WX, WR };
+}
+
+/**
+ * A tester that shares W*X, W*E[R] and the unrestricted objective across many drop sets
+ * (per-factor tests, chosen sets, a subset sweep).
+ */
+export function dropTester(inp: DropTestInput): (drop: readonly number[]) => DropTest | null {
+  const { N, K, X, W, meanR, T } = inp;
+  const { WX, WR } = weightProducts(X, W, meanR, N, K);
   const all = Array.from({ length: K }, (_, k) => k);
   const qu = weightedObjective(inp, WX, WR, all);
   return (drop) => {

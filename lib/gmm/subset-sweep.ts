@@ -25,6 +25,7 @@
  */
 import { chiSquareSf } from './distributions';
 import { GmmInputError } from './errors';
+import { weightProducts } from './drop-test';
 import { defaultLag } from './hac';
 import { cholesky, choleskyInverse, choleskySolve, fromNested } from './linalg';
 import { momentsFromPacked, secondMomentMatrix } from './moments';
@@ -115,17 +116,7 @@ export function subsetFactors(mask: number, names: readonly string[]): string[] 
 }
 
 function products(X: Float64Array, W: Float64Array, meanR: Float64Array, N: number, K: number) {
-  const WX = new Float64Array(N * K);
-  const WR = new Float64Array(N);
-  for (let i = 0; i < N; i++) {
-    let r = 0;
-    for (let j = 0; j < N; j++) {
-      const w = W[i * N + j];
-      r += w * meanR[j];
-      for (let k = 0; k < K; k++) WX[i * K + k] += w * X[j * K + k];
-    }
-    WR[i] = r;
-  }
+  const { WX, WR } = weightProducts(X, W, meanR, N, K);
   const A = new Float64Array(K * K);
   const c = new Float64Array(K);
   for (let a = 0; a < K; a++) {
