@@ -29,29 +29,12 @@
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { mulberry32 } from '../lib/gmm/random';
+import { boxMuller as normals, mulberry32 } from '../lib/gmm/random';
 
 /** Chosen so that the sample verdicts match the population ones under every stage and weighting (checked by tests/api/libraries-demo.test.ts). */
 export const DEMO_SEED = 20261205;
 
 
-/** Standard normal draws by the Box–Muller transform. */
-function normals(rnd: () => number): () => number {
-  let spare: number | null = null;
-  return () => {
-    if (spare !== null) {
-      const s = spare;
-      spare = null;
-      return s;
-    }
-    let u = 0;
-    while (u === 0) u = rnd();
-    const v = rnd();
-    const r = Math.sqrt(-2 * Math.log(u));
-    spare = r * Math.sin(2 * Math.PI * v);
-    return r * Math.cos(2 * Math.PI * v);
-  };
-}
 
 export interface MarketParams {
   T: number;

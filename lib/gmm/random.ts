@@ -19,3 +19,27 @@ export function mulberry32(seed: number): () => number {
     return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
   };
 }
+
+/**
+ * Standard normal draws from a uniform generator by the Box–Muller transform (Box and Muller 1958,
+ * Annals of Mathematical Statistics 29(2), 610–611), using both values of each pair.
+ *
+ * @param uniform draws on [0, 1), e.g. `mulberry32(seed)`; a draw of exactly 0 is skipped.
+ * @returns a function giving the next standard normal draw.
+ */
+export function boxMuller(uniform: () => number): () => number {
+  let spare: number | null = null;
+  return () => {
+    if (spare !== null) {
+      const s = spare;
+      spare = null;
+      return s;
+    }
+    let u = 0;
+    while (u === 0) u = uniform();
+    const v = uniform();
+    const r = Math.sqrt(-2 * Math.log(u));
+    spare = r * Math.sin(2 * Math.PI * v);
+    return r * Math.cos(2 * Math.PI * v);
+  };
+}

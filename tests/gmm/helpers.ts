@@ -8,26 +8,13 @@ import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { mulberry32 } from '../../lib/gmm/random';
+import { boxMuller, mulberry32 } from '../../lib/gmm/random';
 
 export { mulberry32 };
 
+/** Standard normal draws: Box–Muller on mulberry32 (both from lib/gmm/random.ts). */
 export function normalSampler(seed: number): () => number {
-  const u = mulberry32(seed);
-  let spare: number | null = null;
-  return () => {
-    if (spare !== null) {
-      const s = spare;
-      spare = null;
-      return s;
-    }
-    let a = u();
-    while (a <= 1e-300) a = u();
-    const b = u();
-    const r = Math.sqrt(-2 * Math.log(a));
-    spare = r * Math.sin(2 * Math.PI * b);
-    return r * Math.cos(2 * Math.PI * b);
-  };
+  return boxMuller(mulberry32(seed));
 }
 
 export interface Economy {
