@@ -11,7 +11,15 @@ const prob = finite.refine((p) => p >= 0 && p <= 1, 'must be a probability');
 const nonNeg = finite.refine((v) => v >= 0, 'must be ≥ 0');
 
 export const stageSchema = z.enum(['first', 'second', 'iterated']);
-export const weightingSchema = z.enum(['identity', 'second-moment']);
+export const weightingSchema = z.enum(['identity', 'second-moment', 'covariance']);
+export const basisSchema = z.enum(['standard', 'robust', 'bootstrap']);
+export const bootstrapSchemeSchema = z.enum(['iid', 'block']);
+export const bootstrapSettingsSchema = z.object({
+  draws: z.number().int().positive(),
+  scheme: bootstrapSchemeSchema,
+  blockLength: z.number().int().positive().optional(),
+  seed: z.number().int(),
+});
 export const sdfFormSchema = z.enum(['centred', 'uncentred']);
 export const verdictSchema = z.enum(['needed and priced', 'priced, not needed', 'needed, not priced alone', 'neither']);
 
@@ -33,6 +41,20 @@ export const ledgerFactorSchema = z.object({
   chi2Drop: chiSquareTestSchema.nullable(),
   spanning: z.object({ alpha: finite, se: nonNeg, t: finite, p: prob }).nullable(),
   thinBeta: z.object({ stat: nonNeg, df: z.number().int().min(1), p: prob, flag: z.boolean() }).nullable(),
+  robust: z
+    .object({
+      seB: nonNeg,
+      tB: finite,
+      pB: prob,
+      ciB: z.tuple([finite, finite]),
+      seLambda: nonNeg,
+      tLambda: finite,
+      pLambda: prob,
+      ciLambda: z.tuple([finite, finite]),
+    })
+    .nullable(),
+  bootstrap: z.object({ pB: prob, pLambda: prob.nullable(), pDrop: prob.nullable() }).nullable(),
+  verdicts: z.object({ standard: verdictSchema, robust: verdictSchema.nullable(), bootstrap: verdictSchema.nullable() }),
   verdict: verdictSchema,
 });
 
@@ -83,6 +105,23 @@ export const ledgerResultSchema = z.object({
   jointSpanning: z
     .object({ factors: z.array(z.string()), alpha: z.array(finite), stat: nonNeg, df: z.number().int().positive(), p: prob })
     .nullable(),
+  basis: basisSchema,
+  verdictBasis: basisSchema,
+  robustNote: z.string().nullable(),
+  bootstrap: z
+    .object({
+      draws: z.number().int().positive(),
+      validDraws: z.number().int().min(0),
+      scheme: bootstrapSchemeSchema,
+      blockLength: z.number().int().positive(),
+      seed: z.number().int(),
+      pJ: prob,
+      pJointWald: prob.nullable(),
+      pJointDrop: prob.nullable(),
+    })
+    .nullable(),
+  caution: z.string().nullable(),
+  lagWarning: z.string().nullable(),
   options: z.object({
     stage: stageSchema,
     weighting: weightingSchema,
@@ -92,6 +131,8 @@ export const ledgerResultSchema = z.object({
     level: finite.refine((v) => v > 0 && v < 1, 'must be in (0, 1)'),
     dropSet: z.array(z.string()),
     fmIntercept: z.boolean(),
+    basis: basisSchema,
+    bootstrap: bootstrapSettingsSchema.nullable(),
   }),
   warnings: z.array(z.string()),
 });

@@ -10,7 +10,19 @@
 import { z } from 'zod';
 
 export const STAGES = ['first', 'second', 'iterated'] as const;
-export const WEIGHTINGS = ['identity', 'second-moment'] as const;
+export const WEIGHTINGS = ['identity', 'second-moment', 'covariance'] as const;
+/** Basis of the verdict (glossary): standard, robust (first-stage runs), bootstrap. */
+export const BASES = ['standard', 'robust', 'bootstrap'] as const;
+export const BOOTSTRAP_SCHEMES = ['iid', 'block'] as const;
+
+/** Bootstrap p-values asked for in the ledger (a bootstrap deep check started with the run). */
+export const specBootstrapSchema = z.object({
+  draws: z.number().int('Draws are a whole number').min(99, 'Use at least 99 draws').max(10000, 'Use at most 10,000 draws').default(999),
+  scheme: z.enum(BOOTSTRAP_SCHEMES).default('iid'),
+  /** Block length for the block scheme; omitted: ceil(T^(1/3)). */
+  blockLength: z.number().int('The block length is a whole number').min(1, 'The block length is at least 1').optional(),
+  seed: z.number().int('The seed is a whole number').min(0).max(2 ** 31 - 1).default(1),
+});
 export const FORMS = ['centred', 'uncentred'] as const;
 
 const isoDate = z.string().regex(/^\d{4}-\d{2}(-\d{2})?$/, 'Use a date such as 2010-01-31 or 2010-01');
@@ -50,6 +62,10 @@ export const modelSpecSchema = z
     rf: seriesName.optional(),
     /** Factors to test jointly (Wald on b and χ² drop test). */
     dropSet: z.array(seriesName).optional(),
+    /** Basis of the verdict; omitted: robust for a first-stage spec, standard otherwise (see resolveBasis). */
+    basis: z.enum(BASES).optional(),
+    /** Bootstrap p-values in the ledger; required (defaults filled) when basis is bootstrap. */
+    bootstrap: specBootstrapSchema.optional(),
   })
   .superRefine((s, ctx) => {
     for (const d of duplicates(s.assets)) ctx.addIssue({ code: 'custom', path: ['assets'], message: `The test asset '${d}' is chosen twice` });
@@ -66,9 +82,22 @@ export const modelSpecSchema = z
     }
     if (s.rf && (s.assets.includes(s.rf) || s.factors.includes(s.rf)))
       ctx.addIssue({ code: 'custom', path: ['rf'], message: `The risk-free series '${s.rf}' cannot also be a test asset or a factor` });
+    if (s.basis === 'robust' && s.stage !== 'first')
+      ctx.addIssue({
+        code: 'custom',
+        path: ['basis'],
+        message: 'The robust basis needs a first-stage run (robust SEs need a weighting that does not depend on b)',
+      });
+    if (s.basis === 'bootstrap' && !s.bootstrap)
+      ctx.addIssue({ code: 'custom', path: ['bootstrap'], message: 'The bootstrap basis needs bootstrap settings (draws, scheme, seed)' });
     if (s.window?.start && s.window?.end && s.window.start > s.window.end)
       ctx.addIssue({ code: 'custom', path: ['window', 'end'], message: 'The window ends before it starts' });
   });
+
+/** The basis a spec's verdicts rest on: its own choice, else robust for first-stage, standard otherwise. */
+export function resolveBasis(spec: { stage?: (typeof STAGES)[number]; basis?: (typeof BASES)[number] }): (typeof BASES)[number] {
+  return spec.basis ?? ((spec.stage ?? 'second') === 'first' ? 'robust' : 'standard');
+}
 
 /** What a client sends (defaults may be left out). */
 export type ModelSpecInput = z.input<typeof modelSpecSchema>;
@@ -188,7 +217,10 @@ export const SPEC_HELP = {
   window: 'Sample window: only dates inside it are used. Leave empty for the whole edition.',
   form: 'Centred: m = 1 − b′(f − μ), λ = Σ_f b. Uncentred: m = 1 − b′f.',
   stage: 'First stage uses a fixed weighting; second re-weights by the inverse long-run covariance; iterated repeats until b settles.',
-  weighting: 'First-stage weighting: identity (equal weight on each pricing error) or the inverse second-moment matrix of returns.',
+  weighting:
+    'First-stage weighting: identity (equal weight on each pricing error), the inverse second-moment matrix of returns, or the inverse covariance matrix of returns.',
+  basis: 'Which p-values the verdicts rest on: standard, robust (misspecification-robust, first stage only) or bootstrap.',
+  bootstrap: 'Bootstrap p-values beside the asymptotic ones: a background check started with the run (draws, iid or block resampling, seed).',
   factorMeansKnown: 'Estimated (default) corrects standard errors for the sampling error of the factor means.',
   lags: 'Newey–West lag for every long-run covariance; auto uses floor(4 (T/100)^(2/9)).',
   level: 'Significance level for the verdicts (needed / priced) and confidence intervals.',

@@ -17,6 +17,7 @@ export * from './fama-macbeth';
 export * from './hj-distance';
 export * from './verdict';
 export * from './ledger';
+export * from './ledger-bootstrap';
 export {
   cholesky,
   choleskySolve,

@@ -28,8 +28,27 @@ import { spanningJointCore, spanningSingle, type SpanningSingle } from './spanni
 import { thinBetaTest, type ThinBetaTest } from './thin-beta';
 import { checkCollinear, validateMatrices } from './validate';
 import { factorVerdict, type Verdict } from './verdict';
+import type { BootstrapScheme } from './bootstrap';
 import { waldJoint, waldSingle } from './wald';
 import { dropTester, type DropTest } from './drop-test';
+
+/**
+ * The basis of the verdict (glossary): which p-values the needed / priced calls rest on.
+ * standard: the influence-function SEs that assume correct specification; robust: the
+ * misspecification-robust SEs (first-stage runs only; Kan and Robotti 2008; Gospodinov, Kan and
+ * Robotti 2014); bootstrap: Hall–Horowitz (1996) recentred bootstrap p-values.
+ */
+export type Basis = 'standard' | 'robust' | 'bootstrap';
+export const BASES: readonly Basis[] = ['standard', 'robust', 'bootstrap'];
+
+/** Bootstrap settings of a run whose ledger carries bootstrap p-values. */
+export interface LedgerBootstrapSettings {
+  readonly draws: number;
+  readonly scheme: BootstrapScheme;
+  /** Block length for the block scheme; omitted: ceil(T^(1/3)). */
+  readonly blockLength?: number;
+  readonly seed: number;
+}
 
 export interface LedgerOptions {
   readonly stage: GmmStage;
@@ -43,6 +62,10 @@ export interface LedgerOptions {
   readonly dropSet?: readonly string[];
   /** Add an intercept to the Fama–MacBeth cross-sectional regressions. */
   readonly fmIntercept?: boolean;
+  /** Basis of the verdict; default robust for first-stage runs, standard otherwise. */
+  readonly basis?: Basis;
+  /** Bootstrap settings (required for basis 'bootstrap'; optional otherwise, to show bootstrap p beside). */
+  readonly bootstrap?: LedgerBootstrapSettings;
 }
 
 export interface LedgerInput {
@@ -54,6 +77,51 @@ export interface LedgerInput {
   readonly factors: readonly (readonly number[])[];
   readonly traded: readonly boolean[];
   readonly options: LedgerOptions;
+}
+
+/** Misspecification-robust inference on b and λ for one factor (first-stage runs). */
+export interface LedgerRobust {
+  readonly seB: number;
+  readonly tB: number;
+  readonly pB: number;
+  readonly ciB: readonly [number, number];
+  readonly seLambda: number;
+  readonly tLambda: number;
+  readonly pLambda: number;
+  readonly ciLambda: readonly [number, number];
+}
+
+/** Bootstrap p-values for one factor (null fields: test not defined for this run). */
+export interface LedgerFactorBootstrap {
+  /** Bootstrap-t p for b_k = 0. */
+  readonly pB: number;
+  /** Bootstrap-t p for λ_k = 0 (null when not computed, e.g. uncentred form). */
+  readonly pLambda: number | null;
+  /** Bootstrap p for the drop test of factor k. */
+  readonly pDrop: number | null;
+}
+
+/** The verdict on each basis (null where that basis is not available for the run). */
+export interface LedgerVerdicts {
+  readonly standard: Verdict;
+  readonly robust: Verdict | null;
+  readonly bootstrap: Verdict | null;
+}
+
+/** Run-level bootstrap results merged into the ledger when the bootstrap has finished. */
+export interface LedgerBootstrap {
+  readonly draws: number;
+  /** Draws whose estimation succeeded (the p-value denominators use validDraws + 1). */
+  readonly validDraws: number;
+  readonly scheme: BootstrapScheme;
+  readonly blockLength: number;
+  readonly seed: number;
+  /** Bootstrap p of the J test. */
+  readonly pJ: number;
+  /** Bootstrap p of the joint Wald test on the drop set (null without a drop set). */
+  readonly pJointWald: number | null;
+  /** Bootstrap p of the joint drop test on the drop set (null without a drop set). */
+  readonly pJointDrop: number | null;
 }
 
 export interface LedgerFactor {
@@ -72,6 +140,12 @@ export interface LedgerFactor {
   readonly chi2Drop: DropTest | null;
   readonly spanning: SpanningSingle | null;
   readonly thinBeta: ThinBetaTest | null;
+  /** Misspecification-robust SEs, t and p (null unless the run is first-stage). */
+  readonly robust: LedgerRobust | null;
+  /** Bootstrap p-values (null until a bootstrap has been merged in, or when none was asked). */
+  readonly bootstrap: LedgerFactorBootstrap | null;
+  readonly verdicts: LedgerVerdicts;
+  /** The verdict on `verdictBasis` (the ledger's headline). */
   readonly verdict: Verdict;
 }
 
@@ -123,6 +197,18 @@ export interface LedgerResult {
   readonly famaMacBeth: FamaMacBethResult | null;
   readonly jointDrop: LedgerJointDrop | null;
   readonly jointSpanning: LedgerJointSpanning | null;
+  /** The basis the user asked for. */
+  readonly basis: Basis;
+  /** The basis the verdicts rest on now: equals `basis` except while a requested bootstrap is pending. */
+  readonly verdictBasis: Basis;
+  /** Why robust SEs are not available (second-stage or iterated run), else null. */
+  readonly robustNote: string | null;
+  /** Bootstrap results (null until merged, or when none was asked). */
+  readonly bootstrap: LedgerBootstrap | null;
+  /** A caution with numbers when T < 10·N or the lag is large (shown beside J and the verdicts), else null. */
+  readonly caution: string | null;
+  /** A warning when L > 2·T^(1/3) (shown beside every SE), else null. */
+  readonly lagWarning: string | null;
   readonly options: {
     readonly stage: GmmStage;
     readonly weighting: FirstStageWeighting;
@@ -132,6 +218,8 @@ export interface LedgerResult {
     readonly level: number;
     readonly dropSet: readonly string[];
     readonly fmIntercept: boolean;
+    readonly basis: Basis;
+    readonly bootstrap: LedgerBootstrapSettings | null;
   };
   readonly warnings: readonly string[];
 }
@@ -151,8 +239,17 @@ function checkOptions(input: LedgerInput, T: number): number {
   if (!o || typeof o !== 'object') throw new GmmInputError('invalid-option', 'options are missing.');
   if (!['first', 'second', 'iterated'].includes(o.stage))
     throw new GmmInputError('invalid-option', `stage must be first, second or iterated; got '${String(o.stage)}'.`);
-  if (!['identity', 'second-moment'].includes(o.weighting))
-    throw new GmmInputError('invalid-option', `weighting must be identity or second-moment; got '${String(o.weighting)}'.`);
+  if (!['identity', 'second-moment', 'covariance'].includes(o.weighting))
+    throw new GmmInputError('invalid-option', `weighting must be identity, second-moment or covariance; got '${String(o.weighting)}'.`);
+  if (o.basis !== undefined && !BASES.includes(o.basis))
+    throw new GmmInputError('invalid-option', `basis must be standard, robust or bootstrap; got '${String(o.basis)}'.`);
+  if (o.basis === 'robust' && o.stage !== 'first')
+    throw new GmmInputError(
+      'invalid-option',
+      'The robust basis needs a first-stage run: misspecification-robust SEs are defined only when the weighting does not depend on b.',
+    );
+  if (o.basis === 'bootstrap' && !o.bootstrap)
+    throw new GmmInputError('invalid-option', 'The bootstrap basis needs bootstrap settings (draws, scheme, seed).');
   if (!['centred', 'uncentred'].includes(o.form))
     throw new GmmInputError('invalid-option', `form must be centred or uncentred; got '${String(o.form)}'.`);
   if (typeof o.factorMeansKnown !== 'boolean') throw new GmmInputError('invalid-option', 'factorMeansKnown must be true or false.');
@@ -233,6 +330,7 @@ export function estimateLedger(input: LedgerInput): LedgerResult {
     const lz = waldSingle(prem.lambda[k], Math.sqrt(Math.max(0, prem.covLambda[k * K + k])));
     const traded = input.traded[k];
     const thin = thinBetaTest(m, k, lags);
+    const standardVerdict = factorVerdict(bz.p, lz.p, level);
     if (!thin) warnings.push(`The thin-beta test for '${name}' could not be computed (singular covariance).`);
     else if (thin.flag) warnings.push(`'${name}' has a thin beta (p = ${thin.p.toFixed(3)}): its b and λ inference is unreliable.`);
     const span = traded ? spanningSingle(m, k, lags) : null;
@@ -253,7 +351,10 @@ export function estimateLedger(input: LedgerInput): LedgerResult {
       chi2Drop: drop ? drop([k]) : null,
       spanning: span,
       thinBeta: thin,
-      verdict: factorVerdict(bz.p, lz.p, level),
+      robust: null,
+      bootstrap: null,
+      verdicts: { standard: standardVerdict, robust: null, bootstrap: null },
+      verdict: standardVerdict,
     };
   });
   if (nonTradedNames.length > 0 && K > 1 && nonTradedNames.length < K)
@@ -289,6 +390,14 @@ export function estimateLedger(input: LedgerInput): LedgerResult {
     } else warnings.push('The joint spanning check is not reported: the drop set contains a non-traded factor.');
   }
 
+  const basis: Basis = o.basis ?? (o.stage === 'first' ? 'robust' : 'standard');
+  const robustNote =
+    o.stage === 'first'
+      ? null
+      : `Robust SEs are not available for a ${o.stage === 'second' ? 'second-stage' : 'iterated'} run: its weighting depends on b̂. A first-stage copy of the spec gives them.`;
+  // Until robust SEs are computed here, the verdicts rest on the standard basis.
+  const verdictBasis: Basis = 'standard';
+
   return {
     T,
     N,
@@ -305,6 +414,12 @@ export function estimateLedger(input: LedgerInput): LedgerResult {
     famaMacBeth: fm,
     jointDrop,
     jointSpanning,
+    basis,
+    verdictBasis,
+    robustNote,
+    bootstrap: null,
+    caution: null,
+    lagWarning: null,
     options: {
       stage: o.stage,
       weighting: o.weighting,
@@ -314,6 +429,8 @@ export function estimateLedger(input: LedgerInput): LedgerResult {
       level,
       dropSet,
       fmIntercept: o.fmIntercept ?? false,
+      basis,
+      bootstrap: o.bootstrap ?? null,
     },
     warnings,
   };

@@ -5,7 +5,8 @@
  * E[R_t (1 − (f_t − μ)' b)] = 0, pricing errors g(b) = E_T[R] − C b, C = Cov_T(R, f).
  * Uncentred form: m_t = 1 − b' f_t, g(b) = E_T[R] − D b, D = E_T[R f'].
  * For a weighting W: b̂ = (X'WX)^{-1} X'W E_T[R] with X = C or D; α̂ = g(b̂).
- *   first stage: W = I or W = (E_T[R R'])^{-1} (second-moment weighting);
+ *   first stage: W = I, W = (E_T[R R'])^{-1} (second-moment weighting) or W = (Cov_T(R))^{-1}
+ *   (covariance weighting, Kan and Robotti 2008);
  *   second stage: W = Ŝ^{-1}, Ŝ = HAC long-run covariance of h_t at the first-stage b̂;
  *   iterated: repeat until max |Δb̂| < 1e-10 (at most 100 steps).
  * Moment series: h_t = R_t (1 − (f_t − μ)'b) + E_T[R] b'(f_t − μ) (the factor-mean correction);
@@ -42,15 +43,15 @@ import {
   quadForm,
   toNested,
 } from './linalg';
-import { prepareMoments, secondMomentMatrix, type MomentData } from './moments';
+import { covarianceFromSecondMoment, prepareMoments, secondMomentMatrix, type MomentData } from './moments';
 
 export type GmmStage = 'first' | 'second' | 'iterated';
-export type FirstStageWeighting = 'identity' | 'second-moment';
+export type FirstStageWeighting = 'identity' | 'second-moment' | 'covariance';
 export type SdfForm = 'centred' | 'uncentred';
 
 export interface SdfGmmOptions {
   readonly stage: GmmStage;
-  /** First-stage weighting: I_N (default) or (E_T[R R'])^{-1}. */
+  /** First-stage weighting: I_N (default), (E_T[R R'])^{-1}, or (Cov_T(R))^{-1} (Kan and Robotti 2008). */
   readonly weighting?: FirstStageWeighting;
   /** Bartlett lag for every HAC estimate (integer ≥ 0). */
   readonly lags: number;
@@ -218,10 +219,16 @@ export function fitSdfGmm(m: MomentData, options: SdfGmmOptions): SdfGmmFit | Sd
   const fail = (matrix: string, message: string): SdfGmmFailure => ({ ok: false, reason: 'singular', matrix, message });
 
   let W1: Float64Array;
-  if ((options.weighting ?? 'identity') === 'second-moment') {
+  const weighting = options.weighting ?? 'identity';
+  if (weighting === 'second-moment') {
     const E = options.secondMoment ?? secondMomentMatrix(m.R, T, N, m.Rcols);
     const L = cholesky(E, N);
     if (!L) return fail('E[RR\']', 'The second-moment matrix of the returns is singular; second-moment weighting is impossible.');
+    W1 = choleskyInverse(L, N);
+  } else if (weighting === 'covariance') {
+    const E = options.secondMoment ?? secondMomentMatrix(m.R, T, N, m.Rcols);
+    const L = cholesky(covarianceFromSecondMoment(E, meanR), N);
+    if (!L) return fail('Cov(R)', 'The covariance matrix of the returns is singular; covariance weighting is impossible.');
     W1 = choleskyInverse(L, N);
   } else {
     W1 = new Float64Array(N * N);
