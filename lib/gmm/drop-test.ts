@@ -2,7 +2,8 @@
  * χ² difference ("drop") test with a common weighting matrix: can the factors in S be dropped?
  *
  * Formula (plain text): W* = Ŝ_u^{-1}, the weighting matrix of the unrestricted model's second
- * stage (for iterated GMM, the final one). Estimate the unrestricted model and the restricted
+ * stage (for iterated GMM, the final one; for a first-stage run, Ŝ at the first-stage b̂, i.e. the
+ * second stage computed from it: see `dropWeighting`). Estimate the unrestricted model and the restricted
  * model (b_S = 0: drop those columns of X) both with W*:
  *   b̂_r = (X_r' W* X_r)^{-1} X_r' W* E_T[R],  g_r = E_T[R] − X_r b̂_r,
  *   D = T (g_r' W* g_r − g_u' W* g_u) ~ χ²(|S|).
@@ -16,7 +17,20 @@
  * chiSquareDifference({ T: 10, N: 2, K: 2, X: [1, 0, 0, 1], W: [1, 0, 0, 1], meanR: [1, 2] }, [1]).stat // → 40
  */
 import { chiSquareSf } from './distributions';
-import { cholesky, choleskySolve, quadForm } from './linalg';
+import { cholesky, choleskyInverse, choleskySolve, quadForm } from './linalg';
+import type { SdfGmmFit } from './sdf-gmm';
+
+/**
+ * The common weighting W* of the drop tests for a fit: the last weighting of a second-stage or
+ * iterated fit (Ŝ_u⁻¹), and for a first-stage fit the second stage computed from it — Ŝ, the HAC
+ * of h_t at the first-stage b̂ with the same lag (the fit's `Sb`), inverted (methods contract,
+ * drop test 2). Null when that Ŝ is singular.
+ */
+export function dropWeighting(fit: SdfGmmFit): Float64Array | null {
+  if (fit.stage !== 'first') return fit.W;
+  const L = cholesky(fit.Sb, fit.N);
+  return L ? choleskyInverse(L, fit.N) : null;
+}
 
 export interface DropTestInput {
   readonly T: number;

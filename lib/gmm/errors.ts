@@ -17,6 +17,7 @@ export type GmmInputErrorCode =
   | 'length-mismatch'
   | 'duplicate-name'
   | 'too-few-periods'
+  | 'too-few-assets'
   | 'invalid-lags'
   | 'invalid-option'
   | 'constant-series'

@@ -19,7 +19,10 @@
  * Heteroskedasticity and Autocorrelation Consistent Covariance Matrix", Econometrica 55(3),
  * 703–708. Lag rule: Newey, W. K. and West, K. D. (1994), "Automatic Lag Selection in
  * Covariance Matrix Estimation", Review of Economic Studies 61(4), 631–653 (the plug-in
- * floor(4 (T/100)^(2/9)) is common practice).
+ * floor(4 (T/100)^(2/9)) is common practice). Lag limits of the ledger: L ≥ T/4 is refused
+ * (`resolveLag`); L > 2·T^(1/3) earns a warning (Andrews, D. W. K. (1991), "Heteroskedasticity and
+ * Autocorrelation Consistent Covariance Matrix Estimation", Econometrica 59(3), 817–858: the
+ * MSE-optimal Bartlett lag grows like T^(1/3)).
  *
  * @example
  * // x_t = 1, −1, 1, −1 (T = 4, p = 1), L = 1:
@@ -56,6 +59,33 @@ export function crossProductColumns(Qc: Float64Array, M: number, p: number): Flo
 export function defaultLag(T: number): number {
   if (!(T > 0)) return 0;
   return Math.floor(4 * Math.pow(T / 100, 2 / 9));
+}
+
+/** The largest Bartlett lag the methods contract allows for T periods: the largest L with L < T/4. */
+export function maxLag(T: number): number {
+  return Math.max(0, Math.ceil(T / 4) - 1);
+}
+
+/**
+ * Resolve and check a lag request against T (methods contract, "Long-run covariance"):
+ * 'auto' gives the plug-in rule; an integer must satisfy 0 ≤ L < T/4.
+ * @throws GmmInputError 'invalid-lags' naming the largest allowed lag for this T.
+ */
+export function resolveLag(lags: number | 'auto', T: number): number {
+  const L = lags === 'auto' ? defaultLag(T) : lags;
+  if (typeof L !== 'number' || !Number.isInteger(L) || L < 0)
+    throw new GmmInputError('invalid-lags', `lags must be 'auto' or an integer ≥ 0; got ${String(lags)}.`);
+  if (4 * L >= T)
+    throw new GmmInputError(
+      'invalid-lags',
+      `lags = ${L} is too long for T = ${T} periods: the lag must be below T/4, so the largest allowed lag is ${maxLag(T)}.`,
+    );
+  return L;
+}
+
+/** Bartlett's MSE-optimal lag grows like T^(1/3) (Andrews 1991): the lag above which the ledger warns, 2·T^(1/3). */
+export function lagWarningThreshold(T: number): number {
+  return 2 * Math.cbrt(T);
 }
 
 /**

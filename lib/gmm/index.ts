@@ -8,6 +8,7 @@ export * from './validate';
 export * from './ols';
 export * from './sdf-gmm';
 export * from './premia';
+export * from './robust';
 export * from './wald';
 export * from './drop-test';
 export * from './spanning';

@@ -4,7 +4,8 @@
  *
  * Formula (plain text). Centred form: λ̂ = Σ̂_f b̂, influence
  *   ψ_λ,t = Σ̂_f ψ_b,t + (f_t − μ)(f_t − μ)' b̂ − λ̂,   Var(λ̂) = (1/T) LRV(ψ_λ),
- * with ψ_b,t = H h_t from the GMM fit and the same Bartlett lag.
+ * with ψ_b,t = H h_t from the GMM fit and the same Bartlett lag, or any other influence series of
+ * b̂ the caller passes (robust.ts passes the misspecification-robust one, Kan and Robotti 2008).
  * Uncentred form: λ̂ = Σ̂_f b̂ / c, c = 1 − μ'b̂; by the delta method
  *   ψ_λ,t = [ (Σ̂_f + λ̂ μ') ψ_b,t + ((f_t − μ)(f_t − μ)' − Σ̂_f) b̂ + λ̂ b̂'(f_t − μ) ] / c.
  *
@@ -48,10 +49,11 @@ export interface PremiaFailure {
  * λ̂ and Var(λ̂) from a GMM fit on the same moments.
  * @param m the moments the fit was computed on.
  * @param fit a successful fitSdfGmm result (its lag is reused).
+ * @param psiB optional influence series of b̂ (T×K row-major) to use in place of ψ_b,t = H h_t.
  * @returns λ̂ (K) and Var(λ̂) (K×K, row-major), or a typed failure when 1 − μ'b̂ is zero in the
  *   uncentred form.
  */
-export function fitPremia(m: MomentData, fit: SdfGmmFit): PremiaFit | PremiaFailure {
+export function fitPremia(m: MomentData, fit: SdfGmmFit, psiB?: Float64Array): PremiaFit | PremiaFailure {
   const { T, N, K, F, Fc, R, meanR, sigmaF, meanF } = m;
   const { b, H, lags } = fit;
   let c = 1;
@@ -95,10 +97,16 @@ export function fitPremia(m: MomentData, fit: SdfGmmFit): PremiaFit | PremiaFail
       st += S[fr + k] * b[k];
     }
     for (let a = 0; a < K; a++) {
-      let v = 0;
-      const ar = a * N;
-      for (let i = 0; i < N; i++) v += AH[ar + i] * R[hr + i];
-      let s = v * (1 - st) + (corrected ? AHER[a] * st : 0);
+      let s: number;
+      if (psiB) {
+        s = 0;
+        for (let d = 0; d < K; d++) s += A[a * K + d] * psiB[fr + d];
+      } else {
+        let v = 0;
+        const ar = a * N;
+        for (let i = 0; i < N; i++) v += AH[ar + i] * R[hr + i];
+        s = v * (1 - st) + (corrected ? AHER[a] * st : 0);
+      }
       // (f̃ f̃' − Σ_f) b = f̃ (f̃'b) − Σ_f b
       s += Fc[fr + a] * fb - sigB[a];
       if (fit.form === 'uncentred') s += lambda[a] * fb;

@@ -19,7 +19,7 @@
  */
 import { normalQuantile } from './distributions';
 import { GmmInputError } from './errors';
-import { defaultLag } from './hac';
+import { defaultLag, maxLag } from './hac';
 import { fromNested } from './linalg';
 import { momentsFromPacked } from './moments';
 import { fitPremia } from './premia';
@@ -123,7 +123,8 @@ export function estimateWindows(input: RollingInput, from: number, to: number): 
     const [s, e] = windows[w];
     const n = e - s;
     const base = { start: s, end: e, startDate: input.dates?.[s] ?? null, endDate: input.dates?.[e - 1] ?? null };
-    const lags = o.lags === 'auto' ? defaultLag(n) : Math.min(o.lags, n - 1);
+    // the window's own lag limit (L < n/4, methods contract) caps a fixed lag
+    const lags = o.lags === 'auto' ? defaultLag(n) : Math.min(o.lags, maxLag(n));
     const m = momentsFromPacked(R.subarray(s * N, e * N), F.subarray(s * K, e * K), n, N, K);
     let failure: string | null = null;
     for (let k = 0; k < K && !failure; k++) {

@@ -8,7 +8,9 @@
  *   first stage: W = I, W = (E_T[R R'])^{-1} (second-moment weighting) or W = (Cov_T(R))^{-1}
  *   (covariance weighting, Kan and Robotti 2008);
  *   second stage: W = Ŝ^{-1}, Ŝ = HAC long-run covariance of h_t at the first-stage b̂;
- *   iterated: repeat until max |Δb̂| < 1e-10 (at most 100 steps).
+ *   iterated: repeat until max_k |Δb̂_k| ≤ 1e-10 · max(1e-300, max_k |b̂_k|) (relative, so the
+ *   stop does not depend on the units of the data; at most 100 steps).
+ * Exactly identified (N = K): b̂ = X^{-1} E_T[R], and α̂, Var(α̂) and J are reported as exact zeros.
  * Moment series: h_t = R_t (1 − (f_t − μ)'b) + E_T[R] b'(f_t − μ) (the factor-mean correction);
  * with factorMeansKnown e_t = R_t (1 − (f_t − μ)'b); uncentred h_t = R_t (1 − f_t'b).
  * Standard errors: H = (X'WX)^{-1} X'W, ψ_b,t = H h_t, Var(b̂) = (1/T) LRV(ψ_b) = H Ŝ_b H' / T
@@ -59,6 +61,7 @@ export interface SdfGmmOptions {
   /** Use e_t = R_t(1 − (f_t − μ)'b) (no factor-mean correction). Centred form only. */
   readonly factorMeansKnown?: boolean;
   readonly maxIterations?: number;
+  /** Relative stop of the iterated stage: max |Δb_k| ≤ tolerance · max(1e-300, max |b_k|) (default 1e-10). */
   readonly tolerance?: number;
   /** Precomputed E_T[R R'] (N×N), reused when given. */
   readonly secondMoment?: Float64Array;
@@ -74,6 +77,8 @@ export interface ChiSquareTest {
 export interface SdfGmmFit {
   readonly ok: true;
   readonly stage: GmmStage;
+  /** The first-stage weighting (the reported b̂'s weighting when stage is 'first'). */
+  readonly weighting: FirstStageWeighting;
   readonly form: SdfForm;
   readonly factorMeansKnown: boolean;
   readonly lags: number;
@@ -255,20 +260,26 @@ export function fitSdfGmm(m: MomentData, options: SdfGmmOptions): SdfGmmFit | Sd
       const sol = weightedSolve(X, Wn, meanR, N, K);
       if (!sol) return fail("X'Ŝ⁻¹X", 'The second-stage system is singular.');
       let move = 0;
-      for (let k = 0; k < K; k++) move = Math.max(move, Math.abs(sol.b[k] - b[k]));
+      let size = 0;
+      for (let k = 0; k < K; k++) {
+        move = Math.max(move, Math.abs(sol.b[k] - b[k]));
+        size = Math.max(size, Math.abs(sol.b[k]));
+      }
       b = sol.b;
       H = sol.H;
       W = Wn;
       weightingS = S;
       iterations = it;
-      if (options.stage === 'iterated' && move < tol) {
+      if (options.stage === 'iterated' && move <= tol * Math.max(1e-300, size)) {
         converged = true;
         break;
       }
     }
   }
 
-  const alpha = pricingErrors(X, b, meanR, N, K);
+  // Exactly identified: E_T[R] = X b̂ holds exactly, so the pricing errors are zero (not rounding noise).
+  const exact = N === K;
+  const alpha = exact ? new Float64Array(N) : pricingErrors(X, b, meanR, N, K);
   const Sb = sdfLongRunCovariance(m, b, form, meansKnown, lags);
   // Var(b̂) = H Ŝ_b H' / T
   const HS = matMul(H, K, N, Sb, N); // K×N
@@ -286,7 +297,7 @@ export function fitSdfGmm(m: MomentData, options: SdfGmmOptions): SdfGmmFit | Sd
   for (let a = 0; a < K; a++) for (let c = 0; c < K; c++) HSHt[a * K + c] = covB[a * K + c] * T;
   const XHSH = matMul(X, N, K, HSHt, K); // N×K
   const covAlpha = new Float64Array(N * N);
-  for (let i = 0; i < N; i++)
+  for (let i = 0; i < N && !exact; i++)
     for (let j = i; j < N; j++) {
       let q = 0;
       for (let k = 0; k < K; k++) q += XHSH[i * K + k] * X[j * K + k];
@@ -310,6 +321,7 @@ export function fitSdfGmm(m: MomentData, options: SdfGmmOptions): SdfGmmFit | Sd
   return {
     ok: true,
     stage: options.stage,
+    weighting,
     form,
     factorMeansKnown: meansKnown,
     lags,

@@ -25,8 +25,8 @@
  */
 import { chiSquareSf } from './distributions';
 import { GmmInputError } from './errors';
-import { weightProducts } from './drop-test';
-import { defaultLag } from './hac';
+import { dropWeighting, weightProducts } from './drop-test';
+import { resolveLag } from './hac';
 import { cholesky, choleskyInverse, choleskySolve, fromNested } from './linalg';
 import { momentsFromPacked, secondMomentMatrix } from './moments';
 import { fitSdfGmm, type FirstStageWeighting, type SdfForm } from './sdf-gmm';
@@ -157,9 +157,7 @@ export function prepareSubsetSweep(input: SubsetSweepInput): SweepPlan {
   if (K > MAX_SWEEP_FACTORS)
     throw new GmmInputError('invalid-option', `The subset sweep takes at most ${MAX_SWEEP_FACTORS} candidate factors; got ${K}.`);
   const o = input.options;
-  const lags = o.lags === 'auto' ? defaultLag(T) : o.lags;
-  if (!Number.isInteger(lags) || lags < 0 || lags >= T)
-    throw new GmmInputError('invalid-lags', `lags must be 'auto' or an integer from 0 to ${T - 1}; got ${String(o.lags)}.`);
+  const lags = resolveLag(o.lags, T);
   const m = momentsFromPacked(fromNested(input.returns, N), fromNested(input.factors, K), T, N, K);
   const second = secondMomentMatrix(m.R, T, N, m.Rcols);
   const Le = cholesky(second, N);
@@ -169,7 +167,9 @@ export function prepareSubsetSweep(input: SubsetSweepInput): SweepPlan {
   const hj = products(X, Whj, m.meanR, N, K);
   const full = fitSdfGmm(m, { stage: o.stage ?? 'second', weighting: o.weighting, lags, form: o.form, factorMeansKnown: o.factorMeansKnown, secondMoment: second });
   if (!full.ok) throw new GmmInputError('invalid-option', `The full model cannot be estimated: ${full.message}`);
-  const w = products(X, full.W, m.meanR, N, K);
+  const Wstar = dropWeighting(full);
+  if (!Wstar) throw new GmmInputError('invalid-option', 'The full model cannot be estimated: its long-run covariance Ŝ is singular.');
+  const w = products(X, Wstar, m.meanR, N, K);
   const all = Int32Array.from({ length: K }, (_, k) => k);
   const qFull = objective(w.A, w.c, w.q0, K, all, K, new Float64Array(K * K), new Float64Array(K));
   if (qFull === null) throw new GmmInputError('invalid-option', 'The full model is singular under its own weighting.');

@@ -2,9 +2,13 @@
  * Thin-beta flag (weak-factor warning): are the covariances of the test assets with factor k
  * jointly indistinguishable from zero?
  *
- * Formula (plain text): C_k = Cov_T(R, f_k) (N-vector); its influence series is
- *   z_t = (R_t − E_T[R]) (f_k,t − μ_k) − C_k,   Var(Ĉ_k) = (1/T) LRV(z)   (Bartlett HAC, same lag);
- * W_k = Ĉ_k' Var(Ĉ_k)^{-1} Ĉ_k ~ χ²(N). The factor is flagged when the test does not reject at
+ * Formula (plain text): C_k = Cov_T(R, f_k) (N-vector). Its variance is taken under the null
+ * C_k = 0 (methods contract, "Long-run covariance"): the series is
+ *   z_t = (R_t − E_T[R]) (f_k,t − μ_k)   (no subtraction of the sample covariance Ĉ_k),
+ *   Var(Ĉ_k) = (1/T) LRV(z)   (Bartlett HAC, same lag, not demeaned);
+ * W_k = Ĉ_k' Var(Ĉ_k)^{-1} Ĉ_k ~ χ²(N). Under the null E[z_t] = 0, so subtracting Ĉ_k changes
+ * nothing asymptotically; in a sample it would inflate the statistic (with L = 0, by
+ * Sherman–Morrison, W_subtracted = W_null / (1 − W_null/T)), so the null form is used. The factor is flagged when the test does not reject at
  * 10% (p ≥ 0.10): its b and λ inference is then unreliable.
  * Paper: Kan, R. and Zhang, C. (1999), "Two-Pass Tests of Asset Pricing Models with Useless
  * Factors", Journal of Finance 54(1), 203–235.
@@ -40,12 +44,11 @@ export function thinBetaTest(m: MomentData, k: number, lags: number): ThinBetaTe
   const Rc = m.Rcols;
   const f = new Float64Array(T);
   for (let t = 0; t < T; t++) f[t] = Fc[t * K + k];
-  // z_i,t = (R_i,t − E[R_i]) (f_k,t − μ_k) − C_ik, generated column by column
+  // z_i,t = (R_i,t − E[R_i]) (f_k,t − μ_k) under the null C_k = 0, generated column by column
   const V = hacFromColumns(T, N, lags, (i, buf) => {
     const off = i * T;
     const mi = meanR[i];
-    const c = covRF[i * K + k];
-    for (let t = 0; t < T; t++) buf[t] = (Rc[off + t] - mi) * f[t] - c;
+    for (let t = 0; t < T; t++) buf[t] = (Rc[off + t] - mi) * f[t];
   });
   const L = cholesky(V, N);
   if (!L) return null;

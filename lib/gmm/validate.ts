@@ -78,9 +78,10 @@ function checkConstant(
 }
 
 /**
- * Shapes, finiteness, T > N + K, constant series and collinear factors.
- * @throws GmmInputError (codes: empty-input, length-mismatch, ragged-row, non-finite,
- *   too-few-periods, constant-series, collinear-factor).
+ * Shapes, N ≥ K (checked before any moment is computed), finiteness, T > N + K, constant
+ * series and collinear factors.
+ * @throws GmmInputError (codes: empty-input, length-mismatch, too-few-assets, ragged-row,
+ *   non-finite, too-few-periods, constant-series, collinear-factor).
  */
 export function validateMatrices(
   returns: readonly (readonly number[])[],
@@ -96,6 +97,11 @@ export function validateMatrices(
     throw new GmmInputError('length-mismatch', `The returns have ${T} rows but the factors have ${factors.length}.`);
   const N = names.assetNames ? names.assetNames.length : returns[0].length;
   const K = names.factorNames ? names.factorNames.length : factors[0].length;
+  if (N < K)
+    throw new GmmInputError(
+      'too-few-assets',
+      `There are fewer test assets than factors (N = ${N} assets, K = ${K} factors): the SDF loadings are not identified; use at least ${K} test assets or fewer factors.`,
+    );
   const aName = (j: number) => names.assetNames?.[j];
   const fName = (j: number) => names.factorNames?.[j];
   checkBlock(returns, N, 'returns', (j) => assetLabel(names, j), aName);

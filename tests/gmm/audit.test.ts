@@ -12,8 +12,8 @@
  *    second stage the two give standard errors about 1% apart on these data);
  *  - iterated GMM: the drop test's W* is the last iterate's Ŝ⁻¹ (not the Ŝ⁻¹ of the first
  *    second-stage step, which the subset sweep uses; about 1% apart here);
- *  - the ledger reports no drop test at the first stage (the reference computes the contract's
- *    W* from the unrestricted second stage all the same).
+ *  - first-stage runs report the drop test with W* = Ŝ⁻¹, Ŝ at the first-stage b̂ (methods.md
+ *    changed: "for a first-stage run: the second stage computed from it").
  */
 import { spawnSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
@@ -187,10 +187,9 @@ describe.each(cases.map((c, i) => ({ ...c, i })))('audit vs methods.md: $name', 
     c.traded.forEach((_, k) => {
       const f = r.factors[k];
       if (c.options.stage === 'first') {
-        // The ledger does not report drop tests at the first stage (see the audit report); the
-        // contract's W* from the unrestricted second stage exists all the same.
-        expect(f.chi2Drop).toBeNull();
-        expect(e.factors[k].dropFromSecondStage.stat).toBeGreaterThanOrEqual(0);
+        // methods.md drop test 2: a first-stage run uses the second stage computed from it
+        close(f.chi2Drop!.stat, e.factors[k].dropFromSecondStage.stat, `drop (first stage)[${k}]`);
+        closeP(f.chi2Drop!.p, e.factors[k].dropFromSecondStage.p, `drop p (first stage)[${k}]`);
         return;
       }
       close(f.chi2Drop!.stat, e.factors[k].drop.stat, `drop[${k}]`);
@@ -210,11 +209,9 @@ describe.each(cases.map((c, i) => ({ ...c, i })))('audit vs methods.md: $name', 
     close(r.jointDrop!.wald!.stat, e.jointDrop.wald.stat, 'joint wald');
     expect(r.jointDrop!.wald!.df).toBe(c.dropSet.length);
     closeP(r.jointDrop!.wald!.p, e.jointDrop.wald.p, 'joint wald p');
-    if (c.options.stage === 'first') expect(r.jointDrop!.chi2Drop).toBeNull();
-    else {
-      close(r.jointDrop!.chi2Drop!.stat, e.jointDrop.drop.stat, 'joint drop');
-      closeP(r.jointDrop!.chi2Drop!.p, e.jointDrop.drop.p, 'joint drop p');
-    }
+    // every stage (first stage: W* from Ŝ at the first-stage b̂)
+    close(r.jointDrop!.chi2Drop!.stat, e.jointDrop.drop.stat, 'joint drop');
+    closeP(r.jointDrop!.chi2Drop!.p, e.jointDrop.drop.p, 'joint drop p');
   });
 
   it('spanning check: OLS intercept, HAC sandwich se (same lag), two-sided p; joint HAC Wald (Huberman–Kandel 1987)', () => {
@@ -238,7 +235,7 @@ describe.each(cases.map((c, i) => ({ ...c, i })))('audit vs methods.md: $name', 
     } else expect(r.jointSpanning).toBeNull();
   });
 
-  it('thin-beta HAC Wald on the N covariances, χ²(N), flag when p ≥ 10% (Kan–Zhang 1999)', () => {
+  it('thin-beta HAC Wald on the N covariances, series under the null, χ²(N), flag when p ≥ 10% (Kan–Zhang 1999)', () => {
     c.traded.forEach((_, k) => {
       const t = r.factors[k].thinBeta!;
       const x = e.factors[k].thin;

@@ -150,11 +150,9 @@ describe.each(cases.map((c, i) => ({ ...c, i })))('Python reference: $name', (c)
       if (s.length === 1) {
         const f = ledger.factors[s[0]];
         expect(maxRel(f.tB ** 2, g.walds[j].stat, `wald ${s}`)).toBeLessThan(TOL);
-        if (c.options.stage === 'first') expect(f.chi2Drop).toBeNull();
-        else {
-          expect(maxRel(f.chi2Drop!.stat, g.drops[j].stat, `drop ${s}`)).toBeLessThan(TOL);
-          expect(Math.abs(f.chi2Drop!.p - g.drops[j].p)).toBeLessThan(1e-9);
-        }
+        // first stage too (methods.md changed): W* = Ŝ⁻¹ with Ŝ at the first-stage b̂
+        expect(maxRel(f.chi2Drop!.stat, g.drops[j].stat, `drop ${s}`)).toBeLessThan(TOL);
+        expect(Math.abs(f.chi2Drop!.p - g.drops[j].p)).toBeLessThan(1e-9);
       }
     }
     expect(single.length).toBe(c.K);
@@ -191,7 +189,7 @@ describe.each(cases.map((c, i) => ({ ...c, i })))('Python reference: $name', (c)
     }
   });
 
-  it('thin-beta statistics (numpy)', () => {
+  it('thin-beta statistics, HAC series under the null (no subtraction of Ĉ_k; numpy)', () => {
     for (let k = 0; k < c.K; k++) {
       const tb = ledger.factors[k].thinBeta!;
       expect(maxRel(tb.stat, ref.thinBeta[k].stat, 'thin beta')).toBeLessThan(TOL);

@@ -102,7 +102,9 @@ describe('validation errors', () => {
   });
 
   it('a lag the data cannot support, and bad lag values', () => {
-    expectInputError(() => estimateLedger({ ...good, options: { ...good.options, lags: 120 } }), 'invalid-lags', /lags = 120 needs more than 120 periods; the data have T = 120/);
+    // methods.md: L ≥ T/4 is refused, naming the largest allowed lag (29 for T = 120)
+    expectInputError(() => estimateLedger({ ...good, options: { ...good.options, lags: 120 } }), 'invalid-lags', /lags = 120 is too long for T = 120 periods.*largest allowed lag is 29/);
+    expectInputError(() => estimateLedger({ ...good, options: { ...good.options, lags: 30 } }), 'invalid-lags', /lags = 30 .*largest allowed lag is 29/);
     expectInputError(() => estimateLedger({ ...good, options: { ...good.options, lags: -1 } }), 'invalid-lags', /integer ≥ 0/);
     expectInputError(() => estimateLedger({ ...good, options: { ...good.options, lags: 2.5 } }), 'invalid-lags', /got 2.5/);
     expectInputError(() => longRunCovariance([[1], [2]], { lags: 2 }), 'invalid-lags', /from 0 to 1/);

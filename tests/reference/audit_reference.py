@@ -131,7 +131,8 @@ def gmm(model, stage, weighting):
             bn, H = model.solve(np.linalg.cholesky(S_w))
             move = np.max(np.abs(bn - b))
             b, iters = bn, it
-            if stage == 'iterated' and move < 1e-10:
+            # methods.md: relative stop, max |db| <= 1e-10 max(1e-300, max |b|)
+            if stage == 'iterated' and move <= 1e-10 * max(1e-300, np.max(np.abs(bn))):
                 converged = True
                 break
     alpha = model.ER - model.X @ b                      # alpha = g(b)
@@ -230,10 +231,11 @@ def spanning(F, S, L):
 
 
 def thin_beta(model, k):
-    """Kan-Zhang (1999) warning: HAC Wald that the N covariances Cov(R_i, f_k) are zero."""
+    """Kan-Zhang (1999) warning: HAC Wald that the N covariances Cov(R_i, f_k) are zero; the
+    HAC series is taken under the null (methods.md: no subtraction of the sample covariance)."""
     T, L = model.T, model.L
     Ck = model.C[:, k]
-    z = (model.R - model.ER) * model.Ft[:, [k]] - Ck
+    z = (model.R - model.ER) * model.Ft[:, [k]]
     V = lrv(z, L) / T
     W = float(Ck @ np.linalg.solve(V, Ck))
     p = float(stats.chi2.sf(W, model.N))
@@ -350,7 +352,9 @@ def one(case):
         jd = dict(wald=dict(stat=wald, df=len(S), p=float(stats.chi2.sf(wald, len(S)))), drop=None)
         if case['stage'] != 'first':
             D, p = drop_stat(model, fit['S_w'], S)
-            jd['drop'] = dict(stat=D, p=p)
+        else:
+            D, p = drop_stat(model, lrv(model.h(fit['b1']), L), S)
+        jd['drop'] = dict(stat=D, p=p)
         out['jointDrop'] = jd
         if all(case['traded'][k] for k in S):
             a, Va = spanning(F, S, L)

@@ -63,7 +63,8 @@ def gmm(R, F, L, stage, weighting, form, means_known, drop_sets):
         H = np.linalg.solve(A, X.T @ W)
         return H @ ER, H
 
-    W1 = np.eye(N) if weighting == 'identity' else np.linalg.inv(ERR)
+    CovR = (R - ER).T @ (R - ER) / T
+    W1 = {'identity': np.eye(N), 'second-moment': np.linalg.inv(ERR), 'covariance': np.linalg.inv(CovR)}[weighting]
     b1, H = solve_w(W1)
     b, W, S_w, iters, conv = b1, W1, None, 0, True
     if stage != 'first':
@@ -76,7 +77,8 @@ def gmm(R, F, L, stage, weighting, form, means_known, drop_sets):
             move = np.max(np.abs(bn - b))
             b = bn
             iters = it
-            if stage == 'iterated' and move < 1e-10:
+            # methods.md: relative stop, max |db| <= 1e-10 max(1e-300, max |b|)
+            if stage == 'iterated' and move <= 1e-10 * max(1e-300, np.max(np.abs(bn))):
                 conv = True
                 break
     alpha = ER - X @ b
@@ -104,10 +106,10 @@ def gmm(R, F, L, stage, weighting, form, means_known, drop_sets):
         A = Sf + np.outer(lam, mu)
         psi_l = (psi_b @ A.T + Fd * (Fd @ b)[:, None] - Sf @ b + np.outer(Fd @ b, lam)) / c
     covL = hac(psi_l, L) / T
-    # drop tests with W* from the unrestricted second stage
+    # drop tests with W* from the unrestricted second stage (first stage: S at the first-stage b)
     drops = []
-    if stage != 'first':
-        Wstar = np.linalg.inv(S_w)
+    if True:
+        Wstar = np.linalg.inv(S_w if stage != 'first' else hac(h_series(b1), L))
         def q(cols):
             if len(cols) == 0:
                 g = ER
@@ -141,6 +143,62 @@ def gmm(R, F, L, stage, weighting, form, means_known, drop_sets):
     }
 
 
+def robust(R, F, L, weighting, form, means_known):
+    """Misspecification-robust first-stage SEs, straight from methods.md "Robust inference"
+    (Kan and Robotti 2008; Gospodinov, Kan and Robotti 2014), with explicit T x N x K and
+    T x N x N arrays (no shortcuts):
+      psi_t = A^{-1} [ X'W (h_t - e) + (X_t - X)' W e - X'W (Q_t - Q) W e ],  A = X'WX,
+    X_t: (R_t - Rbar)(f_t - mu)' centred; R_t (f_t - mu)' centred with factor means known
+    (mu treated as known, matching h_t = R_t(1 - (f_t - mu)'b)); R_t f_t' uncentred.
+    Q_t = R_t R_t' (second moment), (R_t - Rbar)(R_t - Rbar)' (covariance), none for W = I.
+    Var(b) = LRV(psi)/T; lambda with psi in place of psi_b (centred: Sigma_f b)."""
+    T, N = R.shape
+    K = F.shape[1]
+    ER = R.mean(axis=0)
+    mu = F.mean(axis=0)
+    Fd = F - mu
+    Rd = R - ER
+    if form == 'uncentred':
+        Xt = np.einsum('ti,tk->tik', R, F)
+    elif means_known:
+        Xt = np.einsum('ti,tk->tik', R, Fd)
+    else:
+        Xt = np.einsum('ti,tk->tik', Rd, Fd)
+    X = Xt.mean(axis=0)
+    if weighting == 'identity':
+        Q, Qt = None, None
+        W = np.eye(N)
+    elif weighting == 'second-moment':
+        Qt = np.einsum('ti,tj->tij', R, R)
+        Q = Qt.mean(axis=0)
+        W = np.linalg.inv(Q)
+    else:
+        Qt = np.einsum('ti,tj->tij', Rd, Rd)
+        Q = Qt.mean(axis=0)
+        W = np.linalg.inv(Q)
+    A = X.T @ W @ X
+    b = np.linalg.solve(A, X.T @ W @ ER)
+    e = ER - X @ b
+    h = R - np.einsum('tik,k->ti', Xt, b)          # h_t = R_t - X_t b (its mean is e)
+    inner = (h - e) @ (W @ X)                       # X'W (h_t - e), T x K
+    inner = inner + np.einsum('tik,i->tk', Xt - X, W @ e)
+    if Qt is not None:
+        inner = inner - np.einsum('ik,tij,j->tk', W @ X, Qt - Q, W @ e)
+    psi = np.linalg.solve(A, inner.T).T
+    covB = hac(psi, L) / T
+    Sf = Fd.T @ Fd / T
+    if form == 'centred':
+        lam = Sf @ b
+        psi_l = psi @ Sf.T + Fd * (Fd @ b)[:, None] - lam
+    else:
+        c = 1.0 - mu @ b
+        lam = Sf @ b / c
+        Am = Sf + np.outer(lam, mu)
+        psi_l = (psi @ Am.T + Fd * (Fd @ b)[:, None] - Sf @ b + np.outer(Fd @ b, lam)) / c
+    covL = hac(psi_l, L) / T
+    return {'b': b.tolist(), 'covB': covB.tolist(), 'covLambda': covL.tolist(), 'e': e.tolist(), 'psi': psi.tolist()}
+
+
 def spanning(F, k_set, L):
     """Regress each factor in k_set on a constant and the other factors (statsmodels OLS HAC)."""
     T, K = F.shape
@@ -167,7 +225,7 @@ def thin_beta(R, F, k, L):
     Rd = R - R.mean(axis=0)
     fk = F[:, k] - F[:, k].mean()
     Ck = Rd.T @ fk / T
-    z = Rd * fk[:, None] - Ck
+    z = Rd * fk[:, None]          # methods.md: HAC series under the null, no subtraction of Ck
     V = hac(z, L) / T
     stat = float(Ck @ np.linalg.solve(V, Ck))
     return {'stat': stat, 'df': N, 'p': float(stats.chi2.sf(stat, N))}
@@ -237,6 +295,8 @@ def one(inp):
     js = inp.get('jointSpanning')
     out['jointSpanning'] = spanning(F, js, L)[1] if js else None
     out['thinBeta'] = [thin_beta(R, F, k, L) for k in range(K)]
+    if inp['stage'] == 'first':
+        out['robust'] = robust(R, F, L, inp['weighting'], inp['form'], inp['factorMeansKnown'])
     out['grs'] = grs(R, F) if all(traded) else None
     out['famaMacBeth'] = fama_macbeth(R, F, bool(inp.get('fmIntercept', False)))
     # time-series OLS of the first asset on a constant and the factors, statsmodels HAC SEs
