@@ -22,6 +22,8 @@ export function hjDistance(m: MomentData, secondMoment: Float64Array, form: 'cen
   const X = form === 'centred' ? m.covRF : m.crossRF;
   const Le = cholesky(secondMoment, N);
   if (!Le) return null;
+  // exactly identified: every weighting prices the assets exactly (α̂ = 0, as in sdf-gmm)
+  if (N === K) return 0;
   const WX = choleskySolve(Le, N, X, K); // N×K
   const A = new Float64Array(K * K);
   const rhs = new Float64Array(K);

@@ -132,6 +132,7 @@ describe('test assets versus factors', () => {
           expect(p.predicted).toBe(p.meanReturn);
         }
         expect(r.J).toEqual({ stat: 0, df: 0, p: 1 });
+        expect(r.hj).toBe(0);
         if (stage === 'first') for (const f of r.factors) expect(maxRel(f.robust!.seB, f.seB)).toBeLessThan(1e-10);
       }
   });
