@@ -4,7 +4,7 @@
  * (tests/reference/gmm_reference.py `robust`: explicit T×N×K and T×N×N arrays, numpy.linalg),
  * run once on every case, to 1e-8 relative; and the identities the formula must satisfy.
  */
-import { describe, expect, it } from 'vitest';
+import { afterAll, describe, expect, it } from 'vitest';
 import {
   estimateLedger,
   fitPremia,
@@ -19,9 +19,14 @@ import {
   type SdfForm,
   type SdfGmmFit,
 } from '../../lib/gmm/index';
-import { maxRel, runReference, simulateEconomy } from './helpers';
+import { disagreement, maxRel, runReference, simulateEconomy } from './helpers';
 
 const TOL = 1e-8;
+
+afterAll(() => {
+  // Printed for the report: the largest relative disagreement with the numpy reference.
+  console.log(`robust: largest relative disagreement with the numpy reference: ${disagreement.max.toExponential(2)} (${disagreement.where})`);
+});
 
 interface Case {
   name: string;
