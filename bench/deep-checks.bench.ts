@@ -175,7 +175,7 @@ async function signIn(): Promise<{ cookie: string; csrf: string }> {
   });
   if (r2.status !== 200) throw new Error(`sign-in failed ${r2.status}`);
   cookie = (r2.headers.get('set-cookie') ?? cookie).split(';')[0];
-  return { cookie, csrf };
+  return { cookie, csrf: ((await r2.json()) as { csrfToken: string }).csrfToken };
 }
 const s = await signIn();
 const call = async (path: string, body?: unknown) => {

@@ -50,8 +50,8 @@ await seedDemoUsers(db);
 const mailer = await createMailer();
 const app = createApp({ db, mailer, sessionSecret: 'bench-secret-bench-secret', uploadLimit: 50 * 1024 * 1024 });
 const agent = request.agent(app);
-const csrf = (await agent.get('/api/v1/auth/csrf')).body.token as string;
-await agent.post('/api/v1/auth/login').set('x-csrf-token', csrf).send({ email: 'admin@keelson.test', password: DEMO_PASSWORD }).expect(200);
+const csrf0 = (await agent.get('/api/v1/auth/csrf')).body.token as string;
+const csrf = (await agent.post('/api/v1/auth/login').set('x-csrf-token', csrf0).send({ email: 'admin@keelson.test', password: DEMO_PASSWORD }).expect(200)).body.csrfToken as string;
 
 async function importOnce(csv: Buffer, libraryId?: number): Promise<{ ms: number; cpu: number; uploadMs: number; libraryId: number; edition: number; editionId: number }> {
   const t0 = performance.now();

@@ -41,8 +41,8 @@ seedDemoLibraries(db);
 const mailer = await createMailer();
 const app = createApp({ db, mailer, sessionSecret: 'bench-secret-bench-secret' });
 const agent = request.agent(app);
-const csrf = (await agent.get('/api/v1/auth/csrf')).body.token as string;
-await agent.post('/api/v1/auth/login').set('x-csrf-token', csrf).send({ email: 'researcher@keelson.test', password: DEMO_PASSWORD }).expect(200);
+const csrf0 = (await agent.get('/api/v1/auth/csrf')).body.token as string;
+const csrf = (await agent.post('/api/v1/auth/login').set('x-csrf-token', csrf0).send({ email: 'researcher@keelson.test', password: DEMO_PASSWORD }).expect(200)).body.csrfToken as string;
 
 const ed = db.$client
   .prepare("select e.id as id from library_editions e join libraries l on l.id = e.library_id where l.name like 'Harbour market%' order by e.number limit 1")

@@ -246,9 +246,10 @@ export async function runRemote(command: string, args: string[], io: Io): Promis
       const { token } = (await res.json()) as { token: string };
       const client = new Client({ server, cookie: cookieFrom(res), csrf: token }, env);
       saveSession(env, { server, cookie: cookieFrom(res), csrf: token });
-      const r = await client.post<{ user: { name: string; role: string; email: string } }>('/auth/login', { email: p.values.email, password });
+      const r = await client.post<{ user: { name: string; role: string; email: string }; csrfToken?: string }>('/auth/login', { email: p.values.email, password });
       const s = loadSession(env);
-      saveSession(env, { ...s, email: r.user.email });
+      // Sign-in rotates the CSRF token: keep the new one.
+      saveSession(env, { ...s, email: r.user.email, csrf: r.csrfToken ?? s.csrf });
       io.out(`Signed in to ${server} as ${r.user.name} (${r.user.role}).\n`);
       return 0;
     }

@@ -3,7 +3,6 @@ import session from 'express-session';
 import helmet from 'helmet';
 import passport from 'passport';
 import { Strategy as LocalStrategy } from 'passport-local';
-import { ipKeyGenerator, rateLimit } from 'express-rate-limit';
 import { csrfSync } from 'csrf-sync';
 import { existsSync } from 'node:fs';
 import { randomBytes } from 'node:crypto';
@@ -12,9 +11,11 @@ import type { Db } from './db/client';
 import type { Mailer } from './services/mailer';
 import { ApiRouter, type RouteSpec } from './middlewares/access';
 import { errorHandler, notFoundApi } from './middlewares/errors';
+import { noStore, requireJsonBody } from './middlewares/content';
+import { idempotency } from './middlewares/idempotency';
+import { guessLimiter, signInEmailKey } from './middlewares/rate-limit';
 import { SqliteSessionStore } from './services/session-store';
 import { findActiveUser, verifyCredentials } from './services/users';
-import { KeelsonApiError } from '../shared/errors';
 import type { User } from '../shared/auth';
 import { KEELSON_VERSION } from './version';
 import { registerAuthRoutes } from './routes/auth';
@@ -34,13 +35,17 @@ export interface AppOptions {
   /** Folder of the Expo web export to serve; omitted in API tests. */
   webDist?: string;
   publicUrl?: string;
-  /** Sign-in attempts allowed per IP and e-mail in 15 minutes. */
+  /** Failed sign-in attempts allowed per e-mail address (normalised) in 15 minutes, from any IP (default 20). */
   loginLimit?: number;
+  /** Failed sign-in attempts allowed per client IP in 15 minutes, across all e-mail addresses (default 100). */
+  loginIpLimit?: number;
+  /** Express `trust proxy` (default 'loopback': X-Forwarded-* is believed only from this host). */
+  trustProxy?: boolean | number | string;
   /** Largest JSON body, in bytes. */
   jsonLimit?: number;
   /** Largest upload, in bytes. */
   uploadLimit?: number;
-  /** Secure cookies (behind HTTPS). */
+  /** Secure cookies (behind HTTPS; with a proxy, `trustProxy` must let Express see X-Forwarded-Proto). */
   secureCookies?: boolean;
   /** Worker pool for deep checks; created on the first job when absent. */
   jobPool?: JobPool;
@@ -54,10 +59,14 @@ export interface AppDeps {
   mailer: Mailer;
   publicUrl?: string;
   uploadLimit: number;
-  loginLimiter: RequestHandler;
+  /** Sign-in limiters: per normalised e-mail (any IP) and per IP (any e-mail); failed attempts only. */
+  loginLimiters: RequestHandler[];
+  /** Password-change limiters: per user and per IP; wrong current passwords only. */
+  passwordLimiters: RequestHandler[];
   /** This app's own passport instance (one per app, so tests can run several apps). */
   passport: passport.PassportStatic;
-  generateCsrfToken: (req: Request) => string;
+  /** The session's CSRF token; `rotate` replaces it (on sign-in, so a token seen before is worthless after). */
+  generateCsrfToken: (req: Request, rotate?: boolean) => string;
 }
 
 export type KeelsonApp = express.Express & { routeTable: readonly RouteSpec[]; close: () => void; jobRunner: JobRunner };
@@ -74,7 +83,7 @@ function assertEveryRouteDeclaresAccess(api: ApiRouter): void {
 export function createApp(opts: AppOptions): KeelsonApp {
   const { db, mailer } = opts;
   const app = express() as unknown as KeelsonApp;
-  app.set('trust proxy', 'loopback');
+  app.set('trust proxy', opts.trustProxy ?? 'loopback');
   app.disable('x-powered-by');
 
   app.use(
@@ -130,30 +139,54 @@ export function createApp(opts: AppOptions): KeelsonApp {
     getTokenFromRequest: (req) => req.headers['x-csrf-token'] as string | undefined,
   });
 
-  const loginLimiter = rateLimit({
-    windowMs: 15 * 60 * 1000,
+  const loginEmailLimiter = guessLimiter({
+    db,
+    prefix: 'login-email:',
     limit: opts.loginLimit ?? 20,
-    standardHeaders: 'draft-7',
-    legacyHeaders: false,
-    skipSuccessfulRequests: true,
-    keyGenerator: (req) => `${ipKeyGenerator(req.ip ?? '')}|${String((req.body as { email?: unknown } | undefined)?.email ?? '').toLowerCase()}`,
-    handler: (_req, _res, next) =>
-      next(new KeelsonApiError('rate_limited', 'Too many sign-in attempts; wait 15 minutes and try again')),
+    key: signInEmailKey,
+    message: 'Too many failed sign-ins for this e-mail address; wait 15 minutes and try again',
   });
+  const loginIpLimiter = guessLimiter({
+    db,
+    prefix: 'login-ip:',
+    limit: opts.loginIpLimit ?? 100,
+    message: 'Too many failed sign-ins from this address; wait 15 minutes and try again',
+  });
+  const wrongCurrentPassword = (res: Response) => res.statusCode === 403;
+  const passwordUserLimiter = guessLimiter({
+    db,
+    prefix: 'password-user:',
+    limit: opts.loginLimit ?? 20,
+    key: (req) => String(req.user?.id ?? ''),
+    failed: wrongCurrentPassword,
+    message: 'Too many wrong current passwords; wait 15 minutes and try again',
+  });
+  const passwordIpLimiter = guessLimiter({
+    db,
+    prefix: 'password-ip:',
+    limit: opts.loginIpLimit ?? 100,
+    failed: wrongCurrentPassword,
+    message: 'Too many wrong current passwords from this address; wait 15 minutes and try again',
+  });
+  const limiters = [loginEmailLimiter, loginIpLimiter, passwordUserLimiter, passwordIpLimiter];
 
   const deps: AppDeps = {
     db,
     mailer,
     publicUrl: opts.publicUrl,
     uploadLimit: opts.uploadLimit ?? 50 * 1024 * 1024,
-    loginLimiter,
+    loginLimiters: [loginIpLimiter, loginEmailLimiter],
+    passwordLimiters: [passwordIpLimiter, passwordUserLimiter],
     passport: pp,
-    generateCsrfToken: (req) => generateToken(req),
+    generateCsrfToken: (req, rotate) => generateToken(req, rotate ?? false),
   };
 
   const api = new ApiRouter();
+  api.router.use(noStore);
+  api.router.use(requireJsonBody);
   api.router.use(express.json({ limit: opts.jsonLimit ?? 1024 * 1024 }));
   api.router.use(csrfSynchronisedProtection);
+  api.router.use(idempotency(db));
   api.get('/health', 'public', (_req: Request, res: Response) => {
     res.json({ status: 'ok', version: KEELSON_VERSION });
   });
@@ -170,7 +203,7 @@ export function createApp(opts: AppOptions): KeelsonApp {
   assertEveryRouteDeclaresAccess(api);
 
   app.use('/api/v1', api.router);
-  app.use('/api', notFoundApi, errorHandler);
+  app.use('/api', noStore, notFoundApi, errorHandler);
 
   if (opts.webDist && existsSync(join(opts.webDist, 'index.html'))) {
     const dist = opts.webDist;
@@ -183,6 +216,7 @@ export function createApp(opts: AppOptions): KeelsonApp {
   app.jobRunner = jobRunner;
   app.close = () => {
     store.close();
+    for (const l of limiters) l.store.shutdown();
     void jobRunner.close();
   };
   return app;

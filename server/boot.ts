@@ -1,4 +1,5 @@
-import { mkdirSync, readFileSync, writeFileSync, existsSync } from 'node:fs';
+import { mkdirSync, readFileSync, readdirSync, rmSync, writeFileSync, existsSync } from 'node:fs';
+import { tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { randomBytes } from 'node:crypto';
 import { fileURLToPath } from 'node:url';
@@ -24,9 +25,54 @@ function sessionSecret(config: Config): string {
   return s;
 }
 
+/** Upload folders are `keelson-uploads-<pid>` in the temp folder (UPLOAD_TMP in server/routes/libraries.ts). */
+export const UPLOAD_FOLDER_PATTERN = /^keelson-uploads-(\d+)$/;
+
+function processIsAlive(pid: number): boolean {
+  try {
+    process.kill(pid, 0);
+    return true;
+  } catch (e) {
+    // EPERM: it exists but belongs to someone else.
+    return (e as NodeJS.ErrnoException).code === 'EPERM';
+  }
+}
+
+/**
+ * Removes the upload temp folders of server processes that are gone (a crash leaves half-received
+ * files behind). This process's own folder is emptied too: at boot nothing of ours can be in it yet,
+ * so what is there was left by an earlier process with the same pid (a container restart).
+ * Returns the folders removed.
+ */
+export function removeStaleUploadFolders(root = tmpdir(), ownPid = process.pid): string[] {
+  let names: string[];
+  try {
+    names = readdirSync(root);
+  } catch {
+    return [];
+  }
+  const removed: string[] = [];
+  for (const name of names) {
+    const m = UPLOAD_FOLDER_PATTERN.exec(name);
+    if (!m) continue;
+    const pid = Number(m[1]);
+    if (pid !== ownPid && processIsAlive(pid)) continue;
+    const dir = join(root, name);
+    try {
+      rmSync(dir, { recursive: true, force: true });
+      removed.push(dir);
+    } catch (e) {
+      console.warn(`Keelson could not remove the stale upload folder ${dir}: ${(e as Error).message}`);
+    }
+  }
+  return removed;
+}
+
 /** Opens and migrates the database, seeds an empty one, starts the mailer and builds the app. */
 export async function boot(env: NodeJS.ProcessEnv = process.env): Promise<{ app: KeelsonApp; db: Db; mailer: Mailer; config: Config }> {
   const config = loadConfig(env);
+  const stale = removeStaleUploadFolders();
+  if (stale.length > 0) console.log(`Keelson removed ${stale.length} upload folder(s) left by stopped server processes`);
   const db = openDb(config.KEELSON_DB === ':memory:' ? ':memory:' : resolve(ROOT, config.KEELSON_DB));
   if (config.KEELSON_SEED === 'demo') await seedDemo(db);
   const mailer = await createMailer({ smtpUrl: config.SMTP_URL, from: config.MAIL_FROM });
@@ -40,6 +86,8 @@ export async function boot(env: NodeJS.ProcessEnv = process.env): Promise<{ app:
     webDist: join(ROOT, 'dist'),
     publicUrl: config.PUBLIC_URL,
     uploadLimit: config.UPLOAD_LIMIT_MB * 1024 * 1024,
+    secureCookies: config.COOKIE_SECURE,
+    trustProxy: config.TRUST_PROXY,
     jobPool: createJobPool(),
   });
   return { app, db, mailer, config };

@@ -1,5 +1,20 @@
 import { z } from 'zod';
 
+const booleanText = z
+  .enum(['true', 'false', '1', '0', 'yes', 'no'], { message: 'use true or false' })
+  .transform((v) => v === 'true' || v === '1' || v === 'yes');
+
+/**
+ * Express `trust proxy`: `false` (believe no X-Forwarded-* header), `true` (any — only behind a proxy
+ * that strips what clients send), a hop count such as `1`, or comma-separated addresses/subnets or
+ * the names `loopback`, `linklocal`, `uniquelocal`.
+ */
+const trustProxy = z
+  .string()
+  .trim()
+  .min(1)
+  .transform((v): boolean | number | string => (v === 'true' ? true : v === 'false' ? false : /^\d+$/.test(v) ? Number(v) : v));
+
 /** Environment settings, parsed once at start-up. */
 export const configSchema = z.object({
   PORT: z.coerce.number().int().min(0).max(65535).default(3000),
@@ -10,6 +25,9 @@ export const configSchema = z.object({
   MAIL_FROM: z.string().default('Keelson <no-reply@keelson.test>'),
   PUBLIC_URL: z.string().url().optional(),
   KEELSON_SEED: z.enum(['demo', 'none']).default('demo'),
+  /** Mark the session cookie `Secure` (serve over HTTPS, directly or behind a proxy named in TRUST_PROXY). */
+  COOKIE_SECURE: booleanText.default(false),
+  TRUST_PROXY: trustProxy.default('loopback'),
 });
 export type Config = z.infer<typeof configSchema>;
 

@@ -9,13 +9,29 @@ export const userSchema = z.object({
 });
 export type User = z.infer<typeof userSchema>;
 
+/**
+ * The one normalisation of an e-mail address (trim, lower-case): sign-in, the sign-in rate limiter,
+ * invitations and account creation all go through it, so " Name@X " and "name@x" are one account.
+ */
+export function normaliseEmail(email: string): string {
+  return email.trim().toLowerCase();
+}
+
+/** An e-mail field: normalised with `normaliseEmail`, then checked. */
+export const emailSchema = z.string().overwrite(normaliseEmail).email('Enter an e-mail address such as name@example.org');
+
 export const loginBodySchema = z.object({
-  email: z.string().trim().toLowerCase().email('Enter an e-mail address such as name@example.org'),
+  email: emailSchema,
   password: z.string().min(1, 'Enter your password'),
 });
 export type LoginBody = z.infer<typeof loginBodySchema>;
 
 export const userResponseSchema = z.object({ user: userSchema });
+/**
+ * Answer to sign-in and invitation acceptance: the CSRF token is rotated when the session changes
+ * hands, so the new one comes back here (send it as `x-csrf-token` from now on).
+ */
+export const signInResponseSchema = userResponseSchema.extend({ csrfToken: z.string() });
 export const csrfResponseSchema = z.object({ token: z.string() });
 export const healthResponseSchema = z.object({ status: z.literal('ok'), version: z.string() });
 
@@ -28,7 +44,7 @@ export type AdminUser = z.infer<typeof adminUserSchema>;
 export const adminUsersResponseSchema = z.object({ users: z.array(adminUserSchema) });
 
 export const inviteBodySchema = z.object({
-  email: z.string().trim().toLowerCase().email('Enter an e-mail address such as name@example.org'),
+  email: emailSchema,
   name: z.string().trim().min(1, 'Enter a display name').max(120),
   role: roleSchema,
 });
@@ -47,10 +63,26 @@ export type Invitation = z.infer<typeof invitationSchema>;
 export const invitationsResponseSchema = z.object({ invitations: z.array(invitationSchema) });
 
 export const PASSWORD_MIN = 10;
+export const PASSWORD_MAX = 200;
+/**
+ * The shape of a new password that needs no dictionary: length, and not one character repeated.
+ * The server also refuses common and easily guessed passwords (server/services/password-policy.ts).
+ */
+export const newPasswordSchema = z
+  .string()
+  .min(PASSWORD_MIN, `Use at least ${PASSWORD_MIN} characters`)
+  .max(PASSWORD_MAX, `Use at most ${PASSWORD_MAX} characters`)
+  .refine((p) => !/^(.)\1*$/su.test(p), 'A password of one repeated character is too easy to guess; mix several characters or words');
 export const acceptInviteBodySchema = z.object({
   token: z.string().min(16),
-  password: z.string().min(PASSWORD_MIN, `Use at least ${PASSWORD_MIN} characters`).max(200),
+  password: newPasswordSchema,
 });
+/** `POST /auth/password`: 204 on success; other sessions of the user are signed out. */
+export const changePasswordBodySchema = z.object({
+  currentPassword: z.string().min(1, 'Enter your current password').max(PASSWORD_MAX),
+  newPassword: newPasswordSchema,
+});
+export type ChangePasswordBody = z.infer<typeof changePasswordBodySchema>;
 export const invitationPreviewSchema = z.object({
   invitation: z.object({ email: z.string(), name: z.string(), role: roleSchema, expiresAt: z.string() }),
 });

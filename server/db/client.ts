@@ -10,24 +10,35 @@ export type Db = BetterSQLite3Database<typeof schema> & { $client: Database.Data
 
 const migrationsFolder = join(dirname(fileURLToPath(import.meta.url)), '..', '..', 'drizzle');
 
+/** How long a connection waits for another process's write lock before giving up (ms). */
+export const BUSY_TIMEOUT_MS = 5000;
+
 /**
  * Opens (and migrates) the SQLite database. `':memory:'` gives a private in-memory database for tests.
- * File databases use WAL; foreign keys are always on.
+ * File databases use WAL; foreign keys are always on. Several server processes may share one file:
+ * each waits up to BUSY_TIMEOUT_MS for the others' write locks (see `inTransaction`).
  */
 export function openDb(path: string): Db {
   if (path !== ':memory:') mkdirSync(dirname(path), { recursive: true });
-  const sqlite = new Database(path);
+  const sqlite = new Database(path, { timeout: BUSY_TIMEOUT_MS });
   if (path !== ':memory:') sqlite.pragma('journal_mode = WAL');
   sqlite.pragma('foreign_keys = ON');
-  sqlite.pragma('busy_timeout = 5000');
+  sqlite.pragma(`busy_timeout = ${BUSY_TIMEOUT_MS}`);
   const db = drizzle(sqlite, { schema }) as Db;
   migrate(db, { migrationsFolder });
   return db;
 }
 
-/** Runs `fn` inside one SQLite transaction (better-sqlite3 transactions are synchronous). */
+/**
+ * Runs `fn` inside one SQLite transaction (better-sqlite3 transactions are synchronous). Every write
+ * transaction of the server goes through here. It begins IMMEDIATE, taking the write lock first:
+ * a DEFERRED transaction that reads and then writes while another process commits fails at once
+ * with SQLITE_BUSY (its snapshot is stale; the busy timeout cannot help), whereas BEGIN IMMEDIATE
+ * waits up to the busy timeout for the other writer and then sees its data. Nested calls become
+ * savepoints of the outer transaction.
+ */
 export function inTransaction<T>(db: Db, fn: (tx: Db) => T): T {
-  return db.transaction((tx) => fn(tx as unknown as Db));
+  return db.transaction((tx) => fn(tx as unknown as Db), { behavior: 'immediate' });
 }
 
 export { schema };

@@ -2,8 +2,8 @@ import type { Request, Response } from 'express';
 import type { ApiRouter } from '../middlewares/access';
 import { currentUser } from '../middlewares/access';
 import { parseOr400 } from '../middlewares/errors';
+import { idParam } from '../middlewares/params';
 import { inviteBodySchema, updateUserBodySchema } from '../../shared/auth';
-import { KeelsonApiError } from '../../shared/errors';
 import { ROLE_LABELS } from '../../shared/roles';
 import { createInvitation, listInvitations, listUsers, updateUser } from '../services/users';
 import { listOutbox, sendMail } from '../services/mail';
@@ -19,8 +19,7 @@ export function registerAdminRoutes(api: ApiRouter, deps: AppDeps): void {
   });
 
   api.patch('/admin/users/:id', admin, (req: Request, res: Response) => {
-    const id = Number(req.params.id);
-    if (!Number.isInteger(id) || id < 1) throw new KeelsonApiError('bad_request', 'User id must be a positive whole number');
+    const id = idParam(req, 'user id');
     const patch = parseOr400(updateUserBodySchema, req.body, 'user change');
     res.json({ user: updateUser(db, currentUser(req), id, patch) });
   });

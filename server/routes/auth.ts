@@ -2,15 +2,15 @@ import type { NextFunction, Request, Response } from 'express';
 import type { ApiRouter } from '../middlewares/access';
 import { currentUser } from '../middlewares/access';
 import { parseOr400 } from '../middlewares/errors';
-import { acceptInviteBodySchema, loginBodySchema, type User } from '../../shared/auth';
+import { acceptInviteBodySchema, changePasswordBodySchema, loginBodySchema, normaliseEmail, type User } from '../../shared/auth';
 import { KeelsonApiError } from '../../shared/errors';
-import { acceptInvitation, markLogin, previewInvitation } from '../services/users';
+import { acceptInvitation, changePassword, markLogin, previewInvitation } from '../services/users';
 import { audit } from '../services/audit';
 import { listOutbox } from '../services/mail';
 import type { AppDeps } from '../app';
 
 function logIn(req: Request, user: User): Promise<void> {
-  // A new session id on sign-in; keepSessionInfo carries the CSRF token over so scripts keep using it.
+  // A new session id on sign-in (passport regenerates the session); the CSRF token is rotated by the caller.
   return new Promise((resolve, reject) => req.logIn(user, { session: true, keepSessionInfo: true }, (err) => (err ? reject(err) : resolve())));
 }
 
@@ -21,18 +21,19 @@ export function registerAuthRoutes(api: ApiRouter, deps: AppDeps): void {
     res.json({ token: generateCsrfToken(req) });
   });
 
-  api.post('/auth/login', 'public', deps.loginLimiter, (req: Request, res: Response, next: NextFunction) => {
+  api.post('/auth/login', 'public', ...deps.loginLimiters, (req: Request, res: Response, next: NextFunction) => {
     parseOr400(loginBodySchema, req.body, 'sign-in form');
     deps.passport.authenticate('local', { session: false }, (err: unknown, user: User | false) => {
       if (err) return next(err);
       if (!user) {
-        audit(db, null, 'auth.login_failed', { email: String((req.body as { email?: unknown }).email ?? '') });
+        audit(db, null, 'auth.login_failed', { email: normaliseEmail(String((req.body as { email?: unknown }).email ?? '')) });
         return next(new KeelsonApiError('unauthenticated', 'E-mail or password is wrong, or the account is deactivated'));
       }
       logIn(req, user)
         .then(() => {
           markLogin(db, user.id);
-          res.json({ user });
+          // A token known before sign-in is worthless after it: send the new one.
+          res.json({ user, csrfToken: generateCsrfToken(req, true) });
         })
         .catch(next);
     })(req, res, next);
@@ -67,6 +68,13 @@ export function registerAuthRoutes(api: ApiRouter, deps: AppDeps): void {
     const user = await acceptInvitation(db, body.token, body.password);
     await logIn(req, user);
     markLogin(db, user.id);
-    res.status(201).json({ user });
+    res.status(201).json({ user, csrfToken: generateCsrfToken(req, true) });
+  });
+
+  // Wrong current passwords count like failed sign-ins (per user and per IP); other sessions of the user end.
+  api.post('/auth/password', 'signed-in', ...deps.passwordLimiters, async (req: Request, res: Response) => {
+    const body = parseOr400(changePasswordBodySchema, req.body, 'password change');
+    await changePassword(db, currentUser(req), body.currentPassword, body.newPassword, req.sessionID);
+    res.status(204).end();
   });
 }

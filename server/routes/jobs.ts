@@ -2,7 +2,7 @@ import type { Request, Response } from 'express';
 import type { ApiRouter } from '../middlewares/access';
 import { currentUser } from '../middlewares/access';
 import { parseOr400 } from '../middlewares/errors';
-import { KeelsonApiError } from '../../shared/errors';
+import { idParam } from '../middlewares/params';
 import { jobListQuerySchema, startCheckBodySchema } from '../../shared/jobs';
 import { cancelJob, getJob, listJobs, restartJob, startCheck } from '../services/jobs';
 import type { JobRunner } from '../jobs/runner';
@@ -10,12 +10,7 @@ import type { AppDeps } from '../app';
 
 const WRITERS = ['researcher', 'admin'] as const;
 
-function idOf(req: Request, what: string): number {
-  const raw = String(req.params.id ?? '');
-  const id = Number(raw);
-  if (!/^\d+$/.test(raw) || !Number.isSafeInteger(id) || id <= 0) throw new KeelsonApiError('bad_request', `The ${what} must be a positive whole number; got '${raw}'`);
-  return id;
-}
+const idOf = (req: Request, what: string): number => idParam(req, what);
 
 /**
  * Deep checks as background jobs: start on a finished run (researcher, admin), read and list

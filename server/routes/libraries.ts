@@ -7,6 +7,7 @@ import { join } from 'node:path';
 import type { ApiRouter } from '../middlewares/access';
 import { currentUser } from '../middlewares/access';
 import { parseOr400 } from '../middlewares/errors';
+import { parseId } from '../middlewares/params';
 import { KeelsonApiError } from '../../shared/errors';
 import { confirmUploadBodySchema, libraryListQuerySchema } from '../../shared/libraries';
 import {
@@ -25,12 +26,7 @@ import {
 } from '../services/libraries';
 import type { AppDeps } from '../app';
 
-function positiveInt(raw: unknown, what: string): number {
-  const s = String(raw);
-  const n = Number(s);
-  if (!/^\d+$/.test(s) || !Number.isSafeInteger(n) || n < 1) throw new KeelsonApiError('not_found', `No ${what} ${s}`);
-  return n;
-}
+const positiveInt = (raw: unknown, what: string): number => parseId(raw, what);
 
 /** Where multer streams uploads before parsing (one folder per server process); every file is removed once read or refused. */
 export const UPLOAD_TMP = join(tmpdir(), `keelson-uploads-${process.pid}`);

@@ -3,18 +3,15 @@ import { z } from 'zod';
 import type { ApiRouter } from '../middlewares/access';
 import { currentUser } from '../middlewares/access';
 import { parseOr400 } from '../middlewares/errors';
+import { idParam } from '../middlewares/params';
 import { copySpecBodySchema, createSpecBodySchema, modelSpecSchema, updateSpecBodySchema } from '../../shared/specs';
 import { checkSpec, copySpec, createSpec, getSpec, listSpecs, updateSpec } from '../services/specs';
-import { KeelsonApiError } from '../../shared/errors';
 import type { AppDeps } from '../app';
 
 const WRITERS = ['researcher', 'admin'] as const;
 
-export function idParam(req: Request, what = 'id'): number {
-  const id = Number(req.params.id);
-  if (!Number.isInteger(id) || id < 1) throw new KeelsonApiError('bad_request', `The ${what} must be a positive whole number`);
-  return id;
-}
+// The one strict path-id parser (404 for 1e3, 0x10, 01, -1); re-exported for the routers that import it from here.
+export { idParam };
 
 const listQuerySchema = z.object({
   mine: z.enum(['true', 'false']).optional(),

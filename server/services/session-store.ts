@@ -1,9 +1,21 @@
 import session from 'express-session';
-import { eq, lt } from 'drizzle-orm';
+import { and, eq, lt, ne, sql } from 'drizzle-orm';
 import type { Db } from '../db/client';
 import { sessions } from '../db/schema/index';
 
 const DAY_MS = 24 * 60 * 60 * 1000;
+
+/**
+ * Ends every stored session signed in as `userId` (passport keeps the id at `passport.user`),
+ * except `keepSid`. Returns how many were ended.
+ */
+export function destroyUserSessions(db: Db, userId: number, keepSid?: string): number {
+  const ofUser = sql`json_extract(${sessions.data}, '$.passport.user') = ${userId}`;
+  return db
+    .delete(sessions)
+    .where(keepSid ? and(ofUser, ne(sessions.sid, keepSid)) : ofUser)
+    .run().changes;
+}
 
 /**
  * express-session store on Keelson's own `sessions` table. Expired rows are ignored on read

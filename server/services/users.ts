@@ -5,9 +5,11 @@ import type { Db } from '../db/client';
 import { inTransaction } from '../db/client';
 import { invitations, users } from '../db/schema/index';
 import { KeelsonApiError } from '../../shared/errors';
-import type { AdminUser, InviteBody, Invitation, User } from '../../shared/auth';
+import { normaliseEmail, type AdminUser, type InviteBody, type Invitation, type User } from '../../shared/auth';
 import type { Role } from '../../shared/roles';
 import { audit } from './audit';
+import { assertPasswordAllowed } from './password-policy';
+import { destroyUserSessions } from './session-store';
 
 const BCRYPT_ROUNDS = 10;
 const INVITE_DAYS = 7;
@@ -30,7 +32,7 @@ export function hashPassword(password: string): Promise<string> {
 
 /** Checks e-mail and password; returns the user or null. Inactive users cannot sign in. */
 export async function verifyCredentials(db: Db, email: string, password: string): Promise<User | null> {
-  const row = db.select().from(users).where(eq(users.email, email.trim().toLowerCase())).get();
+  const row = db.select().from(users).where(eq(users.email, normaliseEmail(email))).get();
   const ok = await bcrypt.compare(password, row?.passwordHash ?? DUMMY_HASH);
   if (!row || !ok || !row.active) return null;
   return toUser(row);
@@ -54,7 +56,7 @@ export async function createUser(db: Db, u: { email: string; name: string; role:
   const passwordHash = await hashPassword(u.password);
   const row = db
     .insert(users)
-    .values({ email: u.email.toLowerCase(), name: u.name, role: u.role, passwordHash })
+    .values({ email: normaliseEmail(u.email), name: u.name, role: u.role, passwordHash })
     .returning()
     .get();
   return toUser(row);
@@ -115,7 +117,8 @@ export function previewInvitation(db: Db, token: string, now = new Date()) {
 
 /** Accepts an invitation: creates the user in one transaction and marks the invitation used. */
 export async function acceptInvitation(db: Db, token: string, password: string, now = new Date()): Promise<User> {
-  openInvitation(db, token, now);
+  const invited = openInvitation(db, token, now);
+  assertPasswordAllowed(password, 'password', [invited.email, invited.name]);
   const passwordHash = await hashPassword(password);
   return inTransaction(db, (tx) => {
     // Re-check inside the transaction: a second accept that raced the first must fail.
@@ -131,6 +134,32 @@ export async function acceptInvitation(db: Db, token: string, password: string, 
     if (upd.changes !== 1) throw new KeelsonApiError('conflict', 'This invitation was already used; sign in instead');
     audit(tx, u.id, 'invitation.accept', { invitationId: row.id });
     return toUser(u);
+  });
+}
+
+/**
+ * Changes the signed-in user's password: 403 when the current one is wrong, 400 (naming
+ * `newPassword`) when the new one is refused by the policy. In one transaction the hash is replaced,
+ * every other session of the user is ended and an audit entry is written.
+ */
+export async function changePassword(db: Db, user: User, currentPassword: string, newPassword: string, keepSessionId?: string): Promise<{ endedSessions: number }> {
+  const row = db.select().from(users).where(eq(users.id, user.id)).get();
+  if (!row || !row.active) throw new KeelsonApiError('unauthenticated', 'Sign in first');
+  if (!(await bcrypt.compare(currentPassword, row.passwordHash))) {
+    throw new KeelsonApiError('forbidden', 'The current password is wrong; nothing was changed');
+  }
+  if (newPassword === currentPassword) {
+    throw new KeelsonApiError('validation_failed', 'The new password is the same as the current one', [
+      { path: ['newPassword'], message: 'Choose a password different from the current one' },
+    ]);
+  }
+  assertPasswordAllowed(newPassword, 'newPassword', [row.email, row.name]);
+  const passwordHash = await hashPassword(newPassword);
+  return inTransaction(db, (tx) => {
+    tx.update(users).set({ passwordHash }).where(eq(users.id, user.id)).run();
+    const endedSessions = destroyUserSessions(tx, user.id, keepSessionId);
+    audit(tx, user.id, 'auth.password_change', { endedSessions });
+    return { endedSessions };
   });
 }
 

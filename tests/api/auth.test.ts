@@ -27,6 +27,7 @@ describe('health and sign-in', () => {
     expect(user).toMatchObject({ email: 'researcher@keelson.test', role: 'researcher', name: 'Rhea Tolland' });
     expect(r.headers['set-cookie']?.[0]).toMatch(/HttpOnly/i);
     expect(r.headers['set-cookie']?.[0]).toMatch(/SameSite=Lax/i);
+    a.csrf = r.body.csrfToken; // rotated on sign-in
     const me = await a.get('/api/v1/auth/me').expect(200);
     expect(me.body.user.id).toBe(user.id);
     await a.post('/api/v1/auth/logout').set('x-csrf-token', a.csrf).expect(204);

@@ -47,11 +47,13 @@ export async function anonymousAgent(app: KeelsonApp): Promise<Agent> {
 /** An agent signed in as the demo account of `role`. */
 export async function agentAs(app: KeelsonApp, role: Role): Promise<Agent> {
   const agent = await anonymousAgent(app);
-  await agent
+  const r = await agent
     .post('/api/v1/auth/login')
     .set('x-csrf-token', agent.csrf)
     .send({ email: `${role}@keelson.test`, password: DEMO_PASSWORD })
     .expect(200);
+  // Sign-in rotates the CSRF token; the new one comes back in the answer.
+  agent.csrf = (r.body as { csrfToken: string }).csrfToken;
   return agent;
 }
 

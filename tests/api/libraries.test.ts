@@ -28,7 +28,7 @@ beforeAll(async () => {
   await createUser(t.db, { email: 'second@keelson.test', name: 'Second Researcher', role: 'researcher', password: 'keelson-demo' });
   const { anonymousAgent } = await import('./helpers');
   otherResearcher = await anonymousAgent(t.app);
-  await otherResearcher.post('/api/v1/auth/login').set('x-csrf-token', otherResearcher.csrf).send({ email: 'second@keelson.test', password: 'keelson-demo' }).expect(200);
+  otherResearcher.csrf = (await otherResearcher.post('/api/v1/auth/login').set('x-csrf-token', otherResearcher.csrf).send({ email: 'second@keelson.test', password: 'keelson-demo' }).expect(200)).body.csrfToken;
 });
 afterAll(() => t.close());
 

@@ -26,7 +26,7 @@ beforeAll(async () => {
   desk = await agentAs(t.app, 'desk');
   await createUser(t.db, { email: 'second.researcher@keelson.test', name: 'Second Researcher', role: 'researcher', password: DEMO_PASSWORD });
   other = await anonymousAgent(t.app);
-  await other.post('/api/v1/auth/login').set('x-csrf-token', other.csrf).send({ email: 'second.researcher@keelson.test', password: DEMO_PASSWORD }).expect(200);
+  other.csrf = (await other.post('/api/v1/auth/login').set('x-csrf-token', other.csrf).send({ email: 'second.researcher@keelson.test', password: DEMO_PASSWORD }).expect(200)).body.csrfToken;
   shared = await uploadFixture(admin, fx, { name: 'Invented economy', visibility: 'shared' });
   priv = await uploadFixture(researcher, fx, { name: 'Private economy', visibility: 'private' });
 });

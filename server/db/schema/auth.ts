@@ -1,5 +1,5 @@
 import { sql } from 'drizzle-orm';
-import { index, integer, sqliteTable, text } from 'drizzle-orm/sqlite-core';
+import { index, integer, primaryKey, sqliteTable, text } from 'drizzle-orm/sqlite-core';
 
 const now = sql`(strftime('%Y-%m-%dT%H:%M:%fZ','now'))`;
 
@@ -58,3 +58,40 @@ export const outbox = sqliteTable('outbox', {
   messageId: text('message_id'),
   createdAt: text('created_at').notNull().default(now),
 });
+
+/**
+ * Hit counters of the sign-in and password-change rate limiters (express-rate-limit store, see
+ * server/middlewares/rate-limit.ts). Kept in SQLite so a restart does not forget them.
+ */
+export const rateLimits = sqliteTable(
+  'rate_limits',
+  {
+    key: text('key').primaryKey(),
+    hits: integer('hits').notNull(),
+    /** Epoch milliseconds when the window of this key ends. */
+    resetAt: integer('reset_at').notNull(),
+  },
+  (t) => [index('rate_limits_reset_idx').on(t.resetAt)],
+);
+
+/**
+ * First responses of POST requests sent with an `Idempotency-Key` header (server/middlewares/idempotency.ts),
+ * kept 24 hours. `status` is null while the first request is still running.
+ */
+export const idempotencyKeys = sqliteTable(
+  'idempotency_keys',
+  {
+    userId: integer('user_id')
+      .notNull()
+      .references(() => users.id),
+    key: text('key').notNull(),
+    /** sha256 of method, path and the canonical JSON body. */
+    requestHash: text('request_hash').notNull(),
+    status: integer('status'),
+    contentType: text('content_type'),
+    body: text('body'),
+    /** Epoch milliseconds. */
+    createdAt: integer('created_at').notNull(),
+  },
+  (t) => [primaryKey({ columns: [t.userId, t.key] }), index('idempotency_created_idx').on(t.createdAt)],
+);
