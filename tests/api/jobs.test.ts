@@ -207,7 +207,7 @@ describe('validation (nothing written on refusal)', () => {
     expectEnvelope((await post(researcher, `/runs/${runId}/checks`, { kind: 'subset-sweep', params: { candidates: sixteen } }).expect(400)).body, 'validation_failed');
     expectEnvelope((await post(researcher, `/runs/${runId}/checks`, { kind: 'bootstrap', params: { scheme: 'block', blockLength: 200 } }).expect(422)).body, 'unprocessable');
     expectEnvelope((await post(researcher, '/runs/999999/checks', { kind: 'bootstrap' }).expect(404)).body, 'not_found');
-    expectEnvelope((await post(researcher, '/runs/abc/checks', { kind: 'bootstrap' }).expect(400)).body, 'bad_request');
+    expectEnvelope((await post(researcher, '/runs/abc/checks', { kind: 'bootstrap' }).expect(404)).body, 'not_found');
     expect(tableCounts(t.db)).toEqual(before);
   });
 

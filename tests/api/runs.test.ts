@@ -300,9 +300,9 @@ describe('reading runs', () => {
     expect(tex).toContain(run.result!.factors[0].b.toFixed(3));
   });
 
-  it('answers 404 for an unknown run and 400 for a malformed id', async () => {
+  it('answers 404 for an unknown run and for a malformed id', async () => {
     expectEnvelope((await desk.get('/api/v1/runs/424242').expect(404)).body, 'not_found');
-    expectEnvelope((await desk.get('/api/v1/runs/abc').expect(400)).body, 'bad_request');
+    expectEnvelope((await desk.get('/api/v1/runs/abc').expect(404)).body, 'not_found');
   });
 });
 
