@@ -90,6 +90,9 @@ describe('declared access of specs, runs and review routes', () => {
     'post /runs/:id/comments': 'reviewer,admin',
     'post /runs/:id/signoff': 'reviewer,admin',
     'post /runs/:id/signoff-requests': 'researcher,admin',
+    'post /auth/password': 'signed-in',
+    'post /auth/login': 'public',
+    'get /auth/me': 'signed-in',
   };
   it('mounts every route with the intended roles (desk: read, compare, export only)', () => {
     const table = new Map(t.app.routeTable.map((r) => [`${r.method} ${r.path}`, Array.isArray(r.access) ? [...r.access].join(',') : String(r.access)]));
