@@ -2,8 +2,10 @@
  * Merge bootstrap p-values into a finished factor ledger (pure; the ledger's estimates are not
  * recomputed).
  *
- * For each factor k: bootstrap.pB = the bootstrap-t p of b_k = 0, bootstrap.pDrop = the
- * bootstrap p of its drop test; at the top: the bootstrap p of J. The bootstrap verdict uses the
+ * For each factor k: bootstrap.pB = the bootstrap-t p of b_k = 0, bootstrap.pLambda = the
+ * bootstrap-t p of λ_k = 0 (null in the uncentred form), bootstrap.pDrop = the bootstrap p of its
+ * drop test (every stage); at the top: the bootstrap p of J and, with a drop set, of the joint
+ * Wald and joint drop tests (the bootstrap's drop set must be the ledger's). The bootstrap verdict uses the
  * bootstrap p for b (needed) and, for λ (priced), the bootstrap p where the bootstrap gives one,
  * else the p of the run's asymptotic basis (robust for first-stage runs, standard otherwise).
  * When the ledger's basis is 'bootstrap', the headline verdict and `verdictBasis` switch to it.
@@ -25,7 +27,7 @@ import { factorVerdict } from './verdict';
  * @param ledger the run's ledger (from estimateLedger).
  * @param boot the bootstrap of the same model on the same data (same factors, same order).
  * @returns a new ledger with `bootstrap`, each factor's `bootstrap` and `verdicts.bootstrap` set.
- * @throws GmmInputError when the bootstrap does not belong to the ledger (other factors, T or N).
+ * @throws GmmInputError when the bootstrap does not belong to the ledger (other factors, T, N or drop set).
  */
 export function withBootstrap(ledger: LedgerResult, boot: BootstrapResult): LedgerResult {
   if (boot.T !== ledger.T || boot.N !== ledger.N || boot.K !== ledger.K)
@@ -35,14 +37,22 @@ export function withBootstrap(ledger: LedgerResult, boot: BootstrapResult): Ledg
     const bf = boot.factors[k];
     if (!bf || bf.name !== f.name)
       throw new GmmInputError('unknown-factor', `The bootstrap's factor ${k + 1} is '${bf?.name ?? '—'}', the ledger's is '${f.name}'.`, { series: f.name });
-    const bootLambda = 'lambda' in bf && bf.lambda && typeof bf.lambda === 'object' ? (bf.lambda as { bootstrapP: number }).bootstrapP : null;
+    const bootLambda = bf.lambda ? bf.lambda.bootstrapP : null;
     const fallbackLambdaP = f.robust && ledger.stage === 'first' ? f.robust.pLambda : f.pLambda;
     const bootstrap = { pB: bf.wald.bootstrapP, pLambda: bootLambda, pDrop: bf.drop ? bf.drop.bootstrapP : null };
     const bootVerdict = factorVerdict(bootstrap.pB, bootLambda ?? fallbackLambdaP, level);
     const verdicts = { ...f.verdicts, bootstrap: bootVerdict };
     return { ...f, bootstrap, verdicts, verdict: ledger.basis === 'bootstrap' ? bootVerdict : f.verdict };
   });
-  const joint = 'joint' in boot && boot.joint && typeof boot.joint === 'object' ? (boot.joint as { wald?: { bootstrapP: number } | null; drop?: { bootstrapP: number } | null }) : null;
+  const joint = boot.joint;
+  if (joint) {
+    const ledgerSet = ledger.jointDrop?.factors ?? [];
+    if (ledgerSet.length !== joint.factors.length || ledgerSet.some((n, i) => n !== joint.factors[i]))
+      throw new GmmInputError(
+        'invalid-option',
+        `The bootstrap's drop set {${joint.factors.join(', ')}} is not the ledger's {${ledgerSet.join(', ')}}.`,
+      );
+  }
   return {
     ...ledger,
     factors,

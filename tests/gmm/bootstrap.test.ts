@@ -18,6 +18,10 @@ import {
   type BootstrapInput,
 } from '../../lib/gmm/bootstrap';
 import { GmmInputError } from '../../lib/gmm/errors';
+import { dropTester } from '../../lib/gmm/drop-test';
+import { spdInverse } from '../../lib/gmm/linalg';
+import { prepareMoments } from '../../lib/gmm/moments';
+import { fitSdfGmm, sdfLongRunCovariance } from '../../lib/gmm/sdf-gmm';
 import { mulberry32 } from '../../lib/gmm/random';
 import { normalSampler, simulateEconomy } from './helpers';
 
@@ -70,11 +74,11 @@ describe('bootstrap generator and resampling', () => {
     for (let i = 0; i < 5; i++) expect(u()).toBe(v());
   });
 
-  it('moving blocks are runs of consecutive periods; the rule ℓ = ceil(T^(1/3))', () => {
+  it('circular blocks are runs of consecutive periods (mod T); the rule ℓ = ceil(T^(1/3))', () => {
     expect(defaultBlockLength(600)).toBe(9); // 600^(1/3) = 8.43
     expect(defaultBlockLength(1000)).toBe(10);
     const idx = bootstrapResample(100, 'block', 10, mulberry32(5));
-    for (let b = 0; b < 10; b++) for (let j = 1; j < 10; j++) expect(idx[b * 10 + j]).toBe(idx[b * 10] + j);
+    for (let b = 0; b < 10; b++) for (let j = 1; j < 10; j++) expect(idx[b * 10 + j]).toBe((idx[b * 10] + j) % 100);
     for (const i of idx) expect(i >= 0 && i < 100).toBe(true);
   });
 });
@@ -108,20 +112,28 @@ describe('bootstrapSdfTests', () => {
   it('moving-block bootstrap runs and reports its block length', () => {
     const r = bootstrapSdfTests({ ...input, options: { ...input.options, scheme: 'block', blockLength: 6 } });
     expect(r.blockLength).toBe(6);
-    expect(r.notes.join(' ')).toMatch(/blocks of 6/);
+    expect(r.notes.join(' ')).toMatch(/Circular blocks of 6 periods; Hall–Horowitz correction/);
+    expect(r.correction).toBe('hall-horowitz');
     expect(r.J.bootstrapP).toBeGreaterThan(0);
   });
 
-  it('refuses the uncentred form, a bad block length and too few draws with named errors', () => {
-    expect(() => bootstrapSdfTests({ ...input, options: { ...input.options, form: 'uncentred' } })).toThrow(GmmInputError);
+  it('refuses a bad form, a bad block length, too few draws and an unknown drop-set factor with named errors', () => {
+    expect(() => bootstrapSdfTests({ ...input, options: { ...input.options, form: 'odd' as 'centred' } })).toThrow(GmmInputError);
+    expect(() => bootstrapSdfTests({ ...input, options: { ...input.options, dropSet: ['F9'] } })).toThrow(/dropSet names 'F9'/);
     expect(() => bootstrapSdfTests({ ...input, options: { ...input.options, scheme: 'block', blockLength: 200 } })).toThrow(/blockLength/);
     expect(() => bootstrapSdfTests({ ...input, options: { ...input.options, draws: 5 } })).toThrow(/draws/);
   });
 
-  it('first stage: no drop tests, a note says why', () => {
+  it('first stage: drop tests with W* = Ŝ⁻¹ at the first-stage b̂, equal to the drop tester on that W*', () => {
     const r = bootstrapSdfTests({ ...input, options: { ...input.options, stage: 'first' } });
-    expect(r.factors[0].drop).toBeNull();
-    expect(r.notes.join(' ')).toMatch(/second-stage/);
+    expect(r.factors[0].drop).not.toBeNull();
+    expect(r.notes.join(' ')).toMatch(/first-stage estimate/);
+    const m = prepareMoments(e.returns, e.factors);
+    const fit = fitSdfGmm(m, { stage: 'first', lags: 0 });
+    if (!fit.ok) throw new Error('fit');
+    const W = spdInverse(sdfLongRunCovariance(m, fit.b, 'centred', false, 0), 8)!;
+    const d = dropTester({ T: 240, N: 8, K: 2, X: fit.X, W, meanR: m.meanR })([1])!;
+    expect(r.factors[1].drop!.stat).toBeCloseTo(d.stat, 10);
   });
 
   it('has power: a strongly priced factor gets a small bootstrap p-value for its b', () => {
