@@ -18,6 +18,7 @@ import {
   type UploadWarning,
   type Units,
 } from '../../shared/libraries';
+import { detectUnits, PERCENT_SCALE, SCALE_RATIO } from '../../shared/units';
 
 export interface ParsedCsv {
   readonly frequency: Frequency;
@@ -35,10 +36,6 @@ export interface ParsedCsv {
 const MAX_ISSUES = 50;
 const MISSING = new Set(['', 'na', 'n/a', 'nan', 'null', '#n/a']);
 const NUMBER_RE = /^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$/;
-/** Median |x| above which a column looks like percent (monthly decimal returns sit near 0.03, percent near 3). */
-const PERCENT_SCALE = 0.15;
-/** How far (in multiples) a column's scale must sit from the others' to be flagged. */
-const SCALE_RATIO = 30;
 const JUMP_SD = 10;
 
 function issue(row: number | undefined, column: string | undefined, message: string): ErrorIssue {
@@ -151,12 +148,6 @@ function finite(v: Float64Array): Float64Array {
   return out;
 }
 
-function medianAbs(v: Float64Array): number | null {
-  const f = finite(v);
-  if (f.length === 0) return null;
-  return medianOf(f.map(Math.abs));
-}
-
 /**
  * The observation farthest from the median, in robust standard deviations (1.4826 × median absolute
  * deviation, a common-practice scale that one outlier cannot inflate, unlike the sample sd).
@@ -176,10 +167,6 @@ function worstJump(v: Float64Array): { t: number; z: number } | null {
     if (!best || z > best.z) best = { t, z };
   }
   return best;
-}
-
-function median(a: number[]): number {
-  return medianOf(Float64Array.from(a));
 }
 
 export function suggestKind(name: string): SeriesKind {
@@ -377,10 +364,9 @@ export function parseReturnCsv(buf: Buffer): ParsedCsv {
 
   // Statistics, units and warnings
   const stats = values.map(columnStats);
-  const scales = values.map(medianAbs);
+  // the units rule is shared with the command line (shared/units.ts)
+  const { units, pooled, scales } = detectUnits(values);
   const known = scales.filter((s): s is number => s !== null && s > 0);
-  const pooled = known.length ? median(known) : 0;
-  const units: Units = pooled > PERCENT_SCALE ? 'percent' : 'decimal';
   columns.forEach((name, k) => {
     const s = scales[k];
     const st = stats[k]!;
