@@ -7,7 +7,20 @@ import { readFileSync } from 'node:fs';
 import { parseArgs } from 'node:util';
 import Papa from 'papaparse';
 import { isRemoteCommand, REMOTE_USAGE, runRemote } from './remote';
-import { estimateLedger, GmmInputError, GmmNumericalError, type LedgerOptions, type LedgerResult } from '../lib/gmm/index';
+import {
+  bootstrapSdfTests,
+  estimateLedger,
+  GmmInputError,
+  GmmNumericalError,
+  withBootstrap,
+  type Basis,
+  type LedgerBootstrapSettings,
+  type LedgerInput,
+  type LedgerOptions,
+  type LedgerResult,
+} from '../lib/gmm/index';
+import { detectUnits } from '../shared/units';
+import { renderLedgerText } from './ledger-text';
 
 /** A caller mistake: reported on one line, exit code 2. */
 export class CliInputError extends Error {
@@ -27,14 +40,21 @@ Estimates the factor ledger of a linear SDF model by GMM.
   --rf COLUMN            risk-free column, subtracted from the test assets
   --non-traded F3,…      factors that are not excess returns (no spanning check, no GRS)
   --stage S              first | second | iterated            (default second)
-  --weighting W          identity | second-moment (first stage, default identity)
+  --weighting W          identity | second-moment | covariance  (first-stage weighting, default identity)
   --lags N|auto          Bartlett HAC lag (default auto = floor(4 (T/100)^(2/9)))
   --form F               centred | uncentred                  (default centred)
   --means-known          no factor-mean correction of the moments
   --level A              significance level for verdicts      (default 0.05)
   --drop-set F1,F2       also test dropping these factors together
   --fm-intercept         intercept in the Fama–MacBeth cross-sections
+  --basis B              standard | robust | bootstrap: the p-values the verdicts rest on
+                         (default robust for --stage first, standard otherwise; robust needs --stage first)
+  --bootstrap-draws N    bootstrap p-values beside the others (99…10000 draws; --basis bootstrap: default 999)
+  --bootstrap-scheme S   iid | block                          (default iid)
+  --block-length N       block length for --bootstrap-scheme block (default ceil(T^(1/3)))
+  --seed S               bootstrap seed, 0…2147483647        (default 1)
   --percent              the file is in percent (divided by 100)
+  --decimal              the file is in decimals even though its numbers look like percent
   --json                 print the ledger as JSON
 
 Results are statistical evidence, not investment advice.`;
@@ -133,6 +153,12 @@ function parseCommand(argv: string[]) {
       'drop-set': { type: 'string' },
       'fm-intercept': { type: 'boolean', default: false },
       percent: { type: 'boolean', default: false },
+      decimal: { type: 'boolean', default: false },
+      basis: { type: 'string' },
+      'bootstrap-draws': { type: 'string' },
+      'bootstrap-scheme': { type: 'string' },
+      'block-length': { type: 'string' },
+      seed: { type: 'string' },
       json: { type: 'boolean', default: false },
       help: { type: 'boolean', short: 'h', default: false },
     },
@@ -145,13 +171,37 @@ function oneOf<T extends string>(name: string, v: string, allowed: readonly T[])
   return v as T;
 }
 
+function wholeNumber(flag: string, v: string, lo: number, hi: number): number {
+  if (!/^\d+$/.test(v) || Number(v) < lo || Number(v) > hi) throw new CliInputError(`--${flag} must be a whole number from ${lo} to ${hi}; got "${v}"`);
+  return Number(v);
+}
+
+/** The basis and bootstrap settings from the flags; refuses contradictory combinations. */
+export function bootstrapChoice(values: ReturnType<typeof parseCommand>['values'], stage: 'first' | 'second' | 'iterated'): { basis?: Basis; bootstrap?: LedgerBootstrapSettings } {
+  const basis = values.basis === undefined ? undefined : oneOf('basis', values.basis, ['standard', 'robust', 'bootstrap'] as const);
+  if (basis === 'robust' && stage !== 'first')
+    throw new CliInputError(`--basis robust needs a first-stage run (robust SEs need a weighting that does not depend on b): add --stage first`);
+  const asked = basis === 'bootstrap' || values['bootstrap-draws'] !== undefined;
+  if (!asked) {
+    for (const f of ['bootstrap-scheme', 'block-length', 'seed'] as const)
+      if (values[f] !== undefined) throw new CliInputError(`--${f} needs the bootstrap: add --bootstrap-draws N or --basis bootstrap`);
+    return basis ? { basis } : {};
+  }
+  const draws = values['bootstrap-draws'] === undefined ? 999 : wholeNumber('bootstrap-draws', values['bootstrap-draws'], 99, 10000);
+  const scheme = oneOf('bootstrap-scheme', values['bootstrap-scheme'] ?? 'iid', ['iid', 'block'] as const);
+  if (values['block-length'] !== undefined && scheme !== 'block') throw new CliInputError('--block-length needs --bootstrap-scheme block');
+  const blockLength = values['block-length'] === undefined ? undefined : wholeNumber('block-length', values['block-length'], 1, 10000);
+  const seed = values.seed === undefined ? 1 : wholeNumber('seed', values.seed, 0, 2 ** 31 - 1);
+  return { ...(basis ? { basis } : {}), bootstrap: { draws, scheme, seed, ...(blockLength !== undefined ? { blockLength } : {}) } };
+}
+
 /** Build the estimateLedger input from the parsed options and CSV. */
 export function buildInput(values: ReturnType<typeof parseCommand>['values']) {
   if (!values.data) throw new CliInputError('--data FILE.csv is required');
   const factorNames = list(values.factors);
   if (!factorNames || factorNames.length === 0) throw new CliInputError('--factors F1,F2,… is required (at least one factor column)');
   const stage = oneOf('stage', values.stage!, ['first', 'second', 'iterated'] as const);
-  const weighting = oneOf('weighting', values.weighting!, ['identity', 'second-moment'] as const);
+  const weighting = oneOf('weighting', values.weighting!, ['identity', 'second-moment', 'covariance'] as const);
   const form = oneOf('form', values.form!, ['centred', 'uncentred'] as const);
   let lags: number | 'auto' = 'auto';
   if (values.lags !== 'auto') {
@@ -161,6 +211,8 @@ export function buildInput(values: ReturnType<typeof parseCommand>['values']) {
   const level = Number(values.level);
   if (!/^\s*[0-9.eE+-]+\s*$/.test(values.level!) || !(level > 0 && level < 1))
     throw new CliInputError(`--level must be a number strictly between 0 and 1; got "${values.level}"`);
+  const { basis, bootstrap } = bootstrapChoice(values, stage);
+  if (values.percent && values.decimal) throw new CliInputError('--percent and --decimal contradict each other: give one');
 
   let text: string;
   try {
@@ -169,7 +221,7 @@ export function buildInput(values: ReturnType<typeof parseCommand>['values']) {
     const code = (e as NodeJS.ErrnoException).code;
     throw new CliInputError(`${values.data}: cannot read the file (${code === 'ENOENT' ? 'no such file' : code ?? 'error'})`);
   }
-  const lib = loadLibrary(values.data, text, values.percent ?? false);
+  const lib = loadLibrary(values.data, text, false);
   const need = (opt: string, name: string) => {
     if (!lib.values.has(name)) throw new CliInputError(`--${opt}: column "${name}" is not in ${values.data} (columns: ${lib.columns.join(', ')})`);
   };
@@ -197,6 +249,18 @@ export function buildInput(values: ReturnType<typeof parseCommand>['values']) {
   if (assetNames.length === 0) throw new CliInputError(`${values.data}: no test-asset columns left after the factors${rf ? ' and rf' : ''}`);
   const dropSet = list(values['drop-set']);
   if (dropSet) for (const f of dropSet) if (!factorNames.includes(f)) throw new CliInputError(`--drop-set: "${f}" is not one of the --factors`);
+  const used = [...assetNames, ...factorNames, ...(rf ? [rf] : [])];
+  const detected = detectUnits(used.map((c) => lib.values.get(c)!));
+  if (detected.units === 'percent' && !values.percent && !values.decimal)
+    throw new CliInputError(
+      `${values.data}: the returns look like percent (typical size ${detected.pooled.toFixed(2)}; decimal returns sit near 0.03): add --percent to divide them by 100, or --decimal if they really are decimals`,
+    );
+  if (values.percent) for (const c of lib.columns) lib.values.set(c, lib.values.get(c)!.map((v) => v / 100));
+  const unitsNote = values.percent
+    ? 'percent in the file, divided by 100'
+    : detected.units === 'percent'
+      ? 'read as decimals as given (--decimal), although they look like percent'
+      : 'decimals in the file';
   const T = lib.dates.length;
   const rfCol = rf ? lib.values.get(rf)! : null;
   const returns = Array.from({ length: T }, (_, t) => assetNames!.map((a) => lib.values.get(a)![t] - (rfCol ? rfCol[t] : 0)));
@@ -210,72 +274,49 @@ export function buildInput(values: ReturnType<typeof parseCommand>['values']) {
     level,
     ...(dropSet && dropSet.length ? { dropSet } : {}),
     fmIntercept: values['fm-intercept'] ?? false,
+    ...(basis ? { basis } : {}),
+    ...(bootstrap ? { bootstrap } : {}),
   };
   return {
     dates: lib.dates,
+    unitsNote,
     input: { assetNames, returns, factorNames, factors, traded: factorNames.map((f) => !nonTraded.includes(f)), options },
   };
 }
 
 // ---------- table output ----------
 
-const num = (v: number | null | undefined, digits = 4): string => {
-  if (v === null || v === undefined) return '–';
-  if (v === 0) return '0';
-  const a = Math.abs(v);
-  if (a >= 1e5 || a < 1e-4) return v.toExponential(digits - 1);
-  return v.toFixed(Math.max(0, digits - 1 - Math.floor(Math.log10(a))) > 6 ? 6 : Math.max(0, digits - 1 - Math.floor(Math.log10(a))));
-};
-const pv = (p: number | null | undefined) => (p === null || p === undefined ? '–' : p < 0.0001 ? '<0.0001' : p.toFixed(4));
-
-function table(head: string[], rows: string[][], rightFrom = 1): string {
-  const w = head.map((h, j) => Math.max(h.length, ...rows.map((r) => r[j].length)));
-  const fmt = (r: string[]) => r.map((c, j) => (j >= rightFrom && j < r.length - (head[head.length - 1] === 'verdict' ? 1 : 0) ? c.padStart(w[j]) : c.padEnd(w[j]))).join('  ');
-  return [fmt(head), w.map((n) => '─'.repeat(n)).join('  '), ...rows.map(fmt)].join('\n') + '\n';
+/** The ledger as text (Keelson's layout, bin/ledger-text.ts). */
+export function renderTable(r: LedgerResult, dates: string[], source = 'data', unitsNote?: string): string {
+  return renderLedgerText(r, { source, period: `${dates[0]} to ${dates[dates.length - 1]}`, ...(unitsNote ? { unitsNote } : {}) });
 }
 
-export function renderTable(r: LedgerResult, dates: string[]): string {
-  let s = '';
-  s += `Factor ledger — SDF GMM, ${r.stage} stage${r.stage === 'iterated' ? ` (${r.iterations} iterations${r.converged ? '' : ', NOT converged'})` : ''}, ${r.options.form} form${r.options.factorMeansKnown ? ', factor means known' : ''}\n`;
-  s += `T = ${r.T} (${dates[0]} … ${dates[dates.length - 1]}), N = ${r.N} test assets, K = ${r.K} factors, HAC lag ${r.lags}, level ${r.options.level}\n\n`;
-  s += table(
-    ['factor', 'b', 'se(b)', 'p(b)', 'λ', 'se(λ)', 'p(λ)', 'drop χ²', 'p(drop)', 'span α', 'p(span)', 'thin β', 'verdict'],
-    r.factors.map((f) => [
-      f.name + (f.traded ? '' : ' (nt)'),
-      num(f.b),
-      num(f.seB),
-      pv(f.pB),
-      num(f.lambda),
-      num(f.seLambda),
-      pv(f.pLambda),
-      f.chi2Drop ? num(f.chi2Drop.stat) : '–',
-      pv(f.chi2Drop?.p),
-      f.spanning ? num(f.spanning.alpha) : '–',
-      pv(f.spanning?.p),
-      f.thinBeta ? (f.thinBeta.flag ? `FLAG p=${pv(f.thinBeta.p)}` : 'ok') : '–',
-      f.verdict,
-    ]),
-  );
-  s += `\nneeded = b significant (Wald); priced = λ significant; drop = χ² difference with the unrestricted second-stage weighting\n`;
-  s += `\nJ = ${num(r.J.stat)} on ${r.J.df} df, p = ${pv(r.J.p)}`;
-  s += `   HJ distance = ${num(r.hj)}`;
-  s += r.grs ? `   GRS = ${num(r.grs.stat)} ~ F(${r.grs.df1}, ${r.grs.df2}), p = ${pv(r.grs.p)}\n` : '   GRS: not reported (needs every factor traded)\n';
-  if (r.jointDrop) {
-    s += `\nDrop set {${r.jointDrop.factors.join(', ')}}: Wald ${r.jointDrop.wald ? `${num(r.jointDrop.wald.stat)} (p = ${pv(r.jointDrop.wald.p)})` : '–'}`;
-    s += `, drop χ² ${r.jointDrop.chi2Drop ? `${num(r.jointDrop.chi2Drop.stat)} (p = ${pv(r.jointDrop.chi2Drop.p)})` : '–'}`;
-    s += r.jointSpanning ? `, joint spanning ${num(r.jointSpanning.stat)} (p = ${pv(r.jointSpanning.p)})\n` : '\n';
-  }
-  if (r.famaMacBeth) {
-    const fm = r.famaMacBeth;
-    s += `\nFama–MacBeth${fm.intercept ? ' (with intercept)' : ''}, Shanken-corrected SEs:\n`;
-    const rows = [...(fm.zeroBeta ? [fm.zeroBeta] : []), ...fm.factors];
-    s += table(['', 'λ', 'se', 'p', 'se (Shanken)', 'p (Shanken)'], rows.map((c) => [c.name, num(c.lambda), num(c.se), pv(c.p), num(c.seShanken), pv(c.pShanken)]));
-  }
-  s += `\nPricing errors:\n`;
-  s += table(['asset', 'mean', 'predicted', 'α', 'se(α)', 't(α)'], r.pricingErrors.map((p) => [p.asset, num(p.meanReturn), num(p.predicted), num(p.alpha), num(p.se), num(p.t, 3)]));
-  if (r.warnings.length) s += `\nWarnings:\n${r.warnings.map((w) => `  - ${w}`).join('\n')}\n`;
-  s += `\nStatistical evidence, not investment advice.\n`;
-  return s;
+/**
+ * The ledger, with the bootstrap run inline and merged (withBootstrap) when the options ask for
+ * bootstrap p-values (basis bootstrap, or bootstrap settings beside another basis).
+ */
+export function estimateWithBootstrap(input: LedgerInput): LedgerResult {
+  const ledger = estimateLedger(input);
+  const o = input.options;
+  if (!o.bootstrap) return ledger;
+  const boot = bootstrapSdfTests({
+    returns: input.returns,
+    factors: input.factors,
+    factorNames: input.factorNames,
+    options: {
+      stage: o.stage,
+      weighting: o.weighting,
+      lags: o.lags,
+      form: o.form,
+      factorMeansKnown: o.factorMeansKnown,
+      scheme: o.bootstrap.scheme,
+      ...(o.bootstrap.blockLength !== undefined ? { blockLength: o.bootstrap.blockLength } : {}),
+      draws: o.bootstrap.draws,
+      seed: o.bootstrap.seed,
+      ...(o.dropSet && o.dropSet.length ? { dropSet: o.dropSet } : {}),
+    },
+  });
+  return withBootstrap(ledger, boot);
 }
 
 /** Run the CLI; returns the exit code (0 ok, 2 bad input, 1 unexpected failure). */
@@ -301,10 +342,10 @@ export async function main(argv: string[], io: Io = defaultIo): Promise<number> 
       return 0;
     }
     if (parsed.positionals.length > 0) throw new CliInputError(`unexpected argument "${parsed.positionals[0]}"`);
-    const { input, dates } = buildInput(parsed.values);
+    const { input, dates, unitsNote } = buildInput(parsed.values);
     let result: LedgerResult;
     try {
-      result = estimateLedger(input);
+      result = estimateWithBootstrap(input);
     } catch (e) {
       if (e instanceof GmmInputError) {
         let where = '';
@@ -315,7 +356,7 @@ export async function main(argv: string[], io: Io = defaultIo): Promise<number> 
       if (e instanceof GmmNumericalError) throw new CliInputError(`${parsed.values.data}: ${e.message}`);
       throw e;
     }
-    io.out(parsed.values.json ? JSON.stringify(result, null, 2) + '\n' : renderTable(result, dates));
+    io.out(parsed.values.json ? JSON.stringify(result, null, 2) + '\n' : renderTable(result, dates, parsed.values.data!, unitsNote));
     return 0;
   } catch (e) {
     if (e instanceof CliInputError) {
