@@ -3,25 +3,25 @@
  *
  * Invented economy, T = 120 periods, N = 25 test assets, K = 2 correlated factors (ρ = 0.5):
  * m = 1 − b₁(f₁ − μ₁) prices every asset exactly, b₂ = 0, so factor 2 is priced (λ₂ = Σ₂₁ b₁ ≠ 0)
- * but not needed. Over M Monte Carlo replications (default 1000) the bench runs the second-stage
+ * but not needed. Over M Monte Carlo replications (default 500) the bench runs the second-stage
  * GMM with B bootstrap draws each (default 199, iid, Hall–Horowitz recentring, lag 0) and counts
  * rejections at 5% of
  *   - the Wald test on b₂ (bootstrap-t p vs the asymptotic normal p),
  *   - the drop test of factor 2 (bootstrap p vs the χ²(1) p),
  *   - J (bootstrap p vs the χ²(N − K) p), for reference.
  * Target: bootstrap size of the Wald and drop tests inside 3–7%. The binomial standard error of a
- * rate near 5% with M = 1000 is 0.7 percentage points (common practice: ±2 s.e. band).
+ * rate near 5% with M = 500 is 1.0 percentage point (common practice: ±2 s.e. band).
  * A second, smaller table uses AR(1) factors (φ = 0.3), HAC lag 2 and circular blocks of 5 with
- * the HH block correction (M_BLOCK replications, default 300).
+ * the HH block correction (M_BLOCK replications, default 200; reported, no target).
  * Environment: BOOT_SIZE_M, BOOT_SIZE_B, BOOT_SIZE_M_BLOCK override the counts.
  */
 import { performance } from 'node:perf_hooks';
 import { bootstrapSdfTests, type BootstrapScheme } from '../lib/gmm/bootstrap';
 import { boxMuller, mulberry32 } from '../lib/gmm/random';
 
-const M = Number(process.env.BOOT_SIZE_M ?? 1000);
+const M = Number(process.env.BOOT_SIZE_M ?? 500);
 const B = Number(process.env.BOOT_SIZE_B ?? 199);
-const M_BLOCK = Number(process.env.BOOT_SIZE_M_BLOCK ?? 300);
+const M_BLOCK = Number(process.env.BOOT_SIZE_M_BLOCK ?? 200);
 const T = 120;
 const N = 25;
 
@@ -89,7 +89,7 @@ function pct(count: number, reps: number): string {
   return `${((100 * count) / reps).toFixed(1)}%`.padStart(7);
 }
 
-function table(title: string, reps: number, r: ReturnType<typeof simulate>): boolean {
+function table(title: string, reps: number, r: ReturnType<typeof simulate>, target: boolean): boolean {
   console.log(`\n${title}`);
   console.log(`${reps} replications × ${B} bootstrap draws, ${r.seconds.toFixed(1)} s, ${r.failed} singular draws skipped`);
   console.log('test (nominal 5%)          bootstrap  asymptotic');
@@ -100,14 +100,15 @@ function table(title: string, reps: number, r: ReturnType<typeof simulate>): boo
   row('J (N − K = 23 df)', r.J);
   const inBand = (t: Tally) => t.boot / reps >= 0.03 && t.boot / reps <= 0.07;
   const ok = inBand(r.wald) && inBand(r.drop);
-  console.log(`target 3–7% for the bootstrap Wald and drop tests: ${ok ? 'met' : 'NOT met'}`);
+  if (target) console.log(`target 3–7% for the bootstrap Wald and drop tests: ${ok ? 'met' : 'NOT met'}`);
+  else console.log(`(reported for reference, no target; bootstrap Wald and drop tests ${ok ? 'inside' : 'outside'} 3–7%)`);
   return ok;
 }
 
 const main = simulate(M, 0, 0, 'iid', undefined, 1_000);
-const okMain = table(`Small-sample size: T = ${T}, N = ${N}, second stage, identity first stage, lag 0, iid draws (HH recentring)`, M, main);
+const okMain = table(`Small-sample size: T = ${T}, N = ${N}, second stage, identity first stage, lag 0, iid draws (HH recentring)`, M, main, true);
 const block = simulate(M_BLOCK, 0.3, 2, 'block', 5, 50_000);
-const okBlock = table(`Serially correlated factors (AR(1), φ = 0.3): HAC lag 2, circular blocks of 5 with the HH block correction`, M_BLOCK, block);
+const okBlock = table(`Serially correlated factors (AR(1), φ = 0.3): HAC lag 2, circular blocks of 5 with the HH block correction`, M_BLOCK, block, false);
 console.log('\nStatistical evidence about the test procedures on invented data, not investment advice.');
 process.exitCode = okMain ? 0 : 1;
 void okBlock;
