@@ -11,7 +11,12 @@ import { homedir } from 'node:os';
 import { basename, join } from 'node:path';
 import { parseArgs } from 'node:util';
 import { errorEnvelopeSchema } from '../shared/errors';
+import type { BootstrapResult } from '../lib/gmm/bootstrap';
+import type { RollingResult } from '../lib/gmm/rolling';
+import type { SubsetSweepResult } from '../lib/gmm/subset-sweep';
 import type { LedgerResult } from '../shared/runs';
+import type { LedgerResult as GmmLedgerResult } from '../lib/gmm/ledger';
+import { renderLedgerText } from './ledger-text';
 
 export interface Io {
   out: (s: string) => void;
@@ -67,6 +72,18 @@ function cookieFrom(res: Response, previous = ''): string {
   return sid ?? previous;
 }
 
+/**
+ * One line from an error envelope: the message, then only those issues the message does not
+ * already say (the server's message often repeats the first issue).
+ */
+export function envelopeLine(error: { message: string; issues?: { message: string }[] }): string {
+  const seen = new Set<string>();
+  const extra = (error.issues ?? [])
+    .map((i) => i.message.replace(/[.\s]+$/, ''))
+    .filter((m) => m && !error.message.includes(m) && !seen.has(m) && (seen.add(m), true));
+  return error.message + (extra.length ? ` (also: ${extra.join('; ')})` : '');
+}
+
 function exitCodeFor(status: number): 1 | 2 | 3 {
   if (status === 401 || status === 403) return 3;
   if (status >= 400 && status < 500) return 2;
@@ -103,9 +120,7 @@ class Client {
     const type = res.headers.get('content-type') ?? '';
     if (!res.ok) {
       const parsed = type.includes('json') ? errorEnvelopeSchema.safeParse(await res.json()) : undefined;
-      const msg = parsed?.success
-        ? parsed.data.error.message + (parsed.data.error.issues?.length ? ` (${parsed.data.error.issues.map((i) => i.message).join('; ')})` : '')
-        : `the server answered ${res.status}`;
+      const msg = parsed?.success ? envelopeLine(parsed.data.error) : `the server answered ${res.status}`;
       throw new RemoteError(`${method} ${path}: ${msg}`, exitCodeFor(res.status));
     }
     if (res.status === 204) return { status: 204 };
@@ -154,20 +169,11 @@ function pad(rows: string[][]): string {
   return rows.map((r) => r.map((c, j) => (j === 0 ? c.padEnd(w[j]) : c.padStart(w[j]))).join('  ')).join('\n') + '\n';
 }
 
-/** A short text rendering of a run's factor ledger. */
+/** A run's factor ledger as text (the same layout as `keelson estimate`, bin/ledger-text.ts). */
 export function renderLedger(run: { id: number; status: string; error: string | null; result: LedgerResult | null; libraryName: string; editionNumber: number }): string {
-  let s = `Run ${run.id} — ${run.status} — ${run.libraryName}, edition ${run.editionNumber}\n`;
-  if (!run.result) return s + (run.error ? `Reason: ${run.error}\n` : '');
-  const r = run.result;
-  s += `T = ${r.T}, N = ${r.N}, K = ${r.K}, ${r.stage} stage, HAC lag ${r.lags}\n\n`;
-  const rows = [['factor', 'b', 't(b)', 'λ', 't(λ)', 'drop χ²', 'p', 'verdict']];
-  for (const f of r.factors) {
-    rows.push([f.name, fmt(f.b), fmt(f.tB, 2), fmt(f.lambda), fmt(f.tLambda, 2), fmt(f.chi2Drop?.stat, 2), fmt(f.chi2Drop?.p, 3), f.verdict]);
-  }
-  s += pad(rows);
-  s += `\nJ = ${fmt(r.J.stat, 3)} (df ${r.J.df}, p ${fmt(r.J.p, 3)})   HJ distance ${fmt(r.hj)}${r.grs ? `   GRS ${fmt(r.grs.stat, 3)} (p ${fmt(r.grs.p, 3)})` : ''}\n`;
-  s += 'Statistical evidence about a model on past data, not investment advice.\n';
-  return s;
+  const head = `Run ${run.id} — ${run.status} — ${run.libraryName}, edition ${run.editionNumber}\n`;
+  if (!run.result) return head + (run.error ? `Reason: ${run.error}\n` : '');
+  return head + renderLedgerText(run.result as unknown as GmmLedgerResult, { source: `${run.libraryName}, edition ${run.editionNumber}` });
 }
 
 const RUN_OPTIONS = {
@@ -187,6 +193,11 @@ const RUN_OPTIONS = {
   start: { type: 'string' },
   end: { type: 'string' },
   'drop-set': { type: 'string' },
+  basis: { type: 'string' },
+  'bootstrap-draws': { type: 'string' },
+  'bootstrap-scheme': { type: 'string' },
+  'block-length': { type: 'string' },
+  seed: { type: 'string' },
   json: { type: 'boolean' },
 } as const;
 
@@ -197,9 +208,12 @@ export const REMOTE_USAGE = `Commands that talk to a Keelson server (sign in fir
   keelson library ID [--json]                    one library with its editions
   keelson upload FILE (--name NAME [--shared] | --library ID) [--factors F1,…] [--non-traded F,…] [--rf COL] [--percent] [--json]
   keelson edition-csv LIBRARY N                  an edition as CSV on stdout
-  keelson run (--edition ID --factors F1,… [--assets A,…] | --spec ID) [--non-traded …] [--rf COL]
-              [--stage first|second|iterated] [--weighting identity|second-moment] [--lags N|auto]
-              [--form centred|uncentred] [--means-known] [--level A] [--start D] [--end D] [--drop-set F,…] [--json]
+  keelson run (--edition ID|LIBRARY:N --factors F1,… [--assets A,…] | --spec ID) [--non-traded …] [--rf COL]
+              [--stage first|second|iterated] [--weighting identity|second-moment|covariance] [--lags N|auto]
+              [--form centred|uncentred] [--means-known] [--level A] [--start D] [--end D] [--drop-set F,…]
+              [--basis standard|robust|bootstrap] [--bootstrap-draws N] [--bootstrap-scheme iid|block]
+              [--block-length N] [--seed S] [--json]
+              (--edition takes an edition id, or LIBRARY:N for edition N of library LIBRARY)
   keelson runs [--status S] [--json]             runs you can read
   keelson show RUN [--json]                      a run's factor ledger
   keelson export RUN --format csv|tex|json       a run's tables on stdout
@@ -223,7 +237,7 @@ export function isRemoteCommand(command: string): boolean {
   return REMOTE_COMMANDS.has(command);
 }
 
-type Job = { id: number; status: string; done: number; total: number; error: string | null; result: unknown };
+type Job = { id: number; kind?: string; status: string; done: number; total: number; error: string | null; result: unknown };
 
 /** Runs one server-facing command; returns the exit code. */
 export async function runRemote(command: string, args: string[], io: Io): Promise<number> {
@@ -345,13 +359,14 @@ export async function runRemote(command: string, args: string[], io: Io): Promis
         const p = parse(args, RUN_OPTIONS, command);
         const v = p.values;
         let body: Record<string, unknown>;
+        const choice = runBasisChoice(v);
         if (v.spec) {
-          body = { specId: posInt(v.spec, '--spec'), ...(v.edition ? { editionId: posInt(v.edition, '--edition') } : {}) };
+          if (choice.basis || choice.bootstrap) throw new RemoteError('run: --basis and the bootstrap flags go with --factors; a saved spec (--spec) keeps its own basis', 2);
+          body = { specId: posInt(v.spec, '--spec'), ...(v.edition ? { editionId: (await resolveEdition(client, v.edition)).id } : {}) };
         } else {
           const factors = list(v.factors);
           if (!v.edition || !factors) throw new RemoteError('run: give --edition ID and --factors F1,F2 (or --spec ID)', 2);
-          const editionId = posInt(v.edition, '--edition');
-          const edition = await findEdition(client, editionId);
+          const { id: editionId, edition } = await resolveEdition(client, v.edition);
           const assets = list(v.assets) ?? edition.series.filter((x) => x.kind === 'asset' && !factors.includes(x.name)).map((x) => x.name);
           const nonTraded = list(v['non-traded']) ?? edition.series.filter((x) => factors.includes(x.name) && x.kind === 'factor' && !x.traded).map((x) => x.name);
           const lags = v.lags === undefined || v.lags === 'auto' ? 'auto' : Number(v.lags);
@@ -374,6 +389,8 @@ export async function runRemote(command: string, args: string[], io: Io): Promis
               ...(v.rf ? { rf: v.rf } : {}),
               ...(v.start || v.end ? { window: { ...(v.start ? { start: v.start } : {}), ...(v.end ? { end: v.end } : {}) } } : {}),
               ...(list(v['drop-set']) ? { dropSet: list(v['drop-set']) } : {}),
+              ...(choice.basis ? { basis: choice.basis } : {}),
+              ...(choice.bootstrap ? { bootstrap: choice.bootstrap } : {}),
             },
           };
         }
@@ -472,15 +489,108 @@ export async function runRemote(command: string, args: string[], io: Io): Promis
   }
 }
 
-/** Finds an edition by its id among the libraries the user can read, with its series. */
-async function findEdition(client: Client, editionId: number): Promise<{ series: { name: string; kind: string; traded: boolean }[] }> {
+type EditionSeries = { series: { name: string; kind: string; traded: boolean }[] };
+
+/**
+ * An edition from `--edition`: an edition id, or LIBRARY:N (edition N of library LIBRARY), resolved
+ * through the API; returns its id and series.
+ */
+async function resolveEdition(client: Client, ref: string): Promise<{ id: number; edition: EditionSeries }> {
+  const pair = /^(\d+):(\d+)$/.exec(ref.trim());
+  if (pair) {
+    const libraryId = posInt(pair[1], '--edition library id');
+    const number = posInt(pair[2], '--edition number');
+    const { library } = await client.get<{ library: { name: string; editions: { id: number; number: number }[] } }>(`/libraries/${libraryId}`);
+    const e = library.editions.find((x) => x.number === number);
+    if (!e) throw new RemoteError(`run: library ${libraryId} (${library.name}) has no edition ${number} (it has ${library.editions.map((x) => x.number).join(', ') || 'none'})`, 2);
+    const { edition } = await client.get<{ edition: EditionSeries }>(`/libraries/${libraryId}/editions/${number}`);
+    return { id: e.id, edition };
+  }
+  if (!/^\d+$/.test(ref.trim())) throw new RemoteError(`run: --edition takes an edition id or LIBRARY:N, got "${ref}"`, 2);
+  const editionId = posInt(ref.trim(), '--edition');
   const { libraries } = await client.get<{ libraries: { id: number }[] }>('/libraries');
   for (const l of libraries) {
     const { library } = await client.get<{ library: { editions: { id: number; number: number }[] } }>(`/libraries/${l.id}`);
     const e = library.editions.find((x) => x.id === editionId);
-    if (e) return (await client.get<{ edition: { series: { name: string; kind: string; traded: boolean }[] } }>(`/libraries/${l.id}/editions/${e.number}`)).edition;
+    if (e) return { id: editionId, edition: (await client.get<{ edition: EditionSeries }>(`/libraries/${l.id}/editions/${e.number}`)).edition };
   }
   throw new RemoteError(`run: no edition with id ${editionId} among the libraries you can read (see keelson libraries)`, 2);
+}
+
+function wholeIn(v: string, flag: string, lo: number, hi: number): number {
+  if (!/^\d+$/.test(v) || Number(v) < lo || Number(v) > hi) throw new RemoteError(`run: --${flag} takes a whole number from ${lo} to ${hi}, got "${v}"`, 2);
+  return Number(v);
+}
+
+/** `run`'s basis and bootstrap flags → the spec's `basis` / `bootstrap` fields (shared/specs.ts). */
+export function runBasisChoice(v: { stage?: string; basis?: string; 'bootstrap-draws'?: string; 'bootstrap-scheme'?: string; 'block-length'?: string; seed?: string }): {
+  basis?: 'standard' | 'robust' | 'bootstrap';
+  bootstrap?: { draws: number; scheme: 'iid' | 'block'; seed: number; blockLength?: number };
+} {
+  if (v.basis !== undefined && !['standard', 'robust', 'bootstrap'].includes(v.basis))
+    throw new RemoteError(`run: --basis is standard, robust or bootstrap, got "${v.basis}"`, 2);
+  const basis = v.basis as 'standard' | 'robust' | 'bootstrap' | undefined;
+  if (basis === 'robust' && (v.stage ?? 'second') !== 'first')
+    throw new RemoteError('run: --basis robust needs a first-stage run (robust SEs need a weighting that does not depend on b): add --stage first', 2);
+  const asked = basis === 'bootstrap' || v['bootstrap-draws'] !== undefined;
+  if (!asked) {
+    for (const f of ['bootstrap-scheme', 'block-length', 'seed'] as const)
+      if (v[f] !== undefined) throw new RemoteError(`run: --${f} needs the bootstrap: add --bootstrap-draws N or --basis bootstrap`, 2);
+    return basis ? { basis } : {};
+  }
+  const scheme = v['bootstrap-scheme'] ?? 'iid';
+  if (scheme !== 'iid' && scheme !== 'block') throw new RemoteError(`run: --bootstrap-scheme is iid or block, got "${scheme}"`, 2);
+  if (v['block-length'] !== undefined && scheme !== 'block') throw new RemoteError('run: --block-length needs --bootstrap-scheme block', 2);
+  const bootstrap = {
+    draws: v['bootstrap-draws'] === undefined ? 999 : wholeIn(v['bootstrap-draws'], 'bootstrap-draws', 99, 10000),
+    scheme: scheme as 'iid' | 'block',
+    seed: v.seed === undefined ? 1 : wholeIn(v.seed, 'seed', 0, 2 ** 31 - 1),
+    ...(v['block-length'] !== undefined ? { blockLength: wholeIn(v['block-length'], 'block-length', 1, 10000) } : {}),
+  };
+  return { ...(basis ? { basis } : {}), bootstrap };
+}
+
+/** What `check --wait` prints about a finished deep check: the result, not only its status. */
+export function renderJobResult(kind: string | undefined, result: unknown): string {
+  if (!result || typeof result !== 'object') return '';
+  const p = (x: number | null | undefined) => (typeof x === 'number' ? (x < 0.001 ? '<0.001' : x.toFixed(3)) : '–');
+  const r = result as Record<string, unknown>;
+  let s = '';
+  if (kind === 'bootstrap' || ('J' in r && 'jDeciles' in r)) {
+    const b = result as BootstrapResult;
+    s += `Bootstrap: ${b.validDraws} of ${b.draws} ${b.scheme === 'block' ? `block (length ${b.blockLength})` : 'iid'} draws, seed ${b.seed}${b.correction === 'hall-horowitz' ? ', Hall–Horowitz block correction' : ''}\n`;
+    const rows = [['test', 'statistic', 'p asymptotic', 'p bootstrap', '5% critical']];
+    rows.push(['J', b.J.stat.toFixed(2), p(b.J.asymptoticP), p(b.J.bootstrapP), b.J.critical95.toFixed(2)]);
+    for (const f of b.factors) {
+      rows.push([`b ${f.name} (|t|)`, Math.abs(f.wald.stat).toFixed(2), p(f.wald.asymptoticP), p(f.wald.bootstrapP), f.wald.critical95.toFixed(2)]);
+      if (f.lambda) rows.push([`λ ${f.name} (|t|)`, Math.abs(f.lambda.stat).toFixed(2), p(f.lambda.asymptoticP), p(f.lambda.bootstrapP), f.lambda.critical95.toFixed(2)]);
+      if (f.drop) rows.push([`drop ${f.name} (χ²)`, f.drop.stat.toFixed(2), p(f.drop.asymptoticP), p(f.drop.bootstrapP), f.drop.critical95.toFixed(2)]);
+    }
+    for (const [label, t] of [['joint Wald', b.joint?.wald], ['joint drop', b.joint?.drop]] as const)
+      if (t) rows.push([`${label} {${b.joint!.factors.join(', ')}}`, t.stat.toFixed(2), p(t.asymptoticP), p(t.bootstrapP), t.critical95.toFixed(2)]);
+    s += pad(rows);
+    for (const n of b.notes ?? []) s += `  - ${n}\n`;
+  } else if (kind === 'subset-sweep' || 'bestByHj' in r) {
+    const w = result as SubsetSweepResult;
+    s += `Subset sweep: ${w.models} models${w.singular ? ` (${w.singular} singular, skipped)` : ''}\n`;
+    const rows = [['smallest adequate models', 'HJ', 'drop χ²', 'df', 'p']];
+    for (const m of w.adequate) rows.push([m.factors.join(' + '), m.hj.toFixed(4), m.drop.toFixed(2), String(m.df), p(m.p)]);
+    s += rows.length > 1 ? pad(rows) : `No model smaller than the full one passes the drop test at ${w.level}.\n`;
+    s += `Factor frequency among the best models: ${w.factorFrequency.map((f) => `${f.name} ${(f.share * 100).toFixed(0)}%`).join(', ')}\n`;
+  } else if (kind === 'rolling' || 'points' in r) {
+    const w = result as RollingResult;
+    const ok = w.points.filter((x) => x.ok);
+    s += `Rolling check (${w.kind}, ${w.length} periods, step ${w.step}): ${ok.length} windows estimated${w.failed ? `, ${w.failed} failed` : ''}\n`;
+    if (ok.length) {
+      const rows = [['factor', 'b first', 'b last', 'b min', 'b max', 'windows with |t(b)| ≥ z']];
+      w.factorNames.forEach((name, k) => {
+        const bs = ok.map((x) => x.b[k]);
+        rows.push([name, bs[0].toFixed(3), bs[bs.length - 1].toFixed(3), Math.min(...bs).toFixed(3), Math.max(...bs).toFixed(3), `${ok.filter((x) => Math.abs(x.tB[k]) >= w.z).length} of ${ok.length}`]);
+      });
+      s += pad(rows);
+    }
+  }
+  return s ? s + 'Statistical evidence, not investment advice.\n' : '';
 }
 
 async function followJob(client: Client, first: Job, wait: boolean, asJson: boolean, io: Io): Promise<number> {
@@ -490,6 +600,9 @@ async function followJob(client: Client, first: Job, wait: boolean, asJson: bool
     job = (await client.get<{ job: Job }>(`/jobs/${job.id}`)).job;
   }
   if (asJson) io.out(JSON.stringify({ job }, null, 2) + '\n');
-  else io.out(`Job ${job.id}: ${job.status} (${job.done}/${job.total})${job.error ? ` — ${job.error}` : ''}\n`);
+  else {
+    io.out(`Job ${job.id}: ${job.status} (${job.done}/${job.total})${job.error ? ` — ${job.error}` : ''}\n`);
+    if (job.status === 'finished') io.out(renderJobResult(job.kind, job.result));
+  }
   return job.status === 'failed' ? 1 : 0;
 }

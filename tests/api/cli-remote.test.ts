@@ -9,7 +9,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { AddressInfo } from 'node:net';
 import type { Server } from 'node:http';
-import { runRemote } from '../../bin/remote';
+import { envelopeLine, runRemote } from '../../bin/remote';
 import { mulberry32 } from '../../lib/gmm/random';
 import { main } from '../../bin/keelson-cli';
 import { agentAs, makeTestApp, type TestApp } from './helpers';
@@ -144,6 +144,82 @@ describe('keelson command line against the server', () => {
     const away = await cli(tempDir(), ['sign-in', '--server', 'http://127.0.0.1:9', '--email', 'desk@keelson.test'], 'x');
     expect(away.code).toBe(1);
     expect(away.err).toMatch(/cannot reach/);
+  });
+
+  it('run: --edition LIBRARY:N, --basis, --weighting covariance, --bootstrap-draws and --seed go into the spec; check --wait prints the result', async () => {
+    const home = tempDir();
+    const csv = join(home, 'sample.csv');
+    writeFileSync(csv, sampleCsv());
+    expect((await cli(home, ['sign-in', '--server', base, '--email', 'researcher@keelson.test'], 'keelson-demo')).code).toBe(0);
+    const up = JSON.parse((await cli(home, ['upload', csv, '--name', 'CLI basis sample', '--factors', 'MKT,TILT', '--json'])).out) as { library: { id: number }; edition: { id: number } };
+    const ref = `${up.library.id}:1`;
+    const r = await cli(home, ['run', '--edition', ref, '--factors', 'MKT,TILT', '--stage', 'first', '--weighting', 'covariance', '--basis', 'bootstrap', '--bootstrap-draws', '99', '--seed', '4', '--json']);
+    expect(r.err).toBe('');
+    expect(r.code).toBe(0);
+    const run = (JSON.parse(r.out) as { run: { id: number; editionId: number; spec: { weighting: string; basis?: string; bootstrap?: unknown } } }).run;
+    expect(run.editionId).toBe(up.edition.id); // LIBRARY:N resolved through the API
+    expect(run.spec.weighting).toBe('covariance');
+    expect(run.spec.basis).toBe('bootstrap');
+    expect(run.spec.bootstrap).toEqual({ draws: 99, scheme: 'iid', seed: 4 });
+
+    const std = await cli(home, ['run', '--edition', String(up.edition.id), '--factors', 'MKT,TILT', '--bootstrap-draws', '199', '--bootstrap-scheme', 'block', '--block-length', '6', '--json']);
+    expect(std.code).toBe(0);
+    const s2 = (JSON.parse(std.out) as { run: { spec: { basis?: string; bootstrap?: unknown } } }).run.spec;
+    expect(s2.basis).toBeUndefined();
+    expect(s2.bootstrap).toEqual({ draws: 199, scheme: 'block', blockLength: 6, seed: 1 });
+
+    const shown = await cli(home, ['show', String(run.id)]);
+    expect(shown.out).toMatch(/^Run \d+ — finished — CLI basis sample, edition 1\nKeelson factor ledger\n/);
+    expect(shown.out).toMatch(/first-stage GMM with the covariance weighting/);
+
+    const check = await cli(home, ['check', String(run.id), '--kind', 'bootstrap', '--params', '{"draws":19,"seed":3}', '--wait']);
+    expect(check.err).toBe('');
+    expect(check.code).toBe(0);
+    expect(check.out).toMatch(/^Job \d+: finished \(19\/19\)\nBootstrap: 19 of 19 iid draws, seed 3\n/);
+    expect(check.out).toMatch(/^J +[0-9.]+ +[<0-9.]+ +[0-9.]+ +[0-9.]+$/m);
+    expect(check.out).toMatch(/^b MKT \(\|t\|\)/m);
+    expect(check.out).toContain('not investment advice');
+  });
+
+  it('run refusals: one line on stderr, exit 2 (robust basis on a second stage, bootstrap flags alone, unknown LIBRARY:N, server validation not doubled)', async () => {
+    const home = tempDir();
+    expect((await cli(home, ['sign-in', '--server', base, '--email', 'researcher@keelson.test'], 'keelson-demo')).code).toBe(0);
+    const cases: [string[], RegExp][] = [
+      [['run', '--edition', '1', '--factors', 'MKT', '--basis', 'robust'], /--basis robust needs a first-stage run .*add --stage first/],
+      [['run', '--edition', '1', '--factors', 'MKT', '--basis', 'robust', '--stage', 'iterated'], /--basis robust needs a first-stage run/],
+      [['run', '--edition', '1', '--factors', 'MKT', '--basis', 'hunch'], /--basis is standard, robust or bootstrap, got "hunch"/],
+      [['run', '--edition', '1', '--factors', 'MKT', '--seed', '3'], /--seed needs the bootstrap: add --bootstrap-draws N or --basis bootstrap/],
+      [['run', '--edition', '1', '--factors', 'MKT', '--bootstrap-draws', '5'], /--bootstrap-draws takes a whole number from 99 to 10000, got "5"/],
+      [['run', '--edition', '1', '--factors', 'MKT', '--bootstrap-draws', '99', '--block-length', '3'], /--block-length needs --bootstrap-scheme block/],
+      [['run', '--spec', '1', '--basis', 'standard'], /--basis and the bootstrap flags go with --factors/],
+      [['run', '--edition', '999999:1', '--factors', 'MKT'], /libraries\/999999/],
+      [['run', '--edition', 'one', '--factors', 'MKT'], /--edition takes an edition id or LIBRARY:N, got "one"/],
+    ];
+    for (const [args, message] of cases) {
+      const r = await cli(home, args);
+      expect(r.code, args.join(' ')).toBe(2);
+      expect(r.err).toMatch(message);
+      expect(r.err.trim().split('\n')).toHaveLength(1);
+    }
+    const { libraries } = (await (await agentAs(t.app, 'researcher')).get('/api/v1/libraries').expect(200)).body as { libraries: { id: number }[] };
+    const lib = libraries[0].id;
+    const noSuch = await cli(home, ['run', '--edition', `${lib}:99`, '--factors', 'MKT']);
+    expect(noSuch.code).toBe(2);
+    expect(noSuch.err).toMatch(new RegExp(`library ${lib} \\(.*\\) has no edition 99`));
+    // the server refuses level 0.9 (at most 0.5): its message once, not repeated from the issues
+    const bad = await cli(home, ['run', '--edition', `${lib}:1`, '--factors', 'MKT', '--level', '0.9']);
+    expect(bad.code).toBe(2);
+    expect(bad.err.trim().split('\n')).toHaveLength(1);
+    expect(bad.err.split('The level is at most 0.5').length - 1).toBe(1);
+  });
+
+  it('envelopeLine keeps issues the message does not already say, each once', () => {
+    expect(envelopeLine({ message: 'The spec is not valid: Choose at least one factor (at spec.factors)', issues: [{ message: 'Choose at least one factor' }] })).toBe(
+      'The spec is not valid: Choose at least one factor (at spec.factors)',
+    );
+    expect(envelopeLine({ message: 'The request is not valid', issues: [{ message: 'The lag is a whole number' }, { message: 'The lag is a whole number' }, { message: 'Give a name.' }] })).toBe(
+      'The request is not valid (also: The lag is a whole number; Give a name)',
+    );
   });
 
   it('is reached through the same entry point as estimate', async () => {
