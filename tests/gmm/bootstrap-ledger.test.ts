@@ -75,3 +75,24 @@ describe('withBootstrap', () => {
     expect(noJoint.bootstrap!.pJointWald).toBeNull();
   });
 });
+
+describe('the bootstrap tests the ledger numbers', () => {
+  it('first stage: the observed drop statistics are the ledger chi2Drop (same W* = Ŝ⁻¹ at the first-stage b̂), and J, t(b) match', () => {
+    for (const weighting of ['identity', 'covariance'] as const) {
+      const l = ledger({ stage: 'first', weighting });
+      const b = bootstrapSdfTests({
+        returns: e.returns,
+        factors: e.factors,
+        factorNames: ['A', 'B'],
+        options: { ...common, stage: 'first', weighting, scheme: 'iid', draws: 19, seed: 2, dropSet: ['B'] },
+      });
+      l.factors.forEach((f, k) => {
+        expect(b.factors[k].drop!.stat).toBeCloseTo(f.chi2Drop!.stat, 9);
+        expect(b.factors[k].wald.stat).toBeCloseTo(f.tB, 9);
+        expect(b.factors[k].lambda!.stat).toBeCloseTo(f.tLambda, 9);
+      });
+      expect(b.J.stat).toBeCloseTo(l.J.stat, 9);
+      expect(b.joint!.drop!.stat).toBeCloseTo(l.jointDrop!.chi2Drop!.stat, 9);
+    }
+  });
+});
