@@ -84,11 +84,13 @@ export function renderLedgerText(r: LedgerResult, meta: LedgerTextMeta): string 
 
   out.push('Verdicts');
   const nameW = Math.max(...r.factors.map((f) => f.name.length));
+  const verdictW = Math.max(...r.factors.map((f) => f.verdict.length));
   for (const f of r.factors) {
     const other = (['standard', 'robust', 'bootstrap'] as const)
       .filter((b) => b !== r.verdictBasis && f.verdicts[b] && f.verdicts[b] !== f.verdict)
       .map((b) => `${b}: ${f.verdicts[b]}`);
-    out.push(`  ${SHAPE[f.verdict] ?? ' '} ${f.name.padEnd(nameW)}  ${f.verdict}${f.traded ? '' : '  (not traded)'}${other.length ? `   [${other.join('; ')}]` : ''}`);
+    const tail = `${f.traded ? '' : '(not traded)  '}${other.length ? `[${other.join('; ')}]` : ''}`;
+    out.push(`  ${SHAPE[f.verdict] ?? ' '} ${f.name.padEnd(nameW)}  ${tail ? f.verdict.padEnd(verdictW) + '  ' + tail : f.verdict}`.trimEnd());
   }
   out.push(`  ◆ marks p ≤ ${level}; ■ needed, □ priced only, ┄ neither`);
   out.push('');
