@@ -64,11 +64,11 @@ describe('job pool', () => {
     const bad: ChunkTask = {
       op: 'bootstrap',
       key: 'pool-test-bad',
-      input: { returns: e.returns, factors: e.factors, factorNames: names, options: { stage: 'second', weighting: 'identity', lags: 2, form: 'uncentred', factorMeansKnown: false, scheme: 'iid', draws: 99, seed: 5 } },
+      input: { returns: e.returns, factors: e.factors, factorNames: names, options: { stage: 'second', weighting: 'identity', lags: 2, form: 'centred', factorMeansKnown: false, scheme: 'iid', draws: 5, seed: 5 } },
       from: 0,
       to: 10,
     };
-    await expect(pool.run(bad)).rejects.toThrow(/centred SDF form only/);
+    await expect(pool.run(bad)).rejects.toThrow(/draws must be an integer from 19 to 100000/);
   });
 });
 
