@@ -6,6 +6,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { agentAs, anonymousAgent, expectEnvelope, makeTestApp, type Agent, type TestApp } from './helpers';
 import { audit } from '../../server/services/audit';
+import { inTransaction } from '../../server/db/client';
 import { AUDIT_PAGE_DEFAULT, AUDIT_PAGE_MAX, auditDetailLines, auditPageResponseSchema, describeAuditEntry, type AuditEntry } from '../../shared/audit';
 import { makeFixture, spec, uploadFixture } from './runs-fixture';
 import { mailSettled } from '../../server/services/runs';
@@ -38,7 +39,7 @@ beforeAll(async () => {
   t = await makeTestApp();
   admin = await agentAs(t.app, 'admin');
   // 130 more entries of invented kinds, in one transaction like a service would write them.
-  t.db.transaction((tx) => {
+  inTransaction(t.db, (tx) => {
     for (let i = 0; i < 130; i++) audit(tx, null, 'test.filler', { i });
   });
 });
