@@ -1,5 +1,5 @@
 /** Fetchers for sign-in, session and invitations (public side). */
-import { type z } from 'zod';
+import { z } from 'zod';
 import {
   healthResponseSchema,
   invitationPreviewSchema,
@@ -8,7 +8,17 @@ import {
   userResponseSchema,
   type User,
 } from '../shared/auth';
-import { apiRequest, newIdempotencyKey, resetCsrfToken } from './client';
+import { apiRequest, newIdempotencyKey, resetCsrfToken, setCsrfToken } from './client';
+
+/**
+ * Sign-in and accepting an invitation start a new session; a server that rotates the CSRF token then
+ * sends the new one as `csrfToken`, which the client keeps (without it, the first write retries once).
+ */
+const signedInSchema = userResponseSchema.extend({ csrfToken: z.string().optional() });
+function signedIn(r: z.infer<typeof signedInSchema>): User {
+  if (r.csrfToken) setCsrfToken(r.csrfToken);
+  return r.user;
+}
 
 export type InvitationPreview = z.infer<typeof invitationPreviewSchema>['invitation'];
 
@@ -22,7 +32,7 @@ export async function getMe(): Promise<User | null> {
 }
 
 export async function login(email: string, password: string): Promise<User> {
-  return (await apiRequest('/auth/login', { method: 'POST', body: { email, password }, schema: userResponseSchema })).user;
+  return signedIn(await apiRequest('/auth/login', { method: 'POST', body: { email, password }, schema: signedInSchema }));
 }
 
 export async function logout(): Promise<void> {
@@ -42,7 +52,7 @@ export async function getInvitation(token: string): Promise<InvitationPreview> {
 }
 
 export async function acceptInvitation(token: string, password: string, idempotencyKey = newIdempotencyKey()): Promise<User> {
-  return (await apiRequest('/invitations/accept', { method: 'POST', body: { token, password }, schema: userResponseSchema, idempotencyKey })).user;
+  return signedIn(await apiRequest('/invitations/accept', { method: 'POST', body: { token, password }, schema: signedInSchema, idempotencyKey }));
 }
 
 /** Body of `POST /auth/password` (204; 400 with `issues` naming the field; 403 when the current password is wrong). */

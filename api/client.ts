@@ -48,6 +48,12 @@ export function setApiBase(base: string): void {
 let csrfToken: string | null = null;
 let csrfPending: Promise<string> | null = null;
 
+/** Uses `token` from now on (the server rotates the token on sign-in and sends the new one back). */
+export function setCsrfToken(token: string): void {
+  csrfToken = token;
+  csrfPending = null;
+}
+
 /** Forgets the CSRF token (call after sign-out: the session that held it is gone). */
 export function resetCsrfToken(): void {
   csrfToken = null;

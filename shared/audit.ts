@@ -49,7 +49,11 @@ const SENTENCES: Record<string, (who: string, d: Detail, person: (id: number) =>
   'auth.logout': (who) => `${who} signed out.`,
   'auth.login_failed': (_who, d) =>
     str(d.email) ? `A sign-in as ${d.email} failed: wrong password, unknown e-mail or deactivated account.` : 'A sign-in failed.',
-  'auth.password_changed': (who) => `${who} changed their password.`,
+  'auth.password_change': (who, d) => {
+    const n = int(d.endedSessions);
+    const ended = n ? `; ${n === 1 ? 'one other session was' : `${n} other sessions were`} signed out` : '';
+    return `${who} changed their password${ended}.`;
+  },
   'invitation.create': (who, d) => {
     const email = str(d.email);
     const role = str(d.role);

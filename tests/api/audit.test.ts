@@ -169,6 +169,13 @@ describe('audit entries in words', () => {
     expect(describeAuditEntry({ action: 'run.comment', userId: 1, detail: JSON.stringify({ commentId: 3 }) })).toEqual({ sentence: null, lines: ['commentId: 3'] });
     expect(describeAuditEntry({ action: 'spec.update', userId: 1, detail: 'not json' })).toEqual({ sentence: null, lines: ['not json'] });
     expect(describeAuditEntry({ action: 'something.new', userId: null, detail: null })).toEqual({ sentence: null, lines: [] });
+    // The password change (written by server/services/users.ts with the number of other sessions ended).
+    expect(describeAuditEntry({ action: 'auth.password_change', userId: 3, detail: JSON.stringify({ endedSessions: 2 }) }, { user: () => 'Rhea Tolland' }).sentence).toBe(
+      'Rhea Tolland changed their password; 2 other sessions were signed out.',
+    );
+    expect(describeAuditEntry({ action: 'auth.password_change', userId: 3, detail: JSON.stringify({ endedSessions: 0 }) }, { user: () => 'Rhea Tolland' }).sentence).toBe(
+      'Rhea Tolland changed their password.',
+    );
     expect(auditDetailLines('[1,2]')).toEqual(['[1,2]']);
     // Ids without a known name read "user 7".
     expect(describeAuditEntry({ action: 'run.signoff_requested', userId: 2, detail: JSON.stringify({ runId: 5, reviewerId: 7 }) }).sentence).toBe('user 2 asked user 7 to sign off run #5.');
