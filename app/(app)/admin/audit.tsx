@@ -44,7 +44,7 @@ export default function TeamAudit() {
   }, [audit.data, users.data]);
   const columns = useMemo(
     () => [
-      col.accessor('createdAt', { header: 'When', cell: (c) => <Text style={[text.num, { fontSize: 13 }]}>{formatWhen(c.getValue())}</Text>, meta: { width: 150 } }),
+      col.accessor('createdAt', { header: 'When', cell: (c) => <Text style={[text.num, { fontSize: 13 }]}>{formatWhen(c.getValue())}</Text>, meta: { width: 180 } }),
       col.accessor('who', { header: 'Who', meta: { width: 150 } }),
       col.accessor('search', { header: 'What happened', cell: (c) => <Words words={c.row.original.words} />, enableSorting: false, meta: { flex: 2.4 } }),
       col.accessor('action', { header: 'Kind', cell: (c) => <Text style={{ fontFamily: fonts.mono, fontSize: 12, color: '#4A5E70' }}>{c.getValue()}</Text>, meta: { width: 190 } }),
@@ -72,8 +72,10 @@ export default function TeamAudit() {
           renderCard={(e) => (
             <Card>
               <Words words={e.words} />
+              {/* A sentence already names who did it; lines do not, so the name comes with them. */}
               <Text style={text.muted}>
-                {formatWhen(e.createdAt)} · {e.who} · <Text style={{ fontFamily: fonts.mono }}>{e.action}</Text>
+                {formatWhen(e.createdAt)} · {e.words.sentence ? '' : `${e.who} · `}
+                <Text style={{ fontFamily: fonts.mono }}>{e.action}</Text>
               </Text>
             </Card>
           )}
