@@ -1,22 +1,22 @@
 /** Fetchers for sign-in, session and invitations (public side). */
-import { z } from 'zod';
+import { type z } from 'zod';
 import {
   healthResponseSchema,
   invitationPreviewSchema,
   meResponseSchema,
   outboxResponseSchema,
-  userResponseSchema,
+  signInResponseSchema,
+  type ChangePasswordBody,
   type User,
 } from '../shared/auth';
 import { apiRequest, newIdempotencyKey, resetCsrfToken, setCsrfToken } from './client';
 
 /**
- * Sign-in and accepting an invitation start a new session; a server that rotates the CSRF token then
- * sends the new one as `csrfToken`, which the client keeps (without it, the first write retries once).
+ * Sign-in and accepting an invitation start a new session and the server rotates the CSRF token: the
+ * new one comes back as `csrfToken` and the client uses it from now on (no refused first write).
  */
-const signedInSchema = userResponseSchema.extend({ csrfToken: z.string().optional() });
-function signedIn(r: z.infer<typeof signedInSchema>): User {
-  if (r.csrfToken) setCsrfToken(r.csrfToken);
+function signedIn(r: z.infer<typeof signInResponseSchema>): User {
+  setCsrfToken(r.csrfToken);
   return r.user;
 }
 
@@ -32,7 +32,7 @@ export async function getMe(): Promise<User | null> {
 }
 
 export async function login(email: string, password: string): Promise<User> {
-  return signedIn(await apiRequest('/auth/login', { method: 'POST', body: { email, password }, schema: signedInSchema }));
+  return signedIn(await apiRequest('/auth/login', { method: 'POST', body: { email, password }, schema: signInResponseSchema }));
 }
 
 export async function logout(): Promise<void> {
@@ -52,14 +52,11 @@ export async function getInvitation(token: string): Promise<InvitationPreview> {
 }
 
 export async function acceptInvitation(token: string, password: string, idempotencyKey = newIdempotencyKey()): Promise<User> {
-  return signedIn(await apiRequest('/invitations/accept', { method: 'POST', body: { token, password }, schema: signedInSchema, idempotencyKey }));
+  return signedIn(await apiRequest('/invitations/accept', { method: 'POST', body: { token, password }, schema: signInResponseSchema, idempotencyKey }));
 }
 
-/** Body of `POST /auth/password` (204; 400 with `issues` naming the field; 403 when the current password is wrong). */
-export interface PasswordChangeBody {
-  currentPassword: string;
-  newPassword: string;
-}
+/** `POST /auth/password`: 204; 400 with `issues` naming the field; 403 when the current password is wrong. */
+export type PasswordChangeBody = ChangePasswordBody;
 
 export async function changePassword(body: PasswordChangeBody): Promise<void> {
   await apiRequest('/auth/password', { method: 'POST', body });

@@ -2,7 +2,7 @@ import { Text, View } from 'react-native';
 import { useForm } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
 import { z } from 'zod';
-import { acceptInviteBodySchema, PASSWORD_MIN } from '../../shared/auth';
+import { changePasswordBodySchema, PASSWORD_MIN } from '../../shared/auth';
 import { KeelsonApiError } from '../../shared/errors';
 import { ROLE_LABELS } from '../../shared/roles';
 import { useChangePassword, useMe, useMyOutbox } from '../../hooks/use-session';
@@ -20,8 +20,8 @@ import { colors, space, text } from '../../components/theme';
 /** Checked before sending; the server's policy (`issues` on a 400) has the last word, shown on the same fields. */
 const passwordFormSchema = z
   .object({
-    currentPassword: z.string().min(1, 'Enter your current password'),
-    newPassword: acceptInviteBodySchema.shape.password,
+    currentPassword: changePasswordBodySchema.shape.currentPassword,
+    newPassword: changePasswordBodySchema.shape.newPassword,
     repeatPassword: z.string(),
   })
   .refine((v) => v.repeatPassword === v.newPassword, { path: ['repeatPassword'], message: 'The two new passwords differ' });

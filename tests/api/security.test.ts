@@ -182,8 +182,11 @@ describe('cookies, proxy and CSRF (item 12)', () => {
         const r = await a.get(path);
         expect(r.headers['cache-control'], path).toBe('no-store');
       }
-      const anon = await request(t.app).get('/api/v1/auth/me').expect(401);
+      const anon = await request(t.app).get('/api/v1/specs').expect(401);
       expect(anon.headers['cache-control']).toBe('no-store');
+      const anonMe = await request(t.app).get('/api/v1/auth/me').expect(200);
+      expect(anonMe.body).toEqual({ user: null });
+      expect(anonMe.headers['cache-control']).toBe('no-store');
     } finally {
       await t.close();
     }
