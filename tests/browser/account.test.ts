@@ -6,7 +6,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { request as playwrightRequest, type APIRequestContext, type Browser, type Page } from 'playwright-core';
-import { DEMO_PASSWORD, PHONE, WIDE, baseUrl, expectSameOrigin, goTeamPage, launchBrowser, openPage, shot, signIn, signInHere, signOut } from './helpers';
+import { DEMO_PASSWORD, PHONE, WIDE, baseUrl, expectSameOrigin, goTeamPage, launchBrowser, openPage, shot, signIn, signInHere } from './helpers';
 
 let browser: Browser;
 let adminApi: APIRequestContext;
@@ -121,7 +121,9 @@ describe('change password (Account)', () => {
     await page.getByRole('heading', { name: 'Change password' }).waitFor();
     await shot(page, 'account-wide');
 
-    await signOut(page);
+    // The Account screen's own Sign out (the account menu has one too).
+    await page.getByRole('main').getByRole('button', { name: 'Sign out' }).click();
+    await page.waitForURL(/\/sign-in/);
     await signInHere(page, 'skye.gunwale@example.org', 'first-pass-word-1');
     await page.getByText('E-mail or password is wrong, or the account is deactivated').waitFor();
     await signInHere(page, 'skye.gunwale@example.org', 'second-pass-word-2');
