@@ -2,7 +2,6 @@
 import {
   adminUserSchema,
   adminUsersResponseSchema,
-  auditResponseSchema,
   invitationSchema,
   invitationsResponseSchema,
   outboxResponseSchema,
@@ -10,9 +9,10 @@ import {
 } from '../shared/auth';
 import type { Role } from '../shared/roles';
 import { z } from 'zod';
-import { apiRequest } from './client';
+import { auditPageResponseSchema } from '../shared/audit';
+import { apiRequest, newIdempotencyKey } from './client';
 
-export type AuditEntry = z.infer<typeof auditResponseSchema>['entries'][number];
+export type { AuditEntry, AuditPage } from '../shared/audit';
 
 export async function listUsers() {
   return (await apiRequest('/admin/users', { schema: adminUsersResponseSchema })).users;
@@ -26,14 +26,19 @@ export async function listInvitations() {
   return (await apiRequest('/admin/invitations', { schema: invitationsResponseSchema })).invitations;
 }
 
-export async function createInvitation(body: InviteBody) {
-  return (await apiRequest('/admin/invitations', { method: 'POST', body, schema: z.object({ invitation: invitationSchema }) })).invitation;
+export async function createInvitation(body: InviteBody, idempotencyKey = newIdempotencyKey()) {
+  return (await apiRequest('/admin/invitations', { method: 'POST', body, schema: z.object({ invitation: invitationSchema }), idempotencyKey })).invitation;
 }
 
 export async function listOutbox() {
   return (await apiRequest('/admin/outbox', { schema: outboxResponseSchema })).messages;
 }
 
-export async function listAudit() {
-  return (await apiRequest('/admin/audit', { schema: auditResponseSchema })).entries;
+/** One page of the audit log, newest first: entries older than `before` (an entry id), at most `limit`. */
+export function listAudit(page: { before?: number; limit?: number } = {}) {
+  const q = new URLSearchParams();
+  if (page.before !== undefined) q.set('before', String(page.before));
+  if (page.limit !== undefined) q.set('limit', String(page.limit));
+  const qs = q.toString();
+  return apiRequest(`/admin/audit${qs ? `?${qs}` : ''}`, { schema: auditPageResponseSchema });
 }

@@ -3,6 +3,11 @@
  * `x-csrf-token` on every state-changing request (fetched once, refetched after sign-out and
  * once on a `csrf_invalid` 403). Success bodies are parsed with the caller's zod schema; every
  * failure (error envelope, unexpected body, network) comes out as a `KeelsonApiError`.
+ *
+ * Creating requests can carry an `Idempotency-Key` header: make one key per user action with
+ * `newIdempotencyKey()` and pass it as `idempotencyKey` (or use `post`). The key is sent again on
+ * the CSRF retry below, so the server answers a repeated request with the first response instead
+ * of creating the thing twice.
  */
 import type { ZodType } from 'zod';
 import { errorEnvelopeSchema, KeelsonApiError, type ErrorCode } from '../shared/errors';
@@ -17,6 +22,21 @@ export interface ApiRequestOptions<T> {
   /** Schema for a success body; omit for 204 responses. */
   schema?: ZodType<T>;
   signal?: AbortSignal;
+  /** Sent as `Idempotency-Key`; one fresh key per user action (see `newIdempotencyKey`). */
+  idempotencyKey?: string;
+}
+
+/**
+ * A fresh key for one user action (one press of a creating button): 128 random bits as 32 hex
+ * digits. Uses `crypto.getRandomValues`, which, unlike `crypto.randomUUID`, also exists on pages
+ * served over plain http from a LAN address.
+ */
+export function newIdempotencyKey(): string {
+  const bytes = new Uint8Array(16);
+  const c = (globalThis as { crypto?: { getRandomValues?: (a: Uint8Array) => Uint8Array } }).crypto;
+  if (c?.getRandomValues) c.getRandomValues(bytes);
+  else for (let i = 0; i < bytes.length; i++) bytes[i] = Math.floor(Math.random() * 256);
+  return Array.from(bytes, (b) => b.toString(16).padStart(2, '0')).join('');
 }
 
 /** Origin of the API; '' means the page's own origin (the web export is served by the API server). */
@@ -27,6 +47,12 @@ export function setApiBase(base: string): void {
 
 let csrfToken: string | null = null;
 let csrfPending: Promise<string> | null = null;
+
+/** Uses `token` from now on (the server rotates the token on sign-in and sends the new one back). */
+export function setCsrfToken(token: string): void {
+  csrfToken = token;
+  csrfPending = null;
+}
 
 /** Forgets the CSRF token (call after sign-out: the session that held it is gone). */
 export function resetCsrfToken(): void {
@@ -77,9 +103,10 @@ async function toApiError(res: Response): Promise<KeelsonApiError> {
   return new KeelsonApiError(codeForStatus(res.status), `The server answered ${res.status} ${res.statusText || ''}`.trim(), undefined, res.status);
 }
 
-async function send(path: string, method: HttpMethod, body: unknown, signal?: AbortSignal): Promise<Response> {
+async function send(path: string, method: HttpMethod, body: unknown, signal?: AbortSignal, idempotencyKey?: string): Promise<Response> {
   const headers: Record<string, string> = { accept: 'application/json' };
   if (method !== 'GET') headers['x-csrf-token'] = await fetchCsrfToken();
+  if (idempotencyKey) headers['idempotency-key'] = idempotencyKey;
   let payload: BodyInit | undefined;
   if (body instanceof FormData) payload = body;
   else if (body !== undefined) {
@@ -97,12 +124,12 @@ async function send(path: string, method: HttpMethod, body: unknown, signal?: Ab
 /** Calls `/api/v1${path}`; resolves with the parsed body, rejects with a `KeelsonApiError`. */
 export async function apiRequest<T = void>(path: string, opts: ApiRequestOptions<T> = {}): Promise<T> {
   const method = opts.method ?? 'GET';
-  let res = await send(path, method, opts.body, opts.signal);
+  let res = await send(path, method, opts.body, opts.signal, opts.idempotencyKey);
   if (res.status === 403 && method !== 'GET') {
     const err = await toApiError(res.clone());
     if (err.code === 'csrf_invalid') {
       resetCsrfToken();
-      res = await send(path, method, opts.body, opts.signal);
+      res = await send(path, method, opts.body, opts.signal, opts.idempotencyKey);
     }
   }
   if (!res.ok) throw await toApiError(res);
@@ -119,6 +146,14 @@ export async function apiRequest<T = void>(path: string, opts: ApiRequestOptions
     throw new KeelsonApiError('internal', `The server's answer to ${method} ${path} has an unexpected shape`, issues, res.status);
   }
   return parsed.data;
+}
+
+/**
+ * `POST /api/v1${path}` with a JSON (or FormData) body. For a request that creates something pass
+ * `{ idempotencyKey: newIdempotencyKey() }`, made once per user action.
+ */
+export function post<T = void>(path: string, body: unknown, opts: Omit<ApiRequestOptions<T>, 'method' | 'body'> = {}): Promise<T> {
+  return apiRequest<T>(path, { ...opts, method: 'POST', body });
 }
 
 /** True when `e` is a KeelsonApiError with one of the given codes. */

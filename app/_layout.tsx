@@ -1,5 +1,5 @@
 import { useState } from 'react';
-import { ActivityIndicator, StyleSheet, Text, View } from 'react-native';
+import { StyleSheet, Text, View } from 'react-native';
 import { Slot, type ErrorBoundaryProps } from 'expo-router';
 import { QueryClient, QueryClientProvider } from '@tanstack/react-query';
 import { KeelsonApiError } from '../shared/errors';
@@ -21,20 +21,15 @@ function makeQueryClient() {
 
 export default function RootLayout() {
   const [client] = useState(makeQueryClient);
-  const [loaded, error] = useKeelsonFonts();
-  const ready = loaded || !!error;
-  // The navigator must render from the first frame (or the router loses the initial URL), so the
-  // app stays hidden behind a spinner until the shipped fonts are in, instead of not rendering.
+  // The shipped fonts load in the background. Nothing waits for them: the first frame is the real
+  // screen (the sign-in form, or the signed-in frame's placeholder), drawn in the fallback face until
+  // the shipped faces swap in — never a blank or hidden page.
+  useKeelsonFonts();
   return (
     <QueryClientProvider client={client}>
-      <View style={[styles.fill, !ready && styles.hidden]}>
+      <View style={styles.fill}>
         <Slot />
       </View>
-      {ready ? null : (
-        <View style={[StyleSheet.absoluteFill, styles.center]}>
-          <ActivityIndicator color={colors.brass} accessibilityLabel="Loading" />
-        </View>
-      )}
     </QueryClientProvider>
   );
 }
@@ -55,8 +50,7 @@ export function ErrorBoundary({ error, retry }: ErrorBoundaryProps) {
 }
 
 const styles = StyleSheet.create({
-  fill: { flex: 1 },
-  hidden: { opacity: 0 },
+  fill: { flex: 1, backgroundColor: colors.paper },
   center: { flex: 1, alignItems: 'center', justifyContent: 'center', backgroundColor: colors.paper },
   title: { fontFamily: fonts.textStrong, fontSize: 20, color: colors.ink, textAlign: 'center' },
   body: { fontFamily: fonts.text, fontSize: 15, color: colors.slate, textAlign: 'center', maxWidth: 520 },

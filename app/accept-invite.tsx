@@ -1,84 +1,94 @@
-import { useState } from 'react';
-import { ScrollView, StyleSheet, Text, View } from 'react-native';
+import { StyleSheet, Text, View } from 'react-native';
 import { useLocalSearchParams, useRouter } from 'expo-router';
-import { PASSWORD_MIN } from '../shared/auth';
+import { useForm } from 'react-hook-form';
+import { zodResolver } from '@hookform/resolvers/zod';
+import { z } from 'zod';
+import { acceptInviteBodySchema, PASSWORD_MIN } from '../shared/auth';
 import { ROLE_LABELS } from '../shared/roles';
 import { useAcceptInvitation, useInvitationPreview } from '../hooks/use-session';
+import { useServerErrors } from '../hooks/use-form-errors';
+import { AuthFrame } from '../components/auth-frame';
 import { Button } from '../components/button';
 import { Card } from '../components/card';
 import { ErrorView } from '../components/error-view';
-import { TextField } from '../components/text-field';
-import { colors, fonts, space, text } from '../components/theme';
+import { FormTextField } from '../components/text-field';
+import { space, text } from '../components/theme';
+
+/** The server's password rule (shared/auth.ts) plus the repeat, checked before anything is sent. */
+const acceptFormSchema = z
+  .object({ password: acceptInviteBodySchema.shape.password, confirm: z.string() })
+  .refine((v) => v.confirm === v.password, { path: ['confirm'], message: 'The two passwords differ' });
+type AcceptForm = z.infer<typeof acceptFormSchema>;
+const FIELDS = ['password'] as const;
 
 export default function AcceptInvite() {
   const { token } = useLocalSearchParams<{ token?: string }>();
   const router = useRouter();
   const preview = useInvitationPreview(token);
   const accept = useAcceptInvitation();
-  const [password, setPassword] = useState('');
-  const [confirm, setConfirm] = useState('');
-  const [errors, setErrors] = useState<{ password?: string; confirm?: string }>({});
+  const { control, handleSubmit, setError } = useForm<AcceptForm>({
+    resolver: zodResolver(acceptFormSchema),
+    defaultValues: { password: '', confirm: '' },
+  });
+  const server = useServerErrors(setError, FIELDS);
 
-  const submit = () => {
-    const e: typeof errors = {};
-    if (password.length < PASSWORD_MIN) e.password = `Use at least ${PASSWORD_MIN} characters`;
-    if (confirm !== password) e.confirm = 'The two passwords differ';
-    setErrors(e);
-    if (e.password || e.confirm || !token) return;
-    accept.mutate({ token, password }, { onSuccess: () => router.replace('/') });
-  };
+  const submit = handleSubmit(({ password }) => {
+    if (!token || accept.isPending) return;
+    server.clear();
+    return accept.mutateAsync({ token, password }).then(
+      () => router.replace('/'),
+      (err: unknown) => server.onServerError(err),
+    );
+  });
 
   return (
-    <ScrollView style={{ backgroundColor: colors.paper }} contentContainerStyle={styles.page}>
-      <View style={styles.column}>
-        <Text style={styles.brand}>Keelson</Text>
-        <Card>
-          <Text style={text.title} role="heading" aria-level={1}>
-            Accept your invitation
+    <AuthFrame maxWidth={460}>
+      <Card>
+        <Text style={text.title} role="heading" aria-level={1}>
+          Accept your invitation
+        </Text>
+        {!token ? (
+          <ErrorView error={new Error('This link has no invitation token. Open the link from your invitation e-mail.')} title="Link incomplete" />
+        ) : preview.isPending ? (
+          <Text style={text.muted} role="status">
+            Checking the invitation…
           </Text>
-          {!token ? (
-            <ErrorView error={new Error('This link has no invitation token. Open the link from your invitation e-mail.')} title="Link incomplete" />
-          ) : preview.isPending ? (
-            <Text style={text.muted}>Checking the invitation…</Text>
-          ) : preview.isError ? (
-            <>
-              <ErrorView error={preview.error} title="This invitation cannot be used" />
-              <Text style={text.muted}>Ask your admin for a new invitation.</Text>
-              <Button label="Go to sign-in" href="/sign-in" />
-            </>
-          ) : (
-            <>
-              <View style={styles.facts}>
-                <Fact label="Name" value={preview.data.name} />
-                <Fact label="E-mail" value={preview.data.email} />
-                <Fact label="Role" value={ROLE_LABELS[preview.data.role]} />
-                <Fact label="Link valid until" value={preview.data.expiresAt.slice(0, 16).replace('T', ' ') + ' UTC'} />
-              </View>
-              <TextField
-                label="New password"
-                value={password}
-                onChangeText={setPassword}
-                secureTextEntry
-                autoComplete="new-password"
-                hint={`At least ${PASSWORD_MIN} characters.`}
-                error={errors.password}
-              />
-              <TextField
-                label="Repeat the password"
-                value={confirm}
-                onChangeText={setConfirm}
-                secureTextEntry
-                autoComplete="new-password"
-                error={errors.confirm}
-                onSubmitEditing={submit}
-              />
-              {accept.error ? <ErrorView error={accept.error} title="The password was not set" /> : null}
-              <Button label="Set password and sign in" variant="primary" onPress={submit} busy={accept.isPending} style={{ alignSelf: 'stretch' }} />
-            </>
-          )}
-        </Card>
-      </View>
-    </ScrollView>
+        ) : preview.isError ? (
+          <>
+            <ErrorView error={preview.error} title="This invitation cannot be used" />
+            <Text style={text.muted}>Ask your admin for a new invitation.</Text>
+            <Button label="Go to sign-in" href="/sign-in" />
+          </>
+        ) : (
+          <>
+            <View style={styles.facts}>
+              <Fact label="Name" value={preview.data.name} />
+              <Fact label="E-mail" value={preview.data.email} />
+              <Fact label="Role" value={ROLE_LABELS[preview.data.role]} />
+              <Fact label="Link valid until" value={preview.data.expiresAt.slice(0, 16).replace('T', ' ') + ' UTC'} />
+            </View>
+            <FormTextField
+              control={control}
+              name="password"
+              label="New password"
+              secureTextEntry
+              autoComplete="new-password"
+              hint={`At least ${PASSWORD_MIN} characters.`}
+            />
+            <FormTextField
+              control={control}
+              name="confirm"
+              label="Repeat the password"
+              secureTextEntry
+              autoComplete="new-password"
+              onSubmitEditing={() => void submit()}
+            />
+            {server.general ? <ErrorView error={server.general} title="The password was not set" /> : null}
+            <Button label="Set password and sign in" variant="primary" onPress={submit} busy={accept.isPending} style={{ alignSelf: 'stretch' }} />
+          </>
+        )}
+      </Card>
+    </AuthFrame>
   );
 }
 
@@ -92,9 +102,6 @@ function Fact({ label, value }: { label: string; value: string }) {
 }
 
 const styles = StyleSheet.create({
-  page: { flexGrow: 1, justifyContent: 'center', padding: space.lg },
-  column: { width: '100%', maxWidth: 460, alignSelf: 'center', gap: space.lg },
-  brand: { fontFamily: fonts.textStrong, fontSize: 28, color: colors.ink },
   facts: { gap: space.xs },
   fact: { flexDirection: 'row', gap: space.sm, flexWrap: 'wrap' },
 });

@@ -1,81 +1,74 @@
-import { useState } from 'react';
-import { ScrollView, StyleSheet, Text, View } from 'react-native';
+import { Text } from 'react-native';
 import { Redirect, useLocalSearchParams, useRouter } from 'expo-router';
-import { loginBodySchema } from '../shared/auth';
+import { useForm } from 'react-hook-form';
+import { zodResolver } from '@hookform/resolvers/zod';
+import { loginBodySchema, type LoginBody } from '../shared/auth';
 import { useLogin, useMe } from '../hooks/use-session';
+import { useServerErrors } from '../hooks/use-form-errors';
+import { AuthFrame } from '../components/auth-frame';
 import { Button } from '../components/button';
 import { Card } from '../components/card';
 import { ErrorView } from '../components/error-view';
-import { TextField } from '../components/text-field';
-import { colors, fonts, space, text } from '../components/theme';
+import { FormTextField } from '../components/text-field';
+import { text } from '../components/theme';
 import { safeNext } from '../components/nav-items';
 
+const FIELDS = ['email', 'password'] as const;
+
+/**
+ * Sign-in. The form is on screen from the first frame: it does not wait for the session check
+ * (`/auth/me`), which only sends an already signed-in visitor on to where they were going.
+ */
 export default function SignIn() {
   const { next } = useLocalSearchParams<{ next?: string }>();
   const router = useRouter();
   const me = useMe();
   const login = useLogin();
-  const [email, setEmail] = useState('');
-  const [password, setPassword] = useState('');
-  const [fieldErrors, setFieldErrors] = useState<{ email?: string; password?: string }>({});
+  const { control, handleSubmit, setError } = useForm<LoginBody>({
+    resolver: zodResolver(loginBodySchema),
+    defaultValues: { email: '', password: '' },
+  });
+  const server = useServerErrors(setError, FIELDS);
 
   if (me.data && !login.isPending && !login.isSuccess) return <Redirect href={safeNext(next) as '/'} />;
 
-  const submit = () => {
-    const parsed = loginBodySchema.safeParse({ email, password });
-    if (!parsed.success) {
-      const errs: { email?: string; password?: string } = {};
-      for (const i of parsed.error.issues) errs[i.path[0] as 'email' | 'password'] ??= i.message;
-      setFieldErrors(errs);
-      return;
-    }
-    setFieldErrors({});
-    login.mutate(parsed.data, { onSuccess: () => router.replace(safeNext(next) as '/') });
-  };
+  const submit = handleSubmit((body) => {
+    if (login.isPending) return;
+    server.clear();
+    return login.mutateAsync(body).then(
+      () => router.replace(safeNext(next) as '/'),
+      (err: unknown) => server.onServerError(err),
+    );
+  });
 
   return (
-    <ScrollView style={{ backgroundColor: colors.paper }} contentContainerStyle={styles.page}>
-      <View style={styles.column}>
-        <View style={styles.brandRow}>
-          <Text style={styles.brand}>Keelson</Text>
-          <Text style={[text.body, { color: colors.slate }]}>Which factors does your SDF need?</Text>
-        </View>
-        <Card>
-          <Text style={text.title} role="heading" aria-level={1}>
-            Sign in
-          </Text>
-          <TextField
-            label="E-mail"
-            value={email}
-            onChangeText={setEmail}
-            autoComplete="email"
-            keyboardType="email-address"
-            autoCapitalize="none"
-            inputMode="email"
-            error={fieldErrors.email}
-            onSubmitEditing={submit}
-          />
-          <TextField
-            label="Password"
-            value={password}
-            onChangeText={setPassword}
-            secureTextEntry
-            autoComplete="current-password"
-            error={fieldErrors.password}
-            onSubmitEditing={submit}
-          />
-          {login.error ? <ErrorView error={login.error} title="Sign-in failed" /> : null}
-          <Button label="Sign in" variant="primary" onPress={submit} busy={login.isPending} style={{ alignSelf: 'stretch' }} />
-          <Text style={text.muted}>New to Keelson? An admin sends you an invitation e-mail with a link to set your password.</Text>
-        </Card>
-      </View>
-    </ScrollView>
+    <AuthFrame>
+      <Card>
+        <Text style={text.title} role="heading" aria-level={1}>
+          Sign in
+        </Text>
+        <FormTextField
+          control={control}
+          name="email"
+          label="E-mail"
+          autoComplete="email"
+          keyboardType="email-address"
+          autoCapitalize="none"
+          inputMode="email"
+          onSubmitEditing={() => void submit()}
+        />
+        <FormTextField
+          control={control}
+          name="password"
+          label="Password"
+          secureTextEntry
+          autoComplete="current-password"
+          onSubmitEditing={() => void submit()}
+        />
+        {server.general ? <ErrorView error={server.general} title="Sign-in failed" /> : null}
+        <Button label="Sign in" variant="primary" onPress={submit} busy={login.isPending} style={{ alignSelf: 'stretch' }} />
+        <Text style={text.muted}>New to Keelson? An admin sends you an invitation e-mail with a link to set your password.</Text>
+      </Card>
+    </AuthFrame>
   );
 }
-
-const styles = StyleSheet.create({
-  page: { flexGrow: 1, justifyContent: 'center', padding: space.lg },
-  column: { width: '100%', maxWidth: 420, alignSelf: 'center', gap: space.lg },
-  brandRow: { gap: 2 },
-  brand: { fontFamily: fonts.textStrong, fontSize: 28, color: colors.ink, letterSpacing: 0.5 },
-});

@@ -1,5 +1,5 @@
 import type { ReactNode } from 'react';
-import { Pressable, StyleSheet, Text, View } from 'react-native';
+import { ActivityIndicator, Pressable, StyleSheet, Text, View } from 'react-native';
 import { Link, usePathname } from 'expo-router';
 import type { User } from '../shared/auth';
 import { useIsWide } from '../hooks/use-layout';
@@ -90,7 +90,44 @@ export function AppShell({ user, children }: { user: User; children: ReactNode }
   );
 }
 
+/**
+ * The signed-in frame while the session check is on its way (this browser was signed in last time):
+ * rail or app bar with the name, and a quiet status in the content area — drawn on the first frame,
+ * so a reload never shows a blank page. The navigation appears once the server says who is signed in.
+ */
+export function ShellPlaceholder() {
+  const wide = useIsWide();
+  const status = (
+    <View style={styles.placeholder} role="status" aria-label="Checking your session">
+      <ActivityIndicator color={colors.brass} />
+      <Text style={styles.placeholderText}>Checking your session…</Text>
+    </View>
+  );
+  if (wide) {
+    return (
+      <View style={styles.wideRoot}>
+        <View style={styles.rail}>
+          <View style={{ paddingHorizontal: space.sm, paddingVertical: space.md }}>
+            <Brand />
+          </View>
+        </View>
+        <View style={styles.main}>{status}</View>
+      </View>
+    );
+  }
+  return (
+    <View style={styles.phoneRoot}>
+      <View style={styles.appBar}>
+        <Brand small />
+      </View>
+      <View style={styles.main}>{status}</View>
+    </View>
+  );
+}
+
 const styles = StyleSheet.create({
+  placeholder: { flex: 1, alignItems: 'center', justifyContent: 'center', gap: space.sm, padding: space.xl },
+  placeholderText: { fontFamily: fonts.text, fontSize: 15, color: colors.slate },
   wideRoot: { flex: 1, flexDirection: 'row', backgroundColor: colors.paper, minHeight: '100%' as unknown as number },
   rail: { width: 232, backgroundColor: colors.ink, padding: space.md, gap: space.md, zIndex: 10 },
   main: { flex: 1, minWidth: 0, minHeight: 0 },

@@ -1,3 +1,4 @@
+import { useCallback, useEffect, useRef, useState } from 'react';
 import { Link, type Href } from 'expo-router';
 import { ActivityIndicator, Pressable, StyleSheet, Text, type StyleProp, type ViewStyle } from 'react-native';
 import { colors, fonts, radius, space } from './theme';
@@ -6,12 +7,18 @@ export type ButtonVariant = 'primary' | 'secondary' | 'danger' | 'quiet';
 
 export interface ButtonProps {
   label: string;
-  onPress?: () => void;
+  /**
+   * Called on press. When it returns a promise (e.g. `mutation.mutateAsync(…)` or react-hook-form's
+   * `handleSubmit(…)()`), the button stays pending — spinner, disabled, further presses ignored —
+   * until the promise settles. A rejection is left for the caller to show (mutation.error); the
+   * button only waits for it.
+   */
+  onPress?: () => void | Promise<unknown>;
   /** Navigates instead of calling onPress (renders a link on web). */
   href?: Href;
   variant?: ButtonVariant;
   disabled?: boolean;
-  /** Shows a spinner and disables the button. */
+  /** Shows a spinner and disables the button (e.g. `mutation.isPending`). */
   busy?: boolean;
   /** Accessible name when it should differ from the visible label. */
   accessibilityLabel?: string;
@@ -20,12 +27,14 @@ export interface ButtonProps {
 }
 
 /** Keelson's button: primary = brass, secondary = outlined ink, danger = outlined rust, quiet = text only. */
-export function Button({ label, onPress, href, variant = 'secondary', disabled, busy, accessibilityLabel, style, compact }: ButtonProps) {
+export function Button({ label, onPress, href, variant = 'secondary', disabled, busy: busyProp, accessibilityLabel, style, compact }: ButtonProps) {
+  const pending = usePendingPress(onPress);
+  const busy = busyProp || pending.pending;
   const off = disabled || busy;
   const v = VARIANTS[variant];
   const body = (
     <Pressable
-      onPress={href ? undefined : onPress}
+      onPress={href ? undefined : pending.press}
       disabled={off}
       role={href ? 'link' : 'button'}
       aria-label={accessibilityLabel ?? label}
@@ -60,6 +69,49 @@ export function Button({ label, onPress, href, variant = 'secondary', disabled, 
     );
   }
   return body;
+}
+
+/**
+ * Press handler that refuses re-entry: a ref (not state) is set synchronously on the first press, so
+ * a double click or a repeated Enter inside one frame cannot call `onPress` twice, even before React
+ * has re-rendered the disabled button. Cleared when the returned promise settles (or at once for a
+ * plain function).
+ */
+function usePendingPress(onPress: ButtonProps['onPress']) {
+  const lock = useRef(false);
+  const mounted = useRef(true);
+  const [pending, setPending] = useState(false);
+  useEffect(() => {
+    mounted.current = true;
+    return () => {
+      mounted.current = false;
+    };
+  }, []);
+  const press = useCallback(() => {
+    if (lock.current || !onPress) return;
+    lock.current = true;
+    let out: void | Promise<unknown>;
+    try {
+      out = onPress();
+    } catch (e) {
+      lock.current = false;
+      throw e;
+    }
+    if (out && typeof (out as Promise<unknown>).then === 'function') {
+      setPending(true);
+      const done = () => {
+        lock.current = false;
+        if (mounted.current) setPending(false);
+      };
+      (out as Promise<unknown>).then(done, done);
+    } else {
+      // A plain handler: unlock after this frame, so the click that triggered it cannot repeat inside it.
+      setTimeout(() => {
+        lock.current = false;
+      }, 0);
+    }
+  }, [onPress]);
+  return { press, pending };
 }
 
 const VARIANTS: Record<ButtonVariant, { bg: string; bgActive: string; fg: string; border: string }> = {

@@ -2,7 +2,7 @@
 import { useState } from 'react';
 import { StyleSheet, Text, View } from 'react-native';
 import type { User } from '../shared/auth';
-import { SIGNOFF_STATE_LABELS, type Run, type SignoffState } from '../shared/runs';
+import { SIGNOFF_STATE_LABELS, type Run, type SignoffDecision, type SignoffState } from '../shared/runs';
 import { useAddComment, useGiveSignoff, useRequestSignoff, useReviewers, useRunReview } from '../hooks/use-runs';
 import { Button } from './button';
 import { Chip, type ChipShape, type ChipTone } from './chip';
@@ -33,12 +33,14 @@ export function RunReview({ run, me }: { run: Run; me: User }) {
   const reviewers = useReviewers(isAuthor);
   const [text_, setText] = useState('');
   const [note, setNote] = useState('');
+  const [requestNote, setRequestNote] = useState('');
   const [reviewerId, setReviewerId] = useState<string | undefined>(undefined);
 
   if (review.isPending) return <Text style={text.muted}>Loading the review…</Text>;
   if (review.isError) return <ErrorView error={review.error} title="The review could not be loaded" onRetry={() => void review.refetch()} />;
   const r = review.data;
   const finished = run.status === 'finished';
+  const sign = (decision: SignoffDecision) => signoff.mutateAsync({ decision, note: note.trim() || undefined }).then(() => setNote(''));
 
   return (
     <View style={{ gap: space.md }}>
@@ -85,7 +87,7 @@ export function RunReview({ run, me }: { run: Run; me: User }) {
             compact
             busy={comment.isPending}
             disabled={!text_.trim()}
-            onPress={() => comment.mutate(text_.trim(), { onSuccess: () => setText('') })}
+            onPress={() => comment.mutateAsync(text_.trim()).then(() => setText(''))}
           />
           {comment.isError ? <ErrorView error={comment.error} title="The comment was not saved" /> : null}
         </View>
@@ -94,8 +96,9 @@ export function RunReview({ run, me }: { run: Run; me: User }) {
         <View style={styles.form}>
           <TextField label="Sign-off note (optional)" value={note} onChangeText={setNote} multiline />
           <View style={{ flexDirection: 'row', gap: space.sm, flexWrap: 'wrap' }}>
-            <Button label="Approve" variant="primary" busy={signoff.isPending} onPress={() => signoff.mutate({ decision: 'approved', note: note.trim() || undefined }, { onSuccess: () => setNote('') })} />
-            <Button label="Request changes" variant="danger" busy={signoff.isPending} onPress={() => signoff.mutate({ decision: 'changes-requested', note: note.trim() || undefined }, { onSuccess: () => setNote('') })} />
+            {/* Both buttons wait for either decision: one sign-off per press, never two. */}
+            <Button label="Approve" variant="primary" busy={signoff.isPending} onPress={() => sign('approved')} />
+            <Button label="Request changes" variant="danger" busy={signoff.isPending} onPress={() => sign('changes-requested')} />
           </View>
           <Text style={text.muted}>A sign-off says the method and evidence hold up; the results stay statistical evidence, not investment advice.</Text>
           {signoff.isError ? <ErrorView error={signoff.error} title="The sign-off was not saved" /> : null}
@@ -113,9 +116,28 @@ export function RunReview({ run, me }: { run: Run; me: User }) {
           ) : (
             <Text style={text.muted}>{reviewers.isPending ? 'Loading reviewers…' : 'No reviewer to ask.'}</Text>
           )}
-          <Button label="Request sign-off" compact busy={request.isPending} disabled={!reviewerId} onPress={() => request.mutate({ reviewerId: Number(reviewerId) })} />
+          <TextField
+            label="Note for the reviewer (optional)"
+            value={requestNote}
+            onChangeText={setRequestNote}
+            multiline
+            maxLength={1000}
+            placeholder="What should they look at first?"
+            hint="Goes into the e-mail and shows beside the request."
+          />
+          <Button
+            label="Request sign-off"
+            compact
+            busy={request.isPending}
+            disabled={!reviewerId}
+            onPress={() => request.mutateAsync({ reviewerId: Number(reviewerId), note: requestNote.trim() || undefined }).then(() => setRequestNote(''))}
+          />
           {request.isError ? <ErrorView error={request.error} title="The request was not sent" /> : null}
-          {request.isSuccess ? <Text style={text.muted}>Request sent; the reviewer gets an e-mail.</Text> : null}
+          {request.isSuccess ? (
+            <Text style={text.muted} role="status">
+              Request sent; the reviewer gets an e-mail.
+            </Text>
+          ) : null}
         </View>
       ) : null}
       {!isReviewer && !isAuthor ? <Text style={text.muted}>Reviewers comment and sign off; the run’s author asks for a sign-off.</Text> : null}

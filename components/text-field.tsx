@@ -1,5 +1,6 @@
-import { useId } from 'react';
+import { forwardRef, useId } from 'react';
 import { StyleSheet, Text, TextInput, View, type TextInputProps } from 'react-native';
+import { useController, type Control, type FieldValues, type Path } from 'react-hook-form';
 import { colors, fonts, radius, space, text } from './theme';
 
 export interface TextFieldProps extends Omit<TextInputProps, 'style' | 'onChange'> {
@@ -13,7 +14,7 @@ export interface TextFieldProps extends Omit<TextInputProps, 'style' | 'onChange
 }
 
 /** Labelled text input; the label is its accessible name (`getByLabel(label)` finds it). */
-export function TextField({ label, error, hint, numeric, ...input }: TextFieldProps) {
+export const TextField = forwardRef<TextInput, TextFieldProps>(function TextField({ label, error, hint, numeric, ...input }, ref) {
   const id = useId();
   return (
     <View style={styles.wrap}>
@@ -21,6 +22,7 @@ export function TextField({ label, error, hint, numeric, ...input }: TextFieldPr
         {label}
       </Text>
       <TextInput
+        ref={ref}
         aria-label={label}
         aria-invalid={error ? true : undefined}
         placeholderTextColor={colors.fog}
@@ -36,7 +38,7 @@ export function TextField({ label, error, hint, numeric, ...input }: TextFieldPr
       ) : null}
     </View>
   );
-}
+});
 
 const styles = StyleSheet.create({
   wrap: { gap: space.xs, alignSelf: 'stretch' },
@@ -55,3 +57,23 @@ const styles = StyleSheet.create({
   invalid: { borderColor: colors.rust, borderWidth: 2 },
   error: { fontFamily: fonts.text, fontSize: 13, color: colors.rust },
 });
+
+export interface FormTextFieldProps<F extends FieldValues> extends Omit<TextFieldProps, 'value' | 'onChangeText' | 'onBlur' | 'error'> {
+  control: Control<F>;
+  name: Path<F>;
+}
+
+/** A TextField bound to a react-hook-form field: value, change, blur and the field's error message. */
+export function FormTextField<F extends FieldValues>({ control, name, ...props }: FormTextFieldProps<F>) {
+  const { field, fieldState } = useController({ control, name });
+  return (
+    <TextField
+      {...props}
+      value={(field.value as string | undefined) ?? ''}
+      onChangeText={field.onChange}
+      onBlur={field.onBlur}
+      ref={field.ref}
+      error={fieldState.error?.message}
+    />
+  );
+}

@@ -1,8 +1,9 @@
 /** TanStack Query hooks for the admin (Team) section. */
-import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
+import { useInfiniteQuery, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type { InviteBody } from '../shared/auth';
 import type { Role } from '../shared/roles';
 import type { KeelsonApiError } from '../shared/errors';
+import { AUDIT_PAGE_DEFAULT, type AuditPage } from '../shared/audit';
 import { createInvitation, listAudit, listInvitations, listOutbox, listUsers, updateUser } from '../api/admin';
 
 export const adminKeys = {
@@ -16,7 +17,15 @@ export const adminKeys = {
 export const useAdminUsers = () => useQuery({ queryKey: adminKeys.users, queryFn: listUsers });
 export const useInvitations = () => useQuery({ queryKey: adminKeys.invitations, queryFn: listInvitations });
 export const useAdminOutbox = () => useQuery({ queryKey: adminKeys.outbox, queryFn: listOutbox });
-export const useAuditLog = () => useQuery({ queryKey: adminKeys.audit, queryFn: listAudit });
+
+/** The audit log in server pages, newest first; `fetchNextPage()` loads the next older page. */
+export const useAuditLog = (limit = AUDIT_PAGE_DEFAULT) =>
+  useInfiniteQuery<AuditPage, KeelsonApiError, { pages: AuditPage[] }, readonly unknown[], number | undefined>({
+    queryKey: [...adminKeys.audit, limit],
+    queryFn: ({ pageParam }) => listAudit({ before: pageParam, limit }),
+    initialPageParam: undefined,
+    getNextPageParam: (last) => last.nextBefore ?? undefined,
+  });
 
 export function useUpdateUser() {
   const qc = useQueryClient();
@@ -29,6 +38,7 @@ export function useUpdateUser() {
 export function useCreateInvitation() {
   const qc = useQueryClient();
   return useMutation<Awaited<ReturnType<typeof createInvitation>>, KeelsonApiError, InviteBody>({
+    // One fresh Idempotency-Key per press (made inside createInvitation), reused by the client's CSRF retry.
     mutationFn: (body) => createInvitation(body),
     onSuccess: () => qc.invalidateQueries({ queryKey: adminKeys.all }),
   });

@@ -17,6 +17,7 @@ export const CLIENT_SOURCES = [
   'api',
   'shared',
   'assets',
+  'public',
   'app.json',
   'package.json',
   'babel.config.cjs',

@@ -32,6 +32,8 @@ export const userResponseSchema = z.object({ user: userSchema });
  * hands, so the new one comes back here (send it as `x-csrf-token` from now on).
  */
 export const signInResponseSchema = userResponseSchema.extend({ csrfToken: z.string() });
+/** `GET /auth/me`: 200 for everyone; `user` is null when nobody is signed in (no 401 on every signed-out load). */
+export const meResponseSchema = z.object({ user: userSchema.nullable() });
 export const csrfResponseSchema = z.object({ token: z.string() });
 export const healthResponseSchema = z.object({ status: z.literal('ok'), version: z.string() });
 

@@ -5,6 +5,7 @@ import { parseOr400 } from '../middlewares/errors';
 import { idParam } from '../middlewares/params';
 import { inviteBodySchema, updateUserBodySchema } from '../../shared/auth';
 import { ROLE_LABELS } from '../../shared/roles';
+import { auditPageQuerySchema } from '../../shared/audit';
 import { createInvitation, listInvitations, listUsers, updateUser } from '../services/users';
 import { listOutbox, sendMail } from '../services/mail';
 import { listAudit } from '../services/audit';
@@ -48,7 +49,7 @@ export function registerAdminRoutes(api: ApiRouter, deps: AppDeps): void {
     res.json({ messages: listOutbox(db) });
   });
 
-  api.get('/admin/audit', admin, (_req: Request, res: Response) => {
-    res.json({ entries: listAudit(db) });
+  api.get('/admin/audit', admin, (req: Request, res: Response) => {
+    res.json(listAudit(db, parseOr400(auditPageQuerySchema, req.query, 'audit log query')));
   });
 }

@@ -51,8 +51,10 @@ export function registerAuthRoutes(api: ApiRouter, deps: AppDeps): void {
     });
   });
 
-  api.get('/auth/me', 'signed-in', (req: Request, res: Response) => {
-    res.json({ user: currentUser(req) });
+  // Public on purpose: a signed-out visitor is an expected answer (200 { user: null }), not an error,
+  // so a browser does not log a failed request on every signed-out page load.
+  api.get('/auth/me', 'public', (req: Request, res: Response) => {
+    res.json({ user: req.user ?? null });
   });
 
   api.get('/auth/outbox', 'signed-in', (req: Request, res: Response) => {

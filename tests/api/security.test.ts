@@ -182,8 +182,11 @@ describe('cookies, proxy and CSRF (item 12)', () => {
         const r = await a.get(path);
         expect(r.headers['cache-control'], path).toBe('no-store');
       }
-      const anon = await request(t.app).get('/api/v1/auth/me').expect(401);
+      const anon = await request(t.app).get('/api/v1/specs').expect(401);
       expect(anon.headers['cache-control']).toBe('no-store');
+      const anonMe = await request(t.app).get('/api/v1/auth/me').expect(200);
+      expect(anonMe.body).toEqual({ user: null });
+      expect(anonMe.headers['cache-control']).toBe('no-store');
     } finally {
       await t.close();
     }
@@ -238,7 +241,7 @@ describe('password policy and password change (items 12, 3)', () => {
       .send({ currentPassword: DEMO_PASSWORD, newPassword: 'tidal-pebble-orchard-5' });
     expect(r.status).toBe(204);
     expect((await mine.get('/api/v1/auth/me')).status).toBe(200);
-    expect((await other.get('/api/v1/auth/me')).status).toBe(401);
+    expect((await other.get('/api/v1/auth/me').expect(200)).body).toEqual({ user: null }); // signed out: GET /auth/me answers { user: null }
     expect((await bystander.get('/api/v1/auth/me')).status).toBe(200);
     const fresh = await anonymousAgent(t.app);
     expect((await login(fresh, 'reviewer@keelson.test', DEMO_PASSWORD)).status).toBe(401);

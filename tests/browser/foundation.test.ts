@@ -1,13 +1,17 @@
 /**
- * Client shell end to end against the real server: sign-in per role, role-aware navigation,
- * wrong password, invitation round trip through the outbox, 404, and no request leaving the origin.
+ * Client shell end to end against the real server: first paint and a quiet console, sign-in per role,
+ * role-aware navigation, wrong password, invitation round trip through the outbox, 404, and no
+ * request leaving the origin.
  */
+import { join } from 'node:path';
+import { mkdirSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import type { Browser } from 'playwright-core';
+import type { Browser, Locator, Page } from 'playwright-core';
 import type { Role } from '../../shared/roles';
 import {
   DEMO_ROLES,
   PHONE,
+  SCREENSHOT_DIR,
   WIDE,
   baseUrl,
   expectSameOrigin,
@@ -43,6 +47,98 @@ const WIDE_NAV: Record<Role, string[]> = {
   reviewer: ['Home', 'Libraries', 'Runs', 'Sign-offs'],
   admin: ['Home', 'Libraries', 'Runs', 'Sign-offs', 'Team'],
 };
+
+/**
+ * Really visible to a person: a box on screen, no hidden / transparent ancestor, and the topmost
+ * element at its centre is the element itself or inside it (not an overlay above it).
+ */
+function seenByUser(l: Locator): Promise<boolean> {
+  return l.evaluate((el) => {
+    const r = el.getBoundingClientRect();
+    if (r.width === 0 || r.height === 0 || r.bottom < 0 || r.top > window.innerHeight) return false;
+    for (let n: Element | null = el; n; n = n.parentElement) {
+      const st = getComputedStyle(n);
+      if (st.visibility === 'hidden' || st.display === 'none' || Number(st.opacity) < 0.99) return false;
+    }
+    const hit = document.elementFromPoint(r.left + r.width / 2, r.top + r.height / 2);
+    return !!hit && el.contains(hit);
+  });
+}
+
+/** Every console error or warning and every HTTP answer ≥ 400 the page sees — nothing filtered. */
+function recordNoise(page: Page): string[] {
+  const noise: string[] = [];
+  page.on('console', (m) => {
+    if (m.type() === 'error' || m.type() === 'warning') noise.push(`console ${m.type()}: ${m.text()}`);
+  });
+  page.on('pageerror', (e) => noise.push(`pageerror: ${e.message}`));
+  page.on('response', (r) => {
+    if (r.status() >= 400) noise.push(`HTTP ${r.status()} ${r.request().method()} ${new URL(r.url()).pathname}`);
+  });
+  return noise;
+}
+
+/** A screenshot taken at once (no waiting for fonts: this is what a person sees first). */
+async function firstShot(page: Page, name: string): Promise<void> {
+  mkdirSync(SCREENSHOT_DIR, { recursive: true });
+  await page.screenshot({ path: join(SCREENSHOT_DIR, `${name}.png`) });
+}
+
+describe('first paint and a quiet console (signed out)', () => {
+  for (const [size, viewport] of [['phone', PHONE], ['wide', WIDE]] as const) {
+    it(`${size}: the first frame after the script runs is the sign-in form, and the console stays empty`, async () => {
+      const context = await browser.newContext({ viewport, baseURL: baseUrl() });
+      const page = await context.newPage();
+      const noise = recordNoise(page);
+      await page.goto('/', { waitUntil: 'commit' });
+      // The first thing React puts on screen (no wait for fonts or the session check).
+      const heading = page.getByRole('heading', { name: 'Sign in', level: 1 });
+      await heading.waitFor({ state: 'attached' });
+      await firstShot(page, `first-paint-${size}`);
+      expect(await seenByUser(heading)).toBe(true);
+      expect(await seenByUser(page.getByLabel('E-mail', { exact: true }))).toBe(true);
+      expect(await seenByUser(page.getByRole('button', { name: 'Sign in', exact: true }))).toBe(true);
+      expect(new URL(page.url()).pathname).toBe('/sign-in');
+      await page.waitForLoadState('networkidle');
+      // Signed out is an answer (GET /auth/me → 200 { user: null }), so the browser logs no failed request.
+      expect(noise).toEqual([]);
+      await context.close();
+    });
+  }
+
+  it('before the script has run, the page is already the paper frame with the name (not white)', async () => {
+    const context = await browser.newContext({ viewport: PHONE, baseURL: baseUrl(), javaScriptEnabled: false });
+    const page = await context.newPage();
+    await page.goto('/sign-in');
+    await firstShot(page, 'first-paint-before-script-phone');
+    await expect(page.evaluate(() => getComputedStyle(document.body).backgroundColor)).resolves.toBe('rgb(246, 244, 239)');
+    expect(await seenByUser(page.getByText('Keelson', { exact: true }))).toBe(true);
+    await context.close();
+  });
+
+  it('a signed-in reload never flashes the sign-in form, and its first frame is the signed-in frame', async () => {
+    const { context, page } = await openPage(browser, WIDE);
+    await signIn(page, 'desk');
+    const noise = recordNoise(page);
+    // Records, from the first script on, whether a "Sign in" heading ever appears in the page.
+    await page.addInitScript(() => {
+      const w = window as unknown as { sawSignIn: boolean };
+      w.sawSignIn = false;
+      new MutationObserver(() => {
+        for (const h of document.querySelectorAll('[role="heading"]')) if (h.textContent === 'Sign in') w.sawSignIn = true;
+      }).observe(document, { childList: true, subtree: true, characterData: true });
+    });
+    await page.reload({ waitUntil: 'commit' });
+    const frame = page.getByRole('status', { name: 'Checking your session' }).or(page.getByRole('navigation', { name: 'Main' }));
+    await frame.first().waitFor({ state: 'attached' });
+    await firstShot(page, 'first-paint-signed-in-wide');
+    await page.getByRole('heading', { level: 1 }).filter({ hasText: 'Welcome' }).waitFor();
+    await expect(page.evaluate(() => (window as unknown as { sawSignIn: boolean }).sawSignIn)).resolves.toBe(false);
+    await page.waitForLoadState('networkidle');
+    expect(noise).toEqual([]);
+    await context.close();
+  });
+});
 
 describe('sign-in', () => {
   it('sends an unauthenticated visitor to /sign-in and back to the page they asked for', async () => {

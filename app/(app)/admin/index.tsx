@@ -39,14 +39,14 @@ function UserEditor({ user, me, onClose }: { user: AdminUser; me: number; onClos
           compact
           disabled={role === user.role}
           busy={update.isPending && !confirming}
-          onPress={() => update.mutate({ id: user.id, role })}
+          onPress={() => update.mutateAsync({ id: user.id, role })}
         />
         {user.active ? (
           confirming ? null : (
             <Button label="Deactivate…" variant="danger" compact onPress={() => setConfirming(true)} accessibilityLabel={`Deactivate ${user.name}`} />
           )
         ) : (
-          <Button label="Reactivate" compact onPress={() => update.mutate({ id: user.id, active: true })} busy={update.isPending} />
+          <Button label="Reactivate" compact onPress={() => update.mutateAsync({ id: user.id, active: true })} busy={update.isPending} />
         )}
         <Button label="Close" variant="quiet" compact onPress={onClose} />
       </View>
@@ -62,7 +62,7 @@ function UserEditor({ user, me, onClose }: { user: AdminUser; me: number; onClos
               variant="danger"
               compact
               busy={update.isPending}
-              onPress={() => update.mutate({ id: user.id, active: false }, { onSettled: () => setConfirming(false) })}
+              onPress={() => update.mutateAsync({ id: user.id, active: false }).finally(() => setConfirming(false))}
             />
             <Button label="Keep active" compact onPress={() => setConfirming(false)} />
           </View>

@@ -1,7 +1,10 @@
-import { useMemo, useState } from 'react';
+import { useMemo } from 'react';
 import { StyleSheet, Text, View } from 'react-native';
 import { createColumnHelper } from '@tanstack/react-table';
-import { inviteBodySchema, type Invitation } from '../../../shared/auth';
+import { Controller, useForm } from 'react-hook-form';
+import { zodResolver } from '@hookform/resolvers/zod';
+import type { z } from 'zod';
+import { inviteBodySchema, type Invitation, type InviteBody } from '../../../shared/auth';
 import { ROLE_LABELS, ROLES, type Role } from '../../../shared/roles';
 import { useCreateInvitation, useInvitations } from '../../../hooks/use-admin';
 import { useIsWide } from '../../../hooks/use-layout';
@@ -14,7 +17,8 @@ import { formatWhen, invitationState, type InvitationState } from '../../../comp
 import { Screen } from '../../../components/screen';
 import { Select } from '../../../components/select';
 import { TeamTabs } from '../../../components/team-tabs';
-import { TextField } from '../../../components/text-field';
+import { FormTextField } from '../../../components/text-field';
+import { useServerErrors } from '../../../hooks/use-form-errors';
 import { space, text } from '../../../components/theme';
 
 const ROLE_OPTIONS = ROLES.map((r) => ({ value: r, label: ROLE_LABELS[r] }));
@@ -26,35 +30,35 @@ function InvitationStateChip({ state }: { state: InvitationState }) {
   return <Chip label="pending" shape="outlined" tone="brass" />;
 }
 
+const INVITE_FIELDS = ['email', 'name', 'role'] as const;
+
 function InviteForm() {
   const create = useCreateInvitation();
-  const [email, setEmail] = useState('');
-  const [name, setName] = useState('');
-  const [role, setRole] = useState<Role>('researcher');
-  const [errors, setErrors] = useState<Partial<Record<'email' | 'name' | 'role', string>>>({});
-  const submit = () => {
-    const parsed = inviteBodySchema.safeParse({ email, name, role });
-    if (!parsed.success) {
-      const e: typeof errors = {};
-      for (const i of parsed.error.issues) e[i.path[0] as 'email'] ??= i.message;
-      setErrors(e);
-      return;
-    }
-    setErrors({});
-    create.mutate(parsed.data, {
-      onSuccess: () => {
-        setEmail('');
-        setName('');
-      },
-    });
-  };
+  const { control, handleSubmit, setError, reset } = useForm<z.input<typeof inviteBodySchema>, unknown, InviteBody>({
+    resolver: zodResolver(inviteBodySchema),
+    defaultValues: { email: '', name: '', role: 'researcher' },
+  });
+  const server = useServerErrors(setError, INVITE_FIELDS);
+  const submit = handleSubmit((body) => {
+    server.clear();
+    return create.mutateAsync(body).then(
+      () => reset({ email: '', name: '', role: body.role }),
+      (err: unknown) => server.onServerError(err),
+    );
+  });
   return (
     <Card title="Invite someone" subtitle="Keelson e-mails a link that lets them set a password; the link works once.">
-      <TextField label="Invitee e-mail" value={email} onChangeText={setEmail} autoCapitalize="none" inputMode="email" error={errors.email} />
-      <TextField label="Invitee name" value={name} onChangeText={setName} error={errors.name} />
-      <Select label="Invitee role" value={role} options={ROLE_OPTIONS} onChange={setRole} error={errors.role} />
-      {create.error ? <ErrorView error={create.error} title="The invitation was not sent" /> : null}
-      {create.data && !create.isPending ? (
+      <FormTextField control={control} name="email" label="Invitee e-mail" autoCapitalize="none" inputMode="email" />
+      <FormTextField control={control} name="name" label="Invitee name" />
+      <Controller
+        control={control}
+        name="role"
+        render={({ field, fieldState }) => (
+          <Select label="Invitee role" value={field.value as Role} options={ROLE_OPTIONS} onChange={field.onChange} error={fieldState.error?.message} />
+        )}
+      />
+      {server.general ? <ErrorView error={server.general} title="The invitation was not sent" /> : null}
+      {create.data && !create.isPending && !server.general ? (
         <Text style={[text.body, styles.ok]} role="status">
           Invitation sent to {create.data.email} as {ROLE_LABELS[create.data.role].toLowerCase()}. The e-mail is in the Outbox.
         </Text>

@@ -1,0 +1,38 @@
+/**
+ * Server answers on react-hook-form forms: the `issues` of a 400/422 envelope go onto the fields they
+ * name (`setError`), and only what no field can show stays as the form's general error.
+ */
+import { useCallback, useState } from 'react';
+import type { FieldValues, Path, UseFormSetError } from 'react-hook-form';
+import { KeelsonApiError } from '../shared/errors';
+
+/**
+ * Puts each issue whose path starts with one of `fields` onto that field (the first message per field
+ * wins). Returns the error to show above the button: null when every issue found its field, else the
+ * error itself (a message with no issues, or issues for no known field).
+ */
+export function placeServerIssues<F extends FieldValues>(error: unknown, setError: UseFormSetError<F>, fields: readonly Path<F>[]): unknown {
+  if (!(error instanceof KeelsonApiError) || !error.issues?.length) return error;
+  const known = new Set<string>(fields);
+  const seen = new Set<string>();
+  let unplaced = 0;
+  for (const issue of error.issues) {
+    const name = issue.path.length ? String(issue.path[0]) : '';
+    if (!known.has(name)) {
+      unplaced += 1;
+      continue;
+    }
+    if (seen.has(name)) continue;
+    seen.add(name);
+    setError(name as Path<F>, { type: 'server', message: issue.message }, { shouldFocus: seen.size === 1 });
+  }
+  return unplaced > 0 || seen.size === 0 ? error : null;
+}
+
+/** `onServerError(err)` for a mutation's onError; `general` is what the form shows as a whole. */
+export function useServerErrors<F extends FieldValues>(setError: UseFormSetError<F>, fields: readonly Path<F>[]) {
+  const [general, setGeneral] = useState<unknown>(null);
+  const onServerError = useCallback((err: unknown) => setGeneral(placeServerIssues(err, setError, fields)), [setError, fields]);
+  const clear = useCallback(() => setGeneral(null), []);
+  return { general, onServerError, clear };
+}
