@@ -17,6 +17,8 @@ export interface ApiRequestOptions<T> {
   /** Schema for a success body; omit for 204 responses. */
   schema?: ZodType<T>;
   signal?: AbortSignal;
+  /** Extra request headers (e.g. `Idempotency-Key`). */
+  headers?: Readonly<Record<string, string>>;
 }
 
 /** Origin of the API; '' means the page's own origin (the web export is served by the API server). */
@@ -77,8 +79,8 @@ async function toApiError(res: Response): Promise<KeelsonApiError> {
   return new KeelsonApiError(codeForStatus(res.status), `The server answered ${res.status} ${res.statusText || ''}`.trim(), undefined, res.status);
 }
 
-async function send(path: string, method: HttpMethod, body: unknown, signal?: AbortSignal): Promise<Response> {
-  const headers: Record<string, string> = { accept: 'application/json' };
+async function send(path: string, method: HttpMethod, body: unknown, signal?: AbortSignal, extra?: Readonly<Record<string, string>>): Promise<Response> {
+  const headers: Record<string, string> = { ...extra, accept: 'application/json' };
   if (method !== 'GET') headers['x-csrf-token'] = await fetchCsrfToken();
   let payload: BodyInit | undefined;
   if (body instanceof FormData) payload = body;
@@ -97,12 +99,12 @@ async function send(path: string, method: HttpMethod, body: unknown, signal?: Ab
 /** Calls `/api/v1${path}`; resolves with the parsed body, rejects with a `KeelsonApiError`. */
 export async function apiRequest<T = void>(path: string, opts: ApiRequestOptions<T> = {}): Promise<T> {
   const method = opts.method ?? 'GET';
-  let res = await send(path, method, opts.body, opts.signal);
+  let res = await send(path, method, opts.body, opts.signal, opts.headers);
   if (res.status === 403 && method !== 'GET') {
     const err = await toApiError(res.clone());
     if (err.code === 'csrf_invalid') {
       resetCsrfToken();
-      res = await send(path, method, opts.body, opts.signal);
+      res = await send(path, method, opts.body, opts.signal, opts.headers);
     }
   }
   if (!res.ok) throw await toApiError(res);
