@@ -51,7 +51,8 @@ function cellText(c: Cell): string {
 function Grid({ label, head, rows }: { label: string; head: string[]; rows: GridRow[] }) {
   const [w, setW] = useState(0);
   const widths = head.slice(1).map((h, j) => {
-    const num = Math.max(0, ...rows.map((r) => cellText(r.cells[j]!).length + 1)) * MONO_PX + 2;
+    // The marker glyph ◆ comes from a fallback face, wider than a mono cell.
+    const num = Math.max(0, ...rows.map((r) => cellText(r.cells[j]!).length * MONO_PX + (typeof r.cells[j] !== 'string' && r.cells[j]!.marker && r.cells[j]!.marker !== '*' ? 16 : MONO_PX))) + 2;
     const word = Math.max(...h.split(/\s+/).map((x) => x.length)) * LABEL_PX + 2;
     return Math.ceil(Math.max(num, word, 28));
   });
@@ -60,7 +61,7 @@ function Grid({ label, head, rows }: { label: string; head: string[]; rows: Grid
   const onLayout = (e: LayoutChangeEvent) => setW(Math.floor(e.nativeEvent.layout.width));
   const numberCells = (cells: ReactNode[], isHead: boolean) =>
     cells.map((c, j) => (
-      <View key={j} role={isHead ? 'columnheader' : 'cell'} style={{ width: widths[j], flexShrink: 0, alignItems: 'flex-end' }}>
+      <View key={j} role={isHead ? 'columnheader' : 'cell'} style={{ minWidth: widths[j], flexShrink: 0, alignItems: 'flex-end' }}>
         {c}
       </View>
     ));
@@ -232,8 +233,8 @@ function FrequencyChart({ result }: { result: SubsetSweepResult }) {
       >
         {w > 0 && n > 0 ? (
           <VictoryChart horizontal width={w} height={height} padding={pad} domain={{ x: [-0.6, n - 0.4], y: [0, 100] }}>
-            <VictoryAxis crossAxis={false} tickValues={sorted.map((_, i) => n - 1 - i)} tickFormat={(t: number) => names[n - 1 - Math.round(t)] ?? ''} style={{ ...style, grid: { stroke: 'none' } }} />
-            <VictoryAxis dependentAxis crossAxis={false} tickValues={[0, 25, 50, 75, 100]} tickFormat={(t: number) => `${t}%`} style={style} />
+            <VictoryAxis crossAxis={false} offsetX={pad.left} tickValues={sorted.map((_, i) => n - 1 - i)} tickFormat={(t: number) => names[n - 1 - Math.round(t)] ?? ''} style={{ ...style, grid: { stroke: 'none' } }} />
+            <VictoryAxis dependentAxis crossAxis={false} offsetY={pad.bottom} tickValues={[0, 25, 50, 75, 100]} tickFormat={(t: number) => `${t}%`} style={style} />
             <VictoryBar
               data={sorted.map((f, i) => ({ x: n - 1 - i, y: f.share * 100 }))}
               barWidth={12}
@@ -296,11 +297,12 @@ function FactorWindowChart({ result, k, what }: { result: RollingResult; k: numb
               <VictoryLine data={data.map((d) => ({ x: d.x, y: d.y }))} style={{ data: { stroke: colors.ink, strokeWidth: 1.5 } }} />
               <VictoryAxis
                 crossAxis={false}
+                offsetY={ROLL_PAD.bottom}
                 style={{ ...axisStyle, tickLabels: { ...axisStyle.tickLabels, padding: 6, textAnchor: edgeAnchor } }}
                 tickValues={ticks}
                 tickFormat={(t: number) => data[t]?.label ?? ''}
               />
-              <VictoryAxis dependentAxis crossAxis={false} style={axisStyle} tickValues={y.ticks} tickFormat={(t: number) => formatTick(t, y.step)} />
+              <VictoryAxis dependentAxis crossAxis={false} offsetX={ROLL_PAD.left} style={axisStyle} tickValues={y.ticks} tickFormat={(t: number) => formatTick(t, y.step)} />
             </VictoryChart>
           </View>
           <ChartDownload

@@ -213,11 +213,12 @@ export function LibraryChart({
           <VictoryChart width={w} height={height} scale={{ x: 'linear', y: log ? 'log' : 'linear' }} padding={pad} domain={{ x: [0, dates.length - 1], y: yDomain }}>
             <VictoryAxis
               crossAxis={false}
+              offsetY={pad.bottom}
               tickValues={dateIdx}
               tickFormat={(t: number) => dates[Math.round(t)] ?? ''}
               style={{ ...axisStyle, tickLabels: { ...axisStyle.tickLabels, padding: 6, textAnchor: edgeAnchor } }}
             />
-            <VictoryAxis dependentAxis crossAxis={false} tickValues={yTicks} tickFormat={yLabel} style={axisStyle} />
+            <VictoryAxis dependentAxis crossAxis={false} offsetX={pad.left} tickValues={yTicks} tickFormat={yLabel} style={axisStyle} />
             {data.map((d, i) => (
               <VictoryLine key={d.name} data={d.pts} style={{ data: { stroke: LINES[i]!.stroke, strokeWidth: 1.6, strokeDasharray: LINES[i]!.dash } }} />
             ))}

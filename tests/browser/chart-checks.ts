@@ -14,7 +14,7 @@ export interface ChartLabels {
   overlaps: string[];
   /** Labels that reach outside the SVG's box. */
   outside: string[];
-  /** Labels that look like dates and sit above the bottom band of the chart. */
+  /** Labels that look like dates and sit above the plot's bottom line (the lowest value label). */
   datesAboveBottom: string[];
 }
 
@@ -37,7 +37,11 @@ export async function chartLabels(chart: Locator): Promise<ChartLabels> {
       }
     }
     const outside = items.filter((x) => x.r.left < box.left - 0.5 || x.r.right > box.right + 0.5 || x.r.top < box.top - 0.5 || x.r.bottom > box.bottom + 0.5).map((x) => x.text);
-    const datesAboveBottom = items.filter((x) => /^\d{4}-\d{2}/.test(x.text) && x.r.top < box.bottom - 40).map((x) => x.text);
+    // Dates belong under the plot: below the middle of the lowest value label (the plot's bottom line).
+    const isDate = (t: string) => /^\d{4}-\d{2}/.test(t);
+    const values = items.filter((x) => !isDate(x.text) && /\d/.test(x.text));
+    const floor = Math.max(...values.map((x) => (x.r.top + x.r.bottom) / 2));
+    const datesAboveBottom = items.filter((x) => isDate(x.text) && x.r.top < floor).map((x) => `${x.text} (top ${Math.round(x.r.top - floor)} px from the plot's bottom)`);
     return { texts: items.map((x) => x.text), overlaps, outside, datesAboveBottom };
   });
 }

@@ -185,8 +185,8 @@ describe('deep checks in the browser', () => {
     await show.click();
     await panel.getByRole('img', { name: /^b of .+, by window$/ }).first().waitFor();
     await panel.getByRole('img', { name: /^b of .+, by window$/ }).first().scrollIntoViewIfNeeded();
-    expect(await expectReadableRollingCharts(page)).toBeGreaterThan(0);
     await shot(page, 'deep-checks-rolling-phone');
+    expect(await expectReadableRollingCharts(page)).toBeGreaterThan(0);
     const overflow = await page.evaluate(() => document.documentElement.scrollWidth - window.innerWidth);
     expect(overflow).toBeLessThanOrEqual(1);
 

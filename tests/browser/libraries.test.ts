@@ -224,7 +224,7 @@ describe('return libraries', () => {
     await page.getByRole('button', { name: 'Confirm new edition' }).click();
     await page.waitForURL(/\/libraries\/\d+\?edition=2/);
     await page.getByRole('heading', { name: 'Edition 2' }).waitFor();
-    await expect(page.getByRole('table', { name: 'Series' }).getByText('Factor (not traded)').count()).resolves.toBeGreaterThan(0);
+    await page.getByText('Factor (not traded)').first().waitFor();
     const overflow = await page.evaluate(() => document.documentElement.scrollWidth - window.innerWidth);
     expect(overflow).toBeLessThanOrEqual(1);
     expectSameOrigin(requests);
