@@ -233,8 +233,8 @@ function FrequencyChart({ result }: { result: SubsetSweepResult }) {
       >
         {w > 0 && n > 0 ? (
           <VictoryChart horizontal width={w} height={height} padding={pad} domain={{ x: [-0.6, n - 0.4], y: [0, 100] }}>
-            <VictoryAxis crossAxis={false} offsetX={pad.left} tickValues={sorted.map((_, i) => n - 1 - i)} tickFormat={(t: number) => names[n - 1 - Math.round(t)] ?? ''} style={{ ...style, grid: { stroke: 'none' } }} />
-            <VictoryAxis dependentAxis crossAxis={false} offsetY={pad.bottom} tickValues={[0, 25, 50, 75, 100]} tickFormat={(t: number) => `${t}%`} style={style} />
+            <VictoryAxis crossAxis={false} orientation="left" offsetX={pad.left} tickValues={sorted.map((_, i) => n - 1 - i)} tickFormat={(t: number) => names[n - 1 - Math.round(t)] ?? ''} style={{ ...style, grid: { stroke: 'none' } }} />
+            <VictoryAxis dependentAxis crossAxis={false} orientation="bottom" offsetY={pad.bottom} tickValues={[0, 25, 50, 75, 100]} tickFormat={(t: number) => `${t}%`} style={style} />
             <VictoryBar
               data={sorted.map((f, i) => ({ x: n - 1 - i, y: f.share * 100 }))}
               barWidth={12}
@@ -297,12 +297,13 @@ function FactorWindowChart({ result, k, what }: { result: RollingResult; k: numb
               <VictoryLine data={data.map((d) => ({ x: d.x, y: d.y }))} style={{ data: { stroke: colors.ink, strokeWidth: 1.5 } }} />
               <VictoryAxis
                 crossAxis={false}
+                orientation="bottom"
                 offsetY={ROLL_PAD.bottom}
-                style={{ ...axisStyle, tickLabels: { ...axisStyle.tickLabels, padding: 6, textAnchor: edgeAnchor } }}
+                style={{ ...axisStyle, tickLabels: { ...axisStyle.tickLabels, padding: 6, textAnchor: edgeAnchor(data.length) } }}
                 tickValues={ticks}
                 tickFormat={(t: number) => data[t]?.label ?? ''}
               />
-              <VictoryAxis dependentAxis crossAxis={false} offsetX={ROLL_PAD.left} style={axisStyle} tickValues={y.ticks} tickFormat={(t: number) => formatTick(t, y.step)} />
+              <VictoryAxis dependentAxis crossAxis={false} orientation="left" offsetX={ROLL_PAD.left} style={axisStyle} tickValues={y.ticks} tickFormat={(t: number) => formatTick(t, y.step)} />
             </VictoryChart>
           </View>
           <ChartDownload

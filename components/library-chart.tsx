@@ -55,19 +55,25 @@ export function formatTick(v: number, step: number): string {
 }
 
 /**
- * Indices of `n` points to label on a horizontal axis `plotWidth` px wide with labels of about
- * `labelPx` px: as many as fit with a gap, evenly spread, first and last included.
+ * Indices of `n` evenly spaced points (0 … n−1 across `plotWidth` px) to label with labels about
+ * `labelPx` wide: the first label starts at its point, the last ends at its point, the others are
+ * centred (see `edgeAnchor`); labels are kept left to right at a common step whenever they leave
+ * `gap` px to the previous one, and the last point is labelled too (dropping the one before it if
+ * they would touch).
  */
 export function labelIndices(n: number, plotWidth: number, labelPx: number, gap = 16): number[] {
   if (n <= 0) return [];
   if (n === 1) return [0];
-  const fit = Math.max(2, Math.floor((plotWidth + gap) / (labelPx + gap)));
-  const m = Math.min(n, fit);
-  const out: number[] = [];
-  for (let i = 0; i < m; i++) {
-    const k = Math.round((i * (n - 1)) / (m - 1));
-    if (out[out.length - 1] !== k) out.push(k);
-  }
+  const per = plotWidth / (n - 1);
+  const span = (i: number): [number, number] => {
+    const x = i * per;
+    return i === 0 ? [x, x + labelPx] : i === n - 1 ? [x - labelPx, x] : [x - labelPx / 2, x + labelPx / 2];
+  };
+  const step = Math.max(1, Math.ceil((labelPx + gap) / per));
+  const out: number[] = [0];
+  for (let i = step; i < n - 1; i += step) if (span(i)[0] >= span(out[out.length - 1]!)[1] + gap) out.push(i);
+  while (out.length > 1 && span(n - 1)[0] < span(out[out.length - 1]!)[1] + gap) out.pop();
+  if (span(n - 1)[0] >= span(out[out.length - 1]!)[1] + gap) out.push(n - 1);
   return out;
 }
 
@@ -76,12 +82,12 @@ export function monoWidth(label: string, fontSize: number): number {
   return Math.ceil(label.length * fontSize * 0.6);
 }
 
-/** Edge labels anchored inward (first at its start, last at its end), so none hangs past the plot or onto the y labels. */
-export function edgeAnchor(props: { index?: number | string; ticks?: readonly unknown[] }): 'start' | 'middle' | 'end' {
-  const i = Number(props.index ?? 0);
-  const n = props.ticks?.length ?? 0;
-  if (n <= 1) return 'middle';
-  return i === 0 ? 'start' : i === n - 1 ? 'end' : 'middle';
+/** Text anchors for the labels of points 0 … n−1: the first starts at its point, the last ends at it (none hangs past the plot or onto the y labels). */
+export function edgeAnchor(n: number) {
+  return (props: { tick?: unknown }): 'start' | 'middle' | 'end' => {
+    const t = Number(props.tick);
+    return t === 0 ? 'start' : t === n - 1 ? 'end' : 'middle';
+  };
 }
 
 export interface ChartSeries {
@@ -213,12 +219,13 @@ export function LibraryChart({
           <VictoryChart width={w} height={height} scale={{ x: 'linear', y: log ? 'log' : 'linear' }} padding={pad} domain={{ x: [0, dates.length - 1], y: yDomain }}>
             <VictoryAxis
               crossAxis={false}
+              orientation="bottom"
               offsetY={pad.bottom}
               tickValues={dateIdx}
               tickFormat={(t: number) => dates[Math.round(t)] ?? ''}
-              style={{ ...axisStyle, tickLabels: { ...axisStyle.tickLabels, padding: 6, textAnchor: edgeAnchor } }}
+              style={{ ...axisStyle, tickLabels: { ...axisStyle.tickLabels, padding: 6, textAnchor: edgeAnchor(dates.length) } }}
             />
-            <VictoryAxis dependentAxis crossAxis={false} offsetX={pad.left} tickValues={yTicks} tickFormat={yLabel} style={axisStyle} />
+            <VictoryAxis dependentAxis crossAxis={false} orientation="left" offsetX={pad.left} tickValues={yTicks} tickFormat={yLabel} style={axisStyle} />
             {data.map((d, i) => (
               <VictoryLine key={d.name} data={d.pts} style={{ data: { stroke: LINES[i]!.stroke, strokeWidth: 1.6, strokeDasharray: LINES[i]!.dash } }} />
             ))}
