@@ -23,7 +23,8 @@ beforeAll(async () => {
   a = await agentsForAllRoles(t.app);
   await createUser(t.db, { email: 'third@keelson.test', name: 'Third Researcher', role: 'researcher', password: 'keelson-demo' });
   other = await anonymousAgent(t.app);
-  await other.post('/api/v1/auth/login').set('x-csrf-token', other.csrf).send({ email: 'third@keelson.test', password: 'keelson-demo' }).expect(200);
+  // The CSRF token rotates on sign-in.
+  other.csrf = (await other.post('/api/v1/auth/login').set('x-csrf-token', other.csrf).send({ email: 'third@keelson.test', password: 'keelson-demo' }).expect(200)).body.csrfToken;
 });
 afterAll(() => t.close());
 
