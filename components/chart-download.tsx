@@ -16,6 +16,8 @@ export interface ChartLegendEntry {
   label: string;
   stroke: string;
   dash?: string;
+  /** Line width in the legend sample (a band reads better as a thick line); default 2. */
+  width?: number;
 }
 
 export interface ChartDownloadProps {
@@ -95,7 +97,7 @@ export function chartSvgMarkup(svg: SVGSVGElement, opts: { title?: string; legen
     const y = titleH + height + 14 + i * 20;
     for (const { entry, x: ex } of r) {
       parts.push(
-        `<line x1="${ex}" y1="${y - 4}" x2="${ex + 26}" y2="${y - 4}" stroke="${esc(entry.stroke)}" stroke-width="2"${entry.dash ? ` stroke-dasharray="${esc(entry.dash)}"` : ''}/>`,
+        `<line x1="${ex}" y1="${y - 4}" x2="${ex + 26}" y2="${y - 4}" stroke="${esc(entry.stroke)}" stroke-width="${entry.width ?? 2}"${entry.dash ? ` stroke-dasharray="${esc(entry.dash)}"` : ''}/>`,
         `<text x="${ex + 32}" y="${y}" font-size="12" fill="${colors.ink}" style="font-family: ${sans};">${esc(entry.label)}</text>`,
       );
     }

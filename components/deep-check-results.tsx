@@ -280,7 +280,7 @@ function FactorWindowChart({ result, k, what }: { result: RollingResult; k: numb
   const y = niceTicks(Math.min(...finite, 0), Math.max(...finite, 0), Math.max(3, Math.floor(plotH / 30)), true);
   const legend = [
     { label: `${what === 'b' ? 'b' : 'λ'} estimate`, stroke: colors.ink },
-    { label: `±${result.z.toFixed(2)} standard errors`, stroke: colors.brassTint },
+    { label: `±${result.z.toFixed(2)} standard errors`, stroke: colors.brassTint, width: 10 },
     { label: 'zero', stroke: colors.fog, dash: '4,4' },
   ];
   return (

@@ -3,7 +3,9 @@
  * another or leave their SVG, date labels off the bottom edge, a missing 0 tick, clipped table
  * cells and words broken across lines.
  */
-import { readFileSync } from 'node:fs';
+import { readFileSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { SCREENSHOT_DIR } from './helpers';
 import type { Locator, Page } from 'playwright-core';
 import { expect } from 'vitest';
 
@@ -127,4 +129,7 @@ export async function expectChartDownloads(page: Page, scope: Locator, title: st
   expect(png.bytes.readUInt32BE(16)).toBe(2 * w);
   expect(png.bytes.readUInt32BE(20)).toBe(2 * h);
   expect(png.bytes.length).toBeGreaterThan(2000);
+  // Kept beside the screenshots, to look at.
+  writeFileSync(join(SCREENSHOT_DIR, `download-${png.name}`), png.bytes);
+  writeFileSync(join(SCREENSHOT_DIR, `download-${svg.name}`), svg.bytes);
 }
