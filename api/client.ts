@@ -24,6 +24,8 @@ export interface ApiRequestOptions<T> {
   signal?: AbortSignal;
   /** Sent as `Idempotency-Key`; one fresh key per user action (see `newIdempotencyKey`). */
   idempotencyKey?: string;
+  /** Extra request headers. */
+  headers?: Readonly<Record<string, string>>;
 }
 
 /**
@@ -103,8 +105,15 @@ async function toApiError(res: Response): Promise<KeelsonApiError> {
   return new KeelsonApiError(codeForStatus(res.status), `The server answered ${res.status} ${res.statusText || ''}`.trim(), undefined, res.status);
 }
 
-async function send(path: string, method: HttpMethod, body: unknown, signal?: AbortSignal, idempotencyKey?: string): Promise<Response> {
-  const headers: Record<string, string> = { accept: 'application/json' };
+async function send(
+  path: string,
+  method: HttpMethod,
+  body: unknown,
+  signal?: AbortSignal,
+  idempotencyKey?: string,
+  extra?: Readonly<Record<string, string>>,
+): Promise<Response> {
+  const headers: Record<string, string> = { ...extra, accept: 'application/json' };
   if (method !== 'GET') headers['x-csrf-token'] = await fetchCsrfToken();
   if (idempotencyKey) headers['idempotency-key'] = idempotencyKey;
   let payload: BodyInit | undefined;
@@ -124,12 +133,12 @@ async function send(path: string, method: HttpMethod, body: unknown, signal?: Ab
 /** Calls `/api/v1${path}`; resolves with the parsed body, rejects with a `KeelsonApiError`. */
 export async function apiRequest<T = void>(path: string, opts: ApiRequestOptions<T> = {}): Promise<T> {
   const method = opts.method ?? 'GET';
-  let res = await send(path, method, opts.body, opts.signal, opts.idempotencyKey);
+  let res = await send(path, method, opts.body, opts.signal, opts.idempotencyKey, opts.headers);
   if (res.status === 403 && method !== 'GET') {
     const err = await toApiError(res.clone());
     if (err.code === 'csrf_invalid') {
       resetCsrfToken();
-      res = await send(path, method, opts.body, opts.signal, opts.idempotencyKey);
+      res = await send(path, method, opts.body, opts.signal, opts.idempotencyKey, opts.headers);
     }
   }
   if (!res.ok) throw await toApiError(res);

@@ -35,9 +35,10 @@ export function exportUrl(id: number, n: number): string {
   return `/api/v1/libraries/${id}/editions/${n}/export.csv`;
 }
 
-/** Uploads a CSV (a web File/Blob) for review. */
-export async function uploadLibraryFile(file: Blob, fileName: string) {
+/** Uploads a CSV (a web File/Blob) for review; with `libraryId` as that library's next edition (kinds carried over). */
+export async function uploadLibraryFile(file: Blob, fileName: string, libraryId?: number) {
   const form = new FormData();
+  if (libraryId !== undefined) form.append('libraryId', String(libraryId));
   form.append('file', file, fileName);
   return (await apiRequest('/libraries/uploads', { method: 'POST', body: form, schema: uploadResponseSchema })).upload;
 }
@@ -56,6 +57,10 @@ export async function confirmUpload(id: string, body: ConfirmUploadBody) {
 
 export async function publishLibrary(id: number) {
   return (await apiRequest(`/libraries/${id}/publish`, { method: 'POST', body: {}, schema: libraryResponseSchema })).library;
+}
+
+export async function unpublishLibrary(id: number) {
+  return (await apiRequest(`/libraries/${id}/unpublish`, { method: 'POST', body: {}, schema: libraryResponseSchema })).library;
 }
 
 export async function archiveLibrary(id: number, archived: boolean) {

@@ -3,30 +3,120 @@
  * sweep's best models per size and factor frequencies; rolling-window estimates as one chart per
  * factor with a band of ±z standard errors (victory, web SVG).
  */
-import { useState } from 'react';
+import { useRef, useState, type ReactNode } from 'react';
 import { Text, View, type LayoutChangeEvent } from 'react-native';
-import { VictoryArea, VictoryAxis, VictoryChart, VictoryLine } from 'victory';
+import { VictoryArea, VictoryAxis, VictoryBar, VictoryChart, VictoryLine } from 'victory';
 import type { BootstrapResult, RollingResult, SubsetSweepResult } from '../lib/gmm/index';
 import type { Job } from '../shared/jobs';
 import { Caution } from './caution';
+import { ChartDownload } from './chart-download';
+import { edgeAnchor, formatTick, labelIndices, monoWidth, niceTicks } from './library-chart';
 import { Num, formatNum } from './num';
 import { Select } from './select';
 import { colors, fonts, space, text } from './theme';
 
-const cell = { flex: 1, minWidth: 64 } as const;
+/** A number cell: formatted with fixed decimals, optionally marked (weight + glyph). */
+interface NumCell {
+  value: number | null | undefined;
+  decimals: number;
+  marked?: boolean;
+  marker?: string;
+}
+type Cell = NumCell | string;
 
-function Row({ cells, head, label }: { cells: React.ReactNode[]; head?: boolean; label?: string }) {
-  return (
-    <View
-      role="row"
-      aria-label={label}
-      style={{ flexDirection: 'row', gap: space.sm, paddingVertical: 4, borderBottomWidth: 1, borderBottomColor: head ? colors.ink : colors.rule }}
-    >
-      {cells.map((c, i) => (
-        <View key={i} role={head ? 'columnheader' : 'cell'} style={[cell, i === 0 ? { flex: 1.6 } : { alignItems: 'flex-end' }]}>
-          {typeof c === 'string' ? <Text style={head ? text.label : text.body}>{c}</Text> : c}
+interface GridRow {
+  key: string;
+  label: string;
+  /** First cell: the names (wraps at spaces); then one cell per number column. */
+  name: string;
+  cells: Cell[];
+}
+
+const GAP = space.sm;
+/** IBM Plex Mono at 15 px advances 9 px a character; Inter semibold at 13 px about 7.3 px. */
+const MONO_PX = 9;
+const LABEL_PX = 7.3;
+const NAME_MIN = 128;
+
+function cellText(c: Cell): string {
+  return typeof c === 'string' ? c : formatNum(c.value, c.decimals);
+}
+
+/**
+ * A results table whose number columns are as wide as their widest entry (never clipped, never
+ * shrunk) and whose first column takes the rest, wrapping names at spaces. When the numbers and a
+ * readable name column do not fit side by side (phones), each row puts its names on a line of their
+ * own with the numbers below, still in their columns.
+ */
+function Grid({ label, head, rows }: { label: string; head: string[]; rows: GridRow[] }) {
+  const [w, setW] = useState(0);
+  const widths = head.slice(1).map((h, j) => {
+    // The marker glyph ◆ comes from a fallback face, wider than a mono cell.
+    const num = Math.max(0, ...rows.map((r) => cellText(r.cells[j]!).length * MONO_PX + (typeof r.cells[j] !== 'string' && r.cells[j]!.marker && r.cells[j]!.marker !== '*' ? 16 : MONO_PX))) + 2;
+    const word = Math.max(...h.split(/\s+/).map((x) => x.length)) * LABEL_PX + 2;
+    return Math.ceil(Math.max(num, word, 28));
+  });
+  const numbers = widths.reduce((a, b) => a + b, 0) + GAP * widths.length;
+  const stacked = w > 0 && w < NAME_MIN + numbers;
+  const onLayout = (e: LayoutChangeEvent) => setW(Math.floor(e.nativeEvent.layout.width));
+  const numberCells = (cells: ReactNode[], isHead: boolean) =>
+    cells.map((c, j) => (
+      <View key={j} role={isHead ? 'columnheader' : 'cell'} style={{ minWidth: widths[j], flexShrink: 0, alignItems: 'flex-end' }}>
+        {c}
+      </View>
+    ));
+  const line = (name: ReactNode, cells: ReactNode[], isHead: boolean, key: string, aria?: string) => {
+    const border = { borderBottomWidth: 1, borderBottomColor: isHead ? colors.ink : colors.rule, paddingVertical: 4 };
+    const nameCell = (
+      <View role={isHead ? 'columnheader' : 'cell'} style={stacked ? undefined : { flex: 1, minWidth: 0 }}>
+        {name}
+      </View>
+    );
+    if (!stacked) {
+      return (
+        <View key={key} role="row" aria-label={aria} style={[{ flexDirection: 'row', gap: GAP }, border]}>
+          {nameCell}
+          {numberCells(cells, isHead)}
         </View>
-      ))}
+      );
+    }
+    return (
+      <View key={key} role="row" aria-label={aria} style={[{ gap: 2 }, border]}>
+        {nameCell}
+        <View style={{ flexDirection: 'row', gap: GAP, justifyContent: 'flex-end' }}>{numberCells(cells, isHead)}</View>
+      </View>
+    );
+  };
+  return (
+    <View role="table" aria-label={label} onLayout={onLayout}>
+      {line(
+        <Text style={text.label}>{head[0]}</Text>,
+        head.slice(1).map((h) => (
+          <Text key={h} style={[text.label, { textAlign: 'right' }]}>
+            {h}
+          </Text>
+        )),
+        true,
+        'head',
+      )}
+      {rows.map((r) =>
+        line(
+          <Text style={text.body}>{r.name}</Text>,
+          r.cells.map((c, j) =>
+            typeof c === 'string' ? (
+              <Text key={j} style={[text.num, { textAlign: 'right' }]}>
+                {c}
+                {' '}
+              </Text>
+            ) : (
+              <Num key={j} value={c.value} decimals={c.decimals} marked={c.marked} marker={c.marker} />
+            ),
+          ),
+          false,
+          r.key,
+          r.label,
+        ),
+      )}
     </View>
   );
 }
@@ -45,16 +135,22 @@ export function BootstrapResultView({ result }: { result: BootstrapResult }) {
         {result.validDraws} of {result.draws} draws used ({result.scheme === 'block' ? `moving blocks of ${result.blockLength}` : 'iid'}, seed {result.seed}, T ={' '}
         {result.T}, {result.stage} stage). p-values marked * are below {P_MARK}.
       </Text>
-      <View role="table" aria-label="Bootstrap p-values">
-        <Row head cells={['test', 'statistic', 'asymptotic p', 'bootstrap p', 'bootstrap 5% critical']} />
-        {rows.map((r) => (
-          <Row
-            key={r.name}
-            label={r.name}
-            cells={[r.name, <Num key="s" value={r.stat} decimals={3} />, <Num key="a" value={r.asy} decimals={3} marked={r.asy < P_MARK} />, <Num key="b" value={r.boot} decimals={3} marked={r.boot < P_MARK} />, <Num key="c" value={r.crit} decimals={3} />]}
-          />
-        ))}
-      </View>
+      <Grid
+        label="Bootstrap p-values"
+        head={['test', 'statistic', 'p', 'bootstrap p', '5% critical']}
+        rows={rows.map((r) => ({
+          key: r.name,
+          label: r.name,
+          name: r.name,
+          cells: [
+            { value: r.stat, decimals: 3 },
+            { value: r.asy, decimals: 3, marked: r.asy < P_MARK },
+            { value: r.boot, decimals: 3, marked: r.boot < P_MARK },
+            { value: r.crit, decimals: 3 },
+          ],
+        }))}
+      />
+      <Text style={text.muted}>p: asymptotic (χ² or normal); bootstrap p and the 5% critical value come from the draws.</Text>
       {result.notes.map((n) => (
         <Text key={n} style={text.muted}>
           {n}
@@ -76,57 +172,95 @@ export function SweepResultView({ result }: { result: SubsetSweepResult }) {
       <View style={{ gap: space.xs }}>
         <Text style={text.strong}>Smallest models the drop test does not reject at {result.level}</Text>
         {result.adequate.length === 0 ? <Text style={text.muted}>Every smaller model is rejected against the full model.</Text> : null}
-        <View role="table" aria-label="Adequate models">
-          {result.adequate.length ? <Row head cells={['factors', 'HJ', 'drop χ²', 'df', 'p']} /> : null}
-          {result.adequate.map((m) => (
-            <Row key={m.factors.join('+')} label={m.factors.join(' + ')} cells={[m.factors.join(' + '), <Num key="h" value={m.hj} decimals={4} />, <Num key="d" value={m.drop} decimals={2} />, String(m.df), <Num key="p" value={m.p} decimals={3} />]} />
-          ))}
-        </View>
+        {result.adequate.length ? (
+          <Grid
+            label="Adequate models"
+            head={['factors', 'HJ', 'drop χ²', 'df', 'p']}
+            rows={result.adequate.map((m) => ({
+              key: m.factors.join('+'),
+              label: m.factors.join(' + '),
+              name: m.factors.join(' + '),
+              cells: [{ value: m.hj, decimals: 4 }, { value: m.drop, decimals: 2 }, String(m.df), { value: m.p, decimals: 3 }],
+            }))}
+          />
+        ) : null}
       </View>
       <View style={{ gap: space.xs }}>
         <Text style={text.strong}>Best models of each size by HJ distance</Text>
-        <View role="table" aria-label="Best models by HJ distance">
-          <Row head cells={['size · factors', 'HJ', 'drop χ²', 'p']} />
-          {result.bestByHj.flatMap((g) =>
-            g.models.slice(0, 3).map((m, i) => (
-              <Row
-                key={`${g.size}-${m.factors.join('+')}`}
-                label={m.factors.join(' + ')}
-                cells={[`${i === 0 ? `${g.size}: ` : '   '}${m.factors.join(' + ')}`, <Num key="h" value={m.hj} decimals={4} marked={i === 0} marker="◆" />, <Num key="d" value={m.drop} decimals={2} />, <Num key="p" value={m.p} decimals={3} />]}
-              />
-            )),
+        <Grid
+          label="Best models by HJ distance"
+          head={['size · factors', 'HJ', 'drop χ²', 'p']}
+          rows={result.bestByHj.flatMap((g) =>
+            g.models.slice(0, 3).map((m, i) => ({
+              key: `${g.size}-${m.factors.join('+')}`,
+              label: m.factors.join(' + '),
+              name: `${i === 0 ? `${g.size}: ` : '   '}${m.factors.join(' + ')}`,
+              cells: [{ value: m.hj, decimals: 4, marked: i === 0, marker: '◆' }, { value: m.drop, decimals: 2 }, { value: m.p, decimals: 3 }],
+            })),
           )}
-        </View>
+        />
+        <Text style={text.muted}>◆ the smallest HJ distance of its size.</Text>
       </View>
       <View style={{ gap: space.xs }}>
         <Text style={text.strong}>How often each factor is among the best models</Text>
-        {[...result.factorFrequency]
-          .sort((a, b) => b.share - a.share)
-          .map((f) => (
-            <View key={f.name} style={{ flexDirection: 'row', alignItems: 'center', gap: space.sm }} aria-label={`${f.name}: ${Math.round(f.share * 100)}%`}>
-              <Text style={[text.body, { width: 96 }]} numberOfLines={1}>
-                {f.name}
-              </Text>
-              <View style={{ flex: 1, height: 10, backgroundColor: colors.paper, borderWidth: 1, borderColor: colors.rule }}>
-                <View style={{ width: `${f.share * 100}%`, height: '100%', backgroundColor: colors.slate }} />
-              </View>
-              <Text style={[text.num, { width: 48, textAlign: 'right' }]}>{Math.round(f.share * 100)}%</Text>
-            </View>
-          ))}
+        <FrequencyChart result={result} />
       </View>
       <Caution>Which factors a sweep prefers is evidence about these assets and this sample, not investment advice.</Caution>
     </View>
   );
 }
 
+/** Share of the best models (per size) that hold each factor, as horizontal bars with their percent. */
+function FrequencyChart({ result }: { result: SubsetSweepResult }) {
+  const [w, setW] = useState(0);
+  const ref = useRef<View>(null);
+  const sorted = [...result.factorFrequency].sort((a, b) => b.share - a.share);
+  const n = sorted.length;
+  const font = 11;
+  const maxName = Math.max(4, Math.floor((w * 0.4) / (font * 0.6)));
+  const names = sorted.map((f) => (f.name.length > maxName ? `${f.name.slice(0, maxName - 1)}…` : f.name));
+  const left = Math.min(Math.ceil(w * 0.4), Math.max(...names.map((x) => monoWidth(x, font)))) + 12;
+  const pad = { top: 8, bottom: 28, left, right: 44 };
+  const height = pad.top + pad.bottom + Math.max(2, n) * 24;
+  const style = { ...axisStyle, tickLabels: { ...axisStyle.tickLabels, fontSize: font } };
+  return (
+    <View style={{ gap: space.xs }}>
+      <View
+        ref={ref}
+        role="img"
+        aria-label={`Factor frequency: ${sorted.map((f) => `${f.name} ${Math.round(f.share * 100)}%`).join(', ')}`}
+        onLayout={(e) => setW(Math.floor(e.nativeEvent.layout.width))}
+      >
+        {w > 0 && n > 0 ? (
+          <VictoryChart horizontal width={w} height={height} padding={pad} domain={{ x: [-0.6, n - 0.4], y: [0, 100] }}>
+            <VictoryAxis crossAxis={false} orientation="left" offsetX={pad.left} tickValues={sorted.map((_, i) => n - 1 - i)} tickFormat={(t: number) => names[n - 1 - Math.round(t)] ?? ''} style={{ ...style, grid: { stroke: 'none' } }} />
+            <VictoryAxis dependentAxis crossAxis={false} orientation="bottom" offsetY={pad.bottom} tickValues={[0, 25, 50, 75, 100]} tickFormat={(t: number) => `${t}%`} style={style} />
+            <VictoryBar
+              data={sorted.map((f, i) => ({ x: n - 1 - i, y: f.share * 100 }))}
+              barWidth={12}
+              labels={({ datum }: { datum: { y: number } }) => `${Math.round(datum.y)}%`}
+              style={{ data: { fill: colors.slate }, labels: { fontFamily: fonts.mono, fontSize: font, fill: colors.ink } }}
+            />
+          </VictoryChart>
+        ) : null}
+      </View>
+      <ChartDownload target={ref} fileName="subset-sweep-factor-frequency" title="How often each factor is among the best models" note={`${result.models} models on ${result.N} test assets, T = ${result.T}.`} />
+    </View>
+  );
+}
+
+const AXIS_FONT = 10;
 const axisStyle = {
   axis: { stroke: colors.rule },
-  tickLabels: { fill: colors.slate, fontSize: 10, fontFamily: fonts.mono },
+  tickLabels: { fill: colors.slate, fontSize: AXIS_FONT, fontFamily: fonts.mono, padding: 4 },
   grid: { stroke: colors.rule, strokeDasharray: '2,4' },
 };
+const ROLL_PAD = { top: 10, bottom: 30, left: 52, right: 14 };
+const ROLL_H = 200;
 
 function FactorWindowChart({ result, k, what }: { result: RollingResult; k: number; what: 'b' | 'lambda' }) {
   const [w, setW] = useState(320);
+  const ref = useRef<View>(null);
   const onLayout = (e: LayoutChangeEvent) => setW(Math.max(240, Math.floor(e.nativeEvent.layout.width)));
   const pts = result.points.filter((p) => p.ok);
   const scale = what === 'lambda' ? 100 : 1;
@@ -137,20 +271,49 @@ function FactorWindowChart({ result, k, what }: { result: RollingResult; k: numb
   });
   const name = result.factorNames[k];
   const title = `${what === 'b' ? 'b' : 'λ (% per period)'} of ${name}`;
-  const ticks = data.length > 6 ? data.filter((_, i) => i % Math.ceil(data.length / 6) === 0).map((d) => d.x) : data.map((d) => d.x);
+  const plotW = w - ROLL_PAD.left - ROLL_PAD.right;
+  const plotH = ROLL_H - ROLL_PAD.top - ROLL_PAD.bottom;
+  const widest = Math.max(0, ...data.map((d) => monoWidth(d.label, AXIS_FONT)));
+  const ticks = labelIndices(data.length, plotW, widest);
+  // The band, the estimate and 0 all inside nice ticks; labels with the decimals the step needs.
+  const finite = data.flatMap((d) => [d.lo, d.hi, d.y]).filter((v) => Number.isFinite(v));
+  const y = niceTicks(Math.min(...finite, 0), Math.max(...finite, 0), Math.max(3, Math.floor(plotH / 30)), true);
+  const legend = [
+    { label: `${what === 'b' ? 'b' : 'λ'} estimate`, stroke: colors.ink },
+    { label: `±${result.z.toFixed(2)} standard errors`, stroke: colors.brassTint, width: 10 },
+    { label: 'zero', stroke: colors.fog, dash: '4,4' },
+  ];
   return (
-    <View style={{ flexGrow: 1, flexBasis: 320, minWidth: 0, gap: space.xs }} onLayout={onLayout} role="img" aria-label={`${title}, by window`}>
+    <View style={{ flexGrow: 1, flexBasis: 320, minWidth: 0, gap: space.xs }} onLayout={onLayout}>
       <Text style={text.strong}>{title}</Text>
       {data.length === 0 ? (
         <Text style={text.muted}>No window could be estimated.</Text>
       ) : (
-        <VictoryChart width={w} height={200} padding={{ top: 10, bottom: 36, left: 52, right: 30 }}>
-          <VictoryAxis style={axisStyle} tickValues={ticks} tickFormat={(t: number) => data[t]?.label ?? ''} />
-          <VictoryAxis dependentAxis style={axisStyle} tickFormat={(t: number) => formatNum(t, 2)} />
-          <VictoryArea data={data.map((d) => ({ x: d.x, y: d.hi, y0: d.lo }))} style={{ data: { fill: colors.brassTint, stroke: 'none' } }} />
-          <VictoryLine data={data.map((d) => ({ x: d.x, y: 0 }))} style={{ data: { stroke: colors.fog, strokeDasharray: '4,4', strokeWidth: 1 } }} />
-          <VictoryLine data={data.map((d) => ({ x: d.x, y: d.y }))} style={{ data: { stroke: colors.ink, strokeWidth: 1.5 } }} />
-        </VictoryChart>
+        <>
+          <View ref={ref} role="img" aria-label={`${title}, by window`}>
+            <VictoryChart width={w} height={ROLL_H} padding={ROLL_PAD} domain={{ x: [0, Math.max(1, data.length - 1)], y: y.domain }}>
+              <VictoryArea data={data.map((d) => ({ x: d.x, y: d.hi, y0: d.lo }))} style={{ data: { fill: colors.brassTint, stroke: 'none' } }} />
+              <VictoryLine data={[{ x: 0, y: 0 }, { x: Math.max(1, data.length - 1), y: 0 }]} style={{ data: { stroke: colors.fog, strokeDasharray: '4,4', strokeWidth: 1 } }} />
+              <VictoryLine data={data.map((d) => ({ x: d.x, y: d.y }))} style={{ data: { stroke: colors.ink, strokeWidth: 1.5 } }} />
+              <VictoryAxis
+                crossAxis={false}
+                orientation="bottom"
+                offsetY={ROLL_PAD.bottom}
+                style={{ ...axisStyle, tickLabels: { ...axisStyle.tickLabels, padding: 6, textAnchor: edgeAnchor(data.length) } }}
+                tickValues={ticks}
+                tickFormat={(t: number) => data[t]?.label ?? ''}
+              />
+              <VictoryAxis dependentAxis crossAxis={false} orientation="left" offsetX={ROLL_PAD.left} style={axisStyle} tickValues={y.ticks} tickFormat={(t: number) => formatTick(t, y.step)} />
+            </VictoryChart>
+          </View>
+          <ChartDownload
+            target={ref}
+            fileName={`rolling-${what}-${name}`}
+            title={`${title}, ${result.kind} windows of ${result.length}`}
+            legend={legend}
+            note="x: last period of each window. Statistical evidence, not investment advice."
+          />
+        </>
       )}
     </View>
   );

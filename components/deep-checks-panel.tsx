@@ -3,11 +3,14 @@
  * rolling window as a background job (researchers and admins), watch each job's progress (polled
  * every second while it runs), cancel or restart it, and read a finished job's result.
  */
-import { useState } from 'react';
+import { useRef, useState } from 'react';
 import { Text, View } from 'react-native';
-import { JOB_KIND_LABELS, type JobKind, type StartCheckBody } from '../shared/jobs';
+import { useMutation, useQueryClient } from '@tanstack/react-query';
+import { JOB_KIND_LABELS, jobResponseSchema, type Job, type JobKind, type StartCheckBody } from '../shared/jobs';
+import type { KeelsonApiError } from '../shared/errors';
+import { apiRequest } from '../api/client';
 import { useMe } from '../hooks/use-session';
-import { useJob, useJobs, useStartCheck } from '../hooks/use-jobs';
+import { jobKeys, useJob, useJobs } from '../hooks/use-jobs';
 import { Button } from './button';
 import { Card } from './card';
 import { DeepCheckResult } from './deep-check-results';
@@ -34,8 +37,50 @@ function intOrUndefined(s: string): number | undefined {
   return Number.isFinite(n) ? n : NaN;
 }
 
+/** A fresh idempotency key (random UUID; getRandomValues where randomUUID is missing, e.g. plain http). */
+export function newIdempotencyKey(): string {
+  const c = globalThis.crypto;
+  if (typeof c?.randomUUID === 'function') return c.randomUUID();
+  const b = new Uint8Array(16);
+  c.getRandomValues(b);
+  return Array.from(b, (x) => x.toString(16).padStart(2, '0')).join('');
+}
+
+/**
+ * Starts a deep check with an `Idempotency-Key`: the same key is sent again for the same request
+ * until one succeeds (a retry after a lost answer does not make a second job), and a double press
+ * while one is on its way sends nothing.
+ */
+function useStartCheckOnce(runId: number) {
+  const qc = useQueryClient();
+  const pending = useRef<{ body: string; key: string } | null>(null);
+  const inFlight = useRef(false);
+  const m = useMutation<Job, KeelsonApiError, StartCheckBody>({
+    mutationFn: async (body) => {
+      const text = JSON.stringify(body);
+      if (!pending.current || pending.current.body !== text) pending.current = { body: text, key: newIdempotencyKey() };
+      const r = await apiRequest(`/runs/${runId}/checks`, { method: 'POST', body, schema: jobResponseSchema, headers: { 'Idempotency-Key': pending.current.key } });
+      pending.current = null;
+      return r.job as Job;
+    },
+    onSuccess: (job) => {
+      qc.setQueryData(jobKeys.one(job.id), job);
+      void qc.invalidateQueries({ queryKey: ['jobs', 'list'] });
+    },
+    onSettled: () => {
+      inFlight.current = false;
+    },
+  });
+  const start = (body: StartCheckBody) => {
+    if (inFlight.current) return;
+    inFlight.current = true;
+    m.mutate(body);
+  };
+  return { ...m, start };
+}
+
 function StartForm({ runId }: { runId: number }) {
-  const start = useStartCheck(runId);
+  const start = useStartCheckOnce(runId);
   const [kind, setKind] = useState<JobKind>('bootstrap');
   const [draws, setDraws] = useState('999');
   const [scheme, setScheme] = useState<'iid' | 'block'>('iid');
@@ -61,7 +106,7 @@ function StartForm({ runId }: { runId: number }) {
     } else {
       body = { kind, params: { window: windowKind, length: intOrUndefined(length) ?? 0, step: intOrUndefined(step) ?? 12 } };
     }
-    start.mutate(body);
+    start.start(body);
   };
 
   return (
@@ -129,7 +174,7 @@ function StartForm({ runId }: { runId: number }) {
       ) : null}
       {start.error ? <ErrorView error={start.error} title="The check was not started" /> : null}
       <View style={{ flexDirection: 'row' }}>
-        <Button label="Start deep check" variant="primary" onPress={submit} busy={start.isPending} />
+        <Button label="Start deep check" variant="primary" onPress={submit} busy={start.isPending} disabled={start.isPending} />
       </View>
     </View>
   );

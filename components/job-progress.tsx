@@ -2,6 +2,7 @@
  * One deep-check job as a card: kind, state chip, parameters, a progress bar with done/total and
  * time left while it runs (with cancel), the reason when it failed or was interrupted, restart.
  */
+import { useState } from 'react';
 import { Text, View } from 'react-native';
 import { JOB_KIND_LABELS, RESTARTABLE_JOB_STATUSES, type Job, type JobStatus } from '../shared/jobs';
 import { useMe } from '../hooks/use-session';
@@ -54,6 +55,7 @@ export function JobProgress({ job, actions }: JobProgressProps) {
   const restart = useRestartJob();
   const mayChange = !!me && (me.role === 'admin' || (me.role === 'researcher' && me.id === job.authorId));
   const label = jobLabel(job);
+  const [asking, setAsking] = useState(false);
   return (
     <View style={{ gap: space.sm, paddingVertical: space.sm, borderBottomWidth: 1, borderBottomColor: colors.rule }} aria-label={label} role="group">
       <View style={{ flexDirection: 'row', alignItems: 'center', flexWrap: 'wrap', gap: space.sm }}>
@@ -70,9 +72,25 @@ export function JobProgress({ job, actions }: JobProgressProps) {
           done={job.done}
           total={job.total}
           secondsLeft={job.etaSeconds}
-          onCancel={mayChange ? () => cancel.mutate(job.id) : undefined}
+          onCancel={mayChange && !asking ? () => setAsking(true) : undefined}
           cancelling={cancel.isPending}
         />
+      ) : null}
+      {asking && isActiveJob(job) ? (
+        <View role="alert" aria-label={`Confirm cancelling ${label}`} style={{ gap: space.sm, padding: space.sm, backgroundColor: colors.brassTint, borderRadius: 4 }}>
+          <Text style={text.body}>Cancel {label}? The work done so far is discarded; you can start it again later.</Text>
+          <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.sm }}>
+            <Button
+              compact
+              variant="danger"
+              label="Yes, cancel it"
+              accessibilityLabel={`Yes, cancel ${label}`}
+              busy={cancel.isPending}
+              onPress={() => cancel.mutate(job.id, { onSettled: () => setAsking(false) })}
+            />
+            <Button compact variant="quiet" label="Keep it running" accessibilityLabel={`Keep ${label} running`} onPress={() => setAsking(false)} />
+          </View>
+        </View>
       ) : null}
       {job.status === 'cancelled' || job.status === 'interrupted' ? (
         <Text style={text.muted}>

@@ -1,7 +1,7 @@
 import { useMemo, useState, type ReactNode } from 'react';
 import { ActivityIndicator, Pressable, StyleSheet, Text, View } from 'react-native';
 import { useIsWide } from '../hooks/use-layout';
-import { useArchiveLibrary, useDeleteEdition, useEdition, useEditionData, useLibrary, usePublishLibrary } from '../hooks/use-libraries';
+import { useArchiveLibrary, useDeleteEdition, useEdition, useEditionData, useLibrary, usePublishLibrary, useUnpublishLibrary } from '../hooks/use-libraries';
 import { exportUrl } from '../api/libraries';
 import { Button } from './button';
 import { Card } from './card';
@@ -31,8 +31,10 @@ export function LibraryDetail({ id, edition: chosen, onSelectEdition, embedded }
   const n = chosen ?? lib.data?.latestEdition ?? undefined;
   const edition = useEdition(lib.data?.id, n);
   const publish = usePublishLibrary();
+  const unpublish = useUnpublishLibrary();
   const archive = useArchiveLibrary();
   const del = useDeleteEdition();
+  const [asking, setAsking] = useState<'share' | 'unshare' | null>(null);
 
   const Frame = embedded ? Pane : Screen;
   if (lib.isPending) return <Frame title="Library"><ActivityIndicator color={colors.brass} accessibilityLabel="Loading library" /></Frame>;
@@ -46,12 +48,18 @@ export function LibraryDetail({ id, edition: chosen, onSelectEdition, embedded }
   }
   const l = lib.data;
   const select = onSelectEdition;
-  const actionError = publish.error ?? archive.error ?? del.error;
+  const actionError = publish.error ?? unpublish.error ?? archive.error ?? del.error;
+  const ask = (what: 'share' | 'unshare') => {
+    publish.reset();
+    unpublish.reset();
+    setAsking(what);
+  };
 
   const actions = (
     <>
       {l.can.addEdition ? <Button variant="primary" label="Upload new edition" href={`/libraries/upload?libraryId=${l.id}`} /> : null}
-      {l.can.publish ? <Button label="Share with the team" busy={publish.isPending} onPress={() => publish.mutate(l.id)} /> : null}
+      {l.can.publish && asking !== 'share' ? <Button label="Share with the team" busy={publish.isPending} onPress={() => ask('share')} /> : null}
+      {l.can.unpublish && asking !== 'unshare' ? <Button label="Stop sharing" busy={unpublish.isPending} onPress={() => ask('unshare')} /> : null}
       {l.can.archive ? (
         <Button
           variant={l.archived ? 'secondary' : 'danger'}
@@ -81,7 +89,7 @@ export function LibraryDetail({ id, edition: chosen, onSelectEdition, embedded }
               {edition.data.createdBy?.name ?? 'unknown'}, {formatWhen(edition.data.createdAt)}.
             </Text>
           </Card>
-          <ChartCard libraryId={l.id} n={edition.data.number} names={edition.data.series.map((s) => s.name)} defaults={defaultChartSeries(edition.data.series)} />
+          <ChartCard libraryName={l.name} libraryId={l.id} n={edition.data.number} names={edition.data.series.map((s) => s.name)} defaults={defaultChartSeries(edition.data.series)} />
           <Card title="Series" subtitle="Values in decimals; sd uses divisor T.">
             <LibrarySeriesTable series={edition.data.series} />
           </Card>
@@ -126,6 +134,30 @@ export function LibraryDetail({ id, edition: chosen, onSelectEdition, embedded }
 
   return (
     <Frame title={l.name} subtitle={`${l.frequency ?? ''} return library · ${l.editionCount} edition${l.editionCount === 1 ? '' : 's'}`} actions={actions} fullWidth={wide}>
+      {asking === 'share' && l.can.publish ? (
+        <View style={styles.confirm} role="alert" aria-label="Confirm sharing">
+          <Text style={text.body}>
+            Share {l.name} with the whole team? Everyone signed in — researchers, reviewers and desk users — will read all its editions and can start runs on them. You can stop sharing
+            later as long as nobody else has a run or a saved spec on it.
+          </Text>
+          <View style={styles.confirmActions}>
+            <Button variant="primary" compact label="Yes, share it" busy={publish.isPending} onPress={() => publish.mutate(l.id, { onSuccess: () => setAsking(null) })} />
+            <Button variant="quiet" compact label="Keep it private" onPress={() => setAsking(null)} />
+          </View>
+        </View>
+      ) : null}
+      {asking === 'unshare' && l.can.unpublish ? (
+        <View style={styles.confirm} role="alert" aria-label="Confirm stop sharing">
+          <Text style={text.body}>
+            Stop sharing {l.name}? It becomes private to {l.owner?.name ?? 'admins'} again: the others no longer see it, nor the runs on it. Keelson refuses while someone else has a run
+            or a saved spec on it (archive it then).
+          </Text>
+          <View style={styles.confirmActions}>
+            <Button variant="danger" compact label="Yes, stop sharing" busy={unpublish.isPending} onPress={() => unpublish.mutate(l.id, { onSuccess: () => setAsking(null) })} />
+            <Button variant="quiet" compact label="Keep it shared" onPress={() => setAsking(null)} />
+          </View>
+        </View>
+      ) : null}
       {actionError ? <ErrorView error={actionError} title="That did not work" /> : null}
       {l.editions.length === 0 ? <EmptyState title="No editions" body="This library has no edition left." /> : null}
       <View style={wide ? { flexDirection: 'row', gap: space.lg, alignItems: 'flex-start' } : { gap: space.lg }}>
@@ -162,7 +194,7 @@ function defaultChartSeries(series: readonly { name: string; kind: string }[]): 
   return (factors.length ? factors : series.map((s) => s.name)).slice(0, 3);
 }
 
-function ChartCard({ libraryId, n, names, defaults }: { libraryId: number; n: number; names: string[]; defaults: string[] }) {
+function ChartCard({ libraryName, libraryId, n, names, defaults }: { libraryName: string; libraryId: number; n: number; names: string[]; defaults: string[] }) {
   const [chosen, setChosen] = useState<string[]>(defaults);
   const [open, setOpen] = useState(false);
   const data = useEditionData(libraryId, n);
@@ -179,7 +211,13 @@ function ChartCard({ libraryId, n, names, defaults }: { libraryId: number; n: nu
       ) : data.isError ? (
         <ErrorView error={data.error} title="Values could not be loaded" />
       ) : (
-        <LibraryChart dates={data.data.dates} series={lines} label="Cumulative return chart" />
+        <LibraryChart
+          dates={data.data.dates}
+          series={lines}
+          label="Cumulative return chart"
+          title={`${libraryName}, edition ${n}: cumulative return`}
+          fileName={`${libraryName}-edition-${n}-cumulative-return`}
+        />
       )}
       <Button compact variant="quiet" label={open ? 'Done choosing' : `Choose series (${chosen.length} shown)`} onPress={() => setOpen((o) => !o)} />
       {open ? (
@@ -202,6 +240,8 @@ function ChartCard({ libraryId, n, names, defaults }: { libraryId: number; n: nu
 }
 
 const styles = StyleSheet.create({
+  confirm: { gap: space.sm, padding: space.md, backgroundColor: colors.brassTint, borderRadius: radius.sm, borderWidth: 1, borderColor: colors.brass },
+  confirmActions: { flexDirection: 'row', flexWrap: 'wrap', gap: space.sm },
   toggles: { flexDirection: 'row', flexWrap: 'wrap', gap: space.xs },
   toggle: { minHeight: 36, justifyContent: 'center', paddingHorizontal: space.sm, borderWidth: 1, borderColor: colors.rule, borderRadius: radius.sm, backgroundColor: colors.card },
   toggleOn: { borderColor: colors.brass, backgroundColor: colors.brassTint },

@@ -35,7 +35,7 @@ export function LibraryReview({ upload, target, canShare, busy, error, onConfirm
   const [name, setName] = useState(upload.fileName.replace(/\.(csv|txt)$/i, ''));
   const [visibility, setVisibility] = useState<Visibility>('private');
   const [choices, setChoices] = useState<Record<string, Choice>>(() =>
-    Object.fromEntries(upload.series.map((s) => [s.name, { include: true, kind: s.suggestedKind, traded: true }])),
+    Object.fromEntries(upload.series.map((s) => [s.name, { include: true, kind: s.suggestedKind, traded: s.suggestedTraded }])),
   );
   const set = (col: string, patch: Partial<Choice>) => setChoices((c) => ({ ...c, [col]: { ...c[col]!, ...patch } }));
   const warningsByColumn = useMemo(() => {
@@ -45,6 +45,8 @@ export function LibraryReview({ upload, target, canShare, busy, error, onConfirm
   }, [upload.warnings]);
   const included = upload.series.filter((s) => choices[s.name]!.include);
   const rfCount = included.filter((s) => choices[s.name]!.kind === 'rf').length;
+  const newSeries = new Set(upload.target?.newSeries ?? []);
+  const factorCount = included.filter((s) => choices[s.name]!.kind === 'factor').length;
   const problem = included.length === 0 ? 'Keep at least one series.' : rfCount > 1 ? 'Mark at most one series as risk-free.' : !target && !name.trim() ? 'Give the library a name.' : null;
 
   const submit = () => {
@@ -75,6 +77,32 @@ export function LibraryReview({ upload, target, canShare, busy, error, onConfirm
         <Text style={text.muted}>Nothing is saved until you confirm. This upload is kept for a day.</Text>
       </Card>
 
+      {upload.target ? (
+        <Card
+          title={upload.target.edition !== null ? `Compared with edition ${upload.target.edition}` : `New edition of ${upload.target.libraryName}`}
+          accessibilityLabel="Compared with the latest edition"
+        >
+          {upload.target.edition !== null ? (
+            <>
+              <Text style={text.body}>
+                Kinds and traded flags of the {upload.series.length - upload.target.newSeries.length} series found in edition {upload.target.edition} of {upload.target.libraryName} are kept;
+                check the series marked new.
+              </Text>
+              <Text style={text.body} aria-label="New series">
+                <Text style={text.strong}>New in this file: </Text>
+                {upload.target.newSeries.length ? upload.target.newSeries.join(', ') : 'none'}
+              </Text>
+              <Text style={text.body} aria-label="Gone series">
+                <Text style={text.strong}>Not in this file (gone): </Text>
+                {upload.target.goneSeries.length ? `${upload.target.goneSeries.join(', ')} — earlier editions keep them, and so do runs that used them` : 'none'}
+              </Text>
+            </>
+          ) : (
+            <Text style={text.body}>The library has no edition left to compare with; kinds are suggested from names.</Text>
+          )}
+        </Card>
+      ) : null}
+
       <Card title="Units" subtitle="Keelson stores decimals (0.01 = 1%). Percent files are divided by 100 on saving.">
         <Select<Units>
           label="Values in the file are"
@@ -101,6 +129,7 @@ export function LibraryReview({ upload, target, canShare, busy, error, onConfirm
               <View key={s.name} style={[styles.series, !c.include && { opacity: 0.55 }]} role="group" aria-label={`Series ${s.name}`}>
                 <View style={styles.seriesHead}>
                   <Text style={[text.strong, { flexShrink: 1 }]}>{s.name}</Text>
+                  {newSeries.has(s.name) ? <Chip label="new" tone="brass" shape="outlined" accessibilityLabel={`${s.name} is new in this edition`} /> : null}
                   {warns.length ? <Chip label={`${warns.length} flag${warns.length > 1 ? 's' : ''}`} tone="rust" shape="dashed" /> : null}
                   <View style={{ flex: 1 }} />
                   <Button
@@ -118,6 +147,12 @@ export function LibraryReview({ upload, target, canShare, busy, error, onConfirm
                     {w}
                   </Text>
                 ))}
+                {s.suggestion.reason ? (
+                  <Text style={text.muted} aria-label={`Why ${s.name} is suggested as it is`}>
+                    {s.suggestion.reason}
+                    {c.kind !== s.suggestedKind || (c.kind === 'factor' && c.traded !== s.suggestedTraded) ? ' · you changed this' : ''}
+                  </Text>
+                ) : null}
                 {c.include ? (
                   <View style={styles.pickers}>
                     <Select<SeriesKind> label={`Kind of ${s.name}`} hideLabel value={c.kind} options={KIND_OPTIONS} onChange={(kind) => set(s.name, { kind })} />
@@ -167,6 +202,9 @@ export function LibraryReview({ upload, target, canShare, busy, error, onConfirm
         )}
         {error ? <ErrorView error={error} title="Not saved" /> : null}
         {problem ? <Text style={styles.warn}>{problem}</Text> : null}
+        {!problem && factorCount === 0 ? (
+          <Text style={styles.warn}>{'\u25B3 '}No series is marked as a factor: runs on this edition need at least one. Choose the factors above, or confirm if that is intended.</Text>
+        ) : null}
         <View style={styles.buttons}>
           <Button variant="primary" label={target ? 'Confirm new edition' : 'Confirm and save'} onPress={submit} busy={busy} disabled={!!problem} />
           <Button variant="quiet" label="Discard upload" onPress={onDiscard} disabled={busy} />

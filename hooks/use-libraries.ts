@@ -13,6 +13,7 @@ import {
   getUpload,
   listLibraries,
   publishLibrary,
+  unpublishLibrary,
   uploadLibraryFile,
 } from '../api/libraries';
 
@@ -37,8 +38,8 @@ export const useUpload = (id: string | undefined) =>
 
 export function useUploadFile() {
   const qc = useQueryClient();
-  return useMutation<Upload, KeelsonApiError, { file: Blob; name: string }>({
-    mutationFn: ({ file, name }) => uploadLibraryFile(file, name),
+  return useMutation<Upload, KeelsonApiError, { file: Blob; name: string; libraryId?: number }>({
+    mutationFn: ({ file, name, libraryId }) => uploadLibraryFile(file, name, libraryId),
     onSuccess: (u) => qc.setQueryData(libraryKeys.upload(u.id), u),
   });
 }
@@ -64,5 +65,6 @@ function useLibraryAction<V>(fn: (v: V) => Promise<LibraryDetail | void>) {
 }
 
 export const usePublishLibrary = () => useLibraryAction((id: number) => publishLibrary(id));
+export const useUnpublishLibrary = () => useLibraryAction((id: number) => unpublishLibrary(id));
 export const useArchiveLibrary = () => useLibraryAction(({ id, archived }: { id: number; archived: boolean }) => archiveLibrary(id, archived));
 export const useDeleteEdition = () => useLibraryAction(({ id, n }: { id: number; n: number }) => deleteEdition(id, n));

@@ -50,14 +50,35 @@ export const uploadWarningSchema = z.object({
 });
 export type UploadWarning = z.infer<typeof uploadWarningSchema>;
 
+/**
+ * Where a suggested series kind comes from: the same-named series of the target library's latest
+ * edition, a same-named factor of another library's latest edition, a risk-free-like name, or nothing.
+ */
+export const SUGGESTION_SOURCES = ['previous_edition', 'other_library', 'name', 'none'] as const;
+export type SuggestionSource = (typeof SUGGESTION_SOURCES)[number];
+
 export const uploadColumnSchema = z.object({
   name: z.string(),
   stats: seriesStatsSchema,
   /** Median absolute value, the scale used to tell percent from decimals. */
   scale: z.number().nullable(),
   suggestedKind: seriesKindSchema,
+  /** Factors: suggested traded flag (carried over from an earlier edition or another library; else true). */
+  suggestedTraded: z.boolean(),
+  /** Where the suggestion comes from, and the sentence the review shows for it. */
+  suggestion: z.object({ source: z.enum(SUGGESTION_SOURCES), reason: z.string() }),
 });
 export type UploadColumn = z.infer<typeof uploadColumnSchema>;
+
+export const uploadTargetSchema = z.object({
+  libraryId: z.number().int(),
+  libraryName: z.string(),
+  /** The latest edition the kinds were carried over from (null: the library has no edition left). */
+  edition: z.number().int().nullable(),
+  newSeries: z.array(z.string()),
+  goneSeries: z.array(z.string()),
+});
+export type UploadTarget = z.infer<typeof uploadTargetSchema>;
 
 export const uploadSchema = z.object({
   id: z.string(),
@@ -71,6 +92,11 @@ export const uploadSchema = z.object({
   units: unitsSchema,
   warnings: z.array(uploadWarningSchema),
   series: z.array(uploadColumnSchema),
+  /**
+   * Set when the upload was sent for a new edition of an existing library: the edition it was
+   * compared with, and the series that are new in the file or gone from it (by name).
+   */
+  target: uploadTargetSchema.nullable(),
   expiresAt: z.string(),
 });
 export type Upload = z.infer<typeof uploadSchema>;
@@ -140,7 +166,7 @@ export const librarySummarySchema = z.object({
   latestEdition: z.number().int().nullable(),
   seriesCount: z.number().int(),
   /** What the signed-in user may do with this library. */
-  can: z.object({ addEdition: z.boolean(), publish: z.boolean(), archive: z.boolean(), deleteEdition: z.boolean() }),
+  can: z.object({ addEdition: z.boolean(), publish: z.boolean(), unpublish: z.boolean(), archive: z.boolean(), deleteEdition: z.boolean() }),
 });
 export type LibrarySummary = z.infer<typeof librarySummarySchema>;
 export const librariesResponseSchema = z.object({ libraries: z.array(librarySummarySchema) });

@@ -23,6 +23,7 @@ import {
   listLibraries,
   publishLibrary,
   setArchived,
+  unpublishLibrary,
 } from '../services/libraries';
 import type { AppDeps } from '../app';
 
@@ -58,7 +59,10 @@ export function registerLibraryRoutes(api: ApiRouter, deps: AppDeps): void {
     if (!file) throw new KeelsonApiError('bad_request', 'Send the CSV as multipart/form-data in a field named file');
     try {
       const buffer = await readFile(file.path);
-      res.status(201).json({ upload: createUpload(db, user, { name: file.originalname, buffer }) });
+      // Optional form field libraryId: the upload is meant as that library's next edition.
+      const raw = (req.body as Record<string, unknown> | undefined)?.libraryId;
+      const libraryId = raw === undefined || raw === '' ? undefined : positiveInt(raw, 'library');
+      res.status(201).json({ upload: createUpload(db, user, { name: file.originalname, buffer }, { libraryId }) });
     } finally {
       await unlink(file.path).catch(() => undefined);
     }
@@ -108,6 +112,10 @@ export function registerLibraryRoutes(api: ApiRouter, deps: AppDeps): void {
 
   api.post('/libraries/:id/publish', admin, (req: Request, res: Response) => {
     res.json({ library: publishLibrary(db, currentUser(req), positiveInt(req.params.id, 'library')) });
+  });
+
+  api.post('/libraries/:id/unpublish', admin, (req: Request, res: Response) => {
+    res.json({ library: unpublishLibrary(db, currentUser(req), positiveInt(req.params.id, 'library')) });
   });
 
   api.post('/libraries/:id/archive', writers, (req: Request, res: Response) => {

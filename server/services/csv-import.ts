@@ -169,8 +169,42 @@ function worstJump(v: Float64Array): { t: number; z: number } | null {
   return best;
 }
 
+/** A series name folded for matching: lower case, letters and digits only ("Mkt-RF" → "mktrf"). */
+export function foldName(name: string): string {
+  return name.normalize('NFKD').toLowerCase().replace(/[^a-z0-9]+/g, '');
+}
+
+/** Folded names that read as a risk-free rate: RF, R_f, risk-free (rate), T-bill (rate), 1- or 3-month bill, cash. */
+const RISK_FREE_NAMES = new Set(['rf', 'rfr', 'rfree', 'riskfree', 'riskfreerate', 'rfrate', 'tbill', 'tbills', 'tbillrate', 'tb1m', 'tb3m', 'bill1m', 'bill3m', 'cash', 'cashrate']);
+
+export function looksRiskFree(name: string): boolean {
+  return RISK_FREE_NAMES.has(foldName(name));
+}
+
 export function suggestKind(name: string): SeriesKind {
-  return /^(rf|r_f|riskfree|risk[-_ ]?free|t[-_ ]?bill|cash)$/i.test(name.trim()) ? 'rf' : 'asset';
+  return looksRiskFree(name) ? 'rf' : 'asset';
+}
+
+/**
+ * Name-only suggestions for the columns of a file: the first risk-free-like column is suggested as
+ * the risk-free rate (a library holds at most one), everything else as a test asset.
+ */
+export function nameSuggestions(columns: readonly string[]): Pick<UploadColumn, 'suggestedKind' | 'suggestedTraded' | 'suggestion'>[] {
+  let rfTaken: string | null = null;
+  return columns.map((name) => {
+    if (looksRiskFree(name)) {
+      if (rfTaken === null) {
+        rfTaken = name;
+        return { suggestedKind: 'rf', suggestedTraded: true, suggestion: { source: 'name', reason: `Suggested risk-free: the name ${name} reads as a risk-free rate` } };
+      }
+      return {
+        suggestedKind: 'asset',
+        suggestedTraded: true,
+        suggestion: { source: 'none', reason: `${name} also reads as a risk-free rate, but ${rfTaken} was suggested; a library keeps at most one` },
+      };
+    }
+    return { suggestedKind: 'asset', suggestedTraded: true, suggestion: { source: 'none', reason: 'No earlier series of this name: a test asset unless you choose otherwise' } };
+  });
 }
 
 function decodeText(buf: Buffer): string {
@@ -391,7 +425,8 @@ export function parseReturnCsv(buf: Buffer): ParsedCsv {
     if (st.missing > 0) warnings.push({ code: 'missing', column: name, message: `${name} has ${st.missing} missing value${st.missing === 1 ? '' : 's'}` });
   });
 
-  const series: UploadColumn[] = columns.map((name, k) => ({ name, stats: stats[k]!, scale: scales[k] ?? null, suggestedKind: suggestKind(name) }));
+  const named = nameSuggestions(columns);
+  const series: UploadColumn[] = columns.map((name, k) => ({ name, stats: stats[k]!, scale: scales[k] ?? null, ...named[k]! }));
   return { frequency, columns, dates, values, units, warnings, series };
 }
 

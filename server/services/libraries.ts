@@ -20,12 +20,13 @@ import type {
   SeriesKind,
   Upload,
   UploadColumn,
+  UploadTarget,
   UploadWarning,
   Units,
   Visibility,
 } from '../../shared/libraries';
 import { audit } from './audit';
-import { blobToFloat64, columnStats, packColumns, parseReturnCsv } from './csv-import';
+import { blobToFloat64, columnStats, foldName, looksRiskFree, packColumns, parseReturnCsv } from './csv-import';
 import { canReadLibrary, editionIsUsed, editionSpecCount, loadEditionArrays } from './edition-data';
 
 const UPLOAD_TTL_MS = 24 * 3600 * 1000;
@@ -61,7 +62,9 @@ interface EditionRow {
 interface UploadPreview {
   units: Units;
   warnings: UploadWarning[];
-  series: UploadColumn[];
+  /** Previews stored before suggestions lack suggestedTraded and suggestion. */
+  series: (Omit<UploadColumn, 'suggestedTraded' | 'suggestion'> & Partial<Pick<UploadColumn, 'suggestedTraded' | 'suggestion'>>)[];
+  target?: UploadTarget | null;
   rows: number;
   firstDate: string;
   lastDate: string;
@@ -73,15 +76,165 @@ function purgeExpiredUploads(db: Db): void {
   db.$client.prepare('delete from library_uploads where expires_at < ?').run(new Date().toISOString());
 }
 
-/** Parses an uploaded CSV and keeps it as a pending upload of `user` (nothing else is written). */
-export function createUpload(db: Db, user: User, file: { name: string; buffer: Buffer }): Upload {
+const KIND_WORDS: Readonly<Record<SeriesKind, string>> = { asset: 'test asset', factor: 'factor', rf: 'risk-free' };
+function kindWords(kind: SeriesKind, traded: boolean): string {
+  return kind === 'factor' ? `factor (${traded ? 'traded' : 'not traded'})` : KIND_WORDS[kind];
+}
+
+interface KnownSeries {
+  name: string;
+  kind: SeriesKind;
+  traded: boolean;
+}
+
+/**
+ * Factors and risk-free series of the latest editions of the libraries `user` owns and of the
+ * shared ones (archived libraries and `exceptLibrary` left out), by folded name. The user's own
+ * libraries win over shared ones, newer editions over older.
+ */
+function knownSeriesElsewhere(db: Db, user: User, exceptLibrary: number | null): Map<string, KnownSeries & { libraryName: string; edition: number; own: boolean }> {
+  const rows = db.$client
+    .prepare(
+      `select s.name, s.kind, s.traded, l.name as libraryName, e.number as edition, (l.owner_id = ?) as own, e.id as editionId
+         from library_series s
+         join library_editions e on e.id = s.edition_id
+         join libraries l on l.id = e.library_id
+        where s.kind in ('factor', 'rf') and l.archived_at is null and l.id != ?
+          and (l.owner_id = ? or l.visibility = 'shared')
+          and e.number = (select max(e2.number) from library_editions e2 where e2.library_id = l.id)
+        order by own desc, e.id desc, s.position`,
+    )
+    .all(user.id, exceptLibrary ?? 0, user.id) as { name: string; kind: SeriesKind; traded: number; libraryName: string; edition: number; own: number }[];
+  const out = new Map<string, KnownSeries & { libraryName: string; edition: number; own: boolean }>();
+  for (const r of rows) {
+    const key = foldName(r.name);
+    if (key && !out.has(key)) out.set(key, { name: r.name, kind: r.kind, traded: r.traded === 1, libraryName: r.libraryName, edition: r.edition, own: r.own === 1 });
+  }
+  return out;
+}
+
+/**
+ * Suggested kind and traded flag of each column, with the reason the review shows. For a new
+ * edition (`target` set) every series found by name in the library's latest edition keeps its kind
+ * and traded flag (exact name first, then the same name ignoring case and punctuation); the others
+ * are reported as new, and the edition's series missing from the file as gone. A column not found
+ * there is suggested a factor (or risk-free) when a factor (risk-free series) of that name is in the
+ * latest edition of another of the user's libraries or of a shared one, else risk-free when its name
+ * reads like a risk-free rate, else a test asset. At most one risk-free suggestion.
+ */
+export function suggestSeries(
+  db: Db,
+  user: User,
+  series: readonly UploadColumn[],
+  target: { id: number; name: string } | null,
+): { series: UploadColumn[]; target: UploadTarget | null } {
+  let previous: { number: number; series: KnownSeries[] } | null = null;
+  if (target) {
+    const ed = db.$client.prepare('select id, number from library_editions where library_id = ? order by number desc limit 1').get(target.id) as { id: number; number: number } | undefined;
+    if (ed) {
+      const rows = db.$client.prepare('select name, kind, traded from library_series where edition_id = ? order by position').all(ed.id) as { name: string; kind: SeriesKind; traded: number }[];
+      previous = { number: ed.number, series: rows.map((r) => ({ name: r.name, kind: r.kind, traded: r.traded === 1 })) };
+    }
+  }
+  const elsewhere = knownSeriesElsewhere(db, user, target?.id ?? null);
+  const used = new Set<string>();
+  const byExact = new Map((previous?.series ?? []).map((p) => [p.name, p]));
+  // Exact names first, so a folded match never steals a series another column names exactly.
+  const matches = series.map((c) => {
+    const hit = byExact.get(c.name);
+    if (hit) used.add(hit.name);
+    return hit ?? null;
+  });
+  series.forEach((c, i) => {
+    if (matches[i] || !previous) return;
+    const key = foldName(c.name);
+    const hit = previous.series.find((p) => !used.has(p.name) && foldName(p.name) === key);
+    if (hit) {
+      used.add(hit.name);
+      matches[i] = hit;
+    }
+  });
+
+  let rfTaken = matches.find((m) => m?.kind === 'rf')?.name ?? null;
+  const out: UploadColumn[] = series.map((c, i) => {
+    const m = matches[i];
+    if (m && previous) {
+      const same = m.name === c.name ? '' : ` (named ${m.name} there)`;
+      return {
+        ...c,
+        suggestedKind: m.kind,
+        suggestedTraded: m.kind === 'factor' ? m.traded : true,
+        suggestion: { source: 'previous_edition' as const, reason: `Kept from edition ${previous.number}${same}: ${kindWords(m.kind, m.traded)}` },
+      };
+    }
+    const prefix = previous ? `New in this file (not in edition ${previous.number}). ` : '';
+    const known = elsewhere.get(foldName(c.name));
+    if (known && !(known.kind === 'rf' && rfTaken !== null)) {
+      if (known.kind === 'rf') rfTaken = c.name;
+      const where = known.own ? `your library ${known.libraryName}` : `the shared library ${known.libraryName}`;
+      return {
+        ...c,
+        suggestedKind: known.kind,
+        suggestedTraded: known.kind === 'factor' ? known.traded : true,
+        suggestion: {
+          source: 'other_library' as const,
+          reason: `${prefix}Suggested ${kindWords(known.kind, known.traded)}: ${known.name} is a ${known.kind === 'rf' ? 'risk-free series' : 'factor'} in edition ${known.edition} of ${where}`,
+        },
+      };
+    }
+    if (c.suggestedKind === 'rf' || looksRiskFree(c.name)) {
+      if (rfTaken === null) {
+        rfTaken = c.name;
+        return { ...c, suggestedKind: 'rf' as const, suggestedTraded: true, suggestion: { source: 'name' as const, reason: `${prefix}Suggested risk-free: the name ${c.name} reads as a risk-free rate` } };
+      }
+      return {
+        ...c,
+        suggestedKind: 'asset' as const,
+        suggestedTraded: true,
+        suggestion: { source: 'none' as const, reason: `${prefix}${c.name} reads as a risk-free rate, but ${rfTaken} is the risk-free series; a library keeps at most one` },
+      };
+    }
+    return { ...c, suggestedKind: 'asset' as const, suggestedTraded: true, suggestion: { source: 'none' as const, reason: `${prefix}No series of this name elsewhere: a test asset unless you choose otherwise` } };
+  });
+  const uploadTarget: UploadTarget | null = target
+    ? {
+        libraryId: target.id,
+        libraryName: target.name,
+        edition: previous?.number ?? null,
+        newSeries: previous ? series.filter((_, i) => !matches[i]).map((c) => c.name) : [],
+        goneSeries: previous ? previous.series.filter((p) => !used.has(p.name)).map((p) => p.name) : [],
+      }
+    : null;
+  return { series: out, target: uploadTarget };
+}
+
+/** Throws unless `user` may add an edition to the library (readable, allowed, not archived). */
+function assertCanAddEdition(db: Db, user: User, libraryId: number): LibraryRow {
+  const lib = libraryRow(db, libraryId);
+  if (!lib || !canReadLibrary(user, lib)) throw new KeelsonApiError('not_found', `No library ${libraryId} that you can read`);
+  if (!permissions(user, { ...lib, archivedAt: null }).addEdition) {
+    throw new KeelsonApiError('forbidden', lib.visibility === 'shared' ? 'Only admins add editions to shared libraries' : 'Only the owner or an admin adds editions to a private library');
+  }
+  if (lib.archivedAt) throw new KeelsonApiError('conflict', `Library ${lib.name} is archived; restore it before adding an edition`);
+  return lib;
+}
+
+/**
+ * Parses an uploaded CSV and keeps it as a pending upload of `user` (nothing else is written).
+ * With `libraryId` the upload is meant as the next edition of that library: series kinds are carried
+ * over from its latest edition by name, and the new and gone series are listed.
+ */
+export function createUpload(db: Db, user: User, file: { name: string; buffer: Buffer }, opts: { libraryId?: number } = {}): Upload {
+  const lib = opts.libraryId !== undefined ? assertCanAddEdition(db, user, opts.libraryId) : null;
   const parsed = parseReturnCsv(file.buffer);
   const id = randomBytes(12).toString('base64url');
   const T = parsed.dates.length;
+  const suggested = suggestSeries(db, user, parsed.series, lib ? { id: lib.id, name: lib.name } : null);
   const preview: UploadPreview = {
     units: parsed.units,
     warnings: parsed.warnings,
-    series: parsed.series,
+    series: suggested.series,
+    target: suggested.target,
     rows: T,
     firstDate: parsed.dates[0]!,
     lastDate: parsed.dates[T - 1]!,
@@ -111,7 +264,9 @@ function toUpload(id: string, fileName: string, frequency: Frequency, columns: s
     lastDate: p.lastDate,
     units: p.units,
     warnings: p.warnings,
-    series: p.series,
+    // Uploads kept from before suggestions carried a reason read as "no suggestion".
+    series: p.series.map((c) => ({ ...c, suggestedTraded: c.suggestedTraded ?? true, suggestion: c.suggestion ?? { source: 'none' as const, reason: '' } })),
+    target: p.target ?? null,
     expiresAt,
   };
 }
@@ -186,12 +341,7 @@ export function confirmUpload(db: Db, user: User, uploadId: string, body: Confir
     let libraryId: number;
     let libraryName: string;
     if (body.libraryId !== undefined) {
-      const lib = libraryRow(db, body.libraryId);
-      if (!lib || !canReadLibrary(user, lib)) throw new KeelsonApiError('not_found', `No library ${body.libraryId} that you can read`);
-      if (!permissions(user, { ...lib, archivedAt: null }).addEdition) {
-        throw new KeelsonApiError('forbidden', lib.visibility === 'shared' ? 'Only admins add editions to shared libraries' : 'Only the owner or an admin adds editions to a private library');
-      }
-      if (lib.archivedAt) throw new KeelsonApiError('conflict', `Library ${lib.name} is archived; restore it before adding an edition`);
+      const lib = assertCanAddEdition(db, user, body.libraryId);
       if (body.visibility && body.visibility !== lib.visibility) {
         throw new KeelsonApiError('conflict', `Library ${lib.name} is ${lib.visibility}; an edition keeps the library's visibility (use publish to share a private library)`);
       }
@@ -262,6 +412,7 @@ function permissions(user: User, lib: LibraryRow): LibrarySummary['can'] {
   return {
     addEdition: !lib.archivedAt && (admin || ownPrivate),
     publish: admin && lib.visibility === 'private' && !lib.archivedAt,
+    unpublish: admin && lib.visibility === 'shared',
     archive: admin || ownPrivate,
     deleteEdition: admin,
   };
@@ -440,6 +591,50 @@ export function publishLibrary(db: Db, user: User, id: number): LibraryDetail {
     audit(tx, user.id, 'library.published', { libraryId: lib.id, name: lib.name, ownerId: lib.ownerId });
   });
   return getLibrary(db, user, id);
+}
+
+/**
+ * Stops sharing a library: it becomes private to its owner again (no owner: admins only). Refused
+ * (409, naming the counts) while anyone other than the owner has a run or a saved model spec on one
+ * of its editions: unsharing would make their runs unreadable to them (runs are read through their
+ * library), so the admin archives the library instead, or the others' runs and specs go first.
+ * Runs of the owner stay readable to the owner; reviewers and desk users stop seeing them.
+ */
+export function unpublishLibrary(db: Db, user: User, id: number): LibraryDetail {
+  const lib = readableLibrary(db, user, id);
+  if (user.role !== 'admin') throw new KeelsonApiError('forbidden', 'Only admins stop sharing libraries');
+  if (lib.visibility !== 'shared') throw new KeelsonApiError('conflict', `Library ${lib.name} is not shared`);
+  inTransaction(db, (tx) => {
+    const others = othersUsing(db, lib.id, lib.ownerId);
+    if (others.runs + others.specs > 0) {
+      const what = [others.runs ? `${others.runs} run${others.runs === 1 ? '' : 's'}` : '', others.specs ? `${others.specs} saved model spec${others.specs === 1 ? '' : 's'}` : '']
+        .filter(Boolean)
+        .join(' and ');
+      throw new KeelsonApiError(
+        'conflict',
+        `Library ${lib.name} stays shared: ${what} of ${others.people} other ${others.people === 1 ? 'person' : 'people'} use${others.runs + others.specs === 1 ? 's' : ''} its editions, and unsharing would hide their work from them. Archive the library instead (it leaves the lists; runs on it stay readable).`,
+      );
+    }
+    db.$client.prepare("update libraries set visibility = 'private' where id = ?").run(lib.id);
+    audit(tx, user.id, 'library.unpublished', { libraryId: lib.id, name: lib.name, ownerId: lib.ownerId });
+  });
+  return getLibrary(db, user, id);
+}
+
+/** Runs and saved specs on a library's editions by anyone but `ownerId` (raw SQL, guarded like editionIsUsed). */
+function othersUsing(db: Db, libraryId: number, ownerId: number | null): { runs: number; specs: number; people: number } {
+  const c = db.$client;
+  const has = (t: string) => c.prepare("select 1 from sqlite_master where type = 'table' and name = ?").get(t) !== undefined;
+  const people = new Set<number>();
+  const count = (table: string): number => {
+    if (!has(table)) return 0;
+    const rows = c
+      .prepare(`select author_id as a, count(*) as n from ${table} where edition_id in (select id from library_editions where library_id = ?) and author_id is not ? group by author_id`)
+      .all(libraryId, ownerId) as { a: number; n: number }[];
+    for (const r of rows) people.add(r.a);
+    return rows.reduce((s, r) => s + r.n, 0);
+  };
+  return { runs: count('runs'), specs: count('model_specs'), people: people.size };
 }
 
 export function setArchived(db: Db, user: User, id: number, archived: boolean): LibraryDetail {

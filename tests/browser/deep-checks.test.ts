@@ -8,6 +8,20 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import { PHONE, WIDE, expectSameOrigin, launchBrowser, openPage, shot, signIn } from './helpers';
+import { expectChartDownloads, expectReadableChart, expectTablesFit } from './chart-checks';
+
+/** How many deep checks the signed-in user sees on a run (through the API). */
+async function jobCount(page: Page, runId: number): Promise<number> {
+  return page.evaluate(async (id) => ((await (await fetch(`/api/v1/jobs?runId=${id}`)).json()) as { jobs: unknown[] }).jobs.length, runId);
+}
+
+/** Every rolling-window chart on the page reads: no overlapping label, dates at the bottom, a 0 tick, no "25.00". */
+async function expectReadableRollingCharts(page: Page): Promise<number> {
+  const charts = page.getByRole('img', { name: /^(b|λ \(% per period\)) of .+, by window$/ });
+  const n = await charts.count();
+  for (let i = 0; i < n; i++) await expectReadableChart(charts.nth(i), '0');
+  return n;
+}
 
 let browser: Browser;
 beforeAll(async () => {
@@ -73,14 +87,24 @@ describe('deep checks in the browser', () => {
     await expect.poll(async () => (await panel.getByText(/s left|min left/).count()) > 0, { timeout: 10_000 }).toBe(true);
     await panel.getByRole('progressbar', { name: bar }).scrollIntoViewIfNeeded();
     await shot(page, 'deep-checks-running-wide');
+    // Cancel asks first; "Keep it running" keeps it running.
     await panel.getByRole('button', { name: /^Cancel Bootstrap #\d+ progress$/ }).click();
+    const ask = panel.getByRole('alert', { name: /^Confirm cancelling Bootstrap #\d+$/ });
+    await ask.waitFor();
+    await shot(page, 'deep-checks-cancel-confirm-wide');
+    await ask.getByRole('button', { name: /^Keep Bootstrap #\d+ running$/ }).click();
+    await ask.waitFor({ state: 'detached' });
+    await expect(panel.getByLabel('Job state: running').count()).resolves.toBeGreaterThan(0);
+    await panel.getByRole('button', { name: /^Cancel Bootstrap #\d+ progress$/ }).click();
+    await ask.getByRole('button', { name: /^Yes, cancel Bootstrap #\d+$/ }).click();
     await panel.getByLabel('Job state: cancelled').first().waitFor();
     await expect.poll(() => panel.getByRole('progressbar', { name: bar }).count()).toBe(0);
     await expect(panel.getByText(/No result is kept for a cancelled check/).count()).resolves.toBeGreaterThan(0);
 
-    // 2. a subset sweep over the run's factors: it finishes and its result reads
+    // 2. a subset sweep over the run's factors, started with a double click: one job, and it reads
     await panel.getByRole('radio', { name: 'Subset sweep' }).click();
-    await panel.getByRole('button', { name: 'Start deep check' }).click();
+    const before = await jobCount(page, runId);
+    await panel.getByRole('button', { name: 'Start deep check' }).dblclick();
     const showSweep = panel.getByRole('button', { name: /^Show result of Subset sweep #\d+$/ });
     await showSweep.waitFor({ timeout: 60_000 });
     await showSweep.click();
@@ -89,7 +113,11 @@ describe('deep checks in the browser', () => {
     await expect(sweep.getByText(/31 models estimated/).count()).resolves.toBe(1);
     await expect(sweep.getByRole('table', { name: 'Best models by HJ distance' }).getByRole('row').count()).resolves.toBeGreaterThan(5);
     await expect(sweep.getByText('How often each factor is among the best models').count()).resolves.toBe(1);
+    expect(await jobCount(page, runId)).toBe(before + 1);
     await sweep.getByRole('table', { name: 'Best models by HJ distance' }).scrollIntoViewIfNeeded();
+    await expectTablesFit(sweep, panel);
+    await expectReadableChart(sweep.getByRole('img', { name: /^Factor frequency/ }), '0%');
+    await expectChartDownloads(page, sweep, 'How often each factor is among the best models');
     await shot(page, 'deep-checks-sweep-wide');
 
     // 3. a short bootstrap finishes; its p-value table shows J and every factor
@@ -106,7 +134,28 @@ describe('deep checks in the browser', () => {
     await expect(table.getByRole('row', { name: /^drop / }).count()).resolves.toBe(5);
     await expect(panel.getByText(/199 of 199 draws used/).count()).resolves.toBe(1);
     await table.scrollIntoViewIfNeeded();
+    await expectTablesFit(panel.getByLabel('Bootstrap result'), panel);
     await shot(page, 'deep-checks-bootstrap-wide');
+
+    // 3b. a rolling window: its charts read at this width and download
+    await panel.getByRole('button', { name: /^Hide result/ }).click();
+    await panel.getByRole('radio', { name: 'Rolling window' }).click();
+    await panel.getByLabel('Window length', { exact: true }).fill('240');
+    await panel.getByLabel('Step', { exact: true }).fill('24');
+    await panel.getByRole('button', { name: 'Start deep check' }).click();
+    const showRoll = panel.getByRole('button', { name: /^Show result of Rolling window #\d+$/ });
+    await showRoll.waitFor({ timeout: 60_000 });
+    await showRoll.click();
+    await panel.getByRole('img', { name: /^b of .+, by window$/ }).first().waitFor();
+    expect(await expectReadableRollingCharts(page)).toBeGreaterThan(0);
+    await panel.getByRole('radio', { name: 'λ (priced?)' }).click();
+    await panel.getByRole('img', { name: /^λ \(% per period\) of .+, by window$/ }).first().waitFor();
+    expect(await expectReadableRollingCharts(page)).toBeGreaterThan(0);
+    const firstChart = panel.getByRole('img', { name: /^λ \(% per period\) of .+, by window$/ }).first();
+    await firstChart.scrollIntoViewIfNeeded();
+    await shot(page, 'deep-checks-rolling-wide');
+    const chartTitle = ((await firstChart.getAttribute('aria-label')) ?? '').replace(/, by window$/, ', rolling windows of 240');
+    await expectChartDownloads(page, panel, chartTitle);
 
     // 4. the jobs list shows all three
     await panel.getByRole('link', { name: 'All deep checks' }).click();
@@ -137,8 +186,25 @@ describe('deep checks in the browser', () => {
     await panel.getByRole('img', { name: /^b of .+, by window$/ }).first().waitFor();
     await panel.getByRole('img', { name: /^b of .+, by window$/ }).first().scrollIntoViewIfNeeded();
     await shot(page, 'deep-checks-rolling-phone');
+    expect(await expectReadableRollingCharts(page)).toBeGreaterThan(0);
     const overflow = await page.evaluate(() => document.documentElement.scrollWidth - window.innerWidth);
     expect(overflow).toBeLessThanOrEqual(1);
+
+    // A subset sweep on the phone: no cell clipped, no name broken mid-word, nothing past the card.
+    await panel.getByRole('button', { name: /^Hide result/ }).click();
+    await panel.getByRole('radio', { name: 'Subset sweep' }).click();
+    await panel.getByRole('button', { name: 'Start deep check' }).click();
+    const showSweep = panel.getByRole('button', { name: /^Show result of Subset sweep #\d+$/ });
+    await showSweep.waitFor({ timeout: 60_000 });
+    await showSweep.click();
+    const sweep = panel.getByLabel('Subset sweep result');
+    await sweep.getByRole('table', { name: 'Best models by HJ distance' }).scrollIntoViewIfNeeded();
+    await expectTablesFit(sweep, panel);
+    await expectReadableChart(sweep.getByRole('img', { name: /^Factor frequency/ }), '0%');
+    await shot(page, 'deep-checks-sweep-phone');
+    await sweep.getByRole('img', { name: /^Factor frequency/ }).scrollIntoViewIfNeeded();
+    await shot(page, 'deep-checks-sweep-freq-phone');
+    expect(await page.evaluate(() => document.documentElement.scrollWidth - window.innerWidth)).toBeLessThanOrEqual(1);
     await page.goto('/jobs');
     await page.getByRole('group', { name: /^Rolling window #\d+$/ }).first().waitFor();
     await shot(page, 'deep-checks-jobs-phone');

@@ -8,6 +8,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import { readFileSync } from 'node:fs';
 import { PHONE, WIDE, expectSameOrigin, launchBrowser, openPage, shot, signIn } from './helpers';
+import { chartLabels, expectChartDownloads, expectReadableChart } from './chart-checks';
 
 let browser: Browser;
 beforeAll(async () => {
@@ -19,14 +20,24 @@ afterAll(async () => {
 
 const LIB_NAME = 'Breakwater test library';
 
-/** A small monthly CSV in percent: three portfolios, one traded factor, a bill rate. */
-function percentCsv(T: number, seed: number): string {
+const COLUMNS = ['Pier A', 'Pier B', 'Pier C', 'MOORING', 'RF'];
+
+/** The cumulative-return chart reads at this size: no overlapping or clipped label, dates at the bottom, 0% when linear. */
+async function expectReadableLibraryChart(page: Page): Promise<void> {
+  const chart = page.getByRole('img', { name: /^Cumulative return chart/ });
+  await chart.scrollIntoViewIfNeeded();
+  const log = (await chartLabels(chart)).texts.some((t) => t.endsWith('\u00D7'));
+  await expectReadableChart(chart, log ? null : '0%');
+}
+
+/** A small monthly CSV in percent: three portfolios, one traded factor, a bill rate (column names may change). */
+function percentCsv(T: number, seed: number, names: readonly string[] = COLUMNS): string {
   let s = seed;
   const rnd = () => {
     s = (s * 1103515245 + 12345) % 2147483648;
     return s / 2147483648;
   };
-  const lines = ['date,Pier A,Pier B,Pier C,MOORING,RF'];
+  const lines = [['date', ...names].join(',')];
   for (let t = 0; t < T; t++) {
     const d = `${2010 + Math.floor(t / 12)}-${String((t % 12) + 1).padStart(2, '0')}`;
     const f = (rnd() - 0.45) * 8;
@@ -83,6 +94,8 @@ describe('return libraries', () => {
     await page.getByRole('table', { name: 'Series' }).waitFor();
     await expect(page.getByRole('table', { name: 'Series' }).getByText('Factor (traded)').isVisible()).resolves.toBe(true);
     await page.getByRole('img', { name: /Cumulative return chart: MOORING/ }).waitFor();
+    await expectReadableLibraryChart(page);
+    await expectChartDownloads(page, page.getByRole('main'), `${LIB_NAME}, edition 1: cumulative return`);
     // The series table sorts and filters.
     const table = page.getByRole('table', { name: 'Series' });
     await page.getByRole('button', { name: 'Sort by Mean' }).click();
@@ -98,18 +111,48 @@ describe('return libraries', () => {
     await shot(page, 'libraries-series-table-wide');
     await page.getByLabel('Filter series').fill('');
 
-    // Share it.
+    // Share it: Keelson asks first; "Keep it private" changes nothing.
     await page.getByRole('button', { name: 'Share with the team' }).click();
-    await page.getByRole('button', { name: 'Share with the team' }).waitFor({ state: 'detached' });
+    const ask = page.getByRole('alert', { name: 'Confirm sharing' });
+    await ask.waitFor();
+    await expect(ask.getByText(/researchers, reviewers and desk users/).isVisible()).resolves.toBe(true);
+    await shot(page, 'libraries-share-confirm-wide');
+    await ask.getByRole('button', { name: 'Keep it private' }).click();
+    await ask.waitFor({ state: 'detached' });
+    await expect(page.getByLabel('private', { exact: true }).first().isVisible()).resolves.toBe(true);
+    await page.getByRole('button', { name: 'Share with the team' }).click();
+    await ask.getByRole('button', { name: 'Yes, share it' }).click();
+    await page.getByRole('button', { name: 'Stop sharing' }).waitFor();
     await expect(page.getByLabel('shared', { exact: true }).first().isVisible()).resolves.toBe(true);
+    // …and undo it: stop sharing asks too, then the library is private again; share it once more for the other roles.
+    await page.getByRole('button', { name: 'Stop sharing' }).click();
+    const unask = page.getByRole('alert', { name: 'Confirm stop sharing' });
+    await unask.waitFor();
+    await shot(page, 'libraries-unshare-confirm-wide');
+    await unask.getByRole('button', { name: 'Yes, stop sharing' }).click();
+    await page.getByRole('button', { name: 'Share with the team' }).waitFor();
+    await expect(page.getByLabel('private', { exact: true }).first().isVisible()).resolves.toBe(true);
+    await page.getByRole('button', { name: 'Share with the team' }).click();
+    await page.getByRole('alert', { name: 'Confirm sharing' }).getByRole('button', { name: 'Yes, share it' }).click();
+    await page.getByRole('button', { name: 'Stop sharing' }).waitFor();
     await shot(page, 'libraries-detail-wide');
 
     // Edition 2.
     await page.getByRole('link', { name: 'Upload new edition' }).click();
     await page.waitForURL(/\/libraries\/upload\?libraryId=\d+/);
     await page.getByRole('heading', { name: `New edition of ${LIB_NAME}`, level: 1 }).waitFor();
-    await pickFile(page, 'breakwater-2.csv', percentCsv(60, 11));
-    await page.getByRole('radiogroup', { name: 'Kind of MOORING' }).getByRole('radio', { name: 'Factor', exact: true }).click();
+    // Edition 2's file drops Pier C and brings Pier D: the kinds of edition 1 are kept, the change is listed.
+    await pickFile(page, 'breakwater-2.csv', percentCsv(60, 11, ['Pier A', 'Pier B', 'Pier D', 'MOORING', 'RF']));
+    const compared = page.getByLabel('Compared with the latest edition');
+    await compared.waitFor();
+    await expect(compared.getByLabel('New series').textContent()).resolves.toMatch(/Pier D$/);
+    await expect(compared.getByLabel('Gone series').textContent()).resolves.toMatch(/Pier C — earlier editions keep them/);
+    await expect(page.getByRole('radiogroup', { name: 'Kind of MOORING' }).getByRole('radio', { name: 'Factor', exact: true }).getAttribute('aria-checked')).resolves.toBe('true');
+    await expect(page.getByRole('radiogroup', { name: 'Is MOORING traded' }).getByRole('radio', { name: 'Traded', exact: true }).getAttribute('aria-checked')).resolves.toBe('true');
+    await expect(page.getByRole('radiogroup', { name: 'Kind of RF' }).getByRole('radio', { name: 'Risk-free' }).getAttribute('aria-checked')).resolves.toBe('true');
+    await expect(page.getByLabel('Why MOORING is suggested as it is').textContent()).resolves.toBe('Kept from edition 1: factor (traded)');
+    await expect(page.getByLabel('Pier D is new in this edition').isVisible()).resolves.toBe(true);
+    await shot(page, 'libraries-edition2-review-wide');
     await page.getByRole('button', { name: 'Confirm new edition' }).click();
     await page.waitForURL(/\/libraries\/\d+\?edition=2/);
     await page.getByRole('heading', { name: 'Edition 2' }).waitFor();
@@ -118,13 +161,14 @@ describe('return libraries', () => {
     // Download edition 2 as CSV: decimals (percent divided by 100), 60 rows.
     const [download] = await Promise.all([page.waitForEvent('download'), page.getByRole('link', { name: 'Download edition 2 as CSV' }).first().click()]);
     const csv = readFileSync((await download.path())!, 'utf8').trim().split('\n');
-    expect(csv[0]).toBe('date,Pier A,Pier B,Pier C,MOORING,RF');
+    expect(csv[0]).toBe('date,Pier A,Pier B,Pier D,MOORING,RF');
     expect(csv).toHaveLength(61);
     const rf = Number(csv[1]!.split(',')[5]);
     expect(rf).toBeGreaterThan(0.0009);
     expect(rf).toBeLessThan(0.0016);
 
     // Admins may delete an unused edition (not the last one).
+    await expect(page.getByRole('table', { name: 'Series' }).getByText('Factor (traded)').isVisible()).resolves.toBe(true);
     await page.getByRole('button', { name: 'Delete edition 1' }).click();
     await page.getByRole('button', { name: 'Yes, delete edition 1' }).click();
     await page.getByRole('listitem', { name: 'Edition 1' }).waitFor({ state: 'detached' });
@@ -158,9 +202,31 @@ describe('return libraries', () => {
     await expect(page.getByRole('radio', { name: 'The whole team (shared)' }).count()).resolves.toBe(0);
     await shot(page, 'libraries-upload-review-phone');
     await page.getByLabel('Library name').fill('Rhea scratch');
+    await page.getByRole('radiogroup', { name: 'Kind of MOORING' }).getByRole('radio', { name: 'Factor', exact: true }).click();
+    await page.getByRole('radiogroup', { name: 'Is MOORING traded' }).getByRole('radio', { name: 'Not traded', exact: true }).click();
     await page.getByRole('button', { name: 'Confirm and save' }).click();
     await page.getByRole('heading', { name: 'Rhea scratch', level: 1 }).waitFor();
     await expect(page.getByRole('button', { name: 'Archive library' }).isVisible()).resolves.toBe(true);
+    await page.getByRole('img', { name: /Cumulative return chart: MOORING/ }).waitFor();
+    await expectReadableLibraryChart(page);
+    await shot(page, 'libraries-chart-phone');
+
+    // Edition 2 on the phone keeps MOORING a non-traded factor and RF the risk-free rate.
+    await page.getByRole('link', { name: 'Upload new edition' }).click();
+    await page.waitForURL(/\/libraries\/upload\?libraryId=\d+/);
+    await pickFile(page, 'mine-2.csv', percentCsv(36, 5));
+    await page.getByLabel('Compared with the latest edition').waitFor();
+    await expect(page.getByRole('radiogroup', { name: 'Kind of MOORING' }).getByRole('radio', { name: 'Factor', exact: true }).getAttribute('aria-checked')).resolves.toBe('true');
+    await expect(page.getByRole('radiogroup', { name: 'Is MOORING traded' }).getByRole('radio', { name: 'Not traded', exact: true }).getAttribute('aria-checked')).resolves.toBe('true');
+    await expect(page.getByRole('radiogroup', { name: 'Kind of RF' }).getByRole('radio', { name: 'Risk-free' }).getAttribute('aria-checked')).resolves.toBe('true');
+    await expect(page.getByLabel('New series').textContent()).resolves.toMatch(/none$/);
+    await shot(page, 'libraries-edition2-review-phone');
+    await page.getByRole('button', { name: 'Confirm new edition' }).click();
+    await page.waitForURL(/\/libraries\/\d+\?edition=2/);
+    await page.getByRole('heading', { name: 'Edition 2' }).waitFor();
+    await page.getByText('Factor (not traded)').first().waitFor();
+    const overflow = await page.evaluate(() => document.documentElement.scrollWidth - window.innerWidth);
+    expect(overflow).toBeLessThanOrEqual(1);
     expectSameOrigin(requests);
     expect(errors).toEqual([]);
     await context.close();

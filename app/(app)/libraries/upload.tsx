@@ -37,7 +37,7 @@ function UploadFlow() {
       {libraryId && target.isError ? <ErrorView error={target.error} title="That library could not be loaded" /> : null}
       {!upload ? (
         <Card title="1 · Pick a CSV file">
-          <LibraryFileInput disabled={send.isPending} onPick={(file) => send.mutate({ file, name: file.name }, { onSuccess: setUpload })} />
+          <LibraryFileInput disabled={send.isPending} onPick={(file) => send.mutate({ file, name: file.name, libraryId }, { onSuccess: setUpload })} />
           {send.isPending ? (
             <View style={{ flexDirection: 'row', gap: space.sm, alignItems: 'center' }}>
               <ActivityIndicator color={colors.brass} />
