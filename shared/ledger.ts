@@ -56,6 +56,9 @@ export const ledgerFactorSchema = z.object({
   bootstrap: z.object({ pB: prob, pLambda: prob.nullable(), pDrop: prob.nullable() }).nullable(),
   verdicts: z.object({ standard: verdictSchema, robust: verdictSchema.nullable(), bootstrap: verdictSchema.nullable() }),
   verdict: verdictSchema,
+  /** Holm and Benjamini–Yekutieli adjusted p of the b test across the ledger's factors (on `adjustedBasis`). */
+  pHolm: prob,
+  pBY: prob,
 });
 
 export const ledgerPricingErrorSchema = z.object({
@@ -122,6 +125,7 @@ export const ledgerResultSchema = z.object({
     .nullable(),
   caution: z.string().nullable(),
   lagWarning: z.string().nullable(),
+  adjustedBasis: z.enum(['standard', 'robust']),
   options: z.object({
     stage: stageSchema,
     weighting: weightingSchema,

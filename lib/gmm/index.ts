@@ -34,3 +34,7 @@ export * from './bootstrap';
 export * from './random';
 export * from './subset-sweep';
 export * from './rolling';
+// Choosing among models
+export * from './sharpe';
+export * from './multiple-testing';
+export * from './holdout';

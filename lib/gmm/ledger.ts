@@ -8,7 +8,8 @@
  * Kan and Robotti 2008, Gospodinov, Kan and Robotti 2014); per-factor χ² drop test with the
  * unrestricted second-stage weighting (drop-test; at the first stage the second stage computed
  * from the first-stage b̂); spanning check for traded factors (spanning); thin-beta flag (thin-beta);
- * verdict (verdict); J; HJ distance (hj-distance); GRS when every factor is traded (grs);
+ * verdict (verdict); Holm and Benjamini–Yekutieli adjusted p of the b tests across the factors
+ * (multiple-testing; Holm 1979, Benjamini and Yekutieli 2001); J; HJ distance (hj-distance); GRS when every factor is traded (grs);
  * Fama–MacBeth with the Shanken correction (fama-macbeth); optional joint tests for `dropSet`;
  * the verdict on each basis and the headline verdict on the requested basis; a lag warning
  * (L > 2·T^(1/3), Andrews 1991) and a small-sample caution with simulated figures
@@ -34,6 +35,7 @@ import { spanningJointCore, spanningSingle, type SpanningSingle } from './spanni
 import { thinBetaTest, type ThinBetaTest } from './thin-beta';
 import { checkCollinear, validateMatrices } from './validate';
 import { factorVerdict, type Verdict } from './verdict';
+import { benjaminiYekutieliAdjust, holmAdjust } from './multiple-testing';
 import type { BootstrapScheme } from './bootstrap';
 import { waldJoint, waldSingle } from './wald';
 import { dropTester, dropWeighting, type DropTest } from './drop-test';
@@ -153,6 +155,13 @@ export interface LedgerFactor {
   readonly verdicts: LedgerVerdicts;
   /** The verdict on `verdictBasis` (the ledger's headline). */
   readonly verdict: Verdict;
+  /**
+   * Holm (1979) step-down adjusted p of the b test, across this ledger's K factors, on the
+   * `adjustedBasis` p (multiple-testing.ts).
+   */
+  readonly pHolm: number;
+  /** Benjamini and Yekutieli (2001) step-up adjusted p of the b test, across the K factors. */
+  readonly pBY: number;
 }
 
 export interface LedgerPricingError {
@@ -215,6 +224,12 @@ export interface LedgerResult {
   readonly caution: string | null;
   /** A warning when L > 2·T^(1/3) (shown beside every SE), else null. */
   readonly lagWarning: string | null;
+  /**
+   * Which p of the b tests the adjusted p-values (pHolm, pBY) adjust: the robust p when the
+   * verdict basis is robust, the standard p otherwise (also on the bootstrap basis: the adjusted
+   * p-values are computed when the ledger is estimated, before any bootstrap p arrives).
+   */
+  readonly adjustedBasis: 'standard' | 'robust';
   readonly options: {
     readonly stage: GmmStage;
     readonly weighting: FirstStageWeighting;
@@ -380,7 +395,7 @@ export function estimateLedger(input: LedgerInput): LedgerResult {
   const verdictBasis: Basis = basis === 'bootstrap' ? (robust ? 'robust' : 'standard') : basis === 'robust' && !robust ? 'standard' : basis;
   const nonTradedNames = names.filter((_, k) => !input.traded[k]);
 
-  const factors: LedgerFactor[] = names.map((name, k) => {
+  const rows = names.map((name, k) => {
     const bz = waldSingle(fit.b[k], Math.sqrt(Math.max(0, fit.covB[k * K + k])));
     const lz = waldSingle(prem.lambda[k], Math.sqrt(Math.max(0, prem.covLambda[k * K + k])));
     const traded = input.traded[k];
@@ -429,6 +444,12 @@ export function estimateLedger(input: LedgerInput): LedgerResult {
       verdict: verdictBasis === 'robust' && robustVerdict ? robustVerdict : standardVerdict,
     };
   });
+  // Adjusted p-values of the b tests across the ledger's factors, on the verdict basis's p.
+  const adjustedBasis: 'standard' | 'robust' = verdictBasis === 'robust' && robust ? 'robust' : 'standard';
+  const pForAdjust = rows.map((f) => (adjustedBasis === 'robust' && f.robust ? f.robust.pB : f.pB));
+  const pHolm = holmAdjust(pForAdjust);
+  const pBY = benjaminiYekutieliAdjust(pForAdjust);
+  const factors: LedgerFactor[] = rows.map((f, k) => ({ ...f, pHolm: pHolm[k], pBY: pBY[k] }));
   if (nonTradedNames.length > 0 && K > 1 && nonTradedNames.length < K)
     warnings.push(`Spanning regressions use every other factor as a regressor, including non-traded ${nonTradedNames.join(', ')}.`);
 
@@ -493,6 +514,7 @@ export function estimateLedger(input: LedgerInput): LedgerResult {
     bootstrap: null,
     caution,
     lagWarning,
+    adjustedBasis,
     options: {
       stage: o.stage,
       weighting: o.weighting,
