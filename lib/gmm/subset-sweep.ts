@@ -14,6 +14,23 @@
  * one |s|×|s| Cholesky solve. HJ(s) equals hjDistance on the subset's own moments and D(s) equals
  * the ledger's joint drop test of the complement (tests assert both).
  *
+ * Adjusted p per candidate: the b tests of the full model (its standard, influence-function SEs at
+ * the full model's stage, two-step or iterated), t_k = b̂_k / se(b̂_k), adjusted across all K
+ * candidates by Holm (1979) and Benjamini and Yekutieli (2001) (multiple-testing.ts).
+ *
+ * Ranking by the squared Sharpe ratio (traded candidates only; Barillas and Shanken 2017, RFS;
+ * sharpe.ts): for every subset s made only of traded candidates, θ̂(s) = μ_s'Σ_s^{-1}μ_s from the
+ * μ and Σ_f of all candidates, computed once. Subsets are visited in mask order, and the Cholesky
+ * factor of Σ_s is built in the order of decreasing factor index, so consecutive masks share all
+ * rows but the last: each θ̂(s) costs one new Cholesky row (O(|s|²)), θ̂ being the running sum of
+ * the squares of L^{-1}μ_s. Standard errors se(θ̂) = sqrt(LRV(ψ)/T), ψ_t = 2u_t − u_t² + θ̂,
+ * need a pass over the T periods each, so they are computed only for the models listed (the top
+ * `thetaTop` by θ̂, the best of each size, the smallest models within one SE): all 32,767 would
+ * cost more than the rest of the sweep. In-sample θ̂ never falls when a factor is added, so the
+ * best is the full set of traded candidates; a subset is "within one SE" when θ̂(s) ≥ θ̂_best −
+ * se(θ̂_best) (the one-standard-error rule, common practice), and the smallest such subsets are the
+ * parsimonious choices. The difference of two listed models is tested with compareModels.
+ *
  * Papers: Hansen, L. P. and Jagannathan, R. (1997), "Assessing Specification Errors in Stochastic
  * Discount Factor Models", Journal of Finance 52(2), 557–590. Newey, W. K. and West, K. D.
  * (1987), "Hypothesis Testing with Efficient Method of Moments Estimation", International
@@ -25,6 +42,9 @@
  */
 import { chiSquareSf } from './distributions';
 import { GmmInputError } from './errors';
+import { benjaminiYekutieliAdjust, holmAdjust } from './multiple-testing';
+import { seriesVarianceOfMean, squaredSharpeCore } from './sharpe';
+import { waldSingle } from './wald';
 import { dropWeighting, weightProducts } from './drop-test';
 import { resolveLag } from './hac';
 import { cholesky, choleskyInverse, choleskySolve, fromNested } from './linalg';
@@ -47,12 +67,18 @@ export interface SubsetSweepOptions {
   readonly level?: number;
   /** How many models per size to list and to count factor appearances in (default 5). */
   readonly topPerSize?: number;
+  /** Rank the subsets of traded candidates by θ̂ (default true; needs `traded`). */
+  readonly thetaRanking?: boolean;
+  /** How many models to list by θ̂, with standard errors (default 20). */
+  readonly thetaTop?: number;
 }
 
 export interface SubsetSweepInput {
   readonly returns: readonly (readonly number[])[];
   readonly factors: readonly (readonly number[])[];
   readonly factorNames: readonly string[];
+  /** One flag per candidate; without it the θ̂ ranking is not computed (candidates' kind unknown). */
+  readonly traded?: readonly boolean[];
   readonly options: SubsetSweepOptions;
 }
 
@@ -72,6 +98,18 @@ export interface SweepPlan {
   readonly wC: Float64Array;
   readonly wQ0: number;
   readonly wQFull: number;
+  /** Full model's b̂ and standard SEs (K), for the adjusted p per candidate. */
+  readonly fullB: Float64Array;
+  readonly fullSeB: Float64Array;
+  /** Traded flags (null when not given) and the bit mask of the non-traded candidates. */
+  readonly traded: readonly boolean[] | null;
+  readonly nonTradedMask: number;
+  /** Whether evaluateSubsets computes θ̂. */
+  readonly theta: boolean;
+  /** Factor moments for θ̂: F (T×K row-major), μ, Σ_f (divisor T). */
+  readonly F: Float64Array;
+  readonly meanF: Float64Array;
+  readonly sigmaF: Float64Array;
 }
 
 /** One evaluated subset; null fields when its system is singular. */
@@ -82,6 +120,8 @@ export interface SweepRow {
   readonly drop: number | null;
   readonly df: number;
   readonly p: number | null;
+  /** θ̂ = μ_s'Σ_s^{-1}μ_s (null: a non-traded candidate in s, no ranking asked, or singular). */
+  readonly theta: number | null;
 }
 
 export interface SweepModel {
@@ -109,6 +149,48 @@ export interface SubsetSweepResult {
   readonly adequate: readonly SweepModel[];
   /** Share of the listed best-by-HJ models (all sizes) that contain each factor. */
   readonly factorFrequency: readonly { readonly name: string; readonly share: number; readonly count: number }[];
+  /** The full model's b test per candidate with Holm and Benjamini–Yekutieli adjusted p across all K. */
+  readonly candidates: readonly SweepCandidate[];
+  /** Ranking by the squared Sharpe ratio of the factors (null with the reason in thetaNote). */
+  readonly thetaRanking: SweepThetaRanking | null;
+  readonly thetaNote: string | null;
+}
+
+export interface SweepCandidate {
+  readonly name: string;
+  /** null when the traded flags were not given. */
+  readonly traded: boolean | null;
+  readonly b: number;
+  readonly seB: number;
+  readonly tB: number;
+  readonly pB: number;
+  readonly pHolm: number;
+  readonly pBY: number;
+}
+
+export interface SweepThetaModel {
+  readonly factors: readonly string[];
+  readonly size: number;
+  readonly theta: number;
+  readonly se: number;
+  /** θ̂ ≥ θ̂_best − se(θ̂_best). */
+  readonly withinOneSe: boolean;
+}
+
+export interface SweepThetaRanking {
+  /** The traded candidates the ranked subsets are drawn from. */
+  readonly candidates: readonly string[];
+  /** Subsets ranked (all non-empty subsets of the traded candidates that are not singular). */
+  readonly models: number;
+  readonly best: SweepThetaModel;
+  /** How many ranked subsets are within one SE of the best. */
+  readonly withinOneSe: number;
+  /** The top models by θ̂ (descending), with SEs. */
+  readonly top: readonly SweepThetaModel[];
+  /** Per size: the model with the highest θ̂. */
+  readonly bestBySize: readonly SweepThetaModel[];
+  /** The smallest subsets within one SE of the best (by θ̂, up to 10). */
+  readonly smallestWithinOneSe: readonly SweepThetaModel[];
 }
 
 export function subsetFactors(mask: number, names: readonly string[]): string[] {
@@ -173,8 +255,95 @@ export function prepareSubsetSweep(input: SubsetSweepInput): SweepPlan {
   const all = Int32Array.from({ length: K }, (_, k) => k);
   const qFull = objective(w.A, w.c, w.q0, K, all, K, new Float64Array(K * K), new Float64Array(K));
   if (qFull === null) throw new GmmInputError('invalid-option', 'The full model is singular under its own weighting.');
-  return { T, N, K, lags, factorNames: [...input.factorNames], hjA: hj.A, hjC: hj.c, hjQ0: hj.q0, wA: w.A, wC: w.c, wQ0: w.q0, wQFull: qFull };
+  let traded: boolean[] | null = null;
+  if (input.traded !== undefined) {
+    if (!Array.isArray(input.traded) || input.traded.length !== K || input.traded.some((v) => typeof v !== 'boolean'))
+      throw new GmmInputError('length-mismatch', `traded must have one true/false flag per candidate (${K}).`);
+    traded = [...input.traded];
+  }
+  let nonTradedMask = 0;
+  if (traded) traded.forEach((t, k) => { if (!t) nonTradedMask |= 1 << k; });
+  const theta = traded !== null && o.thetaRanking !== false && traded.some(Boolean);
+  const fullSeB = Float64Array.from({ length: K }, (_, k) => Math.sqrt(Math.max(0, full.covB[k * K + k])));
+  return {
+    T, N, K, lags, factorNames: [...input.factorNames], hjA: hj.A, hjC: hj.c, hjQ0: hj.q0, wA: w.A, wC: w.c, wQ0: w.q0, wQFull: qFull,
+    fullB: Float64Array.from(full.b), fullSeB, traded, nonTradedMask, theta, F: m.F, meanF: m.meanF, sigmaF: m.sigmaF,
+  };
 }
+
+/**
+ * θ̂ of consecutive subsets by one Cholesky row each (see the module comment): the factor of Σ_s
+ * is kept for the factors of s in decreasing index order; a new mask keeps the rows of the
+ * factors it shares at the front with the previous one and adds the rest.
+ */
+class ThetaStack {
+  private readonly L: Float64Array;
+  private readonly z: Float64Array;
+  private readonly cum: Float64Array;
+  private readonly order: Int32Array;
+  private depth = 0;
+  /** Depth of the first singular row (rows from there on are invalid), or K + 1. */
+  private bad: number;
+  constructor(private readonly K: number, private readonly mu: Float64Array, private readonly S: Float64Array) {
+    this.L = new Float64Array(K * K);
+    this.z = new Float64Array(K);
+    this.cum = new Float64Array(K);
+    this.order = new Int32Array(K);
+    this.bad = K + 1;
+  }
+  theta(mask: number): number | null {
+    const { K, L, z, cum, order, mu, S } = this;
+    // the factors of mask from the highest index down; keep the common prefix
+    let d = 0;
+    let keep = 0;
+    let same = true;
+    for (let j = K - 1; j >= 0; j--) {
+      if (!((mask >> j) & 1)) continue;
+      if (same && d < this.depth && order[d] === j) keep = d + 1;
+      else same = false;
+      d++;
+    }
+    // a singular row beyond the kept prefix is dropped with it
+    if (this.bad >= keep) this.bad = K + 1;
+    let depth = keep;
+    let seen = 0;
+    for (let j = K - 1; j >= 0; j--) {
+      if (!((mask >> j) & 1)) continue;
+      // the first `keep` factors (from the top) are the kept prefix
+      if (seen++ < keep) continue;
+      const row = depth * K;
+      let piv = S[j * K + j];
+      let zz = mu[j];
+      for (let i = 0; i < depth; i++) {
+        let v = S[j * K + order[i]];
+        const ri = i * K;
+        for (let l = 0; l < i; l++) v -= L[row + l] * L[ri + l];
+        v /= L[ri + i];
+        L[row + i] = v;
+        piv -= v * v;
+        zz -= v * z[i];
+      }
+      order[depth] = j;
+      if (!(piv > SINGULAR_PIVOT * S[j * K + j])) {
+        if (this.bad > depth) this.bad = depth;
+        L[row + depth] = 1;
+        z[depth] = 0;
+        cum[depth] = 0;
+      } else {
+        const ljj = Math.sqrt(piv);
+        L[row + depth] = ljj;
+        z[depth] = zz / ljj;
+        cum[depth] = (depth > 0 ? cum[depth - 1] : 0) + z[depth] * z[depth];
+      }
+      depth++;
+    }
+    this.depth = depth;
+    return this.bad < depth ? null : cum[depth - 1];
+  }
+}
+
+/** Relative Cholesky pivot below which a subset's Σ_s counts as singular (linalg's SINGULAR_TOL). */
+const SINGULAR_PIVOT = 1e-13;
 
 /** Evaluate the subsets with masks in [fromMask, toMask) (masks 1..2^K − 1). */
 export function evaluateSubsets(plan: SweepPlan, fromMask: number, toMask: number): SweepRow[] {
@@ -185,24 +354,26 @@ export function evaluateSubsets(plan: SweepPlan, fromMask: number, toMask: numbe
   const cs = new Float64Array(K);
   const lo = Math.max(1, fromMask);
   const hi = Math.min(2 ** K, toMask);
+  const stack = plan.theta ? new ThetaStack(K, plan.meanF, plan.sigmaF) : null;
   for (let mask = lo; mask < hi; mask++) {
     let k = 0;
     for (let j = 0; j < K; j++) if ((mask >> j) & 1) idx[k++] = j;
     const qh = objective(plan.hjA, plan.hjC, plan.hjQ0, K, idx, k, As, cs);
     const qw = objective(plan.wA, plan.wC, plan.wQ0, K, idx, k, As, cs);
     const df = K - k;
+    const theta = stack && (mask & plan.nonTradedMask) === 0 ? stack.theta(mask) : null;
     if (qh === null || qw === null) {
-      rows.push({ mask, size: k, hj: null, drop: null, df, p: null });
+      rows.push({ mask, size: k, hj: null, drop: null, df, p: null, theta });
       continue;
     }
     const drop = df === 0 ? 0 : Math.max(0, T * (qw - plan.wQFull));
-    rows.push({ mask, size: k, hj: Math.sqrt(Math.max(0, qh)), drop, df, p: chiSquareSf(drop, df) });
+    rows.push({ mask, size: k, hj: Math.sqrt(Math.max(0, qh)), drop, df, p: chiSquareSf(drop, df), theta });
   }
   return rows;
 }
 
 /** Rank the rows (from any number of chunks) and summarise. */
-export function summariseSubsetSweep(plan: SweepPlan, rows: readonly SweepRow[], options: Pick<SubsetSweepOptions, 'level' | 'topPerSize'> = {}): SubsetSweepResult {
+export function summariseSubsetSweep(plan: SweepPlan, rows: readonly SweepRow[], options: Pick<SubsetSweepOptions, 'level' | 'topPerSize' | 'thetaTop'> = {}): SubsetSweepResult {
   const level = options.level ?? 0.05;
   const top = options.topPerSize ?? 5;
   const names = plan.factorNames;
@@ -228,6 +399,20 @@ export function summariseSubsetSweep(plan: SweepPlan, rows: readonly SweepRow[],
     .sort((a, b) => a.size - b.size || a.hj - b.hj || a.mask - b.mask)
     .slice(0, 10)
     .map(model);
+  const tests = names.map((_, k) => waldSingle(plan.fullB[k], plan.fullSeB[k]));
+  const pHolm = holmAdjust(tests.map((t) => t.p));
+  const pBY = benjaminiYekutieliAdjust(tests.map((t) => t.p));
+  const candidates: SweepCandidate[] = names.map((name, k) => ({
+    name,
+    traded: plan.traded ? plan.traded[k] : null,
+    b: tests[k].estimate,
+    seB: tests[k].se,
+    tB: tests[k].t,
+    pB: tests[k].p,
+    pHolm: pHolm[k],
+    pBY: pBY[k],
+  }));
+  const { ranking, note } = thetaRanking(plan, rows, options.thetaTop ?? 20);
   return {
     T: plan.T,
     N: plan.N,
@@ -240,6 +425,57 @@ export function summariseSubsetSweep(plan: SweepPlan, rows: readonly SweepRow[],
     bestByDrop,
     adequate,
     factorFrequency: names.map((name, k) => ({ name, count: counts[k], share: listed > 0 ? counts[k] / listed : 0 })),
+    candidates,
+    thetaRanking: ranking,
+    thetaNote: note,
+  };
+}
+
+function thetaRanking(plan: SweepPlan, rows: readonly SweepRow[], top: number): { ranking: SweepThetaRanking | null; note: string | null } {
+  if (!plan.traded) return { ranking: null, note: 'The candidates’ traded flags were not given, so the squared-Sharpe ranking was not computed.' };
+  if (!plan.traded.some(Boolean)) return { ranking: null, note: 'No candidate is traded: the squared-Sharpe ranking needs traded factors.' };
+  if (!plan.theta) return { ranking: null, note: 'The squared-Sharpe ranking was not asked for.' };
+  const ranked = rows.filter((r) => r.theta !== null) as (SweepRow & { theta: number })[];
+  if (ranked.length === 0) return { ranking: null, note: 'Every subset of traded candidates is singular.' };
+  const names = plan.factorNames;
+  const sorted = [...ranked].sort((a, b) => b.theta - a.theta || a.size - b.size || a.mask - b.mask);
+  const ses = new Map<number, number>();
+  const seOf = (mask: number): number => {
+    const hit = ses.get(mask);
+    if (hit !== undefined) return hit;
+    const idx = names.map((_, k) => k).filter((k) => (mask >> k) & 1);
+    const core = squaredSharpeCore(plan.F, plan.T, plan.K, plan.meanF, plan.sigmaF, idx);
+    const se = core ? Math.sqrt(seriesVarianceOfMean(core.psi, plan.T, plan.lags)) : 0;
+    ses.set(mask, se);
+    return se;
+  };
+  const bestRow = sorted[0];
+  const cut = bestRow.theta - seOf(bestRow.mask);
+  const model = (r: SweepRow & { theta: number }): SweepThetaModel => ({
+    factors: subsetFactors(r.mask, names),
+    size: r.size,
+    theta: r.theta,
+    se: seOf(r.mask),
+    withinOneSe: r.theta >= cut,
+  });
+  const within = sorted.filter((r) => r.theta >= cut);
+  const minSize = Math.min(...within.map((r) => r.size));
+  const bestBySize: SweepThetaModel[] = [];
+  for (let size = 1; size <= plan.K; size++) {
+    const first = sorted.find((r) => r.size === size);
+    if (first) bestBySize.push(model(first));
+  }
+  return {
+    ranking: {
+      candidates: names.filter((_, k) => plan.traded![k]),
+      models: ranked.length,
+      best: model(bestRow),
+      withinOneSe: within.length,
+      top: sorted.slice(0, Math.max(1, top)).map(model),
+      bestBySize,
+      smallestWithinOneSe: within.filter((r) => r.size === minSize).slice(0, 10).map(model),
+    },
+    note: null,
   };
 }
 
