@@ -7,6 +7,9 @@ OLS with cov_type='HAC' (use_correction=False), solves use numpy.linalg.
 usage: /usr/bin/python3 gmm_reference.py IN.json OUT.json   (IN may hold one input or a list)
 IN: {returns: T x N, factors: T x K, traded: [bool], lags: int, stage, weighting, form,
      factorMeansKnown, fmIntercept, dropSets: [[k,...],...], level}
+    or a model-choice task: {task: 'sharpe', factors, lags, a: [k...], b: [k...]};
+    {task: 'multipletests', pvalues: [[p...], ...]}; {task: 'holdout', returns, factors, split, lags,
+    stage, weighting, form, factorMeansKnown}
 """
 import json
 import sys
@@ -277,7 +280,69 @@ def main():
         json.dump(one(data), open(sys.argv[2], 'w'))
 
 
+def sharpe_theta(F, L):
+    """Barillas and Shanken (2017): theta = mu' Sigma_f^{-1} mu (divisor T), influence
+    psi_t = 2 u_t - u_t^2 + theta, u_t = mu' Sigma_f^{-1} (f_t - mu); se = sqrt(LRV(psi)/T)."""
+    T = F.shape[0]
+    mu = F.mean(axis=0)
+    Fd = F - mu
+    Sf = Fd.T @ Fd / T
+    w = np.linalg.solve(Sf, mu)
+    theta = float(mu @ w)
+    u = Fd @ w
+    psi = 2 * u - u ** 2 + theta
+    return theta, psi, float(np.sqrt(hac(psi, L)[0, 0] / T))
+
+
+def sharpe_task(inp):
+    """methods.md "Choosing among models": theta, se and the BKRS (2020) z test of two models."""
+    F = np.array(inp['factors'], dtype=float)
+    L = int(inp['lags'])
+    ta, pa, sa = sharpe_theta(F[:, inp['a']], L)
+    tb, pb, sb = sharpe_theta(F[:, inp['b']], L)
+    T = F.shape[0]
+    se = float(np.sqrt(hac(pa - pb, L)[0, 0] / T))
+    z = (ta - tb) / se
+    return {'a': {'theta': ta, 'se': sa}, 'b': {'theta': tb, 'se': sb}, 'diff': ta - tb, 'se': se, 'z': z,
+            'p': float(2 * stats.norm.sf(abs(z)))}
+
+
+def multipletests_task(inp):
+    """statsmodels.stats.multitest.multipletests, methods 'holm' and 'fdr_by'."""
+    from statsmodels.stats.multitest import multipletests
+    out = []
+    for p in inp['pvalues']:
+        p = np.array(p, dtype=float)
+        out.append({'holm': multipletests(p, method='holm')[1].tolist(), 'by': multipletests(p, method='fdr_by')[1].tolist()})
+    return out
+
+
+def holdout_task(inp):
+    """Kozak, Nagel and Santosh (2020): b from the periods before the split (this script's gmm),
+    priced on the periods after it: alpha2 = m2 - C2 b (D2 b uncentred), R2oos = 1 - a'a / m2'm2."""
+    R = np.array(inp['returns'], dtype=float)
+    F = np.array(inp['factors'], dtype=float)
+    s = int(inp['split'])
+    g = gmm(R[:s], F[:s], int(inp['lags']), inp['stage'], inp['weighting'], inp['form'], inp['factorMeansKnown'], [])
+    b = np.array(g['b'])
+    R2, F2 = R[s:], F[s:]
+    T2 = R2.shape[0]
+    m2 = R2.mean(axis=0)
+    if inp['form'] == 'centred':
+        X2 = (R2 - m2).T @ (F2 - F2.mean(axis=0)) / T2
+    else:
+        X2 = R2.T @ F2 / T2
+    a2 = m2 - X2 @ b
+    return {'b': b.tolist(), 'alpha': a2.tolist(), 'holdoutMean': m2.tolist(), 'meanAbsAlpha': float(np.mean(np.abs(a2))),
+            'r2oos': float(1 - a2 @ a2 / (m2 @ m2))}
+
+
+TASKS = {'sharpe': sharpe_task, 'multipletests': multipletests_task, 'holdout': holdout_task}
+
+
 def one(inp):
+    if 'task' in inp:
+        return TASKS[inp['task']](inp)
     R = np.array(inp['returns'], dtype=float)
     F = np.array(inp['factors'], dtype=float)
     L = int(inp['lags'])
