@@ -435,10 +435,31 @@ function thetaRanking(plan: SweepPlan, rows: readonly SweepRow[], top: number): 
   if (!plan.traded) return { ranking: null, note: 'The candidates’ traded flags were not given, so the squared-Sharpe ranking was not computed.' };
   if (!plan.traded.some(Boolean)) return { ranking: null, note: 'No candidate is traded: the squared-Sharpe ranking needs traded factors.' };
   if (!plan.theta) return { ranking: null, note: 'The squared-Sharpe ranking was not asked for.' };
-  const ranked = rows.filter((r) => r.theta !== null) as (SweepRow & { theta: number })[];
-  if (ranked.length === 0) return { ranking: null, note: 'Every subset of traded candidates is singular.' };
+  // Linear passes, no sort of all rows (the sweep is benchmarked): the order is θ̂ descending, then
+  // size, then mask.
+  type Ranked = SweepRow & { theta: number };
+  const before = (x: Ranked, y: Ranked) => x.theta > y.theta || (x.theta === y.theta && (x.size < y.size || (x.size === y.size && x.mask < y.mask)));
   const names = plan.factorNames;
-  const sorted = [...ranked].sort((a, b) => b.theta - a.theta || a.size - b.size || a.mask - b.mask);
+  let count = 0;
+  let bestRow: Ranked | null = null;
+  const bySize: (Ranked | null)[] = new Array<Ranked | null>(plan.K + 1).fill(null);
+  const keep = Math.max(1, top);
+  const topRows: Ranked[] = [];
+  for (const row of rows) {
+    if (row.theta === null) continue;
+    const r = row as Ranked;
+    count += 1;
+    if (!bestRow || before(r, bestRow)) bestRow = r;
+    const cur = bySize[r.size];
+    if (!cur || before(r, cur)) bySize[r.size] = r;
+    if (topRows.length < keep || before(r, topRows[topRows.length - 1])) {
+      let i = topRows.length;
+      while (i > 0 && before(r, topRows[i - 1])) i--;
+      topRows.splice(i, 0, r);
+      if (topRows.length > keep) topRows.pop();
+    }
+  }
+  if (!bestRow) return { ranking: null, note: 'Every subset of traded candidates is singular.' };
   const ses = new Map<number, number>();
   const seOf = (mask: number): number => {
     const hit = ses.get(mask);
@@ -449,31 +470,33 @@ function thetaRanking(plan: SweepPlan, rows: readonly SweepRow[], top: number): 
     ses.set(mask, se);
     return se;
   };
-  const bestRow = sorted[0];
-  const cut = bestRow.theta - seOf(bestRow.mask);
-  const model = (r: SweepRow & { theta: number }): SweepThetaModel => ({
+  const best = bestRow;
+  const cut = best.theta - seOf(best.mask);
+  const model = (r: Ranked): SweepThetaModel => ({
     factors: subsetFactors(r.mask, names),
     size: r.size,
     theta: r.theta,
     se: seOf(r.mask),
     withinOneSe: r.theta >= cut,
   });
-  const within = sorted.filter((r) => r.theta >= cut);
-  const minSize = Math.min(...within.map((r) => r.size));
-  const bestBySize: SweepThetaModel[] = [];
-  for (let size = 1; size <= plan.K; size++) {
-    const first = sorted.find((r) => r.size === size);
-    if (first) bestBySize.push(model(first));
-  }
+  let within = 0;
+  let minSize = plan.K + 1;
+  for (const row of rows)
+    if (row.theta !== null && row.theta >= cut) {
+      within += 1;
+      if (row.size < minSize) minSize = row.size;
+    }
+  const smallest = (rows.filter((r) => r.theta !== null && r.size === minSize && r.theta >= cut) as Ranked[]).sort((x, y) => (before(x, y) ? -1 : before(y, x) ? 1 : 0));
+  const bestBySize = bySize.filter((r): r is Ranked => r !== null).map(model);
   return {
     ranking: {
       candidates: names.filter((_, k) => plan.traded![k]),
-      models: ranked.length,
-      best: model(bestRow),
-      withinOneSe: within.length,
-      top: sorted.slice(0, Math.max(1, top)).map(model),
+      models: count,
+      best: model(best),
+      withinOneSe: within,
+      top: topRows.map(model),
       bestBySize,
-      smallestWithinOneSe: within.filter((r) => r.size === minSize).slice(0, 10).map(model),
+      smallestWithinOneSe: smallest.slice(0, 10).map(model),
     },
     note: null,
   };
