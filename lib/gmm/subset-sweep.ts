@@ -504,8 +504,11 @@ function thetaRanking(plan: SweepPlan, rows: readonly SweepRow[], top: number): 
 
 /**
  * The whole sweep in one call.
- * @param input returns T×N, factors T×K (K ≤ 15), names, options (lags, form, weighting, level, topPerSize).
- * @returns rankings by HJ distance and by the drop test against the full model, per size, and factor frequencies.
+ * @param input returns T×N, factors T×K (K ≤ 15), names, traded flags (optional: needed for the θ̂
+ *   ranking), options (lags, form, weighting, level, topPerSize, thetaRanking, thetaTop).
+ * @returns rankings by HJ distance and by the drop test against the full model, per size, factor
+ *   frequencies, the full model's b test per candidate with Holm / BY adjusted p, and the θ̂ ranking
+ *   of the subsets of traded candidates (null with `thetaNote` saying why).
  * @throws GmmInputError on malformed input or more than 15 candidates.
  */
 export function subsetSweep(input: SubsetSweepInput): SubsetSweepResult {
