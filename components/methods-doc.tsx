@@ -13,6 +13,9 @@ function decode(s: string): string {
     .replace(/&amp;/g, '&');
 }
 
+/** Running text: a line break inside a markdown paragraph is a space, as in any markdown reader. */
+const flow = (s: string) => decode(s).replace(/\s*\n\s*/g, ' ');
+
 /** Inline tokens (text, `code`, **strong**, *em*, links) as nested Text. */
 function inline(tokens: readonly Token[] | undefined, key = 'i'): ReactNode {
   if (!tokens) return null;
@@ -22,7 +25,7 @@ function inline(tokens: readonly Token[] | undefined, key = 'i'): ReactNode {
       case 'codespan':
         return (
           <Text key={k} style={styles.codespan}>
-            {decode((t as Tokens.Codespan).text)}
+            {flow((t as Tokens.Codespan).text)}
           </Text>
         );
       case 'strong':
@@ -41,7 +44,7 @@ function inline(tokens: readonly Token[] | undefined, key = 'i'): ReactNode {
         return <Text key={k}>{'\n'}</Text>;
       default: {
         const g = t as Tokens.Generic;
-        return g.tokens && g.tokens.length > 0 ? <Fragment key={k}>{inline(g.tokens, k)}</Fragment> : <Fragment key={k}>{decode(String(g.text ?? g.raw ?? ''))}</Fragment>;
+        return g.tokens && g.tokens.length > 0 ? <Fragment key={k}>{inline(g.tokens, k)}</Fragment> : <Fragment key={k}>{flow(String(g.text ?? g.raw ?? ''))}</Fragment>;
       }
     }
   });

@@ -144,7 +144,7 @@ const BASIS_WORDS: Record<Basis, string> = {
 /** Where the requested basis and the one in use differ, why. */
 function basisNote(r: LedgerResult): string {
   if (r.basis === r.verdictBasis) return '';
-  if (r.basis === 'bootstrap' && !r.bootstrap) return 'the bootstrap was asked for and has not finished; the verdicts rest on the standard basis until it does';
+  if (r.basis === 'bootstrap' && !r.bootstrap) return `the bootstrap was asked for and has not finished; the verdicts rest on the ${r.verdictBasis} basis until it does`;
   if (r.basis === 'robust' && r.factors.every((f) => !f.robust)) return 'robust SEs are not available for this run; the verdicts rest on the standard basis';
   return `the verdicts rest on the ${r.verdictBasis} basis`;
 }
