@@ -371,6 +371,40 @@ describe('run LaTeX', () => {
   });
 });
 
+describe('a first-stage run on the robust basis (robust SEs from lib/gmm)', () => {
+  it('exports the robust SEs, the robust verdicts and names the robust basis in CSV and LaTeX', async () => {
+    const r = await admin
+      .post('/api/v1/runs')
+      .set('x-csrf-token', admin.csrf)
+      .send({ editionId: lib.editionId, spec: spec({ assets: ASSETS, factors: FACTORS, nonTraded: ['@CLIMA'], rf: 'RF', stage: 'first', weighting: 'covariance' }) });
+    expect(r.status).toBe(201);
+    const first = runResponseSchema.parse(r.body).run;
+    const res = first.result!;
+    expect(res.verdictBasis).toBe('robust');
+    expect(res.factors.every((f) => f.robust !== null)).toBe(true);
+    const csv = splitRunCsv((await desk.get(`/api/v1/runs/${first.id}/export.csv`).expect(200)).text);
+    const col = (name: string) => CSV_FACTOR_COLUMNS.indexOf(name as (typeof CSV_FACTOR_COLUMNS)[number]);
+    expect(csv.key.get('verdict_basis')).toEqual(['robust']);
+    expect(csv.key.get('weighting')).toEqual(['covariance']);
+    res.factors.forEach((f, k) => {
+      const row = csv.table[k];
+      expect(Number(row[col('robust_se_b')])).toBe(f.robust!.seB);
+      expect(Number(row[col('robust_t_lambda')])).toBe(f.robust!.tLambda);
+      expect(Number(row[col('robust_ci_b_low')])).toBe(f.robust!.ciB[0]);
+      expect(row[col('verdict_robust')]).toBe(f.verdicts.robust);
+      expect(row[col('verdict')]).toBe(f.verdicts.robust);
+    });
+    const { rows, all } = checkTex((await desk.get(`/api/v1/runs/${first.id}/export.tex`).expect(200)).text);
+    expect(all).toContain('5\\% level on the robust basis: $t$ and $p$ use misspecification-robust standard errors');
+    expect(all).toContain('covariance weighting');
+    res.factors.forEach((f, k) => {
+      const cells = rows[k + 1].replace(/ \\\\$/, '').split(' & ');
+      expect(cells[2]).toBe(formatFixed(f.robust!.tB, 2, { minus: '$-$' }));
+      expect(cells[5]).toBe(formatFixed(f.robust!.tLambda, 2, { minus: '$-$' }));
+    });
+  });
+});
+
 describe('result JSON', () => {
   it('includes everything: the whole ledger with basis, verdicts per basis, robust and bootstrap fields', async () => {
     const r = await desk.get(`/api/v1/runs/${run.id}/result.json`).expect(200);
