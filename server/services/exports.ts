@@ -15,6 +15,7 @@
  * the spanning α are in percent per period as on screen. The t and p columns are those of the
  * verdict's basis (standard, robust or bootstrap), which the caption names with the level.
  */
+import type { Db } from '../db/client';
 import type { LedgerResult, Run } from '../../shared/runs';
 import { RUN_CAUTION } from '../../shared/runs';
 import { toCsv, type CsvCell } from '../../shared/csv';
@@ -152,6 +153,12 @@ function basisNote(r: LedgerResult): string {
 /** Periodicity of the rows of the run's library, when the caller knows it. */
 export interface ExportContext {
   readonly frequency?: 'monthly' | 'daily';
+}
+
+/** The export context of a run: the frequency of its edition (routes pass it to runCsv / runTex). */
+export function exportContextFor(db: Db, editionId: number): ExportContext {
+  const row = db.$client.prepare('select frequency from library_editions where id = ?').get(editionId) as { frequency: string } | undefined;
+  return row && (row.frequency === 'monthly' || row.frequency === 'daily') ? { frequency: row.frequency } : {};
 }
 
 const periodWord = (ctx: ExportContext) => (ctx.frequency === 'monthly' ? 'month' : ctx.frequency === 'daily' ? 'day' : 'period');

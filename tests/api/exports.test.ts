@@ -18,7 +18,7 @@ import { uploadCsv, confirm } from './libraries-helpers';
 import { mailSettled } from '../../server/services/runs';
 import { runResponseSchema, type Run } from '../../shared/runs';
 import { ledgerResultSchema } from '../../shared/ledger';
-import { CSV_FACTOR_COLUMNS, CSV_NUMERIC_COLUMNS, runCsv, runTex, texEscape } from '../../server/services/exports';
+import { CSV_FACTOR_COLUMNS, CSV_NUMERIC_COLUMNS, exportContextFor, runCsv, runTex, texEscape } from '../../server/services/exports';
 import { CSV_FORMULA_START, csvLine, toCsv } from '../../shared/csv';
 import { formatFixed, formatP, formatPercent } from '../../shared/format';
 import { bootstrapSdfTests } from '../../lib/gmm/bootstrap';
@@ -192,6 +192,13 @@ describe('run CSV', () => {
     expect(Number(key.get('joint_drop_chi2')![0])).toBe(run.result!.jointDrop!.chi2Drop!.stat);
     expect(key.get('bootstrap_status')).toEqual(['not asked']);
     expect(key.get('advice')![0]).toContain('not investment advice');
+  });
+
+  it('names the period when the route passes the edition frequency (monthly library: per month)', () => {
+    const ctx = exportContextFor(t.db, run.editionId);
+    expect(ctx).toEqual({ frequency: 'monthly' });
+    expect(splitRunCsv(runCsv(run, ctx)).key.get('units_returns')![0]).toMatch(/^decimal return per month/);
+    expect(runTex(run, ctx)).toContain('$\\lambda$ (\\% per month)');
   });
 
   it('carries robust and bootstrap p columns and verdicts per basis when the ledger has them', () => {
