@@ -27,6 +27,7 @@ import { registerSpecRoutes } from './routes/specs';
 import { registerRunRoutes } from './routes/runs';
 import { registerReviewRoutes } from './routes/review';
 import { registerLibraryRoutes } from './routes/libraries';
+import { registerDocsRoutes } from './routes/docs';
 
 export interface AppOptions {
   db: Db;
@@ -198,6 +199,7 @@ export function createApp(opts: AppOptions): KeelsonApp {
   registerRunRoutes(api, deps);
   registerReviewRoutes(api, deps);
   registerLibraryRoutes(api, deps);
+  registerDocsRoutes(api);
   api.router.use(notFoundApi);
   api.router.use(errorHandler);
   assertEveryRouteDeclaresAccess(api);

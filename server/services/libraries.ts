@@ -3,7 +3,7 @@
  * Routes call these; every multi-row write runs in one transaction.
  */
 import { randomBytes } from 'node:crypto';
-import Papa from 'papaparse';
+import { csvLine } from '../../shared/csv';
 import type { Db } from '../db/client';
 import { inTransaction } from '../db/client';
 import { KeelsonApiError } from '../../shared/errors';
@@ -566,7 +566,7 @@ export function editionDataJson(db: Db, user: User, libraryId: number, n: number
 export function exportEditionCsv(db: Db, user: User, libraryId: number, n: number): { fileName: string; csv: string } {
   const { lib, edition } = editionOf(db, user, libraryId, n);
   const { dates, series } = loadEditionArrays(db, edition.id);
-  const lines: string[] = [Papa.unparse([['date', ...series.map((s) => s.name)]], { newline: '\n' })];
+  const lines: string[] = [csvLine(['date', ...series.map((s) => s.name)])];
   for (let t = 0; t < dates.length; t++) {
     let line = dates[t]!;
     for (const s of series) {

@@ -1,0 +1,5 @@
+/** TanStack Query hook for the methods page; the text changes only with a new server version. */
+import { useQuery } from '@tanstack/react-query';
+import { getMethodsMarkdown } from '../api/docs';
+
+export const useMethodsDoc = () => useQuery({ queryKey: ['docs', 'methods'], queryFn: ({ signal }) => getMethodsMarkdown(signal), staleTime: 60 * 60_000 });
