@@ -281,7 +281,8 @@ export async function runRemote(command: string, args: string[], io: Io): Promis
     const client = new Client(loadSession(env), env);
     switch (command) {
       case 'whoami': {
-        const { user } = await client.get<{ user: { name: string; email: string; role: string } }>('/auth/me');
+        const { user } = await client.get<{ user: { name: string; email: string; role: string } | null }>('/auth/me');
+        if (!user) throw new RemoteError('Not signed in: run keelson sign-in first', 3);
         io.out(`${user.name} <${user.email}> — ${user.role}\n`);
         return 0;
       }
