@@ -196,7 +196,7 @@ export function createApp(opts: AppOptions): KeelsonApp {
   const jobRunner = new JobRunner({ db, mailer, publicUrl: opts.publicUrl, pool: opts.jobPool, mailAfterMs: opts.jobMailAfterMs });
   registerJobRoutes(api, deps, jobRunner);
   registerSpecRoutes(api, deps);
-  registerRunRoutes(api, deps);
+  registerRunRoutes(api, deps, jobRunner);
   registerReviewRoutes(api, deps);
   registerLibraryRoutes(api, deps);
   registerDocsRoutes(api);

@@ -2,7 +2,7 @@
  * Runs, their review and compare: request and response shapes shared by client and server.
  */
 import { z } from 'zod';
-import { modelSpecSchema } from './specs';
+import { BASES, modelSpecSchema, savedSpecSchema, specBootstrapSchema } from './specs';
 import { ledgerResultSchema, type LedgerResultParsed } from './ledger';
 
 /** estimateLedger's output as the API carries it (schema in shared/ledger.ts). */
@@ -68,6 +68,12 @@ export const runSummarySchema = z.object({
   K: z.number().int().nullable(),
   T: z.number().int().nullable(),
   factors: z.array(z.string()),
+  /**
+   * The bootstrap deep check started with the run when its spec asks for bootstrap p-values
+   * (null otherwise). While it runs, result.options.bootstrap is set and result.bootstrap is null;
+   * when it finishes the run's result carries the bootstrap p-values (written once).
+   */
+  bootstrapJobId: z.number().int().nullable(),
 });
 export type RunSummary = z.infer<typeof runSummarySchema>;
 
@@ -78,6 +84,20 @@ export const runSchema = runSummarySchema.extend({
 export type Run = z.infer<typeof runSchema>;
 
 export const runResponseSchema = z.object({ run: runSchema });
+
+/** `POST /runs/:id/basis`: a new run of the same spec and edition on another basis (runs stay immutable). */
+export const changeBasisBodySchema = z
+  .object({
+    basis: z.enum(BASES, { error: 'The basis is standard, robust or bootstrap' }),
+    /** Bootstrap settings; omitted: the run's own, else the defaults (999 draws, iid, seed 1). */
+    bootstrap: specBootstrapSchema.optional(),
+  })
+  .strict();
+export type ChangeBasisBody = z.input<typeof changeBasisBodySchema>;
+
+/** `POST /runs/:id/first-stage-copy` answers the new run and, when the run came from a saved spec, the new saved spec. */
+export const firstStageCopyResponseSchema = z.object({ run: runSchema, spec: savedSpecSchema.nullable() });
+export type FirstStageCopyResponse = z.infer<typeof firstStageCopyResponseSchema>;
 export const runsResponseSchema = z.object({ runs: z.array(runSummarySchema) });
 
 export const runListQuerySchema = z.object({
@@ -180,10 +200,17 @@ export const nestedTestSchema = z.object({
 });
 export type NestedTest = z.infer<typeof nestedTestSchema>;
 
+/** The basis a run's verdicts were asked on and the one they rest on now (null: the run has no result). */
+export const runBasisSchema = z.object({ basis: z.enum(BASES), verdictBasis: z.enum(BASES) }).nullable();
+
 export const compareResponseSchema = z.object({
   a: runSchema,
   b: runSchema,
   nested: nestedTestSchema,
+  /** Each run's basis and verdict basis (also in a.result / b.result). */
+  bases: z.object({ a: runBasisSchema, b: runBasisSchema }),
+  /** Set when the two runs' verdicts rest on different bases, so they are not read as like for like. */
+  basisNote: z.string().nullable(),
 });
 export type CompareResponse = z.infer<typeof compareResponseSchema>;
 

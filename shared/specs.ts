@@ -5,7 +5,9 @@
  * `modelSpecSchema` checks what can be checked without the data (no factors, a factor also chosen
  * as asset, duplicates, non-traded / drop set naming non-factors, window order).
  * `checkSpecAgainstEdition` checks the rest against an edition's series and dates (unknown series,
- * wrong kind, T ≤ N + K in the window); client and server call the same function.
+ * wrong kind, N < K, T ≤ N + K in the window, a HAC lag ≥ T/4, a bootstrap block > T/2); client
+ * and server call the same function, so the form, POST /specs/check, POST /specs, PUT /specs/:id
+ * and POST /runs refuse with the same words.
  */
 import { z } from 'zod';
 
@@ -24,6 +26,21 @@ export const specBootstrapSchema = z.object({
   seed: z.number().int('The seed is a whole number').min(0).max(2 ** 31 - 1).default(1),
 });
 export const FORMS = ['centred', 'uncentred'] as const;
+
+const LAG_WHOLE = 'The HAC lag is a whole number of periods (0, 1, 2, …) or auto';
+
+/** One message for every malformed lag: 1.5, "5", null, "six". */
+function lagError(iss: { input?: unknown }): string {
+  const v = iss.input;
+  if (typeof v === 'number') return Number.isFinite(v) ? `${LAG_WHOLE}; ${v} is not a whole number` : LAG_WHOLE;
+  if (typeof v === 'string') {
+    const t = v.trim();
+    if (/^\d+$/.test(t)) return `${LAG_WHOLE}; send ${t} as a number, not as the text "${t}"`;
+    if (/^[+-]?\d*\.\d+$/.test(t)) return `${LAG_WHOLE}; ${t} is not a whole number`;
+    return `${LAG_WHOLE}; got the text "${v.slice(0, 20)}"`;
+  }
+  return LAG_WHOLE;
+}
 
 const isoDate = z.string().regex(/^\d{4}-\d{2}(-\d{2})?$/, 'Use a date such as 2010-01-31 or 2010-01');
 const seriesName = z.string().trim().min(1, 'A series name is empty');
@@ -52,7 +69,9 @@ export const modelSpecSchema = z
     /** First-stage weighting matrix. */
     weighting: z.enum(WEIGHTINGS).default('identity'),
     /** HAC (Newey–West) lag: 'auto' for floor(4 (T/100)^(2/9)), or a whole number. */
-    lags: z.union([z.literal('auto'), z.number().int('The lag is a whole number').min(0, 'The lag is 0 or more').max(120, 'The lag is at most 120')]).default('auto'),
+    lags: z
+      .union([z.literal('auto'), z.number().int(LAG_WHOLE).min(0, 'The lag is 0 or more').max(120, 'The lag is at most 120')], { error: lagError })
+      .default('auto'),
     form: z.enum(FORMS).default('centred'),
     factorMeansKnown: z.boolean().default(false),
     /** Significance level of the verdicts, e.g. 0.05. */
@@ -86,7 +105,8 @@ export const modelSpecSchema = z
       ctx.addIssue({
         code: 'custom',
         path: ['basis'],
-        message: 'The robust basis needs a first-stage run (robust SEs need a weighting that does not depend on b)',
+        message:
+          'The robust basis needs a first-stage run: misspecification-robust SEs need a weighting that does not depend on b. Set the stage to first, or choose the standard or bootstrap basis.',
       });
     if (s.basis === 'bootstrap' && !s.bootstrap)
       ctx.addIssue({ code: 'custom', path: ['bootstrap'], message: 'The bootstrap basis needs bootstrap settings (draws, scheme, seed)' });
@@ -130,12 +150,21 @@ export const savedSpecSchema = z.object({
   editionNumber: z.number().int(),
   spec: modelSpecSchema,
   copiedFromId: z.number().int().nullable(),
+  /** When the spec was archived (hidden from the list; its runs stay readable), else null. */
+  archivedAt: z.string().nullable(),
   createdAt: z.string(),
   updatedAt: z.string(),
 });
 export type SavedSpec = z.infer<typeof savedSpecSchema>;
 export const specResponseSchema = z.object({ spec: savedSpecSchema });
 export const specsResponseSchema = z.object({ specs: z.array(savedSpecSchema) });
+
+/** The words every refusal of N < K starts with (form, spec check, spec save, run start). */
+export const FEWER_ASSETS_THAN_FACTORS = 'Fewer test assets than factors';
+
+function fmtQuarter(T: number): string {
+  return Number.isInteger(T / 4) ? String(T / 4) : (T / 4).toFixed(2);
+}
 
 /** What `checkSpecAgainstEdition` needs of an edition. */
 export interface EditionShape {
@@ -171,8 +200,30 @@ export function windowRange(dates: readonly string[], window?: { start?: string;
 }
 
 /**
- * Checks a spec against an edition: each named series exists and has the right kind, and the
- * window leaves T > N + K periods (GMM needs more periods than assets plus factors).
+ * The automatic HAC lag floor(4 (T/100)^(2/9)) (Newey and West 1994 discuss automatic selection;
+ * this plug-in is common practice). The same rule as lib/gmm/hac.ts `defaultLag` (a test pins
+ * the two equal); repeated here so the form does not load the estimator.
+ */
+export function autoLag(T: number): number {
+  if (!(T > 0)) return 0;
+  return Math.floor(4 * Math.pow(T / 100, 2 / 9));
+}
+
+/** Largest HAC lag allowed for T periods: methods.md refuses L ≥ T/4, so the largest L < T/4. */
+export function maxLagFor(T: number): number {
+  return Math.max(0, Math.ceil(T / 4) - 1);
+}
+
+/** Largest bootstrap block length for T periods (the deep check refuses blocks longer than T/2). */
+export function maxBlockLengthFor(T: number): number {
+  return Math.floor(T / 2);
+}
+
+/**
+ * Checks a spec against an edition: each named series exists and has the right kind, there are
+ * at least as many test assets as factors (N = K is exactly identified), the window leaves
+ * T > N + K periods (GMM needs more periods than assets plus factors), the HAC lag is below T/4
+ * (methods.md) and a bootstrap block is at most T/2 long.
  */
 export function checkSpecAgainstEdition(spec: ModelSpecInput, ed: EditionShape): SpecCheck {
   const issues: SpecCheckIssue[] = [];
@@ -199,11 +250,33 @@ export function checkSpecAgainstEdition(spec: ModelSpecInput, ed: EditionShape):
   }
   if (K === 0) issues.push({ path: ['factors'], message: 'Choose at least one factor' });
   if (N === 0) issues.push({ path: ['assets'], message: 'Choose at least one test asset' });
+  if (N > 0 && K > 0 && N < K)
+    issues.push({
+      path: ['assets'],
+      message: `${FEWER_ASSETS_THAN_FACTORS}: N = ${N} test asset${N === 1 ? '' : 's'}, K = ${K} factors. Choose at least ${K} test assets or fewer factors (N = K is allowed: the model is exactly identified and J has no degrees of freedom)`,
+    });
   if (T === 0) issues.push({ path: ['window'], message: 'The window holds no dates of this edition' });
   else if (N + K > 0 && T <= N + K)
     issues.push({ path: ['window'], message: `T = ${T} periods is too few for N = ${N} assets and K = ${K} factors: need T > N + K = ${N + K}` });
-  if (typeof spec.lags === 'number' && T > 0 && spec.lags >= T)
-    issues.push({ path: ['lags'], message: `A HAC lag of ${spec.lags} needs more than ${spec.lags} periods; the window has ${T}` });
+  if (T > 0) {
+    const maxLag = maxLagFor(T);
+    if (typeof spec.lags === 'number' && Number.isInteger(spec.lags) && spec.lags > maxLag)
+      issues.push({
+        path: ['lags'],
+        message: `A HAC lag of ${spec.lags} is too long for T = ${T} periods: the lag must be below T/4 = ${fmtQuarter(T)}, so the largest allowed is ${maxLag}`,
+      });
+    else if ((spec.lags ?? 'auto') === 'auto' && autoLag(T) > maxLag)
+      issues.push({
+        path: ['lags'],
+        message: `The automatic HAC lag (${autoLag(T)}) is too long for T = ${T} periods: the lag must be below T/4 = ${fmtQuarter(T)}; set a lag of at most ${maxLag}`,
+      });
+    const boot = spec.bootstrap;
+    if (boot && (boot.scheme ?? 'iid') === 'block' && boot.blockLength !== undefined && boot.blockLength > maxBlockLengthFor(T))
+      issues.push({
+        path: ['bootstrap', 'blockLength'],
+        message: `A bootstrap block of ${boot.blockLength} periods is too long for T = ${T}: the largest allowed is T/2 = ${maxBlockLengthFor(T)}`,
+      });
+  }
   return { T, N, K, df: N - K, start: T > 0 ? ed.dates[from] : null, end: T > 0 ? ed.dates[to - 1] : null, issues };
 }
 

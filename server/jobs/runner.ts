@@ -10,14 +10,14 @@ import { setMaxListeners } from 'node:events';
 import { and, eq, inArray } from 'drizzle-orm';
 import type { Db } from '../db/client';
 import { inTransaction } from '../db/client';
-import { jobs, users } from '../db/schema/index';
+import { jobs, runs, users } from '../db/schema/index';
 import type { Mailer } from '../services/mailer';
 import { mailInBackground } from '../services/runs';
 import { buildCheckInput, type CheckInput } from '../services/jobs-input';
 import { JOB_KIND_LABELS } from '../../shared/jobs';
 import { createJobPool, type JobPool } from './pool';
 import type { ChunkTask } from './tasks';
-import type { BootstrapBatch, RollingPoint, SweepRow } from '../../lib/gmm/index';
+import { withBootstrap, type BootstrapBatch, type BootstrapResult, type LedgerResult, type RollingPoint, type SweepRow } from '../../lib/gmm/index';
 
 export interface JobRunnerOptions {
   db: Db;
@@ -69,7 +69,8 @@ export class JobRunner {
   private readonly db: Db;
   private readonly mailer: Mailer;
   private readonly publicUrl?: string;
-  private readonly mailAfterMs: number;
+  /** Mail a job's author when the job took at least this long; run mails use the same threshold. */
+  readonly mailAfterMs: number;
   private pool: JobPool | null;
   private readonly ownsPool: boolean;
   private readonly active = new Map<number, AbortController>();
@@ -201,7 +202,12 @@ export class JobRunner {
     }
   }
 
-  /** Final status, result and finish time in one transaction; mails the author after a long job. */
+  /**
+   * Final status, result and finish time in one transaction; mails the author after a long job.
+   * A finished bootstrap that is its run's own (runs.bootstrap_job_id) is merged into the run's
+   * ledger (withBootstrap) in the same transaction; if the merge is refused the job is failed
+   * with the reason and the ledger stays as it was. Failed or cancelled jobs leave it untouched.
+   */
   private finish(jobId: number, status: 'finished' | 'failed' | 'cancelled', result: unknown, error: string | null, started: number): void {
     const db = this.db;
     const row = inTransaction(db, (tx) => {
@@ -209,6 +215,13 @@ export class JobRunner {
       // a cancel request may already have set 'cancelled'; never overwrite another final state
       if (!cur || !['running', 'queued', 'cancelled'].includes(cur.status)) return null;
       if (cur.status === 'cancelled' && status !== 'cancelled') status = 'cancelled';
+      if (status === 'finished' && cur.kind === 'bootstrap') {
+        const merged = mergeIntoRun(tx, cur.runId, jobId, result as BootstrapResult);
+        if (!merged.ok) {
+          status = 'failed';
+          error = merged.error;
+        }
+      }
       const set = {
         status,
         finishedAt: nowIso(),
@@ -236,6 +249,26 @@ export class JobRunner {
           : `Your ${label.toLowerCase()} (job #${jobId}) on run #${row.runId} failed: ${error ?? 'unknown error'}${link}`,
     });
   }
+}
+
+/**
+ * Writes withBootstrap(ledger, bootstrap) as the result of the run whose own bootstrap job this
+ * is, once (a ledger that already carries bootstrap p-values is left alone). Jobs started by hand
+ * on a run (POST /runs/:id/checks) do not touch its ledger.
+ */
+function mergeIntoRun(tx: Db, runId: number, jobId: number, boot: BootstrapResult): { ok: true } | { ok: false; error: string } {
+  const run = tx.select({ id: runs.id, result: runs.result, bootstrapJobId: runs.bootstrapJobId }).from(runs).where(eq(runs.id, runId)).get();
+  if (!run || run.bootstrapJobId !== jobId || !run.result) return { ok: true };
+  const ledger = JSON.parse(run.result) as LedgerResult;
+  if (ledger.bootstrap) return { ok: true };
+  let merged: LedgerResult;
+  try {
+    merged = withBootstrap(ledger, boot);
+  } catch (e) {
+    return { ok: false, error: `The bootstrap could not be added to run #${runId}'s ledger: ${messageOf(e)}` };
+  }
+  tx.update(runs).set({ result: JSON.stringify(merged) }).where(and(eq(runs.id, runId), eq(runs.bootstrapJobId, jobId))).run();
+  return { ok: true };
 }
 
 function abortError(): Error {

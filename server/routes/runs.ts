@@ -2,8 +2,9 @@ import type { Request, Response } from 'express';
 import type { ApiRouter } from '../middlewares/access';
 import { currentUser } from '../middlewares/access';
 import { parseOr400 } from '../middlewares/errors';
-import { compareQuerySchema, createRunBodySchema, runListQuerySchema } from '../../shared/runs';
-import { createRun, getRun, getRunResultText, listRuns } from '../services/runs';
+import { changeBasisBodySchema, compareQuerySchema, createRunBodySchema, runListQuerySchema } from '../../shared/runs';
+import { changeRunBasis, createRun, firstStageCopy, getRun, getRunResultText, listRuns, type RunDeps } from '../services/runs';
+import type { JobRunner } from '../jobs/runner';
 import { compareRuns } from '../services/runs-compare';
 import { runCsv, runTex } from '../services/exports';
 import { KeelsonApiError } from '../../shared/errors';
@@ -21,10 +22,14 @@ function finishedRun(req: Request, deps: AppDeps) {
 
 /**
  * Runs: start (researcher, admin), read, list, compare and export (every role; runs on private
- * libraries only for those who can read the library). No route changes a run once it exists.
+ * libraries only for those who can read the library). No route changes a run once it exists:
+ * another basis or a first-stage copy is a new run (researcher: of their own runs; admin: any).
+ * The runner starts the bootstrap deep check of a spec that asks for bootstrap p-values; its
+ * mail threshold (one minute by default) also decides whether a run's end is mailed.
  */
-export function registerRunRoutes(api: ApiRouter, deps: AppDeps): void {
-  const { db, mailer } = deps;
+export function registerRunRoutes(api: ApiRouter, deps: AppDeps, runner: JobRunner): void {
+  const { db } = deps;
+  const runDeps: RunDeps = { db, mailer: deps.mailer, runner, publicUrl: deps.publicUrl, mailAfterMs: runner.mailAfterMs };
 
   api.get('/runs', 'signed-in', (req: Request, res: Response) => {
     const q = parseOr400(runListQuerySchema, req.query, 'run filter');
@@ -33,8 +38,18 @@ export function registerRunRoutes(api: ApiRouter, deps: AppDeps): void {
 
   api.post('/runs', WRITERS, (req: Request, res: Response) => {
     const body = parseOr400(createRunBodySchema, req.body, 'run request');
-    const run = createRun(db, mailer, currentUser(req), body, deps.publicUrl);
+    const run = createRun(runDeps, currentUser(req), body);
     res.status(201).json({ run });
+  });
+
+  api.post('/runs/:id/basis', WRITERS, (req: Request, res: Response) => {
+    const id = idParam(req, 'run id');
+    const body = parseOr400(changeBasisBodySchema, req.body, 'basis change');
+    res.status(201).json({ run: changeRunBasis(runDeps, currentUser(req), id, body) });
+  });
+
+  api.post('/runs/:id/first-stage-copy', WRITERS, (req: Request, res: Response) => {
+    res.status(201).json(firstStageCopy(runDeps, currentUser(req), idParam(req, 'run id')));
   });
 
   // Registered before /runs/:id so that "compare" is not read as an id.

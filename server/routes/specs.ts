@@ -5,7 +5,7 @@ import { currentUser } from '../middlewares/access';
 import { parseOr400 } from '../middlewares/errors';
 import { idParam } from '../middlewares/params';
 import { copySpecBodySchema, createSpecBodySchema, modelSpecSchema, updateSpecBodySchema } from '../../shared/specs';
-import { checkSpec, copySpec, createSpec, getSpec, listSpecs, updateSpec } from '../services/specs';
+import { checkSpec, copySpec, createSpec, getSpec, listSpecs, setSpecArchived, updateSpec } from '../services/specs';
 import type { AppDeps } from '../app';
 
 const WRITERS = ['researcher', 'admin'] as const;
@@ -16,16 +16,21 @@ export { idParam };
 const listQuerySchema = z.object({
   mine: z.enum(['true', 'false']).optional(),
   editionId: z.coerce.number().int().positive().optional(),
+  /** true: list archived specs too. */
+  archived: z.enum(['true', 'false']).optional(),
 });
 const checkBodySchema = z.object({ editionId: z.number().int().positive(), spec: modelSpecSchema });
 
-/** Model specs: list/read for every role, write for researchers and admins (edit: author or admin). */
+/**
+ * Model specs: list/read for every role, write for researchers and admins (edit, archive,
+ * restore: author or admin).
+ */
 export function registerSpecRoutes(api: ApiRouter, deps: AppDeps): void {
   const { db } = deps;
 
   api.get('/specs', 'signed-in', (req: Request, res: Response) => {
     const q = parseOr400(listQuerySchema, req.query, 'spec filter');
-    res.json({ specs: listSpecs(db, currentUser(req), { mine: q.mine === 'true', editionId: q.editionId }) });
+    res.json({ specs: listSpecs(db, currentUser(req), { mine: q.mine === 'true', editionId: q.editionId, archived: q.archived === 'true' }) });
   });
 
   api.post('/specs/check', 'signed-in', (req: Request, res: Response) => {
@@ -52,5 +57,13 @@ export function registerSpecRoutes(api: ApiRouter, deps: AppDeps): void {
     const id = idParam(req, 'spec id');
     const body = parseOr400(copySpecBodySchema, req.body ?? {}, 'copy');
     res.status(201).json({ spec: copySpec(db, currentUser(req), id, body.name) });
+  });
+
+  api.post('/specs/:id/archive', WRITERS, (req: Request, res: Response) => {
+    res.json({ spec: setSpecArchived(db, currentUser(req), idParam(req, 'spec id'), true) });
+  });
+
+  api.post('/specs/:id/restore', WRITERS, (req: Request, res: Response) => {
+    res.json({ spec: setSpecArchived(db, currentUser(req), idParam(req, 'spec id'), false) });
   });
 }

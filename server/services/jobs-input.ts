@@ -12,7 +12,16 @@ import {
   subsetSweepParamsSchema,
   type JobKind,
 } from '../../shared/jobs';
-import { defaultBlockLength, rollingWindows, type BootstrapInput, type RollingInput, type SubsetSweepInput } from '../../lib/gmm/index';
+import {
+  defaultBlockLength,
+  GmmInputError,
+  GmmNumericalError,
+  prepareBootstrap,
+  rollingWindows,
+  type BootstrapInput,
+  type RollingInput,
+  type SubsetSweepInput,
+} from '../../lib/gmm/index';
 import { loadEditionData } from './edition-data';
 import { buildLedgerInput, RunDataError } from './runs';
 
@@ -32,6 +41,61 @@ function unprocessable(message: string, path: string[] = ['params']): never {
 }
 
 /**
+ * The bootstrap of a run's model: the run's frozen spec (stage, weighting, lag, form, factor
+ * means and its drop set) on the run's matrices, with the job's draws, scheme, block and seed.
+ * Which forms and options the bootstrap supports is lib/gmm's decision (see
+ * `assertBootstrapAccepted`); the server adds no refusal of its own beyond the block length.
+ */
+export function bootstrapCheckInput(
+  spec: ModelSpec,
+  input: { returns: readonly (readonly number[])[]; factors: readonly (readonly number[])[]; factorNames: readonly string[] },
+  rawParams: unknown,
+): Extract<CheckInput, { kind: 'bootstrap' }> {
+  const p = bootstrapParamsSchema.parse(rawParams);
+  const T = input.returns.length;
+  const block = p.scheme === 'block' ? (p.blockLength ?? defaultBlockLength(T)) : undefined;
+  if (block !== undefined && block > Math.floor(T / 2))
+    unprocessable(`The block length is at most T/2 = ${Math.floor(T / 2)} periods for this run (T = ${T}).`, ['params', 'blockLength']);
+  // The run's joint drop set, for the joint bootstrap p-values (lib/gmm reads it when it supports them).
+  const joint: Record<string, unknown> = spec.dropSet && spec.dropSet.length > 0 ? { dropSet: [...spec.dropSet] } : {};
+  return {
+    kind: 'bootstrap',
+    total: p.draws,
+    input: {
+      returns: input.returns,
+      factors: input.factors,
+      factorNames: input.factorNames,
+      options: {
+        stage: spec.stage,
+        weighting: spec.weighting,
+        lags: spec.lags,
+        form: spec.form,
+        factorMeansKnown: spec.factorMeansKnown,
+        scheme: p.scheme,
+        ...(block !== undefined ? { blockLength: block } : {}),
+        draws: p.draws,
+        seed: p.seed ?? 1,
+        ...joint,
+      },
+    },
+  };
+}
+
+/**
+ * Asks lib/gmm whether it accepts the bootstrap (one preparation of the original fit, no draws),
+ * so a refusal is a 422 before any job is written rather than a failed job.
+ * @throws KeelsonApiError 422 with lib/gmm's message.
+ */
+export function assertBootstrapAccepted(check: Extract<CheckInput, { kind: 'bootstrap' }>): void {
+  try {
+    prepareBootstrap(check.input);
+  } catch (e) {
+    if (e instanceof GmmInputError || e instanceof GmmNumericalError) unprocessable(e.message);
+    throw e;
+  }
+}
+
+/**
  * Builds the check input. `params` must already be parsed by the kind's schema (shared/jobs.ts).
  * @throws KeelsonApiError 422 when the check does not fit the run's data.
  */
@@ -46,35 +110,7 @@ export function buildCheckInput(db: Db, run: RunForCheck, kind: JobKind, rawPara
       throw e;
     }
   };
-  if (kind === 'bootstrap') {
-    const p = bootstrapParamsSchema.parse(rawParams);
-    if (spec.form !== 'centred') unprocessable('The bootstrap supports runs in the centred SDF form only.');
-    const { input } = build(spec);
-    const T = input.returns.length;
-    const block = p.scheme === 'block' ? (p.blockLength ?? defaultBlockLength(T)) : undefined;
-    if (block !== undefined && block > Math.floor(T / 2))
-      unprocessable(`The block length is at most T/2 = ${Math.floor(T / 2)} periods for this run (T = ${T}).`, ['params', 'blockLength']);
-    return {
-      kind,
-      total: p.draws,
-      input: {
-        returns: input.returns,
-        factors: input.factors,
-        factorNames: input.factorNames,
-        options: {
-          stage: spec.stage,
-          weighting: spec.weighting,
-          lags: spec.lags,
-          form: spec.form,
-          factorMeansKnown: spec.factorMeansKnown,
-          scheme: p.scheme,
-          ...(block !== undefined ? { blockLength: block } : {}),
-          draws: p.draws,
-          seed: p.seed ?? 1,
-        },
-      },
-    };
-  }
+  if (kind === 'bootstrap') return bootstrapCheckInput(spec, build(spec).input, rawParams);
   if (kind === 'subset-sweep') {
     const p = subsetSweepParamsSchema.parse(rawParams);
     const candidates = p.candidates ?? spec.factors;

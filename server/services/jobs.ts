@@ -24,7 +24,7 @@ import {
 } from '../../shared/jobs';
 import { audit } from './audit';
 import { canReadEdition } from './specs';
-import { buildCheckInput } from './jobs-input';
+import { assertBootstrapAccepted, buildCheckInput } from './jobs-input';
 import type { JobRunner } from '../jobs/runner';
 
 type JobRow = typeof jobs.$inferSelect;
@@ -123,6 +123,7 @@ export function startCheck(db: Db, runner: JobRunner, user: User, runId: number,
     params = { ...p, seed: p.seed ?? randomInt(0, 2 ** 31) };
   }
   const check = buildCheckInput(db, run, body.kind, params);
+  if (check.kind === 'bootstrap') assertBootstrapAccepted(check);
   const row = inTransaction(db, (tx) => {
     const r = tx
       .insert(jobs)

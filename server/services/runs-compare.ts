@@ -6,7 +6,13 @@
  * (stage, first-stage weighting, lag, form, factor means), and the factor set of one a strict
  * subset of the other's. The test is the χ² difference with the larger model's second-stage
  * weighting (Newey and West 1987, International Economic Review), obtained from lib/gmm's
- * estimateLedger on the larger model with dropSet = the factors the smaller model lacks.
+ * estimateLedger on the larger model with dropSet = the factors the smaller model lacks. For
+ * first-stage runs the test is defined at the first stage too (methods.md): W* is the second
+ * stage computed from the larger model's first-stage estimate, i.e. the larger spec estimated at
+ * stage 'second' with the same first-stage weighting.
+ *
+ * The response also names each run's basis and the basis its verdicts rest on, with a note when
+ * the two differ (the verdicts are then not like for like); the nested test does not depend on it.
  */
 import type { Db } from '../db/client';
 import type { User } from '../../shared/auth';
@@ -47,10 +53,11 @@ export function nestedTest(db: Db, a: Run, b: Run): NestedTest {
   if (!small.spec.factors.every((f) => large.spec.factors.includes(f))) return none('The smaller factor set is not a subset of the larger.');
   const dropped = large.spec.factors.filter((f) => !small.spec.factors.includes(f));
   const base = { nested: true, smallerRunId: small.id, largerRunId: large.id, dropped };
-  if (large.spec.stage === 'first')
-    return { ...base, reason: 'The drop test needs the larger model’s second-stage weighting; these runs are first-stage.', test: null };
   const data = loadEditionData(db, large.editionId);
-  const out = estimate(large.spec, data, dropped);
+  // W* for a first-stage run: the second stage computed from its first-stage estimate.
+  const specForDrop: ModelSpec =
+    large.spec.stage === 'first' ? { ...large.spec, stage: 'second', basis: 'standard', bootstrap: undefined } : { ...large.spec, bootstrap: undefined };
+  const out = estimate(specForDrop, data, dropped);
   if (!out.ok) return { ...base, reason: `The larger model could not be re-estimated: ${out.error}`, test: null };
   const t = out.result.jointDrop?.chi2Drop ?? null;
   return { ...base, reason: t ? null : 'The drop test could not be computed.', test: t ? { stat: t.stat, df: t.df, p: t.p } : null };
@@ -60,5 +67,16 @@ export function compareRuns(db: Db, user: User, aId: number, bId: number): Compa
   if (aId === bId) throw new KeelsonApiError('bad_request', 'Pick two different runs to compare');
   const a = getRun(db, user, aId);
   const b = getRun(db, user, bId);
-  return { a, b, nested: nestedTest(db, a, b) };
+  const basisOf = (r: Run) => (r.result ? { basis: r.result.basis, verdictBasis: r.result.verdictBasis } : null);
+  const ba = basisOf(a);
+  const bb = basisOf(b);
+  let basisNote: string | null = null;
+  if (ba && bb && ba.verdictBasis !== bb.verdictBasis)
+    basisNote = `The verdicts rest on different bases: run #${a.id} on the ${ba.verdictBasis} basis, run #${b.id} on the ${bb.verdictBasis} basis; compare them with that in mind.`;
+  else if (ba && bb && (ba.basis !== ba.verdictBasis || bb.basis !== bb.verdictBasis))
+    basisNote = `A requested basis is still pending: ${[a, b]
+      .filter((r) => r.result && r.result.basis !== r.result.verdictBasis)
+      .map((r) => `run #${r.id} asks for ${r.result!.basis} and shows ${r.result!.verdictBasis} until it is ready`)
+      .join('; ')}.`;
+  return { a, b, nested: nestedTest(db, a, b), bases: { a: ba, b: bb }, basisNote };
 }

@@ -4,27 +4,39 @@
  *
  * What is refused and how:
  * - the request itself is invalid (shape: 400 `validation_failed`; the spec does not fit the
- *   edition — unknown series, wrong kind, T ≤ N + K, lag ≥ T: 422 `unprocessable`): nothing is written.
+ *   edition — unknown series, wrong kind, N < K, T ≤ N + K, a lag ≥ T/4, a bootstrap lib/gmm
+ *   does not accept: 422 `unprocessable`): nothing is written.
  * - the data refuse the model (missing values in the window, a constant or collinear series,
  *   a singular system): the run is stored as `failed` with the reason in words, and the API
  *   answers 201 with status "failed" and `error`.
- * Finished runs are immutable: there is no route that changes a run, and the service refuses to.
+ *
+ * The frozen spec records the resolved basis of the verdict (shared/specs.ts `resolveBasis`).
+ * When the spec asks for bootstrap p-values, the run starts a bootstrap deep check in the same
+ * transaction (runs.bootstrap_job_id); the run is finished as soon as its ledger is, and the job
+ * runner writes `withBootstrap(ledger, bootstrap)` as the run's result, once, in the transaction
+ * that marks the job finished. That is the only change a finished run ever sees: there is no
+ * route that changes a run, and a new basis is a new run (`changeRunBasis`, `firstStageCopy`).
+ *
+ * The author is mailed when the run ends only if it took at least `mailAfterMs` (one minute by
+ * default, as for deep checks).
  */
 import { and, desc, eq, inArray, type SQL } from 'drizzle-orm';
 import type { Db } from '../db/client';
 import { inTransaction } from '../db/client';
-import { runs, signoffs, users } from '../db/schema/index';
+import { jobs, runs, signoffs, users } from '../db/schema/index';
 import { KeelsonApiError } from '../../shared/errors';
 import type { User } from '../../shared/auth';
-import { modelSpecSchema, windowRange, type ModelSpec } from '../../shared/specs';
-import type { LedgerResult, Run, RunListQuery, RunStatus, RunSummary, SignoffState } from '../../shared/runs';
+import { modelSpecSchema, resolveBasis, specBootstrapSchema, windowRange, type ModelSpec, type SavedSpec } from '../../shared/specs';
+import type { ChangeBasisBody, FirstStageCopyResponse, LedgerResult, Run, RunListQuery, RunStatus, RunSummary, SignoffState } from '../../shared/runs';
 import type { LedgerResult as EngineResult } from '../../lib/gmm/index';
 import { estimateLedger, GmmInputError, GmmNumericalError, type LedgerInput } from '../../lib/gmm/index';
 import type { EditionData } from './edition-data';
-import { canReadEdition, loadAndCheck, specForRun } from './specs';
+import { canReadEdition, findSpecRow, insertSpec, loadAndCheck, specForRun } from './specs';
+import { assertBootstrapAccepted, bootstrapCheckInput } from './jobs-input';
 import { audit } from './audit';
 import { sendMailInBackground } from './mail';
 import type { Mailer } from './mailer';
+import type { JobRunner } from '../jobs/runner';
 import { KEELSON_VERSION } from '../version';
 
 type RunRow = typeof runs.$inferSelect;
@@ -112,9 +124,20 @@ export function buildLedgerInput(spec: ModelSpec, data: EditionData, dropSetOver
         factorMeansKnown: spec.factorMeansKnown,
         level: spec.level,
         ...(dropSet && dropSet.length > 0 ? { dropSet } : {}),
+        basis: resolveBasis(spec),
+        ...(spec.bootstrap ? { bootstrap: ledgerBootstrapSettings(spec.bootstrap) } : {}),
       },
     },
   };
+}
+
+function ledgerBootstrapSettings(b: NonNullable<ModelSpec['bootstrap']>) {
+  return { draws: b.draws, scheme: b.scheme, ...(b.blockLength !== undefined ? { blockLength: b.blockLength } : {}), seed: b.seed };
+}
+
+/** The bootstrap job's parameters (shared/jobs.ts bootstrapParamsSchema) from a spec's settings. */
+function bootstrapJobParams(b: NonNullable<ModelSpec['bootstrap']>): Record<string, unknown> {
+  return { draws: b.draws, scheme: b.scheme, ...(b.blockLength !== undefined ? { blockLength: b.blockLength } : {}), seed: b.seed };
 }
 
 /**
@@ -195,6 +218,7 @@ function toSummary(row: RunRow, authorName: string, signoff: SignoffState): RunS
     K: result?.K ?? null,
     T: result?.T ?? null,
     factors: spec.factors,
+    bootstrapJobId: row.bootstrapJobId ?? null,
   };
 }
 
@@ -260,6 +284,21 @@ export function runSummariesByIds(db: Db, ids: number[]): Map<number, RunSummary
 
 // ---- creating ----
 
+/** What creating a run needs besides the database. */
+export interface RunDeps {
+  db: Db;
+  mailer: Mailer;
+  /** Starts the bootstrap deep check of a spec that asks for bootstrap p-values. */
+  runner: JobRunner;
+  publicUrl?: string;
+  /** Mail the author only when the run took at least this long (default one minute, as for checks). */
+  mailAfterMs?: number;
+  /** Milliseconds clock used to measure how long the estimation took (tests inject a fake one). */
+  clock?: () => number;
+}
+
+export const RUN_MAIL_AFTER_MS = 60_000;
+
 export interface CreateRunArgs {
   specId?: number;
   editionId?: number;
@@ -267,17 +306,132 @@ export interface CreateRunArgs {
   name?: string;
 }
 
+/** A run estimated and checked, not yet written. */
+interface PreparedRun {
+  spec: ModelSpec;
+  data: EditionData;
+  outcome: ReturnType<typeof estimate>;
+  startedAt: string;
+  finishedAt: string;
+  tookMs: number;
+  /** The bootstrap job to start with the run (only when the ledger finished). */
+  bootstrap: { params: Record<string, unknown>; total: number } | null;
+}
+
+/** The spec as frozen into a run: the basis resolved (standard / robust / bootstrap) and spelled out. */
+export function freezeSpec(spec: ModelSpec): ModelSpec {
+  const parsed = modelSpecSchema.safeParse({ ...spec, basis: resolveBasis(spec) });
+  if (!parsed.success) {
+    const issues = parsed.error.issues.map((i) => ({ path: ['spec', ...i.path.map((x) => (typeof x === 'symbol' ? String(x) : x))], message: i.message }));
+    throw new KeelsonApiError('unprocessable', issues[0].message, issues);
+  }
+  return parsed.data;
+}
+
 /**
- * Estimates and stores a run (finished or failed) in one transaction with its audit line, then
- * mails the author. Throws 4xx (nothing written) when the request is invalid.
+ * Checks the spec against the edition, estimates, and — when the spec asks for bootstrap
+ * p-values and the ledger finished — checks that lib/gmm accepts the bootstrap. Throws 4xx
+ * (nothing written yet) for a request mistake.
  */
-export function createRun(db: Db, mailer: Mailer, user: User, args: CreateRunArgs, publicUrl?: string): Run {
+function prepareRun(deps: RunDeps, user: User, rawSpec: ModelSpec, editionId: number): PreparedRun {
+  const clock = deps.clock ?? Date.now;
+  const spec = freezeSpec(rawSpec);
+  const { data } = loadAndCheck(deps.db, user, editionId, spec);
+  const t0 = clock();
+  const startedAt = new Date().toISOString();
+  const outcome = estimate(spec, data);
+  const finishedAt = new Date().toISOString();
+  const tookMs = clock() - t0;
+  let bootstrap: PreparedRun['bootstrap'] = null;
+  if (outcome.ok && spec.bootstrap) {
+    const params = bootstrapJobParams(spec.bootstrap);
+    const check = bootstrapCheckInput(spec, buildLedgerInput(spec, data).input, params);
+    assertBootstrapAccepted(check);
+    bootstrap = { params, total: check.total };
+  }
+  return { spec, data, outcome, startedAt, finishedAt, tookMs, bootstrap };
+}
+
+/** Writes a prepared run (and its bootstrap job) inside the caller's transaction. */
+function insertRun(
+  tx: Db,
+  user: User,
+  p: PreparedRun,
+  ref: { specId: number | null; specName: string | null; basedOnRunId?: number },
+): { row: RunRow; jobId: number | null } {
+  const status: RunStatus = p.outcome.ok ? 'finished' : 'failed';
+  let row = tx
+    .insert(runs)
+    .values({
+      specId: ref.specId,
+      specName: ref.specName,
+      editionId: p.data.editionId,
+      libraryId: p.data.libraryId,
+      libraryName: p.data.libraryName,
+      editionNumber: p.data.number,
+      spec: JSON.stringify(p.spec),
+      keelsonVersion: KEELSON_VERSION,
+      authorId: user.id,
+      status,
+      error: p.outcome.ok ? null : p.outcome.error,
+      result: p.outcome.ok ? JSON.stringify(p.outcome.result) : null,
+      startedAt: p.startedAt,
+      finishedAt: p.finishedAt,
+    })
+    .returning()
+    .get();
+  audit(tx, user.id, `run.${status}`, {
+    runId: row.id,
+    specId: ref.specId,
+    editionId: p.data.editionId,
+    basis: p.spec.basis,
+    ...(ref.basedOnRunId !== undefined ? { basedOnRunId: ref.basedOnRunId } : {}),
+  });
+  let jobId: number | null = null;
+  if (p.bootstrap) {
+    const job = tx
+      .insert(jobs)
+      .values({ kind: 'bootstrap', runId: row.id, authorId: user.id, params: JSON.stringify(p.bootstrap.params), status: 'queued', done: 0, total: p.bootstrap.total, attempts: 1 })
+      .returning()
+      .get();
+    jobId = job.id;
+    row = tx.update(runs).set({ bootstrapJobId: job.id }).where(eq(runs.id, row.id)).returning().get();
+    audit(tx, user.id, 'job.started', { jobId: job.id, runId: row.id, kind: 'bootstrap', withRun: true });
+  }
+  return { row, jobId };
+}
+
+/** After the write: start the bootstrap job, and mail the author if the run took long enough. */
+function afterInsert(deps: RunDeps, user: User, p: PreparedRun, row: RunRow, jobId: number | null): void {
+  if (jobId !== null) deps.runner.start(jobId);
+  if (p.tookMs < (deps.mailAfterMs ?? RUN_MAIL_AFTER_MS)) return;
+  const { outcome, data } = p;
+  const link = deps.publicUrl ? `\n${deps.publicUrl.replace(/\/$/, '')}/runs/${row.id}\n` : '';
+  const title = row.specName ? `“${row.specName}”` : `on ${data.libraryName} edition ${data.number}`;
+  const took = `after ${Math.round(p.tookMs / 1000)} s`;
+  mailInBackground(deps.db, deps.mailer, {
+    to: user.email,
+    subject: outcome.ok ? `Run #${row.id} finished` : `Run #${row.id} failed`,
+    text: outcome.ok
+      ? `Your run #${row.id} ${title} finished ${took}: N = ${outcome.result.N} test assets, K = ${outcome.result.K} factors, T = ${outcome.result.T} periods.\n` +
+        `J = ${outcome.result.J.stat.toFixed(2)} (df ${outcome.result.J.df}, p = ${outcome.result.J.p.toFixed(3)}).${link}\n` +
+        'Results are statistical evidence about a model on past data, not investment advice.\n'
+      : `Your run #${row.id} ${title} failed ${took}: ${outcome.error}${link}`,
+  });
+}
+
+/**
+ * Estimates and stores a run (finished or failed) in one transaction with its audit line (and
+ * its bootstrap job when the spec asks for one), then mails the author after a long run. Throws
+ * 4xx (nothing written) when the request is invalid; 409 for an archived saved spec.
+ */
+export function createRun(deps: RunDeps, user: User, args: CreateRunArgs): Run {
   let spec: ModelSpec;
   let specId: number | null = null;
   let specName: string | null = args.name ?? null;
   let editionId: number;
   if (args.specId !== undefined) {
-    const saved = specForRun(db, user, args.specId);
+    const saved = specForRun(deps.db, user, args.specId);
     spec = saved.spec;
     specId = saved.row.id;
     specName = saved.row.name;
@@ -287,50 +441,98 @@ export function createRun(db: Db, mailer: Mailer, user: User, args: CreateRunArg
     spec = args.spec;
     editionId = args.editionId;
   }
-  const { data } = loadAndCheck(db, user, editionId, spec);
-  const startedAt = new Date().toISOString();
-  const outcome = estimate(spec, data);
-  const finishedAt = new Date().toISOString();
-  const status: RunStatus = outcome.ok ? 'finished' : 'failed';
-  const row = inTransaction(db, (tx) => {
-    const r = tx
-      .insert(runs)
-      .values({
-        specId,
-        specName,
-        editionId: data.editionId,
-        libraryId: data.libraryId,
-        libraryName: data.libraryName,
-        editionNumber: data.number,
-        spec: JSON.stringify(spec),
-        keelsonVersion: KEELSON_VERSION,
-        authorId: user.id,
-        status,
-        error: outcome.ok ? null : outcome.error,
-        result: outcome.ok ? JSON.stringify(outcome.result) : null,
-        startedAt,
-        finishedAt,
-      })
-      .returning()
-      .get();
-    audit(tx, user.id, `run.${status}`, { runId: r.id, specId, editionId: data.editionId });
-    return r;
-  });
-  const link = publicUrl ? `\n${publicUrl.replace(/\/$/, '')}/runs/${row.id}\n` : '';
-  const title = specName ? `“${specName}”` : `on ${data.libraryName} edition ${data.number}`;
-  mailInBackground(db, mailer, {
-    to: user.email,
-    subject: outcome.ok ? `Run #${row.id} finished` : `Run #${row.id} failed`,
-    text: outcome.ok
-      ? `Your run #${row.id} ${title} finished: N = ${outcome.result.N} test assets, K = ${outcome.result.K} factors, T = ${outcome.result.T} periods.\n` +
-        `J = ${outcome.result.J.stat.toFixed(2)} (df ${outcome.result.J.df}, p = ${outcome.result.J.p.toFixed(3)}).${link}\n` +
-        'Results are statistical evidence about a model on past data, not investment advice.\n'
-      : `Your run #${row.id} ${title} failed: ${outcome.error}${link}`,
-  });
+  const p = prepareRun(deps, user, spec, editionId);
+  const { row, jobId } = inTransaction(deps.db, (tx) => insertRun(tx, user, p, { specId, specName }));
+  afterInsert(deps, user, p, row, jobId);
   return toRun(row, user.name, 'none');
 }
 
-/** Guard for any future code path that would change a run: finished, failed and cancelled runs are final. */
+/** The run row for a change that makes a new run from it: readable, and the caller's own (or an admin). */
+function ownRunRow(db: Db, user: User, id: number, doing: string): RunRow {
+  const row = findRunRow(db, user, id);
+  if (user.role !== 'admin' && row.authorId !== user.id)
+    throw new KeelsonApiError('forbidden', `Run ${id} was started by someone else; only its author or an admin may ${doing}`);
+  return row;
+}
+
+const sameBootstrap = (a: ModelSpec['bootstrap'], b: ModelSpec['bootstrap']) => JSON.stringify(a ?? null) === JSON.stringify(b ?? null);
+
+/**
+ * A new run of a finished run's frozen spec and edition on another basis (runs never change).
+ * Bootstrap settings: the body's, else the run's own, else (basis 'bootstrap') the defaults.
+ * @throws 409 unless the run finished; 422 for robust on a second-stage or iterated run (the
+ *   message points to the first-stage copy) or when nothing would change.
+ */
+export function changeRunBasis(deps: RunDeps, user: User, runId: number, body: ChangeBasisBody): Run {
+  const row = ownRunRow(deps.db, user, runId, 'start it on another basis');
+  if (row.status !== 'finished')
+    throw new KeelsonApiError('conflict', `Run ${runId} is ${row.status}; only a finished run can be run again on another basis`);
+  const spec = modelSpecSchema.parse(JSON.parse(row.spec));
+  if (body.basis === 'robust' && spec.stage !== 'first') {
+    const stage = spec.stage === 'second' ? 'second-stage' : 'iterated';
+    const message =
+      `The robust basis needs a first-stage run, and run #${runId} is ${stage}: its weighting depends on b, so misspecification-robust SEs are not defined. ` +
+      `Make a first-stage copy of it (POST /api/v1/runs/${runId}/first-stage-copy) to get robust verdicts.`;
+    throw new KeelsonApiError('unprocessable', message, [{ path: ['basis'], message }]);
+  }
+  const bootstrap = body.bootstrap
+    ? specBootstrapSchema.parse(body.bootstrap)
+    : (spec.bootstrap ?? (body.basis === 'bootstrap' ? specBootstrapSchema.parse({}) : undefined));
+  const next: ModelSpec = { ...spec, basis: body.basis };
+  if (bootstrap) next.bootstrap = bootstrap;
+  else delete next.bootstrap;
+  if (resolveBasis(spec) === body.basis && sameBootstrap(spec.bootstrap, next.bootstrap)) {
+    const message = `Run #${runId} already rests on the ${body.basis} basis with these settings; nothing would change`;
+    throw new KeelsonApiError('unprocessable', message, [{ path: ['basis'], message }]);
+  }
+  const p = prepareRun(deps, user, next, row.editionId);
+  const { row: created, jobId } = inTransaction(deps.db, (tx) => insertRun(tx, user, p, { specId: row.specId, specName: row.specName, basedOnRunId: runId }));
+  afterInsert(deps, user, p, created, jobId);
+  return toRun(created, user.name, 'none');
+}
+
+const FIRST_STAGE_SUFFIX = ' (first stage)';
+function firstStageName(name: string): string {
+  return `${name.slice(0, 120 - FIRST_STAGE_SUFFIX.length)}${FIRST_STAGE_SUFFIX}`;
+}
+
+/**
+ * Copies a run's spec with stage 'first' and basis 'robust' (weighting, lag, drop set and
+ * bootstrap settings kept) and starts a run of it on the same edition. When the run came from a
+ * saved spec, the copy is saved as a new model spec "<name> (first stage)" in the same
+ * transaction as its run; otherwise spec is null.
+ * @throws 422 when the run is already first-stage (change its basis instead).
+ */
+export function firstStageCopy(deps: RunDeps, user: User, runId: number): FirstStageCopyResponse {
+  const row = ownRunRow(deps.db, user, runId, 'make a first-stage copy of it');
+  const spec = modelSpecSchema.parse(JSON.parse(row.spec));
+  if (spec.stage === 'first') {
+    const message = `Run #${runId} is already first-stage; to change its basis, start it on another basis (POST /api/v1/runs/${runId}/basis)`;
+    throw new KeelsonApiError('unprocessable', message, [{ path: ['stage'], message }]);
+  }
+  const next: ModelSpec = { ...spec, stage: 'first', basis: 'robust' };
+  const p = prepareRun(deps, user, next, row.editionId);
+  const savedFrom = row.specId !== null ? findSpecRow(deps.db, user, row.specId) : null;
+  const baseName = row.specName ?? savedFrom?.name ?? null;
+  const out = inTransaction(deps.db, (tx) => {
+    let saved: SavedSpec | null = null;
+    if (savedFrom) saved = insertSpec(tx, user, p.data, firstStageName(baseName ?? savedFrom.name), p.spec, savedFrom.id);
+    const written = insertRun(tx, user, p, {
+      specId: saved?.id ?? null,
+      specName: saved?.name ?? (baseName ? firstStageName(baseName) : null),
+      basedOnRunId: runId,
+    });
+    return { ...written, saved };
+  });
+  afterInsert(deps, user, p, out.row, out.jobId);
+  return { run: toRun(out.row, user.name, 'none'), spec: out.saved };
+}
+
+/**
+ * Guard for any code path that would change a run: finished, failed and cancelled runs are final.
+ * (The one exception is the bootstrap part of a finished run's result, written once by the job
+ * runner when the run's own bootstrap job finishes.)
+ */
 export function assertRunMutable(row: Pick<RunRow, 'id' | 'status'>): void {
   if (row.status === 'finished' || row.status === 'failed' || row.status === 'cancelled')
     throw new KeelsonApiError('conflict', `Run ${row.id} is ${row.status}; runs cannot be changed once they end`);

@@ -1,8 +1,11 @@
 /**
- * Model specs: saved, named, copied and edited. A spec names an edition; reading or using it needs
- * read access to that edition's library. Only the author (or an admin) edits a spec.
+ * Model specs: saved, named, copied, edited, archived and restored. A spec names an edition;
+ * reading or using it needs read access to that edition's library. Only the author (or an admin)
+ * edits, archives or restores a spec. An archived spec is hidden from the list (unless asked for),
+ * cannot be edited or started until it is restored, and can still be read and copied; its runs
+ * stay readable.
  */
-import { and, desc, eq } from 'drizzle-orm';
+import { and, desc, eq, isNull } from 'drizzle-orm';
 import type { Db } from '../db/client';
 import { inTransaction } from '../db/client';
 import { modelSpecs, users } from '../db/schema/index';
@@ -32,6 +35,7 @@ function toSavedSpec(row: SpecRow, authorName: string): SavedSpec {
     editionNumber: row.editionNumber,
     spec: modelSpecSchema.parse(JSON.parse(row.spec)),
     copiedFromId: row.copiedFromId,
+    archivedAt: row.archivedAt ?? null,
     createdAt: row.createdAt,
     updatedAt: row.updatedAt,
   };
@@ -85,16 +89,29 @@ export function getSpec(db: Db, user: User, id: number): SavedSpec {
   return toSavedSpec(row, authorNameOf(db, row.authorId));
 }
 
-/** The frozen spec and edition of a saved spec, for starting a run. */
+function assertNotArchived(row: SpecRow, doing: string): void {
+  if (row.archivedAt) throw new KeelsonApiError('conflict', `Model spec ${row.id} (“${row.name}”) is archived; restore it before you ${doing}`);
+}
+
+/** The frozen spec and edition of a saved spec, for starting a run (409 for an archived spec). */
 export function specForRun(db: Db, user: User, id: number): { row: SpecRow; spec: ModelSpec } {
   const row = findRow(db, user, id);
+  assertNotArchived(row, 'start a run of it');
   return { row, spec: modelSpecSchema.parse(JSON.parse(row.spec)) };
 }
 
-export function listSpecs(db: Db, user: User, opts: { mine?: boolean; editionId?: number } = {}): SavedSpec[] {
+/** The saved spec row if it exists and is readable (archived or not), else null. */
+export function findSpecRow(db: Db, user: User, id: number): SpecRow | null {
+  const row = db.select().from(modelSpecs).where(eq(modelSpecs.id, id)).get();
+  return row && canReadEdition(db, user, row.editionId) ? row : null;
+}
+
+/** Specs the user may read, newest first; archived ones only with `archived: true` (then listed too). */
+export function listSpecs(db: Db, user: User, opts: { mine?: boolean; editionId?: number; archived?: boolean } = {}): SavedSpec[] {
   const conds = [];
   if (opts.mine) conds.push(eq(modelSpecs.authorId, user.id));
   if (opts.editionId) conds.push(eq(modelSpecs.editionId, opts.editionId));
+  if (!opts.archived) conds.push(isNull(modelSpecs.archivedAt));
   const rows = db
     .select({ s: modelSpecs, authorName: users.name })
     .from(modelSpecs)
@@ -107,37 +124,43 @@ export function listSpecs(db: Db, user: User, opts: { mine?: boolean; editionId?
   return rows.filter((r) => canReadEdition(db, user, r.s.editionId, cache)).map((r) => toSavedSpec(r.s, r.authorName));
 }
 
-export function createSpec(db: Db, user: User, body: { name: string; editionId: number; spec: ModelSpec }, copiedFromId: number | null = null): SavedSpec {
-  const { data } = loadAndCheck(db, user, body.editionId, body.spec);
-  const row = inTransaction(db, (tx) => {
-    const r = tx
-      .insert(modelSpecs)
-      .values({
-        name: body.name,
-        authorId: user.id,
-        editionId: data.editionId,
-        libraryId: data.libraryId,
-        libraryName: data.libraryName,
-        editionNumber: data.number,
-        spec: JSON.stringify(body.spec),
-        copiedFromId,
-      })
-      .returning()
-      .get();
-    audit(tx, user.id, copiedFromId ? 'spec.copy' : 'spec.create', { specId: r.id, copiedFromId });
-    return r;
-  });
-  return toSavedSpec(row, user.name);
+/**
+ * Inserts a checked spec with its audit line, inside the caller's transaction (the first-stage
+ * copy of a run writes the spec and its run in one transaction).
+ */
+export function insertSpec(tx: Db, user: User, data: Pick<EditionData, 'editionId' | 'libraryId' | 'libraryName' | 'number'>, name: string, spec: ModelSpec, copiedFromId: number | null): SavedSpec {
+  const r = tx
+    .insert(modelSpecs)
+    .values({
+      name,
+      authorId: user.id,
+      editionId: data.editionId,
+      libraryId: data.libraryId,
+      libraryName: data.libraryName,
+      editionNumber: data.number,
+      spec: JSON.stringify(spec),
+      copiedFromId,
+    })
+    .returning()
+    .get();
+  audit(tx, user.id, copiedFromId ? 'spec.copy' : 'spec.create', { specId: r.id, copiedFromId });
+  return toSavedSpec(r, user.name);
 }
 
-function assertMayEdit(user: User, row: SpecRow): void {
+export function createSpec(db: Db, user: User, body: { name: string; editionId: number; spec: ModelSpec }, copiedFromId: number | null = null): SavedSpec {
+  const { data } = loadAndCheck(db, user, body.editionId, body.spec);
+  return inTransaction(db, (tx) => insertSpec(tx, user, data, body.name, body.spec, copiedFromId));
+}
+
+function assertMayEdit(user: User, row: SpecRow, what = 'edit it; copy it to make your own'): void {
   if (row.authorId !== user.id && user.role !== 'admin')
-    throw new KeelsonApiError('forbidden', 'Only the author of a spec (or an admin) may edit it; copy it to make your own');
+    throw new KeelsonApiError('forbidden', `Only the author of a spec (or an admin) may ${what}`);
 }
 
 export function updateSpec(db: Db, user: User, id: number, patch: { name?: string; editionId?: number; spec?: ModelSpec }): SavedSpec {
   const row = findRow(db, user, id);
   assertMayEdit(user, row);
+  assertNotArchived(row, 'edit it');
   const editionId = patch.editionId ?? row.editionId;
   const spec = patch.spec ?? modelSpecSchema.parse(JSON.parse(row.spec));
   const { data } = loadAndCheck(db, user, editionId, spec);
@@ -157,6 +180,27 @@ export function updateSpec(db: Db, user: User, id: number, patch: { name?: strin
       .returning()
       .get();
     audit(tx, user.id, 'spec.update', { specId: id });
+    return r;
+  });
+  return toSavedSpec(updated, authorNameOf(db, updated.authorId));
+}
+
+/**
+ * Archives (`archived: true`) or restores a spec: author or admin. Archiving an archived spec (or
+ * restoring a live one) changes nothing and answers the spec as it is.
+ */
+export function setSpecArchived(db: Db, user: User, id: number, archived: boolean): SavedSpec {
+  const row = findRow(db, user, id);
+  assertMayEdit(user, row, archived ? 'archive it' : 'restore it');
+  if (!!row.archivedAt === archived) return toSavedSpec(row, authorNameOf(db, row.authorId));
+  const updated = inTransaction(db, (tx) => {
+    const r = tx
+      .update(modelSpecs)
+      .set({ archivedAt: archived ? new Date().toISOString() : null })
+      .where(eq(modelSpecs.id, id))
+      .returning()
+      .get();
+    audit(tx, user.id, archived ? 'spec.archive' : 'spec.restore', { specId: id });
     return r;
   });
   return toSavedSpec(updated, authorNameOf(db, updated.authorId));

@@ -26,6 +26,8 @@ export const modelSpecs = sqliteTable(
     /** The spec body (shared/specs.ts `modelSpecSchema`) as JSON text. */
     spec: text('spec').notNull(),
     copiedFromId: integer('copied_from_id'),
+    /** Set when the spec is archived: hidden from the list unless asked for; its runs stay readable. */
+    archivedAt: text('archived_at'),
     createdAt: text('created_at').notNull().default(now),
     updatedAt: text('updated_at').notNull().default(now),
   },
@@ -53,6 +55,12 @@ export const runs = sqliteTable(
     error: text('error'),
     /** estimateLedger's full output (JSON text) for a finished run. */
     result: text('result'),
+    /**
+     * The bootstrap deep check (jobs.id, plain integer like the other cross-module references)
+     * started with the run when its spec asks for bootstrap p-values; its result is merged into
+     * `result` once, in the transaction that marks the job finished.
+     */
+    bootstrapJobId: integer('bootstrap_job_id'),
     createdAt: text('created_at').notNull().default(now),
     startedAt: text('started_at'),
     finishedAt: text('finished_at'),
