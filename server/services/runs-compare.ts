@@ -54,9 +54,11 @@ export function nestedTest(db: Db, a: Run, b: Run): NestedTest {
   const dropped = large.spec.factors.filter((f) => !small.spec.factors.includes(f));
   const base = { nested: true, smallerRunId: small.id, largerRunId: large.id, dropped };
   const data = loadEditionData(db, large.editionId);
-  // W* for a first-stage run: the second stage computed from its first-stage estimate.
-  const specForDrop: ModelSpec =
-    large.spec.stage === 'first' ? { ...large.spec, stage: 'second', basis: 'standard', bootstrap: undefined } : { ...large.spec, bootstrap: undefined };
+  // W* for a first-stage run: the second stage computed from its first-stage estimate. The drop
+  // test does not depend on the basis, so the re-estimate asks for none (no bootstrap settings).
+  const { bootstrap: _ignored, ...rest } = large.spec;
+  void _ignored;
+  const specForDrop: ModelSpec = { ...rest, stage: large.spec.stage === 'first' ? 'second' : large.spec.stage, basis: 'standard' };
   const out = estimate(specForDrop, data, dropped);
   if (!out.ok) return { ...base, reason: `The larger model could not be re-estimated: ${out.error}`, test: null };
   const t = out.result.jointDrop?.chi2Drop ?? null;

@@ -53,10 +53,13 @@ describe('spec schema (shared by form and server)', () => {
 
   it('counts N, K, T and df = N − K against an edition, and refuses T ≤ N + K', () => {
     const ed = { dates: ['2001-01', '2001-02', '2001-03', '2001-04', '2001-05'], series: [{ name: 'A', kind: 'asset' as const }, { name: 'B', kind: 'asset' as const }, { name: 'F', kind: 'factor' as const }] };
-    const ok = checkSpecAgainstEdition({ assets: ['A', 'B'], factors: ['F'], window: { start: '2001-02' } }, ed);
+    // lag 0: with T = 4 the automatic lag (1) is not below T/4 and is refused (see the lag tests)
+    const ok = checkSpecAgainstEdition({ assets: ['A', 'B'], factors: ['F'], window: { start: '2001-02' }, lags: 0 }, ed);
     expect(ok).toMatchObject({ T: 4, N: 2, K: 1, df: 1, start: '2001-02', end: '2001-05', issues: [] });
-    const tight = checkSpecAgainstEdition({ assets: ['A', 'B'], factors: ['F'], window: { start: '2001-03' } }, ed);
+    const tight = checkSpecAgainstEdition({ assets: ['A', 'B'], factors: ['F'], window: { start: '2001-03' }, lags: 0 }, ed);
     expect(tight.issues[0].message).toMatch(/T = 3 periods is too few/);
+    const auto = checkSpecAgainstEdition({ assets: ['A', 'B'], factors: ['F'], window: { start: '2001-02' } }, ed);
+    expect(auto.issues.map((i) => i.message)).toEqual(['The automatic HAC lag (1) is too long for T = 4 periods: the lag must be below T/4 = 1; set a lag of at most 0']);
   });
 });
 
