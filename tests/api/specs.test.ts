@@ -148,6 +148,61 @@ describe('specs API', () => {
     expect(tableCounts(t.db)).toEqual(before);
   });
 
+  it('archives and restores (author or admin): hidden from the list unless ?archived=true, runs stay readable', async () => {
+    const s = await send(researcher, 'post', '/specs', { name: 'To archive', editionId: shared.editionId, spec: spec({ rf: 'RF' }) });
+    const sid = s.body.spec.id as number;
+    expect(s.body.spec.archivedAt).toBeNull();
+    const run = await send(researcher, 'post', '/runs', { specId: sid });
+    expect(run.status).toBe(201);
+    const runId = run.body.run.id as number;
+
+    // roles: another researcher, reviewer and desk may not archive (403), nothing changes
+    await mailSettled();
+    const before = tableCounts(t.db);
+    expect(expectEnvelope((await send(other, 'post', `/specs/${sid}/archive`, {}).expect(403)).body, 'forbidden').message).toMatch(/author of a spec \(or an admin\) may archive it/);
+    for (const a of [reviewer, desk]) expectEnvelope((await send(a, 'post', `/specs/${sid}/archive`, {}).expect(403)).body, 'forbidden');
+    expectEnvelope((await send(researcher, 'post', '/specs/999999/archive', {}).expect(404)).body, 'not_found');
+    expectEnvelope((await send(researcher, 'post', '/specs/abc/archive', {}).expect(400)).body, 'bad_request');
+    expect(tableCounts(t.db)).toEqual(before);
+
+    const a = await send(researcher, 'post', `/specs/${sid}/archive`, {});
+    expect(a.status).toBe(200);
+    const archived = specResponseSchema.parse(a.body).spec;
+    expect(archived.archivedAt).toEqual(expect.any(String));
+    // archiving again changes nothing
+    expect((await send(researcher, 'post', `/specs/${sid}/archive`, {}).expect(200)).body.spec.archivedAt).toBe(archived.archivedAt);
+
+    const listed = (q: string, a2: Agent = desk) => a2.get(`/api/v1/specs${q}`).expect(200).then((r) => specsResponseSchema.parse(r.body).specs.map((x) => x.id));
+    expect(await listed('')).not.toContain(sid);
+    expect(await listed('?mine=true', researcher)).not.toContain(sid);
+    expect(await listed('?archived=true')).toContain(sid);
+    expect(await listed('?archived=true')).toContain(id); // live specs are listed too
+    expectEnvelope((await desk.get('/api/v1/specs?archived=maybe').expect(400)).body, 'validation_failed');
+    // still readable, and so are its runs
+    expect((await desk.get(`/api/v1/specs/${sid}`).expect(200)).body.spec.archivedAt).toBe(archived.archivedAt);
+    expect((await desk.get(`/api/v1/runs/${runId}`).expect(200)).body.run.specId).toBe(sid);
+    expect((await desk.get(`/api/v1/runs?specId=${sid}`).expect(200)).body.runs.map((x: { id: number }) => x.id)).toContain(runId);
+    // an archived spec is not edited or started until restored (409); it can be copied
+    await mailSettled();
+    const mid = tableCounts(t.db);
+    expect(expectEnvelope((await send(researcher, 'put', `/specs/${sid}`, { name: 'Renamed' }).expect(409)).body, 'conflict').message).toMatch(/archived; restore it/);
+    expect(expectEnvelope((await send(researcher, 'post', '/runs', { specId: sid }).expect(409)).body, 'conflict').message).toMatch(/archived; restore it/);
+    expect(tableCounts(t.db)).toEqual(mid);
+    const copy = await send(other, 'post', `/specs/${sid}/copy`, {});
+    expect(copy.status).toBe(201);
+    expect(copy.body.spec.archivedAt).toBeNull();
+
+    // an admin may restore anyone's spec
+    const r = await send(admin, 'post', `/specs/${sid}/restore`, {});
+    expect(r.status).toBe(200);
+    expect(r.body.spec.archivedAt).toBeNull();
+    expect(await listed('')).toContain(sid);
+    expect((await send(researcher, 'post', '/runs', { specId: sid })).status).toBe(201);
+    // audit trail
+    const actions = (t.db.$client.prepare("select action from audit_log where action like 'spec.%' and detail like ?").all(`%"specId":${sid}%`) as { action: string }[]).map((x) => x.action);
+    expect(actions).toEqual(expect.arrayContaining(['spec.create', 'spec.archive', 'spec.restore']));
+  });
+
   it('refuses spec writes to reviewer and desk, reads to signed-out callers', async () => {
     for (const a of [reviewer, desk]) expectEnvelope((await send(a, 'post', '/specs', { name: 'x', editionId: shared.editionId, spec: spec() }).expect(403)).body, 'forbidden');
     const anon = await anonymousAgent(t.app);
