@@ -53,7 +53,7 @@ export async function mailSettled(): Promise<void> {
 }
 
 /** Input mistakes of lib/gmm that mean the request (not the data) is wrong. */
-const REQUEST_ERROR_CODES = new Set(['invalid-option', 'invalid-lags', 'unknown-factor', 'duplicate-name', 'length-mismatch', 'empty-input']);
+const REQUEST_ERROR_CODES = new Set(['invalid-option', 'invalid-lags', 'too-few-assets', 'unknown-factor', 'duplicate-name', 'length-mismatch', 'empty-input']);
 
 /** Failure the data caused; stored on a failed run. */
 export class RunDataError extends Error {

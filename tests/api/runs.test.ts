@@ -419,6 +419,8 @@ describe('compare', () => {
     expect(c.nested.test!.df).toBe(1);
     expect(c.nested.test!.stat).toBeCloseTo(echo.chi2Drop!.stat, 12);
     expect(c.nested.test!.p).toBeCloseTo(echo.chi2Drop!.p, 12);
+    // and it is the first-stage ledger's own drop test of ECHO (lib/gmm reports it at the first stage)
+    expect(c.nested.test!.stat).toBeCloseTo(f2.result!.factors.find((f) => f.name === 'ECHO')!.chi2Drop!.stat, 12);
     expectEnvelope((await desk.get(`/api/v1/runs/compare?a=${a.id}`).expect(400)).body, 'validation_failed');
     expectEnvelope((await desk.get(`/api/v1/runs/compare?a=${a.id}&b=${a.id}`).expect(400)).body, 'bad_request');
   });

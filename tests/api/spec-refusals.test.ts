@@ -14,7 +14,7 @@ import { agentAs, expectEnvelope, makeTestApp, tableCounts, type Agent, type Tes
 import { FIX_KINDS, makeFixture, spec, uploadFixture, type Fixture } from './runs-fixture';
 import { mailSettled } from '../../server/services/runs';
 import { autoLag, checkSpecAgainstEdition, maxLagFor, modelSpecSchema, type EditionShape } from '../../shared/specs';
-import { defaultLag } from '../../lib/gmm/index';
+import { defaultLag, maxLag } from '../../lib/gmm/index';
 import { runResponseSchema } from '../../shared/runs';
 
 let t: TestApp;
@@ -134,7 +134,10 @@ describe('HAC lag limits', () => {
   });
 
   it('the form’s automatic lag is lib/gmm’s plug-in rule, and it stays below T/4 from T = 9 on', () => {
-    for (let T = 1; T <= 5000; T++) expect(autoLag(T)).toBe(defaultLag(T));
+    for (let T = 1; T <= 5000; T++) {
+      expect(autoLag(T)).toBe(defaultLag(T));
+      expect(maxLagFor(T)).toBe(maxLag(T)); // lib/gmm refuses the same lags (hac.ts resolveLag)
+    }
     // floor(4 (T/100)^(2/9)): T = 8 gives 2 = T/4 (refused), T = 9 gives 2 < 2.25
     expect(autoLag(8)).toBe(2);
     for (let T = 9; T <= 5000; T++) expect(autoLag(T)).toBeLessThanOrEqual(maxLagFor(T));
