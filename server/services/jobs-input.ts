@@ -159,6 +159,12 @@ export function buildCheckInput(db: Db, run: RunForCheck, kind: JobKind, rawPara
   const K = input.factorNames.length;
   if (p.length > T) unprocessable(`The window of ${p.length} periods is longer than the run's sample (T = ${T}).`, ['params', 'length']);
   if (p.length <= N + K) unprocessable(`A window of ${p.length} periods is too short for N = ${N} assets and K = ${K} factors: use more than ${N + K}.`, ['params', 'length']);
+  // Each window is estimated with the run's lag, and methods.md refuses a lag ≥ T/4 of the window.
+  if (typeof spec.lags === 'number' && 4 * spec.lags >= p.length)
+    unprocessable(
+      `A window of ${p.length} periods is too short for the run's HAC lag of ${spec.lags}: the lag must be below a quarter of the window, so use at least ${4 * spec.lags + 1} periods.`,
+      ['params', 'length'],
+    );
   const windows = rollingWindows(T, { kind: p.window, length: p.length, step: p.step });
   return {
     kind,

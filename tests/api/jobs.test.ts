@@ -211,6 +211,18 @@ describe('validation (nothing written on refusal)', () => {
     expect(tableCounts(t.db)).toEqual(before);
   });
 
+  it('refuses a rolling window too short for the run’s HAC lag (L must be below a quarter of each window), writing nothing', async () => {
+    const lagged = await startRun(researcher, { editionId: 1, spec: spec({ rf: 'RF', lags: 10 }) });
+    await mailSettled();
+    const before = tableCounts(t.db);
+    const r = await post(researcher, `/runs/${lagged.id}/checks`, { kind: 'rolling', params: { length: 40, step: 40 } });
+    expect(r.status).toBe(422);
+    expect(expectEnvelope(r.body, 'unprocessable').message).toMatch(/too short for the run's HAC lag of 10.*at least 41 periods/);
+    expect(tableCounts(t.db)).toEqual(before);
+    const ok = await startCheck(researcher, lagged.id, { kind: 'rolling', params: { length: 41, step: 100 } });
+    expect((await waitJob(researcher, ok.id, ended)).status).toBe('finished');
+  });
+
   it('refuses a run that did not finish (409)', async () => {
     const failed = await post(researcher, '/runs', { editionId: 1, spec: spec({ assets: [...FIX_ASSETS, 'GAPPY'], rf: 'RF' }) }).expect(201);
     expect(failed.body.run.status).toBe('failed');

@@ -182,6 +182,24 @@ describe('bootstrap p-values started with the run', () => {
     await waitForMail(researcher, new RegExp(`Bootstrap on run #${run.id} finished`));
   });
 
+  it('the run’s drop set goes to the bootstrap (joint p-values where lib/gmm gives them)', async () => {
+    const run = await startRun(researcher, { editionId: shared.editionId, spec: spec({ rf: 'RF', dropSet: ['ECHO'], bootstrap: { draws: 99, seed: 13 } }) });
+    const job = await waitJob(researcher, run.bootstrapJobId!, ended);
+    expect(job.status).toBe('finished');
+    const { returns, F } = matrices(['MKT', 'ECHO']);
+    // The same call the server makes, drop set included (lib/gmm reads it when it computes joint p-values).
+    const withDropSet = { dropSet: ['ECHO'] } as object;
+    const direct = bootstrapSdfTests({
+      returns,
+      factors: F,
+      factorNames: ['MKT', 'ECHO'],
+      options: { stage: 'second', weighting: 'identity', lags: 'auto', form: 'centred', factorMeansKnown: false, scheme: 'iid', draws: 99, seed: 13, ...withDropSet },
+    });
+    const filled = await getRun(researcher, run.id);
+    expect(filled.result).toEqual(json(withBootstrap(run.result as unknown as EngineLedger, direct)));
+    expect(filled.result!.jointDrop!.factors).toEqual(['ECHO']);
+  });
+
   it('basis bootstrap: the verdicts switch to the bootstrap basis once its p-values are in', async () => {
     const run = await startRun(researcher, { editionId: shared.editionId, spec: spec({ rf: 'RF', basis: 'bootstrap', bootstrap: { draws: 99, seed: 3, scheme: 'block', blockLength: 6 } }) });
     expect(run.result!.basis).toBe('bootstrap');
