@@ -242,6 +242,25 @@ describe('bootstrap p-values started with the run', () => {
     expect(after.bootstrapJobId).toBe(run.bootstrapJobId);
   });
 
+  it('a bootstrap whose result does not fit the ledger fails with the reason and leaves the ledger as it was', async () => {
+    const run = await startRun(researcher, { editionId: shared.editionId, spec: spec({ rf: 'RF', bootstrap: { draws: 10_000, seed: 1 } }) });
+    const jobId = run.bootstrapJobId!;
+    await post(researcher, `/jobs/${jobId}/cancel`).expect(200);
+    await t.app.jobRunner.waitFor(jobId);
+    // Make the stored ledger disagree with the bootstrap (a factor renamed), and ask for fewer draws.
+    const tampered = run.result!.factors.map((f) => (f.name === 'ECHO' ? { ...f, name: 'ECHO2' } : f));
+    const stored = JSON.stringify({ ...run.result, factors: tampered });
+    t.db.$client.prepare('update runs set result = ? where id = ?').run(stored, run.id);
+    t.db.$client.prepare('update jobs set params = ? where id = ?').run(JSON.stringify({ draws: 19, scheme: 'iid', seed: 1 }), jobId);
+    await post(researcher, `/jobs/${jobId}/restart`).expect(200);
+    const job = await waitJob(researcher, jobId, ended);
+    expect(job.status).toBe('failed');
+    expect(job.error).toMatch(new RegExp(`could not be added to run #${run.id}'s ledger.*ECHO`));
+    expect(job.result).toBeNull();
+    const after = t.db.$client.prepare('select result from runs where id = ?').get(run.id) as { result: string };
+    expect(after.result).toBe(stored);
+  });
+
   it('a bootstrap started by hand on a run does not change that run’s ledger', async () => {
     const run = await startRun(researcher, { editionId: shared.editionId, spec: spec({ rf: 'RF' }) });
     const r = await post(researcher, `/runs/${run.id}/checks`, { kind: 'bootstrap', params: { draws: 19, seed: 2 } }).expect(201);
