@@ -162,7 +162,7 @@ describe('specs API', () => {
     expect(expectEnvelope((await send(other, 'post', `/specs/${sid}/archive`, {}).expect(403)).body, 'forbidden').message).toMatch(/author of a spec \(or an admin\) may archive it/);
     for (const a of [reviewer, desk]) expectEnvelope((await send(a, 'post', `/specs/${sid}/archive`, {}).expect(403)).body, 'forbidden');
     expectEnvelope((await send(researcher, 'post', '/specs/999999/archive', {}).expect(404)).body, 'not_found');
-    expectEnvelope((await send(researcher, 'post', '/specs/abc/archive', {}).expect(400)).body, 'bad_request');
+    expectEnvelope((await send(researcher, 'post', '/specs/abc/archive', {}).expect(404)).body, 'not_found');
     expect(tableCounts(t.db)).toEqual(before);
 
     const a = await send(researcher, 'post', `/specs/${sid}/archive`, {});
