@@ -165,7 +165,8 @@ describe('keelson command line against the server', () => {
     const std = await cli(home, ['run', '--edition', String(up.edition.id), '--factors', 'MKT,TILT', '--bootstrap-draws', '199', '--bootstrap-scheme', 'block', '--block-length', '6', '--json']);
     expect(std.code).toBe(0);
     const s2 = (JSON.parse(std.out) as { run: { spec: { basis?: string; bootstrap?: unknown } } }).run.spec;
-    expect(s2.basis).toBeUndefined();
+    // No --basis: the server freezes the resolved default (standard for a second-stage spec) into the run.
+    expect(s2.basis).toBe('standard');
     expect(s2.bootstrap).toEqual({ draws: 199, scheme: 'block', blockLength: 6, seed: 1 });
 
     const shown = await cli(home, ['show', String(run.id)]);
