@@ -181,7 +181,9 @@ describe('reviewer: comment and approve', () => {
       subjects = (await api<{ messages: { subject: string }[] }>(author.page, '/auth/outbox')).messages.map((m) => m.subject);
       if (!subjects.includes(`Run #${runId} approved`)) await author.page.waitForTimeout(250);
     }
-    expect(subjects).toEqual(expect.arrayContaining([`Run #${runId} finished`, `Run #${runId} approved`]));
+    expect(subjects).toContain(`Run #${runId} approved`);
+    // A run estimated in well under a minute sends no "finished" e-mail (only runs over a minute do).
+    expect(subjects).not.toContain(`Run #${runId} finished`);
     await author.context.close();
   });
 });
