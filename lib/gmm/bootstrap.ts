@@ -366,25 +366,6 @@ function sandwich(H: Float64Array, N: number, omega: Float64Array, T: number, id
   return out;
 }
 
-/** min_b (m − X_keep b)' W (m − X_keep b), the GMM objective with the columns `keep` of X; null if singular. */
-function objective(X: Float64Array, W: Float64Array, m: Float64Array, N: number, K: number, keep: readonly number[]): number | null {
-  const q = keep.length;
-  const g = Float64Array.from(m);
-  if (q > 0) {
-    const Xk = new Float64Array(N * q);
-    for (let i = 0; i < N; i++) for (let a = 0; a < q; a++) Xk[i * q + a] = X[i * K + keep[a]];
-    const WX = matMul(W, N, N, Xk, q);
-    const A = matTMul(Xk, N, q, WX, q);
-    const L = cholesky(A, q);
-    if (!L) return null;
-    const rhs = new Float64Array(q);
-    for (let a = 0; a < q; a++) for (let i = 0; i < N; i++) rhs[a] += WX[i * q + a] * m[i];
-    const b = choleskySolve(L, q, rhs, 1);
-    for (let i = 0; i < N; i++) for (let a = 0; a < q; a++) g[i] -= Xk[i * q + a] * b[a];
-  }
-  return quadForm(W, N, g);
-}
-
 /** Restricted estimate b̃ (b_S = 0) under W and its pricing errors g_T(b̃); null when singular. */
 function restricted(X: Float64Array, W: Float64Array, meanR: Float64Array, N: number, K: number, drop: readonly number[]): { b: Float64Array; g: Float64Array } | null {
   const keep = Array.from({ length: K }, (_, j) => j).filter((j) => !drop.includes(j));
@@ -405,6 +386,12 @@ function restricted(X: Float64Array, W: Float64Array, meanR: Float64Array, N: nu
   }
   for (let i = 0; i < N; i++) for (let k = 0; k < K; k++) g[i] -= X[i * K + k] * b[k];
   return { b, g };
+}
+
+/** min over b with b_S = 0 of (m − X b)' W (m − X b), the GMM objective without the columns `drop`; null if singular. */
+function objective(X: Float64Array, W: Float64Array, m: Float64Array, N: number, K: number, drop: readonly number[]): number | null {
+  const r = restricted(X, W, m, N, K, drop);
+  return r ? quadForm(W, N, r.g) : null;
 }
 
 /** The recentred moment series h_t(b) − c (T×N row-major). */
@@ -718,9 +705,8 @@ function mapped(X: Float64Array, N: number, K: number, mean: Float64Array, bNull
 
 /** T (q_r − q_u) with the common weighting W on the mean m; null when singular. */
 function dropStat(X: Float64Array, W: Float64Array, m: Float64Array, T: number, N: number, K: number, idx: readonly number[]): number | null {
-  const all = Array.from({ length: K }, (_, k) => k);
-  const qu = objective(X, W, m, N, K, all);
-  const qr = objective(X, W, m, N, K, all.filter((k) => !idx.includes(k)));
+  const qu = objective(X, W, m, N, K, []);
+  const qr = objective(X, W, m, N, K, idx);
   if (qu === null || qr === null) return null;
   return Math.max(0, T * (qr - qu));
 }
@@ -794,7 +780,7 @@ function drawStatistics(
       for (let i = 0; i < N; i++) alpha[i] = mt[i] - xb[i];
       J = f.covAlphaPinv && N > K ? Math.max(0, quadForm(f.covAlphaPinv, N, alpha)) : 0;
     } else {
-      const q = objective(f.X, f.W, mt, N, K, Array.from({ length: K }, (_, k) => k));
+      const q = objective(f.X, f.W, mt, N, K, []);
       if (q === null) return null;
       J = N > K ? Math.max(0, T * q) : 0;
     }
