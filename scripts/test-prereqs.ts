@@ -1,7 +1,9 @@
 /**
  * First step of `npm test`: make sure what the tests need outside npm is on this machine, so no
- * test silently disappears. Needed: Debian's Chromium at /usr/bin/chromium (browser tests) and
- * numpy, scipy and statsmodels for /usr/bin/python3 (reference checks).
+ * test silently disappears. `npm test` needs Debian's Chromium at /usr/bin/chromium (browser
+ * tests); its reference checks read committed fixtures (tests/fixtures/*.json) and need no Python.
+ * With `--fixtures` (first step of `npm run fixtures:check` / `fixtures:write`, which rerun the
+ * Python references): numpy, scipy, statsmodels and mpmath for /usr/bin/python3.
  *
  * When something is missing and the process runs as root with apt-get available (as on these
  * machines and in CI), it is installed with apt-get; otherwise the run stops at once with the exact
@@ -16,16 +18,15 @@ interface Need {
   readonly present: () => boolean;
 }
 
-const needs: readonly Need[] = [
-  { what: 'Chromium at /usr/bin/chromium (browser tests)', packages: ['chromium'], present: () => existsSync('/usr/bin/chromium') },
-  {
-    what: 'numpy, scipy and statsmodels for /usr/bin/python3 (reference checks)',
-    packages: ['python3-numpy', 'python3-scipy', 'python3-statsmodels'],
-    present: () =>
-      existsSync('/usr/bin/python3') &&
-      spawnSync('/usr/bin/python3', ['-c', 'import numpy, scipy, statsmodels'], { stdio: 'ignore' }).status === 0,
-  },
-];
+const browser: Need = { what: 'Chromium at /usr/bin/chromium (browser tests)', packages: ['chromium'], present: () => existsSync('/usr/bin/chromium') };
+const python: Need = {
+  what: 'numpy, scipy, statsmodels and mpmath for /usr/bin/python3 (the Python references behind tests/fixtures)',
+  packages: ['python3-numpy', 'python3-scipy', 'python3-statsmodels', 'python3-mpmath'],
+  present: () =>
+    existsSync('/usr/bin/python3') &&
+    spawnSync('/usr/bin/python3', ['-c', 'import numpy, scipy, statsmodels, mpmath'], { stdio: 'ignore' }).status === 0,
+};
+const needs: readonly Need[] = process.argv.includes('--fixtures') ? [python] : [browser];
 
 const missing = needs.filter((n) => !n.present());
 if (missing.length === 0) process.exit(0);
@@ -34,20 +35,21 @@ const packages = missing.flatMap((n) => n.packages);
 const command = `apt-get update && apt-get install -y ${packages.join(' ')}`;
 const isRoot = typeof process.getuid === 'function' && process.getuid() === 0;
 const hasApt = existsSync('/usr/bin/apt-get');
-for (const n of missing) console.error(`npm test: missing ${n.what}.`);
+const who = process.argv.includes('--fixtures') ? 'fixtures' : 'npm test';
+for (const n of missing) console.error(`${who}: missing ${n.what}.`);
 
 if (!isRoot || !hasApt || process.env.KEELSON_NO_INSTALL === '1') {
-  console.error(`npm test: install it and run again:\n  sudo ${command}`);
+  console.error(`${who}: install it and run again:\n  sudo ${command}`);
   process.exit(1);
 }
 
-console.error(`npm test: installing ${packages.join(', ')} with apt-get …`);
+console.error(`${who}: installing ${packages.join(', ')} with apt-get …`);
 const env = { ...process.env, DEBIAN_FRONTEND: 'noninteractive' };
 const update = spawnSync('apt-get', ['update', '-qq'], { stdio: 'inherit', env });
 const install = update.status === 0 ? spawnSync('apt-get', ['install', '-y', '-qq', ...packages], { stdio: 'inherit', env }) : update;
 const still = missing.filter((n) => !n.present());
 if (install.status !== 0 || still.length > 0) {
-  console.error(`npm test: the install failed; run it by hand and try again:\n  ${command}`);
+  console.error(`${who}: the install failed; run it by hand and try again:\n  ${command}`);
   process.exit(1);
 }
-console.error('npm test: installed.');
+console.error(`${who}: installed.`);

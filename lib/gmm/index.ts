@@ -1,4 +1,4 @@
-/** Public API of the estimation library (pure TypeScript on ml-matrix and jstat). */
+/** Public API of the estimation library (pure TypeScript on ml-matrix and stdlib special functions). */
 export * from './errors';
 export * from './distributions';
 export * from './hac';

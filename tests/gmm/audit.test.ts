@@ -15,17 +15,13 @@
  *  - first-stage runs report the drop test with W* = Ŝ⁻¹, Ŝ at the first-stage b̂ (methods.md
  *    changed: "for a first-stage run: the second stage computed from it").
  */
-import { spawnSync } from 'node:child_process';
-import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { dirname, join } from 'node:path';
-import { fileURLToPath } from 'node:url';
+import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { estimateLedger, type LedgerOptions, type LedgerResult } from '../../lib/gmm/index';
+import { pythonFixture, REFERENCE_DIR } from './helpers';
 
 const TOL = 1e-8;
-const here = dirname(fileURLToPath(import.meta.url));
-const SCRIPT = join(here, '..', 'reference', 'audit_reference.py');
+const SCRIPT = join(REFERENCE_DIR, 'audit_reference.py');
 
 interface AuditCase {
   name: string;
@@ -75,19 +71,12 @@ const cases: AuditCase[] = [
   },
 ];
 
-// One Python run for all cases (generation + reference).
+// One Python run for all cases (generation + reference), through the committed fixture
+// tests/fixtures/audit.json (helpers.ts pythonFixture).
 // eslint-disable-next-line @typescript-eslint/no-explicit-any -- untyped JSON from the audit reference
-function runAudit(input: unknown): any[] {
-  const dir = mkdtempSync(join(tmpdir(), 'keelson-audit-'));
-  const inFile = join(dir, 'in.json');
-  const outFile = join(dir, 'out.json');
-  writeFileSync(inFile, JSON.stringify(input));
-  const r = spawnSync('/usr/bin/python3', [SCRIPT, inFile, outFile], { encoding: 'utf8' });
-  if (r.status !== 0) throw new Error(`audit reference failed: ${r.stderr}`);
-  return JSON.parse(readFileSync(outFile, 'utf8'));
-}
-
-const refs = runAudit(
+const refs: any[] = pythonFixture(
+  'audit',
+  SCRIPT,
   cases.map((c) => ({
     seed: c.seed, T: c.T, N: c.N, K: c.K, traded: c.traded, thin: c.thin ?? 0.3,
     stage: c.options.stage, weighting: c.options.weighting, form: c.options.form,

@@ -4,9 +4,10 @@
  * largest relative disagreement seen.
  */
 import { spawnSync } from 'node:child_process';
-import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { createHash } from 'node:crypto';
+import { existsSync, mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { dirname, join } from 'node:path';
+import { basename, dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { boxMuller, mulberry32 } from '../../lib/gmm/random';
 
@@ -69,18 +70,121 @@ export function simulateEconomy(opts: {
 }
 
 const here = dirname(fileURLToPath(import.meta.url));
-export const REFERENCE_SCRIPT = join(here, '..', 'reference', 'gmm_reference.py');
+export const REFERENCE_DIR = join(here, '..', 'reference');
+export const REFERENCE_SCRIPT = join(REFERENCE_DIR, 'gmm_reference.py');
+export const FIXTURE_DIR = join(here, '..', 'fixtures');
+/** The Debian packages the Python references need (installed by scripts/test-prereqs.ts as root). */
+export const PYTHON_INSTALL = 'sudo apt-get install -y python3-numpy python3-scipy python3-statsmodels python3-mpmath';
 
-/** Run the numpy/scipy/statsmodels reference on `input` (JSON) and return its output. */
-// eslint-disable-next-line @typescript-eslint/no-explicit-any -- untyped JSON from the Python reference
-export function runReference(input: unknown): any {
+/**
+ * How the Python-backed reference values are obtained (environment variable KEELSON_FIXTURES):
+ * - unset / 'read' (npm test): from the committed JSON fixture tests/fixtures/NAME.json; no Python
+ *   is needed. The fixture stores the SHA-256 of the exact input it was computed from, so a changed
+ *   input fails at once (regenerate with `npm run fixtures:write`).
+ * - 'write' (`npm run fixtures:write`): run the Python reference and (re)write the fixture.
+ * - 'check' (`npm run fixtures:check`, run by .ci/run before npm test): run the Python reference
+ *   and fail if any value moved from the committed fixture by more than FIXTURE_MOVE_TOL relative.
+ */
+export const fixtureMode = (process.env.KEELSON_FIXTURES ?? 'read') as 'read' | 'write' | 'check';
+/** A value "moved" when it changed by more than 2^12 ε ≈ 9.1e-13 relative (room for BLAS summation order, far below every test tolerance). */
+export const FIXTURE_MOVE_TOL = 4096 * Number.EPSILON;
+
+function sha256(input: unknown): string {
+  return createHash('sha256').update(JSON.stringify(input)).digest('hex');
+}
+
+let versionsCache: Record<string, string> | null = null;
+function pythonVersions(): Record<string, string> {
+  if (versionsCache) return versionsCache;
+  const probe = spawnSync(
+    '/usr/bin/python3',
+    ['-c', 'import json, sys, numpy, scipy, statsmodels, mpmath; print(json.dumps({"python": sys.version.split()[0], "numpy": numpy.__version__, "scipy": scipy.__version__, "statsmodels": statsmodels.__version__, "mpmath": mpmath.__version__}))'],
+    { encoding: 'utf8' },
+  );
+  if (probe.error || probe.status !== 0)
+    throw new Error(`The Python reference needs /usr/bin/python3 with numpy, scipy, statsmodels and mpmath (Debian packages). Install them:\n  ${PYTHON_INSTALL}\n${probe.stderr ?? ''}`);
+  versionsCache = JSON.parse(probe.stdout) as Record<string, string>;
+  return versionsCache;
+}
+
+/** Run a reference script (`python3 SCRIPT IN.json OUT.json`) on `input`. */
+function runPython(script: string, input: unknown): unknown {
+  pythonVersions();
   const dir = mkdtempSync(join(tmpdir(), 'keelson-ref-'));
   const inFile = join(dir, 'in.json');
   const outFile = join(dir, 'out.json');
   writeFileSync(inFile, JSON.stringify(input));
-  const r = spawnSync('/usr/bin/python3', [REFERENCE_SCRIPT, inFile, outFile], { encoding: 'utf8' });
-  if (r.status !== 0) throw new Error(`reference failed: ${r.stderr}`);
+  const r = spawnSync('/usr/bin/python3', [script, inFile, outFile], { encoding: 'utf8' });
+  if (r.status !== 0) throw new Error(`reference ${script} failed: ${r.stderr}`);
   return JSON.parse(readFileSync(outFile, 'utf8'));
+}
+
+/** Paths (a.b[3].c) where two JSON values differ: structure, strings, booleans exactly; numbers beyond `tol` relative. */
+export function movedValues(fresh: unknown, committed: unknown, tol: number, path = '', out: string[] = []): string[] {
+  if (out.length > 20) return out;
+  if (typeof fresh === 'number' && typeof committed === 'number') {
+    if (fresh !== committed && !(Math.abs(fresh - committed) <= tol * Math.max(Math.abs(fresh), Math.abs(committed)))) out.push(`${path}: ${committed} → ${fresh}`);
+  } else if (Array.isArray(fresh) && Array.isArray(committed)) {
+    if (fresh.length !== committed.length) out.push(`${path}: length ${committed.length} → ${fresh.length}`);
+    else fresh.forEach((v, i) => movedValues(v, committed[i], tol, `${path}[${i}]`, out));
+  } else if (fresh && committed && typeof fresh === 'object' && typeof committed === 'object' && !Array.isArray(fresh) && !Array.isArray(committed)) {
+    const keys = new Set([...Object.keys(fresh), ...Object.keys(committed)]);
+    for (const k of keys) movedValues((fresh as Record<string, unknown>)[k], (committed as Record<string, unknown>)[k], tol, path ? `${path}.${k}` : k, out);
+  } else if (fresh !== committed) out.push(`${path}: ${JSON.stringify(committed)} → ${JSON.stringify(fresh)}`);
+  return out;
+}
+
+interface Fixture {
+  readonly fixture: string;
+  readonly generatedBy: string;
+  readonly versions: Record<string, string>;
+  readonly inputSha256: string;
+  readonly output: unknown;
+}
+
+/**
+ * Reference values from a Python script for `input`, through the committed fixture
+ * tests/fixtures/NAME.json (see {@link fixtureMode}).
+ */
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- untyped JSON from the Python reference
+export function pythonFixture(name: string, script: string, input: unknown): any {
+  const file = join(FIXTURE_DIR, `${name}.json`);
+  const digest = sha256(input);
+  if (fixtureMode === 'read') {
+    if (!existsSync(file)) throw new Error(`Missing fixture ${file}. Generate it (needs Python: ${PYTHON_INSTALL}) with: npm run fixtures:write`);
+    const fx = JSON.parse(readFileSync(file, 'utf8')) as Fixture;
+    if (fx.inputSha256 !== digest)
+      throw new Error(`Fixture ${file} was computed from other inputs (the test data changed). Regenerate it (needs Python: ${PYTHON_INSTALL}) with: npm run fixtures:write`);
+    return fx.output;
+  }
+  const output = runPython(script, input);
+  const fx: Fixture = {
+    fixture: name,
+    generatedBy: `/usr/bin/python3 tests/reference/${basename(script)} IN.json OUT.json, IN = the test's input (SHA-256 below), driven by pythonFixture in tests/gmm/helpers.ts; regenerate with npm run fixtures:write`,
+    versions: pythonVersions(),
+    inputSha256: digest,
+    output,
+  };
+  if (fixtureMode === 'check') {
+    if (!existsSync(file)) throw new Error(`fixtures:check: ${file} is not committed; run npm run fixtures:write`);
+    const old = JSON.parse(readFileSync(file, 'utf8')) as Fixture;
+    const moved = [
+      ...(old.inputSha256 === digest ? [] : ['inputSha256: the committed fixture was computed from other inputs']),
+      ...movedValues(output, old.output, FIXTURE_MOVE_TOL, 'output'),
+    ];
+    if (moved.length > 0)
+      throw new Error(`fixtures:check: ${name} moved (versions then ${JSON.stringify(old.versions)}, now ${JSON.stringify(fx.versions)}):\n  ${moved.join('\n  ')}`);
+    return old.output;
+  }
+  mkdirSync(FIXTURE_DIR, { recursive: true });
+  writeFileSync(file, `{\n"fixture": ${JSON.stringify(fx.fixture)},\n"generatedBy": ${JSON.stringify(fx.generatedBy)},\n"versions": ${JSON.stringify(fx.versions)},\n"inputSha256": ${JSON.stringify(fx.inputSha256)},\n"output": ${JSON.stringify(fx.output)}\n}\n`);
+  return output;
+}
+
+/** The numpy/scipy/statsmodels reference (tests/reference/gmm_reference.py) on `input`, through fixture NAME. */
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- untyped JSON from the Python reference
+export function runReference(name: string, input: unknown): any {
+  return pythonFixture(name, REFERENCE_SCRIPT, input);
 }
 
 /** Largest relative disagreement measured by `relDiff` in this process (for the report). */

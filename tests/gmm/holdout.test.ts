@@ -35,7 +35,7 @@ const cases: Case[] = [
   { name: 'centred, factor means known, second stage, L = 1', seed: 8, T: 300, N: 6, K: 2, split: 200, options: { stage: 'second', weighting: 'identity', lags: 1, form: 'centred', factorMeansKnown: true } },
 ];
 const eco = cases.map((c) => simulateEconomy({ T: c.T, N: c.N, K: c.K, seed: c.seed, alphaScale: 0.002 }));
-const refs = runReference(cases.map((c, i) => ({ task: 'holdout', returns: eco[i].returns, factors: eco[i].factors, split: c.split, ...c.options })));
+const refs = runReference('holdout', cases.map((c, i) => ({ task: 'holdout', returns: eco[i].returns, factors: eco[i].factors, split: c.split, ...c.options })));
 
 describe.each(cases.map((c, i) => ({ ...c, i })))('hold-out pricing against numpy: $name', (c) => {
   const ref = refs[c.i];

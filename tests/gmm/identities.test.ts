@@ -65,7 +65,7 @@ describe('identities', () => {
     const ols = olsFit(Array.from(m.meanR), toNested(m.covRF, m.N, m.K));
     if (!ols.ok) throw new Error('ols failed');
     expect(maxRel(fit.b, ols.coef)).toBeLessThan(1e-10);
-    const ref = runReference({
+    const ref = runReference('identities-ols-mean-on-cov', {
       returns: eco.returns, factors: eco.factors, traded: [true, true, true], lags: 0, stage: 'first',
       weighting: 'identity', form: 'centred', factorMeansKnown: false, dropSets: [],
     });

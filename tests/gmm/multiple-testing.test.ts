@@ -28,7 +28,7 @@ for (const n of [2, 5, 7, 8, 9, 13, 16, 40, 129, 200, 300]) {
   vectors.push(Array.from({ length: n }, () => u() ** 3));
   vectors.push(Array.from({ length: n }, () => Math.round(100 * u() ** 2) / 100));
 }
-const ref = runReference({ task: 'multipletests', pvalues: vectors }) as { holm: number[]; by: number[] }[];
+const ref = runReference('multipletests', { task: 'multipletests', pvalues: vectors }) as { holm: number[]; by: number[] }[];
 
 const maxAbs = (a: readonly number[], b: readonly number[]) => {
   expect(a).toHaveLength(b.length);

@@ -70,6 +70,7 @@ afterAll(() => {
 const economies = cases.map((c) => simulateEconomy({ T: c.T, N: c.N, K: c.K, seed: c.seed }));
 // one Python process for every case (statsmodels takes ~2 s of CPU to import)
 const references = runReference(
+  'reference',
   cases.map((c, i) => ({
     returns: economies[i].returns,
     factors: economies[i].factors,

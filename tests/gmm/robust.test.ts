@@ -56,6 +56,7 @@ const cases: Case[] = [
 const economies = cases.map((c) => simulateEconomy({ T: c.T, N: c.N, K: c.K, seed: c.seed, alphaScale: 0.01 }));
 // one Python process for every case
 const references = runReference(
+  'robust',
   cases.map((c, i) => ({
     returns: economies[i].returns,
     factors: economies[i].factors,

@@ -27,7 +27,7 @@ const cases: Case[] = [
   { name: 'two shared, sizes 3 and 4, L = 6', seed: 4, T: 720, lags: 6, a: [0, 1, 4], b: [0, 1, 2, 3] },
 ];
 const data = cases.map((c) => simulateEconomy({ T: c.T, N: 2, K: 5, seed: c.seed, phi: 0.3 }).factors);
-const refs = runReference(cases.map((c, i) => ({ task: 'sharpe', factors: data[i], lags: c.lags, a: c.a, b: c.b })));
+const refs = runReference('sharpe', cases.map((c, i) => ({ task: 'sharpe', factors: data[i], lags: c.lags, a: c.a, b: c.b })));
 
 const input = (i: number, a: readonly string[], b: readonly string[], traded = names.map(() => true)): CompareModelsInput => ({
   factors: data[i],

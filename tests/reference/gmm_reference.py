@@ -9,7 +9,9 @@ IN: {returns: T x N, factors: T x K, traded: [bool], lags: int, stage, weighting
      factorMeansKnown, fmIntercept, dropSets: [[k,...],...], level}
     or a model-choice task: {task: 'sharpe', factors, lags, a: [k...], b: [k...]};
     {task: 'multipletests', pvalues: [[p...], ...]}; {task: 'holdout', returns, factors, split, lags,
-    stage, weighting, form, factorMeansKnown}
+    stage, weighting, form, factorMeansKnown}; {task: 'lstsq', data: rows [y, x1, ...]};
+    {task: 'distributions', chi2Sf: [[x, df]...], fSf: [[x, d1, d2]...], normalTwoSided: [z...],
+     normalPpf: [p...], chi2Ppf: [[p, df]...], fPpf: [[p, d1, d2]...]}
 """
 import json
 import sys
@@ -337,7 +339,53 @@ def holdout_task(inp):
             'r2oos': float(1 - a2 @ a2 / (m2 @ m2))}
 
 
-TASKS = {'sharpe': sharpe_task, 'multipletests': multipletests_task, 'holdout': holdout_task}
+def lstsq_task(inp):
+    """numpy.linalg.lstsq of column 0 on a constant and the other columns; classical SEs from QR."""
+    d = np.array(inp['data'], dtype=float)
+    y = d[:, 0]
+    X = np.column_stack([np.ones(len(y)), d[:, 1:]])
+    b = np.linalg.lstsq(X, y, rcond=None)[0]
+    e = y - X @ b
+    s2 = e @ e / (len(y) - X.shape[1])
+    r = np.linalg.qr(X)[1]
+    ri = np.linalg.inv(r)
+    se = np.sqrt(np.diag(ri @ ri.T) * s2)
+    return {'b': b.tolist(), 'se': se.tolist()}
+
+
+def distributions_task(inp):
+    """scipy.stats upper tails and quantiles: chi2.sf, f.sf, 2 norm.sf(|z|), norm.ppf, chi2.ppf, f.ppf."""
+    return {
+        'chi2Sf': [float(stats.chi2.sf(x, df)) for x, df in inp['chi2Sf']],
+        'fSf': [float(stats.f.sf(x, d1, d2)) for x, d1, d2 in inp['fSf']],
+        'normalTwoSided': [float(2 * stats.norm.sf(abs(z))) for z in inp['normalTwoSided']],
+        'normalPpf': [float(stats.norm.ppf(p)) for p in inp['normalPpf']],
+        'chi2Ppf': [float(stats.chi2.ppf(p, df)) for p, df in inp['chi2Ppf']],
+        'fPpf': [float(stats.f.ppf(p, d1, d2)) for p, d1, d2 in inp['fPpf']],
+        'mpmath': distributions_mpmath(inp),
+    }
+
+
+def distributions_mpmath(inp):
+    """The same functions at 40 significant digits with mpmath (Debian python3-mpmath), rounded to
+    double: the true values at the double arguments that Keelson and scipy both pass to the special
+    function (d2/(d2 + d1 x) and |z|/sqrt(2) rounded to double as in IEEE arithmetic), so that the
+    comparison measures the special functions, not the rounding of their arguments."""
+    import math
+    import mpmath
+    mpmath.mp.dps = 40
+    f = mpmath.mpf
+    return {
+        'chi2Sf': [float(mpmath.gammainc(f(df) / 2, f(x) / 2, mpmath.inf, regularized=True)) for x, df in inp['chi2Sf']],
+        'fSf': [float(mpmath.betainc(f(d2) / 2, f(d1) / 2, 0, f(d2 / (d2 + d1 * x)), regularized=True)) for x, d1, d2 in inp['fSf']],
+        'normalTwoSided': [float(mpmath.erfc(f(abs(z) * math.sqrt(0.5)))) for z in inp['normalTwoSided']],
+        'normalPpf': [float(mpmath.sqrt(2) * mpmath.erfinv(2 * f(p) - 1)) for p in inp['normalPpf']],
+        'mpmath': mpmath.__version__,
+    }
+
+
+TASKS = {'sharpe': sharpe_task, 'multipletests': multipletests_task, 'holdout': holdout_task,
+         'lstsq': lstsq_task, 'distributions': distributions_task}
 
 
 def one(inp):
