@@ -98,13 +98,42 @@ describe('identities', () => {
 
   it('drop test at the unrestricted fit: D = T·g_r\'W*g_r − J (common weighting, Newey–West 1987)', () => {
     const eco = simulateEconomy({ T: 500, N: 8, K: 2, seed: 12 });
+    const options = { ...base, stage: 'second', lags: 2 } as const;
     const r = estimateLedger({
       assetNames: eco.returns[0].map((_, i) => `P${i}`), returns: eco.returns, factorNames: ['F1', 'F2'],
-      factors: eco.factors, traded: [true, true], options: { ...base, stage: 'second', lags: 2, dropSet: ['F1', 'F2'] },
+      factors: eco.factors, traded: [true, true], options: { ...options, dropSet: ['F1', 'F2'] },
     });
-    // Dropping every factor leaves g_r = E[R]: D = T E[R]'W*E[R] − J ≥ 0
-    expect(r.jointDrop!.chi2Drop!.stat).toBeGreaterThan(0);
-    for (const f of r.factors) expect(f.chi2Drop!.stat).toBeGreaterThanOrEqual(0);
+    // At the second stage W* is the reported fit's weighting Ŝ⁻¹ and the unrestricted estimate
+    // under W* is b̂ itself, so J = T·α̂'W*α̂ and the drop test is D = T·g_r'W*g_r − J with g_r the
+    // restricted pricing errors, b̂_r = (X_r'W*X_r)⁻¹X_r'W*E[R] (computed here by a separate solve).
+    const m = prepareMoments(eco.returns, eco.factors);
+    const fit = fitSdfGmm(m, options);
+    if (!fit.ok) throw new Error('fit failed');
+    const { N, T } = fit;
+    const W = fit.W;
+    const quad = (g: ArrayLike<number>) => {
+      let q = 0;
+      for (let i = 0; i < N; i++) for (let j = 0; j < N; j++) q += g[i] * W[i * N + j] * g[j];
+      return q;
+    };
+    expect(maxRel(r.J.stat, T * quad(fit.alpha), 'J = T α̂\'W α̂')).toBeLessThan(1e-12);
+    // Dropping every factor leaves g_r = E[R]
+    expect(maxRel(r.jointDrop!.chi2Drop!.stat, T * quad(m.meanR) - r.J.stat, 'joint D')).toBeLessThan(1e-10);
+    // Dropping factor k keeps the other column x_j of X: b̂_r = x_j'W*E[R] / x_j'W*x_j
+    for (const [k, f] of r.factors.entries()) {
+      const keep = 1 - k;
+      const x = Array.from({ length: N }, (_, i) => fit.X[i * 2 + keep]);
+      let num = 0;
+      let den = 0;
+      for (let i = 0; i < N; i++)
+        for (let j = 0; j < N; j++) {
+          num += x[i] * W[i * N + j] * m.meanR[j];
+          den += x[i] * W[i * N + j] * x[j];
+        }
+      const gr = x.map((xi, i) => m.meanR[i] - xi * (num / den));
+      expect(f.chi2Drop!.stat).toBeGreaterThan(0);
+      expect(maxRel(f.chi2Drop!.stat, T * quad(gr) - r.J.stat, `D drop ${f.name}`)).toBeLessThan(1e-9);
+    }
   });
 
   it('a factor that is an exact linear combination of the others is refused, naming it (not NaN)', () => {
