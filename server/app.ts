@@ -1,4 +1,4 @@
-import express, { type Request, type RequestHandler, type Response } from 'express';
+import express, { type Request, type Response } from 'express';
 import session from 'express-session';
 import helmet from 'helmet';
 import passport from 'passport';
@@ -9,6 +9,7 @@ import { randomBytes } from 'node:crypto';
 import { join } from 'node:path';
 import type { Db } from './db/client';
 import type { Mailer } from './services/mailer';
+import type { AppDeps } from './app-deps';
 import { ApiRouter, type RouteSpec } from './middlewares/access';
 import { errorHandler, notFoundApi } from './middlewares/errors';
 import { noStore, requireJsonBody } from './middlewares/content';
@@ -54,21 +55,7 @@ export interface AppOptions {
   jobMailAfterMs?: number;
 }
 
-/** What every route module receives. */
-export interface AppDeps {
-  db: Db;
-  mailer: Mailer;
-  publicUrl?: string;
-  uploadLimit: number;
-  /** Sign-in limiters: per normalised e-mail (any IP) and per IP (any e-mail); failed attempts only. */
-  loginLimiters: RequestHandler[];
-  /** Password-change limiters: per user and per IP; wrong current passwords only. */
-  passwordLimiters: RequestHandler[];
-  /** This app's own passport instance (one per app, so tests can run several apps). */
-  passport: passport.PassportStatic;
-  /** The session's CSRF token; `rotate` replaces it (on sign-in, so a token seen before is worthless after). */
-  generateCsrfToken: (req: Request, rotate?: boolean) => string;
-}
+export type { AppDeps };
 
 export type KeelsonApp = express.Express & { routeTable: readonly RouteSpec[]; close: () => void; jobRunner: JobRunner };
 

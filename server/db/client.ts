@@ -15,17 +15,30 @@ export const BUSY_TIMEOUT_MS = 5000;
 
 /**
  * Opens (and migrates) the SQLite database. `':memory:'` gives a private in-memory database for tests.
- * File databases use WAL; foreign keys are always on. Several server processes may share one file:
+ * File databases use WAL; foreign keys are on once migrated. Several server processes may share one file:
  * each waits up to BUSY_TIMEOUT_MS for the others' write locks (see `inTransaction`).
  */
 export function openDb(path: string): Db {
   if (path !== ':memory:') mkdirSync(dirname(path), { recursive: true });
   const sqlite = new Database(path, { timeout: BUSY_TIMEOUT_MS });
   if (path !== ':memory:') sqlite.pragma('journal_mode = WAL');
-  sqlite.pragma('foreign_keys = ON');
   sqlite.pragma(`busy_timeout = ${BUSY_TIMEOUT_MS}`);
   const db = drizzle(sqlite, { schema }) as Db;
+  // Migrations that rebuild a table (SQLite's way to add a foreign key: copy into a new table, drop,
+  // rename) must run with foreign keys off: the migrator wraps them in one transaction, where the
+  // migration's own `PRAGMA foreign_keys=OFF` is a no-op, and dropping a parent table with foreign
+  // keys on fails. The rebuilt tables are then checked, and foreign keys are on from here.
+  sqlite.pragma('foreign_keys = OFF');
   migrate(db, { migrationsFolder });
+  const broken = sqlite.pragma('foreign_key_check') as { table: string; rowid: number; parent: string }[];
+  if (broken.length > 0) {
+    const first = broken[0]!;
+    sqlite.close();
+    throw new Error(
+      `Database ${path}: ${broken.length} row(s) point at rows that do not exist (first: ${first.table} row ${first.rowid} → ${first.parent}); fix them before starting Keelson`,
+    );
+  }
+  sqlite.pragma('foreign_keys = ON');
   return db;
 }
 

@@ -9,7 +9,7 @@ import { auditPageQuerySchema } from '../../shared/audit';
 import { createInvitation, listInvitations, listUsers, updateUser } from '../services/users';
 import { listOutbox, sendMail } from '../services/mail';
 import { listAudit } from '../services/audit';
-import type { AppDeps } from '../app';
+import type { AppDeps } from '../app-deps';
 
 export function registerAdminRoutes(api: ApiRouter, deps: AppDeps): void {
   const { db, mailer } = deps;

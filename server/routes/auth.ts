@@ -7,7 +7,7 @@ import { KeelsonApiError } from '../../shared/errors';
 import { acceptInvitation, changePassword, markLogin, previewInvitation } from '../services/users';
 import { audit } from '../services/audit';
 import { listOutbox } from '../services/mail';
-import type { AppDeps } from '../app';
+import type { AppDeps } from '../app-deps';
 
 function logIn(req: Request, user: User): Promise<void> {
   // A new session id on sign-in (passport regenerates the session); the CSRF token is rotated by the caller.

@@ -6,11 +6,10 @@ import { idParam } from '../middlewares/params';
 import { jobListQuerySchema, startCheckBodySchema } from '../../shared/jobs';
 import { cancelJob, getJob, listJobs, restartJob, startCheck } from '../services/jobs';
 import type { JobRunner } from '../jobs/runner';
-import type { AppDeps } from '../app';
+import type { AppDeps } from '../app-deps';
 
 const WRITERS = ['researcher', 'admin'] as const;
 
-const idOf = (req: Request, what: string): number => idParam(req, what);
 
 /**
  * Deep checks as background jobs: start on a finished run (researcher, admin), read and list
@@ -20,7 +19,7 @@ export function registerJobRoutes(api: ApiRouter, deps: AppDeps, runner: JobRunn
   const { db } = deps;
 
   api.post('/runs/:id/checks', WRITERS, (req: Request, res: Response) => {
-    const runId = idOf(req, 'run id');
+    const runId = idParam(req, 'run id');
     const body = parseOr400(startCheckBodySchema, req.body, 'deep check request');
     res.status(201).json({ job: startCheck(db, runner, currentUser(req), runId, body) });
   });
@@ -31,14 +30,14 @@ export function registerJobRoutes(api: ApiRouter, deps: AppDeps, runner: JobRunn
   });
 
   api.get('/jobs/:id', 'signed-in', (req: Request, res: Response) => {
-    res.json({ job: getJob(db, currentUser(req), idOf(req, 'job id')) });
+    res.json({ job: getJob(db, currentUser(req), idParam(req, 'job id')) });
   });
 
   api.post('/jobs/:id/cancel', WRITERS, (req: Request, res: Response) => {
-    res.json({ job: cancelJob(db, runner, currentUser(req), idOf(req, 'job id')) });
+    res.json({ job: cancelJob(db, runner, currentUser(req), idParam(req, 'job id')) });
   });
 
   api.post('/jobs/:id/restart', WRITERS, (req: Request, res: Response) => {
-    res.json({ job: restartJob(db, runner, currentUser(req), idOf(req, 'job id')) });
+    res.json({ job: restartJob(db, runner, currentUser(req), idParam(req, 'job id')) });
   });
 }

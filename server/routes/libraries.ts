@@ -7,7 +7,7 @@ import { join } from 'node:path';
 import type { ApiRouter } from '../middlewares/access';
 import { currentUser } from '../middlewares/access';
 import { parseOr400 } from '../middlewares/errors';
-import { parseId } from '../middlewares/params';
+import { idParam, parseId } from '../middlewares/params';
 import { KeelsonApiError } from '../../shared/errors';
 import { confirmUploadBodySchema, libraryListQuerySchema } from '../../shared/libraries';
 import {
@@ -25,9 +25,7 @@ import {
   setArchived,
   unpublishLibrary,
 } from '../services/libraries';
-import type { AppDeps } from '../app';
-
-const positiveInt = (raw: unknown, what: string): number => parseId(raw, what);
+import type { AppDeps } from '../app-deps';
 
 /** Where multer streams uploads before parsing (one folder per server process); every file is removed once read or refused. */
 export const UPLOAD_TMP = join(tmpdir(), `keelson-uploads-${process.pid}`);
@@ -61,7 +59,7 @@ export function registerLibraryRoutes(api: ApiRouter, deps: AppDeps): void {
       const buffer = await readFile(file.path);
       // Optional form field libraryId: the upload is meant as that library's next edition.
       const raw = (req.body as Record<string, unknown> | undefined)?.libraryId;
-      const libraryId = raw === undefined || raw === '' ? undefined : positiveInt(raw, 'library');
+      const libraryId = raw === undefined || raw === '' ? undefined : parseId(raw, 'library');
       res.status(201).json({ upload: createUpload(db, user, { name: file.originalname, buffer }, { libraryId }) });
     } finally {
       await unlink(file.path).catch(() => undefined);
@@ -88,41 +86,41 @@ export function registerLibraryRoutes(api: ApiRouter, deps: AppDeps): void {
   });
 
   api.get('/libraries/:id', 'signed-in', (req: Request, res: Response) => {
-    res.json({ library: getLibrary(db, currentUser(req), positiveInt(req.params.id, 'library')) });
+    res.json({ library: getLibrary(db, currentUser(req), idParam(req, 'library')) });
   });
 
   api.get('/libraries/:id/editions/:n', 'signed-in', (req: Request, res: Response) => {
-    res.json({ edition: getEdition(db, currentUser(req), positiveInt(req.params.id, 'library'), positiveInt(req.params.n, 'edition')) });
+    res.json({ edition: getEdition(db, currentUser(req), idParam(req, 'library'), idParam(req, 'edition', 'n')) });
   });
 
   api.get('/libraries/:id/editions/:n/data', 'signed-in', (req: Request, res: Response) => {
-    const json = editionDataJson(db, currentUser(req), positiveInt(req.params.id, 'library'), positiveInt(req.params.n, 'edition'));
+    const json = editionDataJson(db, currentUser(req), idParam(req, 'library'), idParam(req, 'edition', 'n'));
     res.type('application/json').send(json);
   });
 
   api.get('/libraries/:id/editions/:n/export.csv', 'signed-in', (req: Request, res: Response) => {
-    const { fileName, csv } = exportEditionCsv(db, currentUser(req), positiveInt(req.params.id, 'library'), positiveInt(req.params.n, 'edition'));
+    const { fileName, csv } = exportEditionCsv(db, currentUser(req), idParam(req, 'library'), idParam(req, 'edition', 'n'));
     res.type('text/csv; charset=utf-8').attachment(fileName).send(csv);
   });
 
   api.delete('/libraries/:id/editions/:n', admin, (req: Request, res: Response) => {
-    deleteEdition(db, currentUser(req), positiveInt(req.params.id, 'library'), positiveInt(req.params.n, 'edition'));
+    deleteEdition(db, currentUser(req), idParam(req, 'library'), idParam(req, 'edition', 'n'));
     res.status(204).end();
   });
 
   api.post('/libraries/:id/publish', admin, (req: Request, res: Response) => {
-    res.json({ library: publishLibrary(db, currentUser(req), positiveInt(req.params.id, 'library')) });
+    res.json({ library: publishLibrary(db, currentUser(req), idParam(req, 'library')) });
   });
 
   api.post('/libraries/:id/unpublish', admin, (req: Request, res: Response) => {
-    res.json({ library: unpublishLibrary(db, currentUser(req), positiveInt(req.params.id, 'library')) });
+    res.json({ library: unpublishLibrary(db, currentUser(req), idParam(req, 'library')) });
   });
 
   api.post('/libraries/:id/archive', writers, (req: Request, res: Response) => {
-    res.json({ library: setArchived(db, currentUser(req), positiveInt(req.params.id, 'library'), true) });
+    res.json({ library: setArchived(db, currentUser(req), idParam(req, 'library'), true) });
   });
 
   api.post('/libraries/:id/restore', writers, (req: Request, res: Response) => {
-    res.json({ library: setArchived(db, currentUser(req), positiveInt(req.params.id, 'library'), false) });
+    res.json({ library: setArchived(db, currentUser(req), idParam(req, 'library'), false) });
   });
 }

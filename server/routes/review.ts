@@ -4,8 +4,8 @@ import { currentUser } from '../middlewares/access';
 import { parseOr400 } from '../middlewares/errors';
 import { commentBodySchema, signoffBodySchema, signoffRequestBodySchema } from '../../shared/runs';
 import { addComment, getReview, giveSignoff, listReviewers, requestSignoff, reviewQueue } from '../services/review';
-import { idParam } from './specs';
-import type { AppDeps } from '../app';
+import { idParam } from '../middlewares/params';
+import type { AppDeps } from '../app-deps';
 
 const REVIEWERS = ['reviewer', 'admin'] as const;
 

@@ -8,8 +8,8 @@ import type { JobRunner } from '../jobs/runner';
 import { compareRuns } from '../services/runs-compare';
 import { runCsv, runTex } from '../services/exports';
 import { KeelsonApiError } from '../../shared/errors';
-import { idParam } from './specs';
-import type { AppDeps } from '../app';
+import { idParam } from '../middlewares/params';
+import type { AppDeps } from '../app-deps';
 
 const WRITERS = ['researcher', 'admin'] as const;
 

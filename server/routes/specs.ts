@@ -6,12 +6,10 @@ import { parseOr400 } from '../middlewares/errors';
 import { idParam } from '../middlewares/params';
 import { copySpecBodySchema, createSpecBodySchema, modelSpecSchema, updateSpecBodySchema } from '../../shared/specs';
 import { checkSpec, copySpec, createSpec, getSpec, listSpecs, setSpecArchived, updateSpec } from '../services/specs';
-import type { AppDeps } from '../app';
+import type { AppDeps } from '../app-deps';
 
 const WRITERS = ['researcher', 'admin'] as const;
 
-// The one strict path-id parser (404 for 1e3, 0x10, 01, -1); re-exported for the routers that import it from here.
-export { idParam };
 
 const listQuerySchema = z.object({
   mine: z.enum(['true', 'false']).optional(),

@@ -1,7 +1,9 @@
 import { readFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { and, eq } from 'drizzle-orm';
 import type { Db } from '../db/client';
+import { libraries, users } from '../db/schema/index';
 import type { User } from '../../shared/auth';
 import type { ConfirmSeries } from '../../shared/libraries';
 import { confirmUpload, createUpload } from '../services/libraries';
@@ -50,9 +52,12 @@ export const DEMO_LIBRARIES: ReadonlyArray<{
  * has no library at all and the demo admin exists. Returns how many libraries were added.
  */
 export function seedDemoLibraries(db: Db): number {
-  const n = (db.$client.prepare('select count(*) as n from libraries').get() as { n: number }).n;
-  if (n > 0) return 0;
-  const admin = db.$client.prepare("select id, email, name, role from users where email = 'admin@keelson.test' and role = 'admin'").get() as User | undefined;
+  if (db.select({ id: libraries.id }).from(libraries).limit(1).get()) return 0;
+  const admin: User | undefined = db
+    .select({ id: users.id, email: users.email, name: users.name, role: users.role })
+    .from(users)
+    .where(and(eq(users.email, 'admin@keelson.test'), eq(users.role, 'admin')))
+    .get();
   if (!admin) return 0;
   for (const lib of DEMO_LIBRARIES) {
     const buffer = readFileSync(join(DEMO_DIR, lib.file));

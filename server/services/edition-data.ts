@@ -2,10 +2,12 @@
  * Read access to stored library editions, for the libraries routes and for runs.
  * Values are decimals (a percent upload was divided by 100 on confirm); missing values are null.
  */
+import { count, eq } from 'drizzle-orm';
 import type { Db } from '../db/client';
+import { libraries, libraryEditions, librarySeries, modelSpecs, runs, type LibraryEditionRow, type LibraryRow } from '../db/schema/index';
 import { KeelsonApiError } from '../../shared/errors';
 import type { User } from '../../shared/auth';
-import type { Frequency, SeriesKind, Visibility } from '../../shared/libraries';
+import type { SeriesKind, Visibility } from '../../shared/libraries';
 import { blobToFloat64 } from './csv-import';
 
 export interface EditionSeries {
@@ -44,25 +46,26 @@ export function canReadLibrary(user: User, lib: LibraryAccessRow): boolean {
   return user.role === 'researcher' && lib.ownerId === user.id;
 }
 
-interface EditionHead {
-  editionId: number;
-  libraryId: number;
-  libraryName: string;
-  number: number;
-  frequency: Frequency;
-  dates: string;
-  visibility: Visibility;
-  ownerId: number | null;
-}
+/** The edition's head row joined to its library: what reading and access checks need. */
+export type EditionHead = Pick<LibraryEditionRow, 'libraryId' | 'number' | 'frequency' | 'dates'> &
+  Pick<LibraryRow, 'visibility' | 'ownerId'> & { editionId: number; libraryName: string };
 
 function editionHead(db: Db, editionId: number): EditionHead | undefined {
-  return db.$client
-    .prepare(
-      `select e.id as editionId, e.library_id as libraryId, l.name as libraryName, e.number as number,
-              e.frequency as frequency, e.dates as dates, l.visibility as visibility, l.owner_id as ownerId
-         from library_editions e join libraries l on l.id = e.library_id where e.id = ?`,
-    )
-    .get(editionId) as EditionHead | undefined;
+  return db
+    .select({
+      editionId: libraryEditions.id,
+      libraryId: libraryEditions.libraryId,
+      libraryName: libraries.name,
+      number: libraryEditions.number,
+      frequency: libraryEditions.frequency,
+      dates: libraryEditions.dates,
+      visibility: libraries.visibility,
+      ownerId: libraries.ownerId,
+    })
+    .from(libraryEditions)
+    .innerJoin(libraries, eq(libraries.id, libraryEditions.libraryId))
+    .where(eq(libraryEditions.id, editionId))
+    .get();
 }
 
 /** Throws `not_found` when the edition does not exist or `user` may not read its library (existence does not leak). */
@@ -73,24 +76,20 @@ export function assertEditionReadable(db: Db, user: User, editionId: number): vo
   }
 }
 
-interface SeriesRow {
-  name: string;
-  kind: SeriesKind;
-  traded: number;
-  values: Buffer;
-}
-
 /** Raw stored series of an edition (Float64Array values with NaN for missing), in upload order. */
 export function loadEditionArrays(db: Db, editionId: number): { head: EditionHead; dates: string[]; series: { name: string; kind: SeriesKind; traded: boolean; values: Float64Array }[] } {
   const head = editionHead(db, editionId);
   if (!head) throw new KeelsonApiError('not_found', `No library edition ${editionId}`);
-  const rows = db.$client
-    .prepare('select name, kind, traded, "values" as "values" from library_series where edition_id = ? order by position')
-    .all(editionId) as SeriesRow[];
+  const rows = db
+    .select({ name: librarySeries.name, kind: librarySeries.kind, traded: librarySeries.traded, values: librarySeries.values })
+    .from(librarySeries)
+    .where(eq(librarySeries.editionId, editionId))
+    .orderBy(librarySeries.position)
+    .all();
   return {
     head,
     dates: JSON.parse(head.dates) as string[],
-    series: rows.map((r) => ({ name: r.name, kind: r.kind, traded: r.traded === 1, values: blobToFloat64(r.values) })),
+    series: rows.map((r) => ({ name: r.name, kind: r.kind, traded: r.traded, values: blobToFloat64(r.values) })),
   };
 }
 
@@ -113,26 +112,12 @@ export function loadEditionData(db: Db, editionId: number): EditionData {
   };
 }
 
-/**
- * Is the edition recorded by any run? Reads the `runs` table (owned by the runs module) with raw
- * SQL, guarded by sqlite_master so this works before that table exists.
- */
+/** Is the edition recorded by any run? */
 export function editionIsUsed(db: Db, editionId: number): boolean {
-  const hasRuns = db.$client.prepare("select 1 from sqlite_master where type = 'table' and name = 'runs'").get();
-  if (!hasRuns) return false;
-  const cols = db.$client.prepare("select name from pragma_table_info('runs')").all() as { name: string }[];
-  if (!cols.some((c) => c.name === 'edition_id')) return false;
-  return db.$client.prepare('select 1 from runs where edition_id = ? limit 1').get(editionId) !== undefined;
+  return db.select({ id: runs.id }).from(runs).where(eq(runs.editionId, editionId)).limit(1).get() !== undefined;
 }
 
-/**
- * How many saved model specs point at the edition (the `model_specs` table of the runs module,
- * read with raw SQL and guarded like `editionIsUsed`).
- */
+/** How many saved model specs point at the edition. */
 export function editionSpecCount(db: Db, editionId: number): number {
-  const has = db.$client.prepare("select 1 from sqlite_master where type = 'table' and name = 'model_specs'").get();
-  if (!has) return 0;
-  const cols = db.$client.prepare("select name from pragma_table_info('model_specs')").all() as { name: string }[];
-  if (!cols.some((c) => c.name === 'edition_id')) return 0;
-  return (db.$client.prepare('select count(*) as n from model_specs where edition_id = ?').get(editionId) as { n: number }).n;
+  return db.select({ n: count() }).from(modelSpecs).where(eq(modelSpecs.editionId, editionId)).get()?.n ?? 0;
 }

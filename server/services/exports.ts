@@ -15,7 +15,9 @@
  * the spanning α are in percent per period as on screen. The t and p columns are those of the
  * verdict's basis (standard, robust or bootstrap), which the caption names with the level.
  */
+import { eq } from 'drizzle-orm';
 import type { Db } from '../db/client';
+import { libraryEditions } from '../db/schema/index';
 import type { LedgerResult, Run } from '../../shared/runs';
 import { RUN_CAUTION } from '../../shared/runs';
 import { toCsv, type CsvCell } from '../../shared/csv';
@@ -157,7 +159,7 @@ export interface ExportContext {
 
 /** The export context of a run: the frequency of its edition (routes pass it to runCsv / runTex). */
 export function exportContextFor(db: Db, editionId: number): ExportContext {
-  const row = db.$client.prepare('select frequency from library_editions where id = ?').get(editionId) as { frequency: string } | undefined;
+  const row = db.select({ frequency: libraryEditions.frequency }).from(libraryEditions).where(eq(libraryEditions.id, editionId)).get();
   return row && (row.frequency === 'monthly' || row.frequency === 'daily') ? { frequency: row.frequency } : {};
 }
 

@@ -3,9 +3,23 @@
  * Routes call these; every multi-row write runs in one transaction.
  */
 import { randomBytes } from 'node:crypto';
+import { and, count, desc, eq, inArray, isNull, lt, ne, or, sql } from 'drizzle-orm';
 import { csvLine } from '../../shared/csv';
 import type { Db } from '../db/client';
 import { inTransaction } from '../db/client';
+import {
+  libraries,
+  libraryEditions,
+  librarySeries,
+  libraryUploads,
+  modelSpecs,
+  runs,
+  users,
+  type LibraryEditionRow,
+  type LibraryRow as LibraryTableRow,
+  type LibraryUploadRow,
+  type NewLibrarySeriesRow,
+} from '../db/schema/index';
 import { KeelsonApiError } from '../../shared/errors';
 import type { User } from '../../shared/auth';
 import type {
@@ -23,7 +37,6 @@ import type {
   UploadTarget,
   UploadWarning,
   Units,
-  Visibility,
 } from '../../shared/libraries';
 import { audit } from './audit';
 import { blobToFloat64, columnStats, foldName, looksRiskFree, packColumns, parseReturnCsv } from './csv-import';
@@ -31,33 +44,11 @@ import { canReadLibrary, editionIsUsed, editionSpecCount, loadEditionArrays } fr
 
 const UPLOAD_TTL_MS = 24 * 3600 * 1000;
 
-interface LibraryRow {
-  id: number;
-  name: string;
-  description: string;
-  visibility: Visibility;
-  ownerId: number | null;
-  ownerName: string | null;
-  lastEditionNumber: number;
-  archivedAt: string | null;
-  createdAt: string;
-}
+/** A library row with its owner's name. */
+type LibraryRow = LibraryTableRow & { ownerName: string | null };
 
-interface EditionRow {
-  id: number;
-  libraryId: number;
-  number: number;
-  frequency: Frequency;
-  rowCount: number;
-  firstDate: string;
-  lastDate: string;
-  sourceUnits: Units;
-  fileName: string;
-  createdAt: string;
-  createdBy: number | null;
-  createdByName: string | null;
-  seriesCount: number;
-}
+/** An edition row (without its dates) with its author's name and series count. */
+type EditionRow = Omit<LibraryEditionRow, 'dates'> & { createdByName: string | null; seriesCount: number };
 
 interface UploadPreview {
   units: Units;
@@ -73,7 +64,7 @@ interface UploadPreview {
 // ───────────────────────── uploads ─────────────────────────
 
 function purgeExpiredUploads(db: Db): void {
-  db.$client.prepare('delete from library_uploads where expires_at < ?').run(new Date().toISOString());
+  db.delete(libraryUploads).where(lt(libraryUploads.expiresAt, new Date().toISOString())).run();
 }
 
 const KIND_WORDS: Readonly<Record<SeriesKind, string>> = { asset: 'test asset', factor: 'factor', rf: 'risk-free' };
@@ -93,22 +84,27 @@ interface KnownSeries {
  * libraries win over shared ones, newer editions over older.
  */
 function knownSeriesElsewhere(db: Db, user: User, exceptLibrary: number | null): Map<string, KnownSeries & { libraryName: string; edition: number; own: boolean }> {
-  const rows = db.$client
-    .prepare(
-      `select s.name, s.kind, s.traded, l.name as libraryName, e.number as edition, (l.owner_id = ?) as own, e.id as editionId
-         from library_series s
-         join library_editions e on e.id = s.edition_id
-         join libraries l on l.id = e.library_id
-        where s.kind in ('factor', 'rf') and l.archived_at is null and l.id != ?
-          and (l.owner_id = ? or l.visibility = 'shared')
-          and e.number = (select max(e2.number) from library_editions e2 where e2.library_id = l.id)
-        order by own desc, e.id desc, s.position`,
+  const own = sql<number>`(${libraries.ownerId} = ${user.id})`;
+  const rows = db
+    .select({ name: librarySeries.name, kind: librarySeries.kind, traded: librarySeries.traded, libraryName: libraries.name, edition: libraryEditions.number, own })
+    .from(librarySeries)
+    .innerJoin(libraryEditions, eq(libraryEditions.id, librarySeries.editionId))
+    .innerJoin(libraries, eq(libraries.id, libraryEditions.libraryId))
+    .where(
+      and(
+        inArray(librarySeries.kind, ['factor', 'rf']),
+        isNull(libraries.archivedAt),
+        ne(libraries.id, exceptLibrary ?? 0),
+        or(eq(libraries.ownerId, user.id), eq(libraries.visibility, 'shared')),
+        eq(libraryEditions.number, sql`(select max(e2.number) from ${libraryEditions} e2 where e2.library_id = ${libraries.id})`),
+      ),
     )
-    .all(user.id, exceptLibrary ?? 0, user.id) as { name: string; kind: SeriesKind; traded: number; libraryName: string; edition: number; own: number }[];
+    .orderBy(desc(own), desc(libraryEditions.id), librarySeries.position)
+    .all();
   const out = new Map<string, KnownSeries & { libraryName: string; edition: number; own: boolean }>();
   for (const r of rows) {
     const key = foldName(r.name);
-    if (key && !out.has(key)) out.set(key, { name: r.name, kind: r.kind, traded: r.traded === 1, libraryName: r.libraryName, edition: r.edition, own: r.own === 1 });
+    if (key && !out.has(key)) out.set(key, { name: r.name, kind: r.kind, traded: r.traded, libraryName: r.libraryName, edition: r.edition, own: r.own === 1 });
   }
   return out;
 }
@@ -130,10 +126,21 @@ export function suggestSeries(
 ): { series: UploadColumn[]; target: UploadTarget | null } {
   let previous: { number: number; series: KnownSeries[] } | null = null;
   if (target) {
-    const ed = db.$client.prepare('select id, number from library_editions where library_id = ? order by number desc limit 1').get(target.id) as { id: number; number: number } | undefined;
+    const ed = db
+      .select({ id: libraryEditions.id, number: libraryEditions.number })
+      .from(libraryEditions)
+      .where(eq(libraryEditions.libraryId, target.id))
+      .orderBy(desc(libraryEditions.number))
+      .limit(1)
+      .get();
     if (ed) {
-      const rows = db.$client.prepare('select name, kind, traded from library_series where edition_id = ? order by position').all(ed.id) as { name: string; kind: SeriesKind; traded: number }[];
-      previous = { number: ed.number, series: rows.map((r) => ({ name: r.name, kind: r.kind, traded: r.traded === 1 })) };
+      const rows = db
+        .select({ name: librarySeries.name, kind: librarySeries.kind, traded: librarySeries.traded })
+        .from(librarySeries)
+        .where(eq(librarySeries.editionId, ed.id))
+        .orderBy(librarySeries.position)
+        .all();
+      previous = { number: ed.number, series: rows };
     }
   }
   const elsewhere = knownSeriesElsewhere(db, user, target?.id ?? null);
@@ -241,14 +248,21 @@ export function createUpload(db: Db, user: User, file: { name: string; buffer: B
   };
   const expiresAt = new Date(Date.now() + UPLOAD_TTL_MS).toISOString();
   const fileName = (file.name || 'upload.csv').slice(0, 200);
-  inTransaction(db, () => {
-    purgeExpiredUploads(db);
-    db.$client
-      .prepare(
-        `insert into library_uploads (id, owner_id, file_name, frequency, columns, dates, "values", preview, expires_at)
-         values (?, ?, ?, ?, ?, ?, ?, ?, ?)`,
-      )
-      .run(id, user.id, fileName, parsed.frequency, JSON.stringify(parsed.columns), JSON.stringify(parsed.dates), packColumns(parsed.values, T), JSON.stringify(preview), expiresAt);
+  inTransaction(db, (tx) => {
+    purgeExpiredUploads(tx);
+    tx.insert(libraryUploads)
+      .values({
+        id,
+        ownerId: user.id,
+        fileName,
+        frequency: parsed.frequency,
+        columns: JSON.stringify(parsed.columns),
+        dates: JSON.stringify(parsed.dates),
+        values: packColumns(parsed.values, T),
+        preview: JSON.stringify(preview),
+        expiresAt,
+      })
+      .run();
   });
   return toUpload(id, fileName, parsed.frequency, parsed.columns, preview, expiresAt);
 }
@@ -271,25 +285,8 @@ function toUpload(id: string, fileName: string, frequency: Frequency, columns: s
   };
 }
 
-interface UploadRow {
-  id: string;
-  ownerId: number;
-  fileName: string;
-  frequency: Frequency;
-  columns: string;
-  dates: string;
-  values: Buffer;
-  preview: string;
-  expiresAt: string;
-}
-
-function findUpload(db: Db, user: User, id: string): UploadRow {
-  const row = db.$client
-    .prepare(
-      `select id, owner_id as ownerId, file_name as fileName, frequency, columns, dates, "values" as "values", preview, expires_at as expiresAt
-         from library_uploads where id = ?`,
-    )
-    .get(id) as UploadRow | undefined;
+function findUpload(db: Db, user: User, id: string): LibraryUploadRow {
+  const row = db.select().from(libraryUploads).where(eq(libraryUploads.id, id)).get();
   // Only the uploader sees a pending upload; an expired one is as good as gone.
   if (!row || row.ownerId !== user.id || row.expiresAt < new Date().toISOString()) {
     throw new KeelsonApiError('not_found', 'No pending upload with that id (uploads are kept for a day, for the person who uploaded them)');
@@ -304,7 +301,7 @@ export function getUpload(db: Db, user: User, id: string): Upload {
 
 export function discardUpload(db: Db, user: User, id: string): void {
   findUpload(db, user, id);
-  db.$client.prepare('delete from library_uploads where id = ?').run(id);
+  db.delete(libraryUploads).where(eq(libraryUploads.id, id)).run();
 }
 
 /** Turns a pending upload into a new library (or a new edition of `body.libraryId`), in one transaction. */
@@ -337,15 +334,20 @@ export function confirmUpload(db: Db, user: User, uploadId: string, body: Confir
   const scale = body.units === 'percent' ? 0.01 : 1;
 
   const result = inTransaction(db, (tx) => {
-    const c = db.$client;
     let libraryId: number;
     let libraryName: string;
     if (body.libraryId !== undefined) {
-      const lib = assertCanAddEdition(db, user, body.libraryId);
+      const lib = assertCanAddEdition(tx, user, body.libraryId);
       if (body.visibility && body.visibility !== lib.visibility) {
         throw new KeelsonApiError('conflict', `Library ${lib.name} is ${lib.visibility}; an edition keeps the library's visibility (use publish to share a private library)`);
       }
-      const freq = c.prepare('select frequency from library_editions where library_id = ? order by number desc limit 1').get(lib.id) as { frequency: Frequency } | undefined;
+      const freq = tx
+        .select({ frequency: libraryEditions.frequency })
+        .from(libraryEditions)
+        .where(eq(libraryEditions.libraryId, lib.id))
+        .orderBy(desc(libraryEditions.number))
+        .limit(1)
+        .get();
       if (freq && freq.frequency !== up.frequency) {
         throw new KeelsonApiError('conflict', `Library ${lib.name} holds ${freq.frequency} series; this upload is ${up.frequency}`);
       }
@@ -355,32 +357,57 @@ export function confirmUpload(db: Db, user: User, uploadId: string, body: Confir
       if (body.visibility === 'shared' && user.role !== 'admin') {
         throw new KeelsonApiError('forbidden', 'Only admins publish shared libraries; save it as private and ask an admin to share it');
       }
-      const info = c
-        .prepare('insert into libraries (name, description, visibility, owner_id) values (?, ?, ?, ?)')
-        .run(body.name!, body.description ?? '', body.visibility!, user.id);
-      libraryId = Number(info.lastInsertRowid);
+      libraryId = tx
+        .insert(libraries)
+        .values({ name: body.name!, description: body.description ?? '', visibility: body.visibility!, ownerId: user.id })
+        .returning({ id: libraries.id })
+        .get().id;
       libraryName = body.name!;
     }
-    const next = (c.prepare('select last_edition_number as n from libraries where id = ?').get(libraryId) as { n: number }).n + 1;
-    c.prepare('update libraries set last_edition_number = ? where id = ?').run(next, libraryId);
-    const ed = c
-      .prepare(
-        `insert into library_editions (library_id, number, frequency, row_count, first_date, last_date, dates, source_units, file_name, created_by)
-         values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
-      )
-      .run(libraryId, next, up.frequency, T, dates[0]!, dates[T - 1]!, up.dates, body.units, up.fileName, user.id);
-    const editionId = Number(ed.lastInsertRowid);
-    const ins = c.prepare(
-      `insert into library_series (edition_id, position, name, kind, traded, "values", values_json, count, missing, mean, sd, min, max)
-       values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
-    );
-    picks.forEach((p, pos) => {
+    const next = tx
+      .update(libraries)
+      .set({ lastEditionNumber: sql`${libraries.lastEditionNumber} + 1` })
+      .where(eq(libraries.id, libraryId))
+      .returning({ n: libraries.lastEditionNumber })
+      .get().n;
+    const editionId = tx
+      .insert(libraryEditions)
+      .values({
+        libraryId,
+        number: next,
+        frequency: up.frequency,
+        rowCount: T,
+        firstDate: dates[0]!,
+        lastDate: dates[T - 1]!,
+        dates: up.dates,
+        sourceUnits: body.units,
+        fileName: up.fileName,
+        createdBy: user.id,
+      })
+      .returning({ id: libraryEditions.id })
+      .get().id;
+    picks.forEach((p, position) => {
       const v = all.slice(p.column * T, (p.column + 1) * T);
       if (scale !== 1) for (let t = 0; t < T; t++) v[t] = v[t]! * scale;
       const st = columnStats(v);
-      ins.run(editionId, pos, p.name, p.kind, p.traded ? 1 : 0, Buffer.from(v.buffer, v.byteOffset, v.byteLength), valuesJson(v), st.count, st.missing, st.mean, st.sd, st.min, st.max);
+      const row: NewLibrarySeriesRow = {
+        editionId,
+        position,
+        name: p.name,
+        kind: p.kind,
+        traded: p.traded,
+        values: Buffer.from(v.buffer, v.byteOffset, v.byteLength),
+        valuesJson: valuesJson(v),
+        count: st.count,
+        missing: st.missing,
+        mean: st.mean,
+        sd: st.sd,
+        min: st.min,
+        max: st.max,
+      };
+      tx.insert(librarySeries).values(row).run();
     });
-    c.prepare('delete from library_uploads where id = ?').run(up.id);
+    tx.delete(libraryUploads).where(eq(libraryUploads.id, up.id)).run();
     audit(tx, user.id, 'library.edition_added', { libraryId, libraryName, edition: next, editionId, rows: T, series: picks.length, units: body.units, file: up.fileName, newLibrary: body.libraryId === undefined });
     return { library: { id: libraryId, name: libraryName }, edition: { id: editionId, number: next } };
   });
@@ -389,14 +416,26 @@ export function confirmUpload(db: Db, user: User, uploadId: string, body: Confir
 
 // ───────────────────────── libraries ─────────────────────────
 
+/** Libraries with their owner's name (select … from libraries left join users). */
+function selectLibraries(db: Db) {
+  return db
+    .select({
+      id: libraries.id,
+      name: libraries.name,
+      description: libraries.description,
+      visibility: libraries.visibility,
+      ownerId: libraries.ownerId,
+      ownerName: users.name,
+      lastEditionNumber: libraries.lastEditionNumber,
+      archivedAt: libraries.archivedAt,
+      createdAt: libraries.createdAt,
+    })
+    .from(libraries)
+    .leftJoin(users, eq(users.id, libraries.ownerId));
+}
+
 function libraryRow(db: Db, id: number): LibraryRow | undefined {
-  return db.$client
-    .prepare(
-      `select l.id, l.name, l.description, l.visibility, l.owner_id as ownerId, u.name as ownerName,
-              l.last_edition_number as lastEditionNumber, l.archived_at as archivedAt, l.created_at as createdAt
-         from libraries l left join users u on u.id = l.owner_id where l.id = ?`,
-    )
-    .get(id) as LibraryRow | undefined;
+  return selectLibraries(db).where(eq(libraries.id, id)).get();
 }
 
 /** The library if `user` may read it, else `not_found` (never 403: existence does not leak). */
@@ -418,14 +457,30 @@ function permissions(user: User, lib: LibraryRow): LibrarySummary['can'] {
   };
 }
 
-const EDITION_SELECT = `select e.id, e.library_id as libraryId, e.number, e.frequency, e.row_count as rowCount,
-    e.first_date as firstDate, e.last_date as lastDate, e.source_units as sourceUnits, e.file_name as fileName,
-    e.created_at as createdAt, e.created_by as createdBy, u.name as createdByName,
-    (select count(*) from library_series s where s.edition_id = e.id) as seriesCount
-  from library_editions e left join users u on u.id = e.created_by`;
+/** Editions (without their dates) with author name and series count. */
+function selectEditions(db: Db) {
+  return db
+    .select({
+      id: libraryEditions.id,
+      libraryId: libraryEditions.libraryId,
+      number: libraryEditions.number,
+      frequency: libraryEditions.frequency,
+      rowCount: libraryEditions.rowCount,
+      firstDate: libraryEditions.firstDate,
+      lastDate: libraryEditions.lastDate,
+      sourceUnits: libraryEditions.sourceUnits,
+      fileName: libraryEditions.fileName,
+      createdAt: libraryEditions.createdAt,
+      createdBy: libraryEditions.createdBy,
+      createdByName: users.name,
+      seriesCount: sql<number>`(select count(*) from ${librarySeries} s where s.edition_id = ${libraryEditions.id})`,
+    })
+    .from(libraryEditions)
+    .leftJoin(users, eq(users.id, libraryEditions.createdBy));
+}
 
 function editionRows(db: Db, libraryId: number): EditionRow[] {
-  return db.$client.prepare(`${EDITION_SELECT} where e.library_id = ? order by e.number desc`).all(libraryId) as EditionRow[];
+  return selectEditions(db).where(eq(libraryEditions.libraryId, libraryId)).orderBy(desc(libraryEditions.number)).all();
 }
 
 function toEditionSummary(db: Db, e: EditionRow): EditionSummary {
@@ -467,14 +522,10 @@ function toSummary(user: User, lib: LibraryRow, editions: EditionRow[]): Library
 }
 
 export function listLibraries(db: Db, user: User, q: LibraryListQuery): LibrarySummary[] {
-  const rows = db.$client
-    .prepare(
-      `select l.id, l.name, l.description, l.visibility, l.owner_id as ownerId, u.name as ownerName,
-              l.last_edition_number as lastEditionNumber, l.archived_at as archivedAt, l.created_at as createdAt
-         from libraries l left join users u on u.id = l.owner_id order by l.visibility desc, l.name collate nocase, l.id`,
-    )
-    .all() as LibraryRow[];
-  const all = db.$client.prepare(`${EDITION_SELECT} order by e.number desc`).all() as EditionRow[];
+  const rows = selectLibraries(db)
+    .orderBy(desc(libraries.visibility), sql`${libraries.name} collate nocase`, libraries.id)
+    .all();
+  const all = selectEditions(db).orderBy(desc(libraryEditions.number)).all();
   const byLib = new Map<number, EditionRow[]>();
   for (const e of all) {
     const a = byLib.get(e.libraryId) ?? [];
@@ -507,7 +558,9 @@ export function getLibrary(db: Db, user: User, id: number): LibraryDetail {
 function editionOf(db: Db, user: User, libraryId: number, n: number): { lib: LibraryRow; edition: EditionRow } {
   const lib = readableLibrary(db, user, libraryId);
   const edition = Number.isInteger(n)
-    ? (db.$client.prepare(`${EDITION_SELECT} where e.library_id = ? and e.number = ?`).get(lib.id, n) as EditionRow | undefined)
+    ? selectEditions(db)
+        .where(and(eq(libraryEditions.libraryId, lib.id), eq(libraryEditions.number, n)))
+        .get()
     : undefined;
   if (!edition) throw new KeelsonApiError('not_found', `Library ${lib.name} has no edition ${n}`);
   return { lib, edition };
@@ -520,9 +573,22 @@ export function editionIdOf(db: Db, user: User, libraryId: number, n: number): n
 
 export function getEdition(db: Db, user: User, libraryId: number, n: number): EditionDetail {
   const { lib, edition } = editionOf(db, user, libraryId, n);
-  const series = db.$client
-    .prepare('select name, kind, traded, count, missing, mean, sd, min, max from library_series where edition_id = ? order by position')
-    .all(edition.id) as { name: string; kind: SeriesKind; traded: number; count: number; missing: number; mean: number | null; sd: number | null; min: number | null; max: number | null }[];
+  const series = db
+    .select({
+      name: librarySeries.name,
+      kind: librarySeries.kind,
+      traded: librarySeries.traded,
+      count: librarySeries.count,
+      missing: librarySeries.missing,
+      mean: librarySeries.mean,
+      sd: librarySeries.sd,
+      min: librarySeries.min,
+      max: librarySeries.max,
+    })
+    .from(librarySeries)
+    .where(eq(librarySeries.editionId, edition.id))
+    .orderBy(librarySeries.position)
+    .all();
   return {
     ...toEditionSummary(db, edition),
     libraryId: lib.id,
@@ -530,7 +596,7 @@ export function getEdition(db: Db, user: User, libraryId: number, n: number): Ed
     series: series.map((s) => ({
       name: s.name,
       kind: s.kind,
-      traded: s.traded === 1,
+      traded: s.traded,
       stats: { count: s.count, missing: s.missing, mean: s.mean, sd: s.sd, min: s.min, max: s.max },
     })),
   };
@@ -547,16 +613,26 @@ export function valuesJson(v: Float64Array): string {
  */
 export function editionDataJson(db: Db, user: User, libraryId: number, n: number): string {
   const { lib, edition } = editionOf(db, user, libraryId, n);
-  const head = db.$client.prepare('select dates from library_editions where id = ?').get(edition.id) as { dates: string };
-  const rows = db.$client
-    .prepare('select name, kind, traded, values_json as json, case when values_json is null then "values" end as blob from library_series where edition_id = ? order by position')
-    .all(edition.id) as { name: string; kind: SeriesKind; traded: number; json: string | null; blob: Buffer | null }[];
+  const head = db.select({ dates: libraryEditions.dates }).from(libraryEditions).where(eq(libraryEditions.id, edition.id)).get()!;
+  const rows = db
+    .select({
+      name: librarySeries.name,
+      kind: librarySeries.kind,
+      traded: librarySeries.traded,
+      json: librarySeries.valuesJson,
+      // The blob only where the JSON text is missing (rows written before values_json).
+      blob: sql<Buffer | null>`case when ${librarySeries.valuesJson} is null then ${librarySeries.values} end`,
+    })
+    .from(librarySeries)
+    .where(eq(librarySeries.editionId, edition.id))
+    .orderBy(librarySeries.position)
+    .all();
   const parts: string[] = [
     `{"editionId":${edition.id},"libraryId":${lib.id},"libraryName":${JSON.stringify(lib.name)},"number":${edition.number},"frequency":"${edition.frequency}","dates":${head.dates},"series":[`,
   ];
   rows.forEach((r, i) => {
     const values = r.json ?? valuesJson(blobToFloat64(r.blob!));
-    parts.push(`${i ? ',' : ''}{"name":${JSON.stringify(r.name)},"kind":"${r.kind}","traded":${r.traded === 1},"values":${values}}`);
+    parts.push(`${i ? ',' : ''}{"name":${JSON.stringify(r.name)},"kind":"${r.kind}","traded":${r.traded},"values":${values}}`);
   });
   parts.push(']}');
   return parts.join('');
@@ -587,7 +663,7 @@ export function publishLibrary(db: Db, user: User, id: number): LibraryDetail {
   if (lib.visibility === 'shared') throw new KeelsonApiError('conflict', `Library ${lib.name} is already shared`);
   if (lib.archivedAt) throw new KeelsonApiError('conflict', `Library ${lib.name} is archived; restore it before sharing`);
   inTransaction(db, (tx) => {
-    db.$client.prepare("update libraries set visibility = 'shared' where id = ?").run(lib.id);
+    tx.update(libraries).set({ visibility: 'shared' }).where(eq(libraries.id, lib.id)).run();
     audit(tx, user.id, 'library.published', { libraryId: lib.id, name: lib.name, ownerId: lib.ownerId });
   });
   return getLibrary(db, user, id);
@@ -605,7 +681,7 @@ export function unpublishLibrary(db: Db, user: User, id: number): LibraryDetail 
   if (user.role !== 'admin') throw new KeelsonApiError('forbidden', 'Only admins stop sharing libraries');
   if (lib.visibility !== 'shared') throw new KeelsonApiError('conflict', `Library ${lib.name} is not shared`);
   inTransaction(db, (tx) => {
-    const others = othersUsing(db, lib.id, lib.ownerId);
+    const others = othersUsing(tx, lib.id, lib.ownerId);
     if (others.runs + others.specs > 0) {
       const what = [others.runs ? `${others.runs} run${others.runs === 1 ? '' : 's'}` : '', others.specs ? `${others.specs} saved model spec${others.specs === 1 ? '' : 's'}` : '']
         .filter(Boolean)
@@ -615,26 +691,27 @@ export function unpublishLibrary(db: Db, user: User, id: number): LibraryDetail 
         `Library ${lib.name} stays shared: ${what} of ${others.people} other ${others.people === 1 ? 'person' : 'people'} use${others.runs + others.specs === 1 ? 's' : ''} its editions, and unsharing would hide their work from them. Archive the library instead (it leaves the lists; runs on it stay readable).`,
       );
     }
-    db.$client.prepare("update libraries set visibility = 'private' where id = ?").run(lib.id);
+    tx.update(libraries).set({ visibility: 'private' }).where(eq(libraries.id, lib.id)).run();
     audit(tx, user.id, 'library.unpublished', { libraryId: lib.id, name: lib.name, ownerId: lib.ownerId });
   });
   return getLibrary(db, user, id);
 }
 
-/** Runs and saved specs on a library's editions by anyone but `ownerId` (raw SQL, guarded like editionIsUsed). */
+/** Runs and saved specs on a library's editions by anyone but `ownerId`. */
 function othersUsing(db: Db, libraryId: number, ownerId: number | null): { runs: number; specs: number; people: number } {
-  const c = db.$client;
-  const has = (t: string) => c.prepare("select 1 from sqlite_master where type = 'table' and name = ?").get(t) !== undefined;
   const people = new Set<number>();
-  const count = (table: string): number => {
-    if (!has(table)) return 0;
-    const rows = c
-      .prepare(`select author_id as a, count(*) as n from ${table} where edition_id in (select id from library_editions where library_id = ?) and author_id is not ? group by author_id`)
-      .all(libraryId, ownerId) as { a: number; n: number }[];
+  const editionsOfLibrary = db.select({ id: libraryEditions.id }).from(libraryEditions).where(eq(libraryEditions.libraryId, libraryId));
+  const tally = (table: typeof runs | typeof modelSpecs): number => {
+    const rows = db
+      .select({ a: table.authorId, n: count() })
+      .from(table)
+      .where(and(inArray(table.editionId, editionsOfLibrary), ownerId === null ? undefined : ne(table.authorId, ownerId)))
+      .groupBy(table.authorId)
+      .all();
     for (const r of rows) people.add(r.a);
     return rows.reduce((s, r) => s + r.n, 0);
   };
-  return { runs: count('runs'), specs: count('model_specs'), people: people.size };
+  return { runs: tally(runs), specs: tally(modelSpecs), people: people.size };
 }
 
 export function setArchived(db: Db, user: User, id: number, archived: boolean): LibraryDetail {
@@ -644,7 +721,7 @@ export function setArchived(db: Db, user: User, id: number, archived: boolean): 
   }
   if (archived === !!lib.archivedAt) throw new KeelsonApiError('conflict', `Library ${lib.name} is ${archived ? 'already archived' : 'not archived'}`);
   inTransaction(db, (tx) => {
-    db.$client.prepare('update libraries set archived_at = ? where id = ?').run(archived ? new Date().toISOString() : null, lib.id);
+    tx.update(libraries).set({ archivedAt: archived ? new Date().toISOString() : null }).where(eq(libraries.id, lib.id)).run();
     audit(tx, user.id, archived ? 'library.archived' : 'library.restored', { libraryId: lib.id, name: lib.name });
   });
   return getLibrary(db, user, id);
@@ -654,17 +731,17 @@ export function deleteEdition(db: Db, user: User, libraryId: number, n: number):
   const { lib, edition } = editionOf(db, user, libraryId, n);
   if (user.role !== 'admin') throw new KeelsonApiError('forbidden', 'Only admins delete editions');
   inTransaction(db, (tx) => {
-    if (editionIsUsed(db, edition.id)) {
+    if (editionIsUsed(tx, edition.id)) {
       throw new KeelsonApiError('conflict', `Edition ${n} of ${lib.name} is used by a run and stays; archive the library instead`);
     }
-    const specs = editionSpecCount(db, edition.id);
+    const specs = editionSpecCount(tx, edition.id);
     if (specs > 0) {
       throw new KeelsonApiError('conflict', `Edition ${n} of ${lib.name} is the edition of ${specs} saved model spec${specs === 1 ? '' : 's'}; point ${specs === 1 ? 'it' : 'them'} at another edition first`);
     }
-    const left = (db.$client.prepare('select count(*) as n from library_editions where library_id = ?').get(lib.id) as { n: number }).n;
+    const left = tx.select({ n: count() }).from(libraryEditions).where(eq(libraryEditions.libraryId, lib.id)).get()?.n ?? 0;
     if (left <= 1) throw new KeelsonApiError('conflict', `Edition ${n} is the only edition of ${lib.name}; archive the library instead`);
-    db.$client.prepare('delete from library_series where edition_id = ?').run(edition.id);
-    db.$client.prepare('delete from library_editions where id = ?').run(edition.id);
+    tx.delete(librarySeries).where(eq(librarySeries.editionId, edition.id)).run();
+    tx.delete(libraryEditions).where(eq(libraryEditions.id, edition.id)).run();
     audit(tx, user.id, 'library.edition_deleted', { libraryId: lib.id, name: lib.name, edition: n, editionId: edition.id });
   });
 }

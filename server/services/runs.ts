@@ -20,10 +20,10 @@
  * The author is mailed when the run ends only if it took at least `mailAfterMs` (one minute by
  * default, as for deep checks).
  */
-import { and, desc, eq, inArray, type SQL } from 'drizzle-orm';
+import { and, desc, eq, inArray, isNull, max, type SQL } from 'drizzle-orm';
 import type { Db } from '../db/client';
 import { inTransaction } from '../db/client';
-import { jobs, runs, signoffs, users } from '../db/schema/index';
+import { jobs, runs, signoffRequests, signoffs, users } from '../db/schema/index';
 import { KeelsonApiError } from '../../shared/errors';
 import type { User } from '../../shared/auth';
 import { modelSpecSchema, resolveBasis, specBootstrapSchema, windowRange, type ModelSpec, type SavedSpec } from '../../shared/specs';
@@ -175,9 +175,12 @@ function signoffStates(db: Db, runIds: number[]): Map<number, SignoffState> {
     .all();
   const lastDecision = new Map<number, { id: number; decision: 'approved' | 'changes-requested' }>();
   for (const d of decided) lastDecision.set(d.runId, d);
-  const open = db.$client
-    .prepare(`select run_id as runId, max(id) as id from signoff_requests where answered_at is null and run_id in (${runIds.map(() => '?').join(',')}) group by run_id`)
-    .all(...runIds) as { runId: number; id: number }[];
+  const open = db
+    .select({ runId: signoffRequests.runId, id: max(signoffRequests.id) })
+    .from(signoffRequests)
+    .where(and(isNull(signoffRequests.answeredAt), inArray(signoffRequests.runId, runIds)))
+    .groupBy(signoffRequests.runId)
+    .all();
   const openBy = new Map(open.map((o) => [o.runId, o.id]));
   for (const id of runIds) {
     const d = lastDecision.get(id);

@@ -1,13 +1,13 @@
 /**
  * Deep-check jobs (issue 6): bootstrap, subset sweep and rolling window, run in worker threads.
  *
- * `run_id` is a plain integer (no foreign key), like the runs table's own references to modules
- * owned by others; the service checks the run exists and is readable. `result` and the final
+ * `run_id` references runs; the service checks the run exists and is readable. `result` and the final
  * `status` are written in one transaction, so a result is never half-written.
  */
 import { sql } from 'drizzle-orm';
 import { index, integer, sqliteTable, text } from 'drizzle-orm/sqlite-core';
 import { users } from './auth';
+import { runs } from './runs';
 
 const now = sql`(strftime('%Y-%m-%dT%H:%M:%fZ','now'))`;
 
@@ -16,7 +16,9 @@ export const jobs = sqliteTable(
   {
     id: integer('id').primaryKey({ autoIncrement: true }),
     kind: text('kind', { enum: ['bootstrap', 'subset-sweep', 'rolling'] }).notNull(),
-    runId: integer('run_id').notNull(),
+    runId: integer('run_id')
+      .notNull()
+      .references(() => runs.id),
     authorId: integer('author_id')
       .notNull()
       .references(() => users.id),
@@ -36,3 +38,6 @@ export const jobs = sqliteTable(
   },
   (t) => [index('jobs_run_idx').on(t.runId), index('jobs_author_idx').on(t.authorId), index('jobs_status_idx').on(t.status)],
 );
+
+export type JobRow = typeof jobs.$inferSelect;
+export type NewJobRow = typeof jobs.$inferInsert;

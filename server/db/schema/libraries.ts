@@ -91,3 +91,12 @@ export const libraryUploads = sqliteTable(
   },
   (t) => [index('library_uploads_owner_idx').on(t.ownerId), index('library_uploads_expires_idx').on(t.expiresAt)],
 );
+
+export type LibraryRow = typeof libraries.$inferSelect;
+export type NewLibraryRow = typeof libraries.$inferInsert;
+export type LibraryEditionRow = typeof libraryEditions.$inferSelect;
+export type NewLibraryEditionRow = typeof libraryEditions.$inferInsert;
+export type LibrarySeriesRow = typeof librarySeries.$inferSelect;
+export type NewLibrarySeriesRow = typeof librarySeries.$inferInsert;
+export type LibraryUploadRow = typeof libraryUploads.$inferSelect;
+export type NewLibraryUploadRow = typeof libraryUploads.$inferInsert;

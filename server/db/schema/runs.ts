@@ -1,13 +1,14 @@
 /**
  * Model specs, runs and their review (issue 5).
  *
- * `edition_id` / `library_id` are plain integers (no foreign key): the return-library tables are
- * owned by another module; the run keeps a frozen copy of the names it needs (library name,
- * edition number) so it stays readable as it was.
+ * `edition_id` references library_editions (an edition used by a run or a saved spec is never
+ * deleted); `library_id` is a plain copy of the edition's library. The run keeps a frozen copy of the
+ * names it needs (library name, edition number) so it stays readable as it was.
  */
 import { sql } from 'drizzle-orm';
 import { index, integer, sqliteTable, text } from 'drizzle-orm/sqlite-core';
 import { users } from './auth';
+import { libraryEditions } from './libraries';
 
 const now = sql`(strftime('%Y-%m-%dT%H:%M:%fZ','now'))`;
 
@@ -19,7 +20,9 @@ export const modelSpecs = sqliteTable(
     authorId: integer('author_id')
       .notNull()
       .references(() => users.id),
-    editionId: integer('edition_id').notNull(),
+    editionId: integer('edition_id')
+      .notNull()
+      .references(() => libraryEditions.id),
     libraryId: integer('library_id').notNull(),
     libraryName: text('library_name').notNull(),
     editionNumber: integer('edition_number').notNull(),
@@ -40,7 +43,9 @@ export const runs = sqliteTable(
     id: integer('id').primaryKey({ autoIncrement: true }),
     specId: integer('spec_id').references(() => modelSpecs.id),
     specName: text('spec_name'),
-    editionId: integer('edition_id').notNull(),
+    editionId: integer('edition_id')
+      .notNull()
+      .references(() => libraryEditions.id),
     libraryId: integer('library_id').notNull(),
     libraryName: text('library_name').notNull(),
     editionNumber: integer('edition_number').notNull(),
@@ -125,3 +130,8 @@ export const signoffs = sqliteTable(
   },
   (t) => [index('signoffs_run_idx').on(t.runId)],
 );
+
+export type ModelSpecRow = typeof modelSpecs.$inferSelect;
+export type NewModelSpecRow = typeof modelSpecs.$inferInsert;
+export type RunRow = typeof runs.$inferSelect;
+export type NewRunRow = typeof runs.$inferInsert;
