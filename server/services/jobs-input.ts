@@ -29,6 +29,7 @@ import {
 } from '../../lib/gmm/index';
 import { loadEditionData } from './edition-data';
 import { buildLedgerInput, RunDataError } from './runs';
+import { splitIndexOf } from './holdout-split';
 
 export type CheckInput =
   | { kind: 'bootstrap'; input: BootstrapInput; total: number }
@@ -193,21 +194,6 @@ export function buildCheckInput(db: Db, run: RunForCheck, kind: JobKind, rawPara
 }
 
 /**
- * The first hold-out period for a date label `from` (YYYY-MM or YYYY-MM-DD): the first period on
- * or after it, compared at the precision of the edition's labels. A date before the first period
- * or after the last is outside the sample and refused.
- */
-export function splitIndexOf(dates: readonly string[], from: string): number {
-  const key = from.length > dates[0].length ? from.slice(0, dates[0].length) : from;
-  if (key <= dates[0] || key > dates[dates.length - 1])
-    unprocessable(
-      `The split date ${from} is outside the run's estimation sample (${dates[0]} – ${dates[dates.length - 1]}): the hold-out must start after the first period and no later than the last.`,
-      ['params', 'from'],
-    );
-  return dates.findIndex((d) => d >= key);
-}
-
-/**
  * The hold-out check of a run's model (lib/gmm holdout.ts; Kozak, Nagel and Santosh 2020): the
  * run's frozen spec (stage, weighting, lag, form, factor means) estimates b̂ before the split and
  * prices the periods after it. Refusals (422, before any job is written): a split outside the
@@ -235,7 +221,12 @@ export function holdoutCheckInput(
     }
   };
   if (p.mode === 'split') {
-    const index = p.from !== undefined ? splitIndexOf(dates, p.from) : Math.floor(p.fraction! * T);
+    let index = Math.floor((p.fraction ?? 0) * T);
+    if (p.from !== undefined) {
+      const at = splitIndexOf(dates, p.from);
+      if ('error' in at) unprocessable(at.error, ['params', 'from']);
+      index = at.index;
+    }
     const path = ['params', p.from !== undefined ? 'from' : 'fraction'];
     gmm(() => resolveSplit({ index }, T, N, K), path);
     gmm(() => resolveLag(spec.lags, index), path);
