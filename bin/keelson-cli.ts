@@ -21,6 +21,10 @@ import {
 } from '../lib/gmm/index';
 import { detectUnits } from '../shared/units';
 import { renderLedgerText } from './ledger-text';
+import { holdoutPricing } from '../lib/gmm/index';
+import { compareFactorModels, type ModelComparison } from '../server/services/model-compare';
+import { splitIndexOf } from '../server/services/holdout-split';
+import { formatFixed, formatP } from '../shared/format';
 
 /** A caller mistake: reported on one line, exit code 2. */
 export class CliInputError extends Error {
@@ -55,7 +59,12 @@ Estimates the factor ledger of a linear SDF model by GMM.
   --seed S               bootstrap seed, 0…2147483647        (default 1)
   --percent              the file is in percent (divided by 100)
   --decimal              the file is in decimals even though its numbers look like percent
-  --json                 print the ledger as JSON
+  --versus F1,F3         compare with a second model (these factors, same assets and periods):
+                         squared-Sharpe z test (all factors traded) or, nested, the joint spanning
+                         test and the drop test; JSON: "comparison"
+  --holdout-from DATE    hold-out check: estimate b before DATE (YYYY-MM[-DD]) with these settings,
+                         price the periods from DATE on; JSON: "holdout"
+  --json                 print the ledger as JSON (per factor pHolm, pBY: adjusted p of the b tests)
 
 Results are statistical evidence, not investment advice.`;
 
@@ -160,6 +169,8 @@ function parseCommand(argv: string[]) {
       'block-length': { type: 'string' },
       seed: { type: 'string' },
       json: { type: 'boolean', default: false },
+      versus: { type: 'string' },
+      'holdout-from': { type: 'string' },
       help: { type: 'boolean', short: 'h', default: false },
     },
   });
@@ -233,8 +244,9 @@ export function buildInput(values: ReturnType<typeof parseCommand>['values']) {
     if (factorNames.includes(rf)) throw new CliInputError(`--rf column "${rf}" is also listed in --factors`);
   }
   const nonTraded = list(values['non-traded']) ?? [];
+  const versus = list(values.versus) ?? [];
   for (const f of nonTraded)
-    if (!factorNames.includes(f)) throw new CliInputError(`--non-traded: "${f}" is not one of the --factors (${factorNames.join(', ')})`);
+    if (!factorNames.includes(f) && !versus.includes(f)) throw new CliInputError(`--non-traded: "${f}" is not one of the --factors (${factorNames.join(', ')})`);
   let assetNames = list(values.assets);
   if (assetNames) {
     assetNames.forEach((a) => need('assets', a));
@@ -244,7 +256,16 @@ export function buildInput(values: ReturnType<typeof parseCommand>['values']) {
     }
     if (new Set(assetNames).size !== assetNames.length) throw new CliInputError('--assets names a column twice');
   } else {
-    assetNames = lib.columns.filter((c) => !factorNames.includes(c) && c !== rf);
+    assetNames = lib.columns.filter((c) => !factorNames.includes(c) && !versus.includes(c) && c !== rf);
+  }
+  if (values.versus !== undefined) {
+    if (versus.length === 0) throw new CliInputError('--versus needs the second model\'s factor columns, e.g. --versus MKT,GROWTH');
+    versus.forEach((f) => need('versus', f));
+    if (new Set(versus).size !== versus.length) throw new CliInputError('--versus names a column twice');
+    for (const f of versus) {
+      if (assetNames.includes(f)) throw new CliInputError(`--versus: "${f}" is a test asset (listed in --assets)`);
+      if (f === rf) throw new CliInputError(`--versus: "${f}" is the --rf column`);
+    }
   }
   if (assetNames.length === 0) throw new CliInputError(`${values.data}: no test-asset columns left after the factors${rf ? ' and rf' : ''}`);
   const dropSet = list(values['drop-set']);
@@ -265,6 +286,7 @@ export function buildInput(values: ReturnType<typeof parseCommand>['values']) {
   const rfCol = rf ? lib.values.get(rf)! : null;
   const returns = Array.from({ length: T }, (_, t) => assetNames!.map((a) => lib.values.get(a)![t] - (rfCol ? rfCol[t] : 0)));
   const factors = Array.from({ length: T }, (_, t) => factorNames.map((f) => lib.values.get(f)![t]));
+  const versusFactors = Array.from({ length: T }, (_, t) => versus.map((f) => lib.values.get(f)![t]));
   const options: LedgerOptions = {
     stage,
     weighting,
@@ -281,7 +303,161 @@ export function buildInput(values: ReturnType<typeof parseCommand>['values']) {
     dates: lib.dates,
     unitsNote,
     input: { assetNames, returns, factorNames, factors, traded: factorNames.map((f) => !nonTraded.includes(f)), options },
+    versus: values.versus === undefined ? null : { factorNames: versus, factors: versusFactors, traded: versus.map((f) => !nonTraded.includes(f)) },
   };
+}
+
+/** `--versus`: the second model's factors on the same assets and periods. */
+export interface VersusModel {
+  factorNames: string[];
+  factors: number[][];
+  traded: boolean[];
+}
+
+/** The nested drop test between the two models (null test when neither factor set holds the other). */
+export interface CliNested {
+  nested: boolean;
+  reason: string | null;
+  /** Factors in the larger model that the smaller lacks. */
+  dropped: string[];
+  /** χ² difference with the larger model's second-stage weighting (first-stage runs: the second stage computed from them). */
+  test: { stat: number; df: number; p: number } | null;
+}
+
+export type CliComparison = { versus: string[] } & ModelComparison & { nested: CliNested };
+
+/**
+ * Compares the model of `input` (A) with the `--versus` model (B) on the same data: the
+ * squared-Sharpe z test or, nested, the joint spanning test (server/services/model-compare.ts),
+ * plus the nested drop test of the larger model (estimateLedger with the extra factors as drop set).
+ */
+export function compareWithVersus(input: LedgerInput, v: VersusModel, lags: number): CliComparison {
+  const a = input.factorNames;
+  const b = v.factorNames;
+  const names = [...new Set([...a, ...b])];
+  const col = (name: string) => {
+    const i = a.indexOf(name);
+    return i >= 0 ? { m: input.factors, j: i, traded: input.traded![i] } : { m: v.factors, j: b.indexOf(name), traded: v.traded[b.indexOf(name)] };
+  };
+  const cols = names.map(col);
+  const T = input.factors.length;
+  const factors = Array.from({ length: T }, (_, t) => cols.map((c) => c.m[t][c.j]));
+  const traded = cols.map((c) => c.traded);
+  const model = compareFactorModels({ factors, factorNames: names, traded, lags, modelA: a, modelB: b });
+  const aInB = a.every((f) => b.includes(f));
+  const bInA = b.every((f) => a.includes(f));
+  let nested: CliNested;
+  if (aInB && bInA) nested = { nested: false, reason: 'The two models have the same factors.', dropped: [], test: null };
+  else if (!aInB && !bInA) nested = { nested: false, reason: 'Neither factor set contains the other.', dropped: [], test: null };
+  else {
+    const large = bInA ? a : b;
+    const dropped = large.filter((f) => !(bInA ? b : a).includes(f));
+    const idx = large.map((f) => names.indexOf(f));
+    const { bootstrap: _b, basis: _basis, dropSet: _d, ...o } = input.options;
+    void _b;
+    void _basis;
+    void _d;
+    try {
+      const led = estimateLedger({
+        assetNames: input.assetNames,
+        returns: input.returns,
+        factorNames: large,
+        factors: factors.map((r) => idx.map((j) => r[j])),
+        traded: idx.map((j) => traded[j]),
+        options: { ...o, stage: o.stage === 'first' ? 'second' : o.stage, dropSet: dropped },
+      });
+      const t = led.jointDrop?.chi2Drop ?? null;
+      nested = { nested: true, reason: t ? null : 'The drop test could not be computed.', dropped, test: t ? { stat: t.stat, df: t.df, p: t.p } : null };
+    } catch (e) {
+      if (!(e instanceof GmmInputError || e instanceof GmmNumericalError)) throw e;
+      nested = { nested: true, reason: `The larger model could not be estimated: ${e.message}`, dropped, test: null };
+    }
+  }
+  return { versus: [...b], ...model, nested };
+}
+
+/** `--holdout-from`: the hold-out check's summary in the JSON. */
+export interface CliHoldout {
+  from: string;
+  splitDate: string | null;
+  /** Estimation and hold-out periods. */
+  T1: number;
+  T: number;
+  r2: number;
+  r2in: number;
+  meanAbsAlpha: number;
+  assets: string[];
+  /** α₂ per asset (decimals per period), in the order of `assets`. */
+  alpha: number[];
+  holdoutMean: number[];
+  predicted: number[];
+  b: number[];
+  note: string | null;
+}
+
+/** Hold-out pricing (lib/gmm holdout.ts) with the run's settings, split at the first period on or after `from`. */
+export function holdoutFrom(input: LedgerInput, dates: readonly string[], from: string): CliHoldout {
+  if (!DATE_RE.test(from)) throw new CliInputError(`--holdout-from must be a date YYYY-MM or YYYY-MM-DD; got "${from}"`);
+  const at = splitIndexOf(dates, from);
+  if ('error' in at) throw new CliInputError(`--holdout-from: ${at.error.replace("the run's estimation sample", 'the sample')}`);
+  const o = input.options;
+  const r = holdoutPricing({
+    returns: input.returns,
+    factors: input.factors,
+    factorNames: input.factorNames,
+    assetNames: input.assetNames,
+    dates,
+    split: { index: at.index },
+    options: { stage: o.stage, weighting: o.weighting, lags: o.lags, form: o.form, factorMeansKnown: o.factorMeansKnown },
+  });
+  if (!r.ok) throw new CliInputError(`--holdout-from: the estimation periods could not be solved: ${r.message}`);
+  return {
+    from,
+    splitDate: r.splitDate,
+    T1: r.T1,
+    T: r.T2,
+    r2: r.r2oos,
+    r2in: r.r2in,
+    meanAbsAlpha: r.meanAbsAlpha,
+    assets: [...r.assetNames],
+    alpha: [...r.alpha],
+    holdoutMean: [...r.holdoutMean],
+    predicted: [...r.predicted],
+    b: [...r.b],
+    note: r.note,
+  };
+}
+
+const pct = (x: number) => `${formatFixed(x * 100, 3)} %`;
+
+/** The comparison and hold-out as text lines under the ledger (Keelson's layout). */
+export function renderExtras(c: CliComparison | null, h: CliHoldout | null, factorNames: readonly string[]): string {
+  const out: string[] = [];
+  if (c) {
+    out.push('', `Model comparison: A = ${factorNames.join(', ')}  versus  B = ${c.versus.join(', ')}`);
+    if (c.sharpe) {
+      const s = c.sharpe;
+      out.push(`  squared Sharpe ratio  A ${formatFixed(s.a.theta, 4)} (se ${formatFixed(s.a.se, 4)})   B ${formatFixed(s.b.theta, 4)} (se ${formatFixed(s.b.se, 4)})`);
+      out.push(`  A − B ${formatFixed(s.diff, 4)}   se ${formatFixed(s.se, 4)}   z ${formatFixed(s.z, 2)}   p ${formatP(s.p)}   (T ${s.T}, HAC lag ${s.lags})`);
+      if (s.shared.length) out.push(`  shared factors: ${s.shared.join(', ')} (allowed: the test compares the whole factor sets)`);
+    } else if (c.sharpeSpanning) {
+      const s = c.sharpeSpanning;
+      out.push(`  nested: joint spanning test of ${s.factors.join(', ')} on ${s.on.join(', ')}: χ² ${formatFixed(s.stat, 2)}, df ${s.df}, p ${formatP(s.p)}`);
+      out.push(`  ${s.reason}`);
+    } else if (c.sharpeRefusal) out.push(`  no Sharpe test: ${c.sharpeRefusal.message}`);
+    if (c.nested.test) out.push(`  drop test of ${c.nested.dropped.join(', ')} from the larger model: χ² ${formatFixed(c.nested.test.stat, 2)}, df ${c.nested.test.df}, p ${formatP(c.nested.test.p)}`);
+  }
+  if (h) {
+    out.push('', `Hold-out check from ${h.splitDate ?? h.from}: b estimated on ${h.T1} periods, ${h.T} periods priced`);
+    out.push(`  R²_oos ${formatFixed(h.r2, 3)}   (in sample ${formatFixed(h.r2in, 3)})   mean |α₂| ${pct(h.meanAbsAlpha)} per period`);
+    const w = Math.max(5, ...h.assets.map((a) => a.length));
+    out.push(`  ${'asset'.padEnd(w)}  ${'mean %'.padStart(9)}  ${'model %'.padStart(9)}  ${'α₂ %'.padStart(9)}`);
+    h.assets.forEach((a, i) =>
+      out.push(`  ${a.padEnd(w)}  ${formatFixed(h.holdoutMean[i] * 100, 3).padStart(9)}  ${formatFixed(h.predicted[i] * 100, 3).padStart(9)}  ${formatFixed(h.alpha[i] * 100, 3).padStart(9)}`),
+    );
+    if (h.note) out.push(`  ${h.note}`);
+  }
+  return out.length ? out.join('\n') + '\n' : '';
 }
 
 // ---------- table output ----------
@@ -342,7 +518,7 @@ export async function main(argv: string[], io: Io = defaultIo): Promise<number> 
       return 0;
     }
     if (parsed.positionals.length > 0) throw new CliInputError(`unexpected argument "${parsed.positionals[0]}"`);
-    const { input, dates, unitsNote } = buildInput(parsed.values);
+    const { input, dates, unitsNote, versus } = buildInput(parsed.values);
     let result: LedgerResult;
     try {
       result = estimateWithBootstrap(input);
@@ -356,7 +532,23 @@ export async function main(argv: string[], io: Io = defaultIo): Promise<number> 
       if (e instanceof GmmNumericalError) throw new CliInputError(`${parsed.values.data}: ${e.message}`);
       throw e;
     }
-    io.out(parsed.values.json ? JSON.stringify(result, null, 2) + '\n' : renderTable(result, dates, parsed.values.data!, unitsNote));
+    const gmm = <R>(f: () => R): R => {
+      try {
+        return f();
+      } catch (e) {
+        if (e instanceof GmmInputError || e instanceof GmmNumericalError) throw new CliInputError(`${parsed.values.data}: ${e.message}`);
+        throw e;
+      }
+    };
+    const comparison = versus ? gmm(() => compareWithVersus(input, versus, result.lags)) : null;
+    const from = parsed.values['holdout-from'];
+    const holdout = from !== undefined ? gmm(() => holdoutFrom(input, dates, from)) : null;
+    const extra = { ...(comparison ? { comparison } : {}), ...(holdout ? { holdout } : {}) };
+    io.out(
+      parsed.values.json
+        ? JSON.stringify({ ...result, ...extra }, null, 2) + '\n'
+        : renderTable(result, dates, parsed.values.data!, unitsNote) + renderExtras(comparison, holdout, input.factorNames),
+    );
     return 0;
   } catch (e) {
     if (e instanceof CliInputError) {

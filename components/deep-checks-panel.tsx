@@ -8,7 +8,7 @@ import { Text, View } from 'react-native';
 import { useMutation, useQueryClient } from '@tanstack/react-query';
 import { JOB_KIND_LABELS, jobResponseSchema, type Job, type JobKind, type StartCheckBody } from '../shared/jobs';
 import type { KeelsonApiError } from '../shared/errors';
-import { apiRequest } from '../api/client';
+import { apiRequest, newIdempotencyKey } from '../api/client';
 import { useMe } from '../hooks/use-session';
 import { jobKeys, useJob, useJobs } from '../hooks/use-jobs';
 import { Button } from './button';
@@ -25,6 +25,8 @@ const KIND_HELP: Readonly<Record<JobKind, string>> = {
     'Resamples the run’s periods under the null (recentred moments) to get p-values for J, each b and each drop test that do not lean on large-sample theory — useful with many test assets or a short sample.',
   'subset-sweep': 'Estimates every combination of up to 15 candidate factors on the same assets and ranks them by HJ distance and by the drop test against the full model.',
   rolling: 'Re-estimates b and λ with their standard errors on rolling or expanding windows, to see whether they drift.',
+  holdout:
+    'Estimates b with this run’s settings on the periods before a split and prices the periods after it: pricing errors α₂ per asset, mean |α₂| and the out-of-sample R² (1 − α₂′α₂ / m₂′m₂). The rolling version re-estimates on each window and prices the next block.',
 };
 
 /** Numbers need no full-width input on wide screens. */
@@ -35,15 +37,6 @@ function intOrUndefined(s: string): number | undefined {
   if (t === '') return undefined;
   const n = Number(t);
   return Number.isFinite(n) ? n : NaN;
-}
-
-/** A fresh idempotency key (random UUID; getRandomValues where randomUUID is missing, e.g. plain http). */
-export function newIdempotencyKey(): string {
-  const c = globalThis.crypto;
-  if (typeof c?.randomUUID === 'function') return c.randomUUID();
-  const b = new Uint8Array(16);
-  c.getRandomValues(b);
-  return Array.from(b, (x) => x.toString(16).padStart(2, '0')).join('');
 }
 
 /**
@@ -90,6 +83,11 @@ function StartForm({ runId }: { runId: number }) {
   const [windowKind, setWindowKind] = useState<'rolling' | 'expanding'>('rolling');
   const [length, setLength] = useState('60');
   const [step, setStep] = useState('12');
+  const [holdMode, setHoldMode] = useState<'date' | 'fraction' | 'rolling'>('fraction');
+  const [holdFrom, setHoldFrom] = useState('');
+  const [holdFraction, setHoldFraction] = useState('0.7');
+  const [holdLength, setHoldLength] = useState('120');
+  const [holdStep, setHoldStep] = useState('12');
 
   const submit = () => {
     let body: StartCheckBody;
@@ -103,8 +101,15 @@ function StartForm({ runId }: { runId: number }) {
         .map((c) => c.trim())
         .filter(Boolean);
       body = { kind, params: list.length ? { candidates: list } : {} };
-    } else {
+    } else if (kind === 'rolling') {
       body = { kind, params: { window: windowKind, length: intOrUndefined(length) ?? 0, step: intOrUndefined(step) ?? 12 } };
+    } else if (holdMode === 'rolling') {
+      body = { kind, params: { mode: 'rolling', length: intOrUndefined(holdLength) ?? 0, step: intOrUndefined(holdStep) ?? 12 } };
+    } else if (holdMode === 'date') {
+      body = { kind, params: { mode: 'split', from: holdFrom.trim() } };
+    } else {
+      const f = Number(holdFraction.trim());
+      body = { kind, params: { mode: 'split', fraction: holdFraction.trim() === '' ? NaN : f } };
     }
     start.start(body);
   };
@@ -114,7 +119,7 @@ function StartForm({ runId }: { runId: number }) {
       <Select
         label="Check"
         value={kind}
-        options={(['bootstrap', 'subset-sweep', 'rolling'] as const).map((k) => ({ value: k, label: JOB_KIND_LABELS[k] }))}
+        options={(['bootstrap', 'subset-sweep', 'rolling', 'holdout'] as const).map((k) => ({ value: k, label: JOB_KIND_LABELS[k] }))}
         onChange={(k) => {
           setKind(k);
           start.reset();
@@ -172,6 +177,40 @@ function StartForm({ runId }: { runId: number }) {
           </View>
         </View>
       ) : null}
+      {kind === 'holdout' ? (
+        <View style={{ gap: space.sm }}>
+          <Select
+            label="Hold-out"
+            value={holdMode}
+            options={[
+              { value: 'fraction', label: 'split at a fraction of the sample' },
+              { value: 'date', label: 'split at a date' },
+              { value: 'rolling', label: 'rolling: window, then the next block' },
+            ]}
+            onChange={setHoldMode}
+          />
+          {holdMode === 'fraction' ? (
+            <View style={NUMBER_BOX}>
+              <TextField label="Estimation fraction" value={holdFraction} onChangeText={setHoldFraction} inputMode="decimal" hint="Share of the periods used to estimate b (e.g. 0.7); the rest is priced." />
+            </View>
+          ) : null}
+          {holdMode === 'date' ? (
+            <View style={NUMBER_BOX}>
+              <TextField label="First hold-out period" value={holdFrom} onChangeText={setHoldFrom} hint="YYYY-MM or YYYY-MM-DD; b is estimated on the periods before it." />
+            </View>
+          ) : null}
+          {holdMode === 'rolling' ? (
+            <>
+              <View style={NUMBER_BOX}>
+                <TextField label="Window length" value={holdLength} onChangeText={setHoldLength} numeric inputMode="numeric" hint="Periods each b is estimated on (at least N + K + 1)." />
+              </View>
+              <View style={NUMBER_BOX}>
+                <TextField label="Step" value={holdStep} onChangeText={setHoldStep} numeric inputMode="numeric" hint="Periods priced after each window, and between windows (at least 2)." />
+              </View>
+            </>
+          ) : null}
+        </View>
+      ) : null}
       {start.error ? <ErrorView error={start.error} title="The check was not started" /> : null}
       <View style={{ flexDirection: 'row' }}>
         <Button label="Start deep check" variant="primary" onPress={submit} busy={start.isPending} disabled={start.isPending} />
@@ -195,7 +234,7 @@ export function DeepChecksPanel({ runId }: { runId: number }) {
   return (
     <Card
       title="Deep checks"
-      subtitle="Bootstrap, subset sweep and rolling window run in the background; this panel follows their progress."
+      subtitle="Bootstrap, subset sweep, rolling window and hold-out check run in the background; this panel follows their progress."
       accessibilityLabel="Deep checks"
       aside={<Button label="All deep checks" href="/jobs" compact variant="quiet" />}
     >

@@ -2,13 +2,14 @@ import { z } from 'zod';
 import type { BootstrapResult } from '../lib/gmm/bootstrap';
 import type { SubsetSweepResult } from '../lib/gmm/subset-sweep';
 import type { RollingResult } from '../lib/gmm/rolling';
+import type { HoldoutResult, RollingHoldoutResult } from '../lib/gmm/holdout';
 
 /**
  * Deep checks run as background jobs (issue 6): request bodies, parameter schemas and the job
  * shape the API returns. The results' shapes are lib/gmm's result types.
  */
 
-export const JOB_KINDS = ['bootstrap', 'subset-sweep', 'rolling'] as const;
+export const JOB_KINDS = ['bootstrap', 'subset-sweep', 'rolling', 'holdout'] as const;
 export const jobKindSchema = z.enum(JOB_KINDS);
 export type JobKind = z.infer<typeof jobKindSchema>;
 
@@ -16,6 +17,7 @@ export const JOB_KIND_LABELS: Readonly<Record<JobKind, string>> = {
   bootstrap: 'Bootstrap',
   'subset-sweep': 'Subset sweep',
   rolling: 'Rolling window',
+  holdout: 'Hold-out check',
 };
 
 export const JOB_STATUSES = ['queued', 'running', 'finished', 'failed', 'cancelled', 'interrupted'] as const;
@@ -59,16 +61,50 @@ export const rollingParamsSchema = z
   .strict();
 export type RollingParams = z.output<typeof rollingParamsSchema>;
 
+/** A date label as the editions write them: YYYY-MM or YYYY-MM-DD. */
+const DATE_LABEL = /^\d{4}-(0[1-9]|1[0-2])(-(0[1-9]|[12]\d|3[01]))?$/;
+
+/**
+ * Hold-out check (Kozak, Nagel and Santosh 2020): `split` estimates b̂ on the periods before `from`
+ * (the first hold-out period, YYYY-MM[-DD]) or before the first `fraction` of the sample, and
+ * prices the rest; `rolling` re-estimates on windows of `length` periods and prices the next
+ * `step` periods after each.
+ */
+export const holdoutParamsSchema = z
+  .object({
+    mode: z.enum(['split', 'rolling']).default('split'),
+    from: z.string().trim().regex(DATE_LABEL, 'Give the first hold-out period as YYYY-MM or YYYY-MM-DD').optional(),
+    fraction: z.number().gt(0, 'The fraction is between 0 and 1').lt(1, 'The fraction is between 0 and 1').optional(),
+    length: z.number().int('The window length is a whole number').min(2, 'The window is at least 2 periods').optional(),
+    step: z.number().int('The step is a whole number').min(2, 'Each priced block needs at least 2 periods').optional(),
+  })
+  .strict()
+  .superRefine((p, ctx) => {
+    if (p.mode === 'split') {
+      if ((p.from === undefined) === (p.fraction === undefined))
+        ctx.addIssue({ code: 'custom', path: ['from'], message: 'Give either the first hold-out period (from) or the estimation fraction, not both and not neither' });
+      if (p.length !== undefined || p.step !== undefined) ctx.addIssue({ code: 'custom', path: ['length'], message: 'Window length and step belong to the rolling hold-out (mode rolling)' });
+    } else {
+      if (p.length === undefined) ctx.addIssue({ code: 'custom', path: ['length'], message: 'The rolling hold-out needs a window length' });
+      if (p.from !== undefined || p.fraction !== undefined) ctx.addIssue({ code: 'custom', path: ['from'], message: 'A split date or fraction belongs to the single hold-out (mode split)' });
+    }
+  });
+export type HoldoutParams = z.output<typeof holdoutParamsSchema>;
+
+/** A hold-out job's result: one split, or one row per priced block. */
+export type HoldoutJobResult = ({ mode: 'split' } & HoldoutResult) | ({ mode: 'rolling' } & RollingHoldoutResult);
+
 export const startCheckBodySchema = z.discriminatedUnion('kind', [
   z.object({ kind: z.literal('bootstrap'), params: bootstrapParamsSchema.default({ draws: 999, scheme: 'iid' }) }),
   z.object({ kind: z.literal('subset-sweep'), params: subsetSweepParamsSchema.default({ topPerSize: 5 }) }),
   z.object({ kind: z.literal('rolling'), params: rollingParamsSchema }),
+  z.object({ kind: z.literal('holdout'), params: holdoutParamsSchema }),
 ]);
 export type StartCheckBody = z.input<typeof startCheckBodySchema>;
 export type StartCheck = z.output<typeof startCheckBodySchema>;
 
-export type JobParams = BootstrapParams | SubsetSweepParams | RollingParams;
-export type JobResult = BootstrapResult | SubsetSweepResult | RollingResult;
+export type JobParams = BootstrapParams | SubsetSweepParams | RollingParams | HoldoutParams;
+export type JobResult = BootstrapResult | SubsetSweepResult | RollingResult | HoldoutJobResult;
 
 export const jobSchema = z.object({
   id: z.number().int(),

@@ -185,7 +185,54 @@ export type ReviewQueue = z.infer<typeof reviewQueueSchema>;
 export const compareQuerySchema = z.object({
   a: z.coerce.number().int().positive('Give run a'),
   b: z.coerce.number().int().positive('Give run b'),
+  /**
+   * `sharpe`: the caller needs the model-comparison test; a pair it does not apply to (different
+   * editions, assets or windows, a non-traded factor) is refused with the error envelope (422)
+   * instead of coming back with `sharpe: null` and the reason in `sharpeRefusal`.
+   */
+  require: z.enum(['sharpe']).optional(),
 });
+
+/** One model's squared Sharpe ratio θ̂ = μ'Σ_f⁻¹μ with its HAC standard error (lib/gmm sharpe.ts). */
+export const squaredSharpeSchema = z.object({ factors: z.array(z.string()), theta: z.number(), se: z.number() });
+
+/**
+ * The non-nested comparison of two models by their factors' squared Sharpe ratios (Barillas, Kan,
+ * Robotti and Shanken 2020): diff = θ̂_A − θ̂_B, its HAC standard error, z and the two-sided p.
+ */
+export const sharpeTestSchema = z.object({
+  a: squaredSharpeSchema,
+  b: squaredSharpeSchema,
+  diff: z.number(),
+  se: z.number(),
+  z: z.number(),
+  p: z.number(),
+  /** Factors in both models (the test allows them; the screen says so beside it). */
+  shared: z.array(z.string()),
+  T: z.number().int(),
+  lags: z.number().int(),
+});
+export type SharpeTest = z.infer<typeof sharpeTestSchema>;
+
+/** Nested models: the joint spanning test of the larger model's extra factors on the smaller model's, and why it replaces the z test. */
+export const sharpeSpanningSchema = z.object({
+  reason: z.string(),
+  a: squaredSharpeSchema,
+  b: squaredSharpeSchema,
+  /** Which run's factors hold the other's. */
+  larger: z.enum(['a', 'b']),
+  factors: z.array(z.string()),
+  on: z.array(z.string()),
+  /** Spanning α per extra factor (decimals per period). */
+  alpha: z.array(z.number()),
+  stat: z.number(),
+  df: z.number().int(),
+  p: z.number(),
+  shared: z.array(z.string()),
+  T: z.number().int(),
+  lags: z.number().int(),
+});
+export type SharpeSpanning = z.infer<typeof sharpeSpanningSchema>;
 
 export const nestedTestSchema = z.object({
   nested: z.boolean(),
@@ -211,6 +258,12 @@ export const compareResponseSchema = z.object({
   bases: z.object({ a: runBasisSchema, b: runBasisSchema }),
   /** Set when the two runs' verdicts rest on different bases, so they are not read as like for like. */
   basisNote: z.string().nullable(),
+  /** The squared-Sharpe z test (non-nested models, all factors traded); null when it does not apply. */
+  sharpe: sharpeTestSchema.nullable(),
+  /** For nested models: the joint spanning test that answers the same question. */
+  sharpeSpanning: sharpeSpanningSchema.nullable(),
+  /** Why neither test is given (error-envelope code and message: 'unprocessable' refusals, 'degenerate', 'singular'). */
+  sharpeRefusal: z.object({ code: z.string(), message: z.string() }).nullable(),
 });
 export type CompareResponse = z.infer<typeof compareResponseSchema>;
 

@@ -16,7 +16,7 @@ import { mailInBackground } from '../services/runs';
 import { buildCheckInput, type CheckInput } from '../services/jobs-input';
 import { JOB_KIND_LABELS } from '../../shared/jobs';
 import { createJobPool, type JobPool } from './pool';
-import type { ChunkTask } from './tasks';
+import type { ChunkTask, HoldoutBlocks } from './tasks';
 import { withBootstrap, type BootstrapBatch, type BootstrapResult, type LedgerResult, type RollingPoint, type SweepRow } from '../../lib/gmm/index';
 
 export interface JobRunnerOptions {
@@ -36,7 +36,7 @@ export interface JobRunnerOptions {
  * sweep: at least 512 subsets per chunk (a whole small sweep is one chunk); rolling: ~20 chunks.
  */
 export function chunkRanges(total: number, kind: CheckInput['kind']): [number, number][] {
-  const even = Math.ceil(total / (kind === 'rolling' ? 20 : 40));
+  const even = Math.ceil(total / (kind === 'rolling' || kind === 'holdout' ? 20 : 40));
   const size = Math.max(1, kind === 'bootstrap' ? Math.min(100, Math.max(10, even)) : kind === 'subset-sweep' ? Math.max(512, even) : even);
   const out: [number, number][] = [];
   for (let a = 0; a < total; a += size) out.push([a, Math.min(total, a + size)]);
@@ -182,6 +182,17 @@ export class JobRunner {
           return r;
         });
         result = await pool.run({ op: 'subset-sweep-summary', key, input, rows: parts.flat() } satisfies ChunkTask, signal);
+      } else if (check.kind === 'holdout' && check.mode === 'split') {
+        result = await pool.run({ op: 'holdout-split', key, input: check.input } satisfies ChunkTask, signal);
+        record(1);
+      } else if (check.kind === 'holdout') {
+        const input = check.input;
+        const parts = await mapLimited(ranges, limit, async ([from, to]) => {
+          const r = await pool.run<HoldoutBlocks>({ op: 'holdout-rolling', key, input, from, to }, signal);
+          record(to - from);
+          return r;
+        });
+        result = await pool.run({ op: 'holdout-rolling-summary', key, input, parts } satisfies ChunkTask, signal);
       } else {
         const input = check.input;
         const parts = await mapLimited(ranges, limit, async ([from, to]) => {

@@ -10,7 +10,9 @@ import {
   evaluateSubsets,
   estimateWindows,
   prepareBootstrap,
+  holdoutPricing,
   prepareSubsetSweep,
+  rollingHoldout,
   runBootstrapDraws,
   summariseBootstrap,
   summariseRolling,
@@ -18,6 +20,10 @@ import {
   type BootstrapBatch,
   type BootstrapInput,
   type BootstrapPlan,
+  type HoldoutInput,
+  type RollingHoldoutInput,
+  type RollingHoldoutResult,
+  type RollingHoldoutRow,
   type RollingInput,
   type RollingPoint,
   type SubsetSweepInput,
@@ -32,7 +38,71 @@ export type ChunkTask =
   | { op: 'subset-sweep'; key: string; input: SubsetSweepInput; from: number; to: number }
   | { op: 'subset-sweep-summary'; key: string; input: SubsetSweepInput; rows: SweepRow[] }
   | { op: 'rolling'; key: string; input: RollingInput; from: number; to: number }
-  | { op: 'rolling-summary'; key: string; input: RollingInput; points: RollingPoint[] };
+  | { op: 'rolling-summary'; key: string; input: RollingInput; points: RollingPoint[] }
+  | { op: 'holdout-split'; key: string; input: HoldoutInput }
+  | { op: 'holdout-rolling'; key: string; input: RollingHoldoutInput; from: number; to: number }
+  | { op: 'holdout-rolling-summary'; key: string; input: RollingHoldoutInput; parts: HoldoutBlocks[] };
+
+/** Blocks [from, to) of a rolling hold-out, with each block's α₂'α₂ and m₂'m₂ for pooling. */
+export interface HoldoutBlocks {
+  readonly rows: RollingHoldoutRow[];
+  readonly sse: number[];
+  readonly sst: number[];
+}
+
+/**
+ * Blocks j ∈ [from, to) of the rolling hold-out (windows [j·h, j·h + n), blocks of h periods after
+ * each): lib/gmm's rollingHoldout on the rows [from·h, (to − 1)·h + n + h), which holds exactly
+ * those windows and blocks; the rows' indices are shifted back to the whole sample.
+ */
+export function holdoutRollingBlocks(input: RollingHoldoutInput, from: number, to: number): HoldoutBlocks {
+  const { length, step } = input.window;
+  const T = input.returns.length;
+  const a = from * step;
+  const b = Math.min(T, (to - 1) * step + length + step);
+  const part = rollingHoldout({
+    ...input,
+    returns: input.returns.slice(a, b),
+    factors: input.factors.slice(a, b),
+    ...(input.dates ? { dates: input.dates.slice(a, b) } : {}),
+    window: { kind: 'rolling', length, step },
+  });
+  const rows = part.rows.map((r) => ({ ...r, start: r.start + a, end: r.end + a, blockEnd: r.blockEnd + a }));
+  const sse = rows.map((r) => r.alpha.reduce((s, x) => s + x * x, 0));
+  const sst = rows.map((r) => {
+    if (!r.ok) return 0;
+    const N = r.alpha.length;
+    let out = 0;
+    for (let i = 0; i < N; i++) {
+      let m = 0;
+      for (let t = r.end; t < r.blockEnd; t++) m += input.returns[t][i];
+      m /= r.blockEnd - r.end;
+      out += m * m;
+    }
+    return out;
+  });
+  return { rows, sse, sst };
+}
+
+/** The rolling hold-out's result from its chunks (the same numbers rollingHoldout gives on the whole sample). */
+export function summariseHoldoutBlocks(input: RollingHoldoutInput, parts: readonly HoldoutBlocks[]): RollingHoldoutResult {
+  const rows = parts.flatMap((p) => p.rows);
+  const sse = parts.flatMap((p) => p.sse);
+  const sst = parts.flatMap((p) => p.sst);
+  let e = 0;
+  let m = 0;
+  let abs = 0;
+  let ok = 0;
+  rows.forEach((r, j) => {
+    if (!r.ok) return;
+    e += sse[j];
+    m += sst[j];
+    abs += r.meanAbsAlpha ?? 0;
+    ok += 1;
+  });
+  const first = rollingHoldout({ ...input, returns: input.returns.slice(0, input.window.length + 2), factors: input.factors.slice(0, input.window.length + 2), dates: input.dates?.slice(0, input.window.length + 2) });
+  return { ...first, rows, pooledR2oos: ok > 0 && m > 0 ? 1 - e / m : null, meanAbsAlpha: ok > 0 ? abs / ok : null };
+}
 
 const plans = new Map<string, BootstrapPlan | SweepPlan>();
 function cached<T extends BootstrapPlan | SweepPlan>(key: string, make: () => T): T {
@@ -71,6 +141,15 @@ export function runChunk(task: ChunkTask): unknown {
       return estimateWindows(task.input, task.from, task.to);
     case 'rolling-summary':
       return summariseRolling(task.input, task.points);
+    case 'holdout-split': {
+      const r = holdoutPricing(task.input);
+      if (!r.ok) throw new Error(`The hold-out could not be estimated: ${r.message}`);
+      return { mode: 'split', ...r };
+    }
+    case 'holdout-rolling':
+      return holdoutRollingBlocks(task.input, task.from, task.to);
+    case 'holdout-rolling-summary':
+      return { mode: 'rolling', ...summariseHoldoutBlocks(task.input, task.parts) };
   }
 }
 

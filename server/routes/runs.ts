@@ -55,7 +55,7 @@ export function registerRunRoutes(api: ApiRouter, deps: AppDeps, runner: JobRunn
   // Registered before /runs/:id so that "compare" is not read as an id.
   api.get('/runs/compare', 'signed-in', (req: Request, res: Response) => {
     const q = parseOr400(compareQuerySchema, req.query, 'compare request');
-    res.json(compareRuns(db, currentUser(req), q.a, q.b));
+    res.json(compareRuns(db, currentUser(req), q.a, q.b, q.require));
   });
 
   api.get('/runs/:id', 'signed-in', (req: Request, res: Response) => {

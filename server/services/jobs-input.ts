@@ -8,6 +8,7 @@ import { KeelsonApiError } from '../../shared/errors';
 import { modelSpecSchema, type ModelSpec } from '../../shared/specs';
 import {
   bootstrapParamsSchema,
+  holdoutParamsSchema,
   rollingParamsSchema,
   subsetSweepParamsSchema,
   type JobKind,
@@ -17,18 +18,26 @@ import {
   GmmInputError,
   GmmNumericalError,
   prepareBootstrap,
+  resolveLag,
+  resolveSplit,
   rollingWindows,
   type BootstrapInput,
+  type HoldoutInput,
+  type RollingHoldoutInput,
   type RollingInput,
   type SubsetSweepInput,
 } from '../../lib/gmm/index';
 import { loadEditionData } from './edition-data';
 import { buildLedgerInput, RunDataError } from './runs';
+import { splitIndexOf } from './holdout-split';
 
 export type CheckInput =
   | { kind: 'bootstrap'; input: BootstrapInput; total: number }
   | { kind: 'subset-sweep'; input: SubsetSweepInput; total: number }
-  | { kind: 'rolling'; input: RollingInput; total: number };
+  | { kind: 'rolling'; input: RollingInput; total: number }
+  /** One split (total 1), or the rolling hold-out with one unit of progress per priced block. */
+  | { kind: 'holdout'; mode: 'split'; input: HoldoutInput; total: number }
+  | { kind: 'holdout'; mode: 'rolling'; input: RollingHoldoutInput; total: number };
 
 export interface RunForCheck {
   id: number;
@@ -130,6 +139,8 @@ export function buildCheckInput(db: Db, run: RunForCheck, kind: JobKind, rawPara
       dropSet: undefined,
     };
     const { input } = build(sweepSpec);
+    // The edition's traded flags for the squared-Sharpe ranking of the subsets (traded candidates only).
+    const traded = candidates.map((c) => kindOf.get(c)!.traded);
     if (input.returns.length <= input.assetNames.length + candidates.length)
       unprocessable(`T = ${input.returns.length} periods is too few for N = ${input.assetNames.length} assets and ${candidates.length} candidates.`);
     return {
@@ -139,6 +150,7 @@ export function buildCheckInput(db: Db, run: RunForCheck, kind: JobKind, rawPara
         returns: input.returns,
         factors: input.factors,
         factorNames: candidates,
+        traded,
         options: {
           lags: spec.lags,
           form: spec.form,
@@ -152,6 +164,7 @@ export function buildCheckInput(db: Db, run: RunForCheck, kind: JobKind, rawPara
       },
     };
   }
+  if (kind === 'holdout') return holdoutCheckInput(spec, build(spec), rawParams);
   const p = rollingParamsSchema.parse(rawParams);
   const { input, dates } = build(spec);
   const T = input.returns.length;
@@ -178,4 +191,68 @@ export function buildCheckInput(db: Db, run: RunForCheck, kind: JobKind, rawPara
       options: { stage: spec.stage, weighting: spec.weighting, lags: spec.lags, form: spec.form, factorMeansKnown: spec.factorMeansKnown, level: spec.level },
     },
   };
+}
+
+/**
+ * The hold-out check of a run's model (lib/gmm holdout.ts; Kozak, Nagel and Santosh 2020): the
+ * run's frozen spec (stage, weighting, lag, form, factor means) estimates b̂ before the split and
+ * prices the periods after it. Refusals (422, before any job is written): a split outside the
+ * sample or leaving fewer than N + K + 1 periods on either side; a rolling window shorter than
+ * N + K + 1 or too short for the run's lag, or leaving no block to price.
+ */
+export function holdoutCheckInput(
+  spec: ModelSpec,
+  built: { input: { returns: readonly (readonly number[])[]; factors: readonly (readonly number[])[]; factorNames: readonly string[]; assetNames: readonly string[] }; dates: string[] },
+  rawParams: unknown,
+): Extract<CheckInput, { kind: 'holdout' }> {
+  const p = holdoutParamsSchema.parse(rawParams);
+  const { input, dates } = built;
+  const T = input.returns.length;
+  const N = input.assetNames.length;
+  const K = input.factorNames.length;
+  const options = { stage: spec.stage, weighting: spec.weighting, lags: spec.lags, form: spec.form, factorMeansKnown: spec.factorMeansKnown };
+  const base = { returns: input.returns, factors: input.factors, factorNames: input.factorNames, assetNames: input.assetNames, dates, options };
+  const gmm = <R>(f: () => R, path: string[]): R => {
+    try {
+      return f();
+    } catch (e) {
+      if (e instanceof GmmInputError) unprocessable(e.message, path);
+      throw e;
+    }
+  };
+  if (p.mode === 'split') {
+    let index = Math.floor((p.fraction ?? 0) * T);
+    if (p.from !== undefined) {
+      const at = splitIndexOf(dates, p.from);
+      if ('error' in at) unprocessable(at.error, ['params', 'from']);
+      index = at.index;
+    }
+    const path = ['params', p.from !== undefined ? 'from' : 'fraction'];
+    gmm(() => resolveSplit({ index }, T, N, K), path);
+    gmm(() => resolveLag(spec.lags, index), path);
+    return { kind: 'holdout', mode: 'split', total: 1, input: { ...base, split: { index } } };
+  }
+  const length = p.length!;
+  const step = p.step ?? 12;
+  if (length < N + K + 1) unprocessable(`A window of ${length} periods is too short for N = ${N} assets and K = ${K} factors: use at least ${N + K + 1}.`, ['params', 'length']);
+  if (length > T - 2) unprocessable(`A window of ${length} periods leaves ${Math.max(0, T - length)} of the run's T = ${T} periods to price; the first hold-out block needs at least 2.`, ['params', 'length']);
+  if (typeof spec.lags === 'number' && 4 * spec.lags >= length)
+    unprocessable(
+      `A window of ${length} periods is too short for the run's HAC lag of ${spec.lags}: the lag must be below a quarter of the window, so use at least ${4 * spec.lags + 1} periods.`,
+      ['params', 'length'],
+    );
+  return { kind: 'holdout', mode: 'rolling', total: holdoutBlocks(T, length, step).length, input: { ...base, window: { kind: 'rolling', length, step } } };
+}
+
+/** The rolling hold-out's blocks: window [s, s + n), priced block [s + n, min(T, s + n + h)), s = 0, h, 2h, … (blocks of at least 2 periods). */
+export function holdoutBlocks(T: number, length: number, step: number): { start: number; end: number; blockEnd: number }[] {
+  const out: { start: number; end: number; blockEnd: number }[] = [];
+  for (let s = 0; ; s += step) {
+    const end = s + length;
+    const blockEnd = Math.min(T, end + step);
+    if (blockEnd - end < 2) break;
+    out.push({ start: s, end, blockEnd });
+    if (blockEnd >= T) break;
+  }
+  return out;
 }

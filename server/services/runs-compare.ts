@@ -11,6 +11,12 @@
  * stage computed from the larger model's first-stage estimate, i.e. the larger spec estimated at
  * stage 'second' with the same first-stage weighting.
  *
+ * Model comparison (any two factor sets, nested or not): on the same edition, test assets and
+ * window, with every factor traded, the squared-Sharpe z test of θ̂_A − θ̂_B (model-compare.ts;
+ * Barillas, Kan, Robotti and Shanken 2020), or for nested sets the joint spanning test of the
+ * extra factors. A pair it does not apply to gets `sharpe: null` and the reason in
+ * `sharpeRefusal`; with `require=sharpe` the request is refused (422) instead.
+ *
  * The response also names each run's basis and the basis its verdicts rest on, with a note when
  * the two differ (the verdicts are then not like for like); the nested test does not depend on it.
  */
@@ -19,8 +25,9 @@ import type { User } from '../../shared/auth';
 import type { CompareResponse, NestedTest, Run } from '../../shared/runs';
 import type { ModelSpec } from '../../shared/specs';
 import { KeelsonApiError } from '../../shared/errors';
-import { estimate, getRun } from './runs';
+import { buildLedgerInput, estimate, getRun, RunDataError } from './runs';
 import { loadEditionData } from './edition-data';
+import { compareFactorModels, refusedComparison, type ModelComparison } from './model-compare';
 
 const sameSet = (a: readonly string[], b: readonly string[]) => a.length === b.length && a.every((x) => b.includes(x));
 
@@ -65,7 +72,43 @@ export function nestedTest(db: Db, a: Run, b: Run): NestedTest {
   return { ...base, reason: t ? null : 'The drop test could not be computed.', test: t ? { stat: t.stat, df: t.df, p: t.p } : null };
 }
 
-export function compareRuns(db: Db, user: User, aId: number, bId: number): CompareResponse {
+/**
+ * The squared-Sharpe comparison of two runs' factor sets (see the module comment). The estimation
+ * options (stage, weighting, form) do not enter: θ̂ depends on the factors alone. The HAC lag is
+ * the runs' own, so it must be the same in both.
+ */
+export function sharpeComparison(db: Db, a: Run, b: Run): ModelComparison {
+  if (a.status !== 'finished' || b.status !== 'finished' || !a.result || !b.result) return refusedComparison('Both runs must have finished before their models can be compared.', 'conflict');
+  if (a.editionId !== b.editionId)
+    return refusedComparison(
+      `The runs use different library editions (run #${a.id}: ${a.libraryName} edition ${a.editionNumber}; run #${b.id}: ${b.libraryName} edition ${b.editionNumber}). The Sharpe comparison needs both models on the same data: run one model again on the other's edition.`,
+    );
+  if (!sameSet(a.spec.assets, b.spec.assets)) return refusedComparison(`The runs use different test assets (run #${a.id}: ${a.spec.assets.length}, run #${b.id}: ${b.spec.assets.length}). Compare models estimated on the same test assets.`);
+  const win = (r: Run) => `${r.spec.window?.start ?? 'first period'} – ${r.spec.window?.end ?? 'last period'}`;
+  if (a.result.T !== b.result.T || win(a) !== win(b))
+    return refusedComparison(`The runs use different sample windows (run #${a.id}: ${win(a)}, T = ${a.result.T}; run #${b.id}: ${win(b)}, T = ${b.result.T}). The test needs the same periods for both models.`);
+  if (a.result.lags !== b.result.lags)
+    return refusedComparison(`The runs use different HAC lags (${a.result.lags} and ${b.result.lags}); the test's standard error needs one lag for both models.`);
+  for (const r of [a, b]) {
+    const nt = r.spec.factors.find((f) => r.spec.nonTraded.includes(f));
+    if (nt)
+      return refusedComparison(
+        `'${nt}' in run #${r.id} is not a traded factor. The squared Sharpe ratio compares models whose factors are all excess returns (long-short or market-minus-cash portfolios); compare such models by how they price the test assets (J, HJ distance, pricing errors) instead.`,
+      );
+  }
+  if (sameSet(a.spec.factors, b.spec.factors)) return refusedComparison('The two runs have the same factors: there is no model comparison to make.');
+  const union = [...new Set([...a.spec.factors, ...b.spec.factors])];
+  let factors: readonly (readonly number[])[];
+  try {
+    factors = buildLedgerInput({ ...a.spec, factors: union, nonTraded: [], dropSet: undefined }, loadEditionData(db, a.editionId)).input.factors;
+  } catch (e) {
+    if (e instanceof RunDataError || e instanceof KeelsonApiError) return refusedComparison(e.message);
+    throw e;
+  }
+  return compareFactorModels({ factors, factorNames: union, traded: union.map(() => true), lags: a.result.lags, modelA: a.spec.factors, modelB: b.spec.factors });
+}
+
+export function compareRuns(db: Db, user: User, aId: number, bId: number, require?: 'sharpe'): CompareResponse {
   if (aId === bId) throw new KeelsonApiError('bad_request', 'Pick two different runs to compare');
   const a = getRun(db, user, aId);
   const b = getRun(db, user, bId);
@@ -80,5 +123,7 @@ export function compareRuns(db: Db, user: User, aId: number, bId: number): Compa
       .filter((r) => r.result && r.result.basis !== r.result.verdictBasis)
       .map((r) => `run #${r.id} asks for ${r.result!.basis} and shows ${r.result!.verdictBasis} until it is ready`)
       .join('; ')}.`;
-  return { a, b, nested: nestedTest(db, a, b), bases: { a: ba, b: bb }, basisNote };
+  const model = sharpeComparison(db, a, b);
+  if (require === 'sharpe' && model.sharpeRefusal) throw new KeelsonApiError(model.sharpeRefusal.code === 'conflict' ? 'conflict' : 'unprocessable', model.sharpeRefusal.message);
+  return { a, b, nested: nestedTest(db, a, b), bases: { a: ba, b: bb }, basisNote, ...model };
 }

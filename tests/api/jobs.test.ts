@@ -125,9 +125,12 @@ describe('deep checks on a finished run', () => {
       returns,
       factors: F,
       factorNames: ['MKT', 'ECHO', 'CLIMA'],
+      // the edition's traded flags reach the sweep (squared-Sharpe ranking of the traded candidates)
+      traded: [true, true, false],
       options: { lags: 'auto', form: 'centred', factorMeansKnown: false, weighting: 'identity', level: 0.05, topPerSize: 5 },
     });
     expect(fin.result).toEqual(JSON.parse(JSON.stringify(direct)));
+    expect(direct.thetaRanking!.candidates).toEqual(['MKT', 'ECHO']);
     // known truth of the fixture: MKT alone prices the assets
     const r = fin.result as typeof direct;
     expect(r.bestByHj[0].models[0].factors).toEqual(['MKT']);

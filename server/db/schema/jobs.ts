@@ -15,7 +15,7 @@ export const jobs = sqliteTable(
   'jobs',
   {
     id: integer('id').primaryKey({ autoIncrement: true }),
-    kind: text('kind', { enum: ['bootstrap', 'subset-sweep', 'rolling'] }).notNull(),
+    kind: text('kind', { enum: ['bootstrap', 'subset-sweep', 'rolling', 'holdout'] }).notNull(),
     runId: integer('run_id')
       .notNull()
       .references(() => runs.id),
