@@ -1,5 +1,6 @@
 /** Fetchers for return libraries (see shared/libraries.ts for the shapes). */
-import { apiRequest } from './client';
+import { apiRequest, newIdempotencyKey } from './client';
+import { editionMetaResponseSchema } from '../shared/edition-meta';
 import {
   confirmResponseSchema,
   editionDataResponseSchema,
@@ -30,6 +31,11 @@ export async function getEditionData(id: number, n: number) {
   return apiRequest(`/libraries/${id}/editions/${n}/data`, { schema: editionDataResponseSchema });
 }
 
+/** An edition's series names, kinds, traded flags and dates, without values. */
+export async function getEditionMeta(id: number, n: number) {
+  return (await apiRequest(`/libraries/${id}/editions/${n}/meta`, { schema: editionMetaResponseSchema })).meta;
+}
+
 /** Same-origin URL of an edition's CSV export (the session cookie authorises the download). */
 export function exportUrl(id: number, n: number): string {
   return `/api/v1/libraries/${id}/editions/${n}/export.csv`;
@@ -51,8 +57,9 @@ export async function discardUpload(id: string) {
   await apiRequest(`/libraries/uploads/${encodeURIComponent(id)}`, { method: 'DELETE' });
 }
 
-export async function confirmUpload(id: string, body: ConfirmUploadBody) {
-  return apiRequest(`/libraries/uploads/${encodeURIComponent(id)}/confirm`, { method: 'POST', body, schema: confirmResponseSchema });
+/** Confirms a reviewed upload (creates the library or its next edition); one key per press of the confirm button. */
+export async function confirmUpload(id: string, body: ConfirmUploadBody, idempotencyKey = newIdempotencyKey()) {
+  return apiRequest(`/libraries/uploads/${encodeURIComponent(id)}/confirm`, { method: 'POST', body, schema: confirmResponseSchema, idempotencyKey });
 }
 
 export async function publishLibrary(id: number) {

@@ -1,6 +1,6 @@
 /** Fetchers for runs, exports, compare and review. */
 import { z } from 'zod';
-import { apiRequest } from './client';
+import { apiRequest, newIdempotencyKey } from './client';
 import {
   compareResponseSchema,
   reviewQueueSchema,
@@ -25,8 +25,9 @@ export async function listRuns(q: Partial<RunListQuery> = {}) {
 export async function getRun(id: number) {
   return (await apiRequest(`/runs/${id}`, { schema: runResponseSchema })).run;
 }
-export async function createRun(body: CreateRunBody) {
-  return (await apiRequest('/runs', { method: 'POST', body, schema: runResponseSchema })).run;
+/** Starts a run; one Idempotency-Key per user action (a repeated request answers with the same run). */
+export async function createRun(body: CreateRunBody, idempotencyKey = newIdempotencyKey()) {
+  return (await apiRequest('/runs', { method: 'POST', body, schema: runResponseSchema, idempotencyKey })).run;
 }
 export async function compareRuns(a: number, b: number) {
   return apiRequest(`/runs/compare?a=${a}&b=${b}`, { schema: compareResponseSchema });

@@ -6,9 +6,18 @@ import { useCallback, useState } from 'react';
 import type { FieldValues, Path, UseFormSetError } from 'react-hook-form';
 import { KeelsonApiError } from '../shared/errors';
 
+/** The longest of `known` that is a leading part of `path` in dotted form (`['spec','assets',0]` → `spec.assets`), or ''. */
+function fieldOf(path: readonly (string | number)[], known: ReadonlySet<string>): string {
+  for (let k = path.length; k > 0; k--) {
+    const name = path.slice(0, k).map(String).join('.');
+    if (known.has(name)) return name;
+  }
+  return '';
+}
+
 /**
- * Puts each issue whose path starts with one of `fields` onto that field (the first message per field
- * wins). Returns the error to show above the button: null when every issue found its field, else the
+ * Puts each issue whose path starts with one of `fields` (dotted names for nested fields, e.g.
+ * `spec.assets`) onto that field (the first message per field wins). Returns the error to show above the button: null when every issue found its field, else the
  * error itself (a message with no issues, or issues for no known field).
  */
 export function placeServerIssues<F extends FieldValues>(error: unknown, setError: UseFormSetError<F>, fields: readonly Path<F>[]): unknown {
@@ -17,8 +26,8 @@ export function placeServerIssues<F extends FieldValues>(error: unknown, setErro
   const seen = new Set<string>();
   let unplaced = 0;
   for (const issue of error.issues) {
-    const name = issue.path.length ? String(issue.path[0]) : '';
-    if (!known.has(name)) {
+    const name = fieldOf(issue.path, known);
+    if (!name) {
       unplaced += 1;
       continue;
     }

@@ -1,5 +1,9 @@
-/** TanStack Query hooks for return libraries. */
-import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
+/**
+ * TanStack Query hooks for return libraries. Keys come only from `libraryKeys`; a missing or
+ * invalid id is `skipToken` (the query is idle, never pending forever); lists keep the previous
+ * answer on screen while a new filter loads.
+ */
+import { keepPreviousData, skipToken, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type { KeelsonApiError } from '../shared/errors';
 import type { ConfirmResponse, ConfirmUploadBody, LibraryDetail, LibraryListQuery, Upload } from '../shared/libraries';
 import {
@@ -9,6 +13,7 @@ import {
   discardUpload,
   getEdition,
   getEditionData,
+  getEditionMeta,
   getLibrary,
   getUpload,
   listLibraries,
@@ -23,18 +28,27 @@ export const libraryKeys = {
   one: (id: number) => ['libraries', 'one', id] as const,
   edition: (id: number, n: number) => ['libraries', 'edition', id, n] as const,
   data: (id: number, n: number) => ['libraries', 'edition-data', id, n] as const,
+  /** Series names, kinds and dates of an edition, without values (the spec form's read). */
+  meta: (id: number, n: number) => ['libraries', 'edition-meta', id, n] as const,
   upload: (id: string) => ['libraries', 'upload', id] as const,
 };
 
-export const useLibraries = (q: Partial<LibraryListQuery>) => useQuery({ queryKey: libraryKeys.list(q), queryFn: () => listLibraries(q) });
+/** True for a usable id: a positive whole number. */
+export const isId = (id: number | undefined): id is number => id !== undefined && Number.isSafeInteger(id) && id > 0;
+
+export const useLibraries = (q: Partial<LibraryListQuery>) =>
+  useQuery({ queryKey: libraryKeys.list(q), queryFn: () => listLibraries(q), placeholderData: keepPreviousData });
 export const useLibrary = (id: number | undefined) =>
-  useQuery({ queryKey: libraryKeys.one(id ?? 0), queryFn: () => getLibrary(id!), enabled: !!id });
+  useQuery({ queryKey: libraryKeys.one(id ?? 0), queryFn: isId(id) ? () => getLibrary(id) : skipToken });
 export const useEdition = (id: number | undefined, n: number | undefined) =>
-  useQuery({ queryKey: libraryKeys.edition(id ?? 0, n ?? 0), queryFn: () => getEdition(id!, n!), enabled: !!id && !!n });
+  useQuery({ queryKey: libraryKeys.edition(id ?? 0, n ?? 0), queryFn: isId(id) && isId(n) ? () => getEdition(id, n) : skipToken });
 export const useEditionData = (id: number | undefined, n: number | undefined, enabled = true) =>
-  useQuery({ queryKey: libraryKeys.data(id ?? 0, n ?? 0), queryFn: () => getEditionData(id!, n!), enabled: enabled && !!id && !!n, staleTime: 5 * 60_000 });
+  useQuery({ queryKey: libraryKeys.data(id ?? 0, n ?? 0), queryFn: enabled && isId(id) && isId(n) ? () => getEditionData(id, n) : skipToken, staleTime: 5 * 60_000 });
+/** An edition's series and dates without values; an edition never changes, so it is kept. */
+export const useEditionMeta = (id: number | undefined, n: number | undefined) =>
+  useQuery({ queryKey: libraryKeys.meta(id ?? 0, n ?? 0), queryFn: isId(id) && isId(n) ? () => getEditionMeta(id, n) : skipToken, staleTime: Infinity });
 export const useUpload = (id: string | undefined) =>
-  useQuery({ queryKey: libraryKeys.upload(id ?? ''), queryFn: () => getUpload(id!), enabled: !!id });
+  useQuery({ queryKey: libraryKeys.upload(id ?? ''), queryFn: id ? () => getUpload(id) : skipToken });
 
 export function useUploadFile() {
   const qc = useQueryClient();
@@ -46,8 +60,8 @@ export function useUploadFile() {
 
 export function useConfirmUpload() {
   const qc = useQueryClient();
-  return useMutation<ConfirmResponse, KeelsonApiError, { id: string; body: ConfirmUploadBody }>({
-    mutationFn: ({ id, body }) => confirmUpload(id, body),
+  return useMutation<ConfirmResponse, KeelsonApiError, { id: string; body: ConfirmUploadBody; idempotencyKey?: string }>({
+    mutationFn: ({ id, body, idempotencyKey }) => confirmUpload(id, body, idempotencyKey),
     onSuccess: () => void qc.invalidateQueries({ queryKey: libraryKeys.all }),
   });
 }

@@ -24,8 +24,9 @@ export const useReviewers = (enabled = true) => useQuery({ queryKey: ['reviewers
 
 export function useCreateRun() {
   const qc = useQueryClient();
-  return useMutation<Run, KeelsonApiError, CreateRunBody>({
-    mutationFn: createRun,
+  // idempotencyKey: one per user action (createRun makes one when it is left out).
+  return useMutation<Run, KeelsonApiError, CreateRunBody & { idempotencyKey?: string }>({
+    mutationFn: ({ idempotencyKey, ...body }) => createRun(body, idempotencyKey),
     onSuccess: (run) => {
       qc.setQueryData(runKeys.one(run.id), run);
       void qc.invalidateQueries({ queryKey: ['runs', 'list'] });

@@ -1,31 +1,40 @@
-/** TanStack Query hooks for model specs and the library reads of the spec form. */
-import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
+/**
+ * TanStack Query hooks for model specs. Keys come only from `specKeys`; an invalid id is
+ * `skipToken` (idle, so the screen can say "not found" instead of loading forever); the list
+ * keeps the previous answer on screen while a new filter (mine / archived) loads.
+ */
+import { keepPreviousData, skipToken, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type { KeelsonApiError } from '../shared/errors';
 import type { ModelSpecInput, SavedSpec } from '../shared/specs';
-import { copySpec, createSpec, getEditionForSpecs, getLibraryForSpecs, getSpec, listLibrariesForSpecs, listSpecs, updateSpec } from '../api/specs';
+import { copySpec, createSpec, getSpec, listSpecs, setSpecArchived, updateSpec, type SpecListQuery } from '../api/specs';
+import { isId } from './use-libraries';
 
 export const specKeys = {
   all: ['specs'] as const,
-  list: (mine: boolean) => ['specs', 'list', mine] as const,
+  lists: ['specs', 'list'] as const,
+  list: (q: SpecListQuery) => ['specs', 'list', { mine: !!q.mine, archived: !!q.archived }] as const,
   one: (id: number) => ['specs', 'one', id] as const,
 };
 
-export const useSpecs = (mine = false) => useQuery({ queryKey: specKeys.list(mine), queryFn: () => listSpecs({ mine }) });
-export const useSpec = (id: number | undefined) => useQuery({ queryKey: specKeys.one(id ?? 0), queryFn: () => getSpec(id!), enabled: !!id });
+export const useSpecs = (q: SpecListQuery = {}) => useQuery({ queryKey: specKeys.list(q), queryFn: () => listSpecs(q), placeholderData: keepPreviousData });
+export const useSpec = (id: number | undefined) => useQuery({ queryKey: specKeys.one(id ?? 0), queryFn: isId(id) ? () => getSpec(id) : skipToken });
 
-export const useSpecLibraries = () => useQuery({ queryKey: ['libraries', 'for-specs'], queryFn: listLibrariesForSpecs });
-export const useSpecLibrary = (id: number | undefined) =>
-  useQuery({ queryKey: ['libraries', 'for-specs', id], queryFn: () => getLibraryForSpecs(id!), enabled: !!id });
-export const useSpecEdition = (libraryId: number | undefined, n: number | undefined) =>
-  useQuery({ queryKey: ['libraries', 'edition-data', libraryId, n], queryFn: () => getEditionForSpecs(libraryId!, n!), enabled: !!libraryId && !!n, staleTime: 5 * 60_000 });
+export interface SaveSpecVars {
+  /** Set: change this spec (PUT); unset: create one (POST, with `idempotencyKey`). */
+  id?: number;
+  name: string;
+  editionId: number;
+  spec: ModelSpecInput;
+  idempotencyKey?: string;
+}
 
 export function useSaveSpec() {
   const qc = useQueryClient();
-  return useMutation<SavedSpec, KeelsonApiError, { id?: number; name: string; editionId: number; spec: ModelSpecInput }>({
-    mutationFn: ({ id, ...body }) => (id ? updateSpec(id, body) : createSpec(body)),
+  return useMutation<SavedSpec, KeelsonApiError, SaveSpecVars>({
+    mutationFn: ({ id, idempotencyKey, ...body }) => (id ? updateSpec(id, body) : createSpec(body, idempotencyKey)),
     onSuccess: (s) => {
       qc.setQueryData(specKeys.one(s.id), s);
-      void qc.invalidateQueries({ queryKey: specKeys.all });
+      void qc.invalidateQueries({ queryKey: specKeys.lists });
     },
   });
 }
@@ -34,6 +43,18 @@ export function useCopySpec() {
   const qc = useQueryClient();
   return useMutation<SavedSpec, KeelsonApiError, { id: number; name?: string }>({
     mutationFn: ({ id, name }) => copySpec(id, name),
-    onSuccess: () => void qc.invalidateQueries({ queryKey: specKeys.all }),
+    onSuccess: () => void qc.invalidateQueries({ queryKey: specKeys.lists }),
+  });
+}
+
+/** Archive (`archived: true`) or restore a spec; the lists and the spec refresh. */
+export function useArchiveSpec() {
+  const qc = useQueryClient();
+  return useMutation<SavedSpec, KeelsonApiError, { id: number; archived: boolean }>({
+    mutationFn: ({ id, archived }) => setSpecArchived(id, archived),
+    onSuccess: (s) => {
+      qc.setQueryData(specKeys.one(s.id), s);
+      void qc.invalidateQueries({ queryKey: specKeys.lists });
+    },
   });
 }

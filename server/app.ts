@@ -28,6 +28,7 @@ import { registerSpecRoutes } from './routes/specs';
 import { registerRunRoutes } from './routes/runs';
 import { registerReviewRoutes } from './routes/review';
 import { registerLibraryRoutes } from './routes/libraries';
+import { registerEditionMetaRoutes } from './routes/edition-meta';
 import { registerDocsRoutes } from './routes/docs';
 
 export interface AppOptions {
@@ -186,6 +187,7 @@ export function createApp(opts: AppOptions): KeelsonApp {
   registerRunRoutes(api, deps, jobRunner);
   registerReviewRoutes(api, deps);
   registerLibraryRoutes(api, deps);
+  registerEditionMetaRoutes(api, deps);
   registerDocsRoutes(api);
   api.router.use(notFoundApi);
   api.router.use(errorHandler);

@@ -7,6 +7,14 @@ import { LinkCard, type LinkCardProps } from '../../components/link-card';
 import { Screen } from '../../components/screen';
 import { space } from '../../components/theme';
 
+/** Every role reads how the numbers are made. */
+const METHODS: LinkCardProps = {
+  title: 'Methods',
+  body: 'How Keelson estimates b and λ, which standard errors each basis uses, and the sources behind every test.',
+  action: 'Read the methods',
+  href: '/methods',
+};
+
 function nextSteps(user: User): LinkCardProps[] {
   const libraries: LinkCardProps = {
     title: 'Return libraries',
@@ -50,7 +58,7 @@ export default function Home() {
   return (
     <Screen title={`Welcome, ${first}`} subtitle={`Signed in as ${ROLE_LABELS[me.role].toLowerCase()}. What you can do next:`}>
       <View style={styles.grid}>
-        {nextSteps(me).map((s) => (
+        {[...nextSteps(me), METHODS].map((s) => (
           <LinkCard key={s.title} {...s} />
         ))}
       </View>

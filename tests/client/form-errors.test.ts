@@ -45,4 +45,27 @@ describe('placeServerIssues', () => {
     expect(placeServerIssues<Form>(network, setError, FIELDS)).toBe(network);
     expect(calls.length).toBe(1);
   });
+
+  it('puts a nested path on the longest dotted field it starts with (spec form: spec.assets, spec.bootstrap)', () => {
+    type SpecForm = { name: string; spec: { assets: string[]; bootstrap: { blockLength: number } } };
+    const fields = ['name', 'spec', 'spec.assets', 'spec.bootstrap'] as const;
+    const calls: [string, string][] = [];
+    const setError = ((name: string, err: { message?: string }) => calls.push([name, err.message ?? ''])) as unknown as Parameters<typeof placeServerIssues<SpecForm>>[1];
+    const err = new KeelsonApiError(
+      'unprocessable',
+      'The spec does not fit edition 1',
+      [
+        { path: ['spec', 'assets', 0], message: "The edition has no series 'X'" },
+        { path: ['spec', 'bootstrap', 'blockLength'], message: 'A bootstrap block of 90 periods is too long' },
+        { path: ['spec', 'lags'], message: 'A HAC lag of 40 is too long' },
+      ],
+      422,
+    );
+    expect(placeServerIssues<SpecForm>(err, setError, fields)).toBeNull();
+    expect(calls).toEqual([
+      ['spec.assets', "The edition has no series 'X'"],
+      ['spec.bootstrap', 'A bootstrap block of 90 periods is too long'],
+      ['spec', 'A HAC lag of 40 is too long'],
+    ]);
+  });
 });

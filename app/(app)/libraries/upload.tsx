@@ -48,16 +48,15 @@ function UploadFlow() {
         </Card>
       ) : (
         <LibraryReview
+          key={target.data?.id ?? 'new'}
           upload={upload}
           target={target.data ? { id: target.data.id, name: target.data.name, visibility: target.data.visibility } : undefined}
           canShare={me?.role === 'admin'}
           busy={confirm.isPending}
-          error={confirm.error}
           onConfirm={(body) =>
-            confirm.mutate(
-              { id: upload.id, body },
-              { onSuccess: (r) => router.replace({ pathname: '/libraries/[id]', params: { id: String(r.library.id), edition: String(r.edition.number) } }) },
-            )
+            confirm
+              .mutateAsync({ id: upload.id, body })
+              .then((r) => router.replace({ pathname: '/libraries/[id]', params: { id: String(r.library.id), edition: String(r.edition.number) } }))
           }
           onDiscard={() => {
             discard.mutate(upload.id);

@@ -5,29 +5,31 @@ import { SpecForm, type SpecFormSubmit } from '../../../components/spec-form';
 import { useCreateRun } from '../../../hooks/use-runs';
 import { useSaveSpec } from '../../../hooks/use-specs';
 
-/** New model spec: save it, save and run it, or run it once without saving. */
+/**
+ * New model spec: save it, save and run it, or run it once without saving. Each POST carries the
+ * form's Idempotency-Key for the action, so a repeated press or a retry creates one spec and one run.
+ */
 export default function NewSpec() {
   const save = useSaveSpec();
   const run = useCreateRun();
-  const onSubmit = (v: SpecFormSubmit) => {
+  const onSubmit = async (v: SpecFormSubmit) => {
     if (v.action === 'run') {
-      run.mutate({ editionId: v.editionId, spec: v.spec, name: v.name }, { onSuccess: (r) => router.push(`/runs/${r.id}`) });
+      const r = await run.mutateAsync({ editionId: v.editionId, spec: v.spec, name: v.name, idempotencyKey: v.keys.run });
+      router.push(`/runs/${r.id}`);
       return;
     }
-    save.mutate(
-      { name: v.name, editionId: v.editionId, spec: v.spec },
-      {
-        onSuccess: (s) => {
-          if (v.action === 'save') router.push(`/specs/${s.id}`);
-          else run.mutate({ specId: s.id }, { onSuccess: (r) => router.push(`/runs/${r.id}`) });
-        },
-      },
-    );
+    const s = await save.mutateAsync({ name: v.name, editionId: v.editionId, spec: v.spec, idempotencyKey: v.keys.spec });
+    if (v.action === 'save') {
+      router.push(`/specs/${s.id}`);
+      return;
+    }
+    const r = await run.mutateAsync({ specId: s.id, idempotencyKey: v.keys.run });
+    router.push(`/runs/${r.id}`);
   };
   return (
     <RoleGate roles={['researcher', 'admin']} title="New model spec">
       <Screen title="New model spec" subtitle="Choose the data and the moment conditions; a run estimates the spec and freezes a copy of it.">
-        <SpecForm onSubmit={onSubmit} busy={save.isPending || run.isPending} error={save.error ?? run.error} />
+        <SpecForm onSubmit={onSubmit} />
       </Screen>
     </RoleGate>
   );
