@@ -251,6 +251,43 @@ describe.each(SIZES)('spec form (%s)', (size, viewport) => {
   });
 });
 
+describe('spec form: what the server still refuses', () => {
+  it('puts the issues of a refusal on the fields they name', async () => {
+    const { context, page } = await openPage(browser, WIDE);
+    await signIn(page, 'researcher');
+    await pickDemo(page);
+    await page.getByRole('button', { name: /^All \d+ test assets$/ }).click();
+    await page.getByRole('checkbox', { name: 'Factor TIDE' }).click();
+    await page.getByLabel('Spec name', { exact: true }).fill('Refused by the server');
+    // a refusal the form cannot foresee (e.g. the edition changed meanwhile), in the server's envelope
+    await page.route('**/api/v1/specs', (route) =>
+      route.request().method() === 'POST'
+        ? route.fulfill({
+            status: 422,
+            contentType: 'application/json',
+            body: JSON.stringify({
+              error: {
+                code: 'unprocessable',
+                message: "The spec does not fit edition 1 of Harbour market (demo): The edition has no series 'Skiff Amber'",
+                issues: [
+                  { path: ['spec', 'assets', 0], message: "The edition has no series 'Skiff Amber'" },
+                  { path: ['spec', 'lags'], message: 'A HAC lag of 9 is too long for T = 30 periods' },
+                ],
+              },
+            }),
+          })
+        : route.continue(),
+    );
+    await page.getByRole('button', { name: 'Save spec', exact: true }).click();
+    await page.getByText("The edition has no series 'Skiff Amber'", { exact: true }).waitFor();
+    await page.getByText('A HAC lag of 9 is too long for T = 30 periods', { exact: true }).waitFor();
+    await page.getByText('Keelson refused this spec; the reason is shown at the field above.', { exact: true }).waitFor();
+    expect(page.url()).toMatch(/\/runs\/new$/);
+    await screens(page, 'spec-form-server-issues-wide', 1);
+    await context.close();
+  });
+});
+
 describe('home', () => {
   it('links every role to the methods page', async () => {
     const { context, page } = await openPage(browser, PHONE);
