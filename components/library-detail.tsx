@@ -37,6 +37,12 @@ export function LibraryDetail({ id, edition: chosen, onSelectEdition, embedded }
   const [asking, setAsking] = useState<'share' | 'unshare' | null>(null);
 
   const Frame = embedded ? Pane : Screen;
+  if (!(Number.isSafeInteger(id) && id > 0))
+    return (
+      <Frame title="Library">
+        <EmptyState title="Library not found" body="This link names no library: ids are whole numbers such as 12." action={embedded ? undefined : <Button label="Back to libraries" href="/libraries" />} />
+      </Frame>
+    );
   if (lib.isPending) return <Frame title="Library"><ActivityIndicator color={colors.brass} accessibilityLabel="Loading library" /></Frame>;
   if (lib.isError) {
     return (

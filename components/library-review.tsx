@@ -357,6 +357,6 @@ const styles = StyleSheet.create({
   warn: { fontFamily: fonts.text, fontSize: 14, color: colors.rust, lineHeight: 20 },
   series: { flex: 1, minWidth: 0, borderWidth: 1, borderColor: colors.rule, borderRadius: radius.sm, padding: space.md, gap: space.sm, backgroundColor: colors.card },
   seriesHead: { flexDirection: 'row', alignItems: 'center', gap: space.sm, flexWrap: 'wrap' },
-  pickers: { flexDirection: 'row', flexWrap: 'wrap', gap: space.md },
+  pickers: { gap: space.sm, alignSelf: 'stretch' },
   buttons: { flexDirection: 'row', flexWrap: 'wrap', gap: space.sm, marginTop: space.sm },
 });

@@ -515,7 +515,7 @@ export function SpecForm({ initial, busy, onSubmit, saveLabel = 'Save spec', all
               <Count label="N assets" value={String(check?.N ?? 0)} bad={(check?.N ?? 0) === 0 || (!!check && check.N < check.K)} />
               <Count label="K factors" value={String(check?.K ?? 0)} bad={(check?.K ?? 0) === 0} />
               <Count label="T periods" value={String(check?.T ?? 0)} bad={!!check && check.T <= check.N + check.K} />
-              <Count label="df = N − K" value={String(check?.df ?? 0)} bad={!!check && check.df < 0} />
+              <Count label="df = N − K" value={String(check?.df ?? 0).replace('-', '\u2212')} bad={!!check && check.df < 0} />
             </View>
             {issues.length > 0 ? (
               <View style={styles.issues} role="alert" aria-label="Problems with this spec">

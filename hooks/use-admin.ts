@@ -1,5 +1,5 @@
 /** TanStack Query hooks for the admin (Team) section. */
-import { useInfiniteQuery, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
+import { keepPreviousData, useInfiniteQuery, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type { InviteBody } from '../shared/auth';
 import type { Role } from '../shared/roles';
 import type { KeelsonApiError } from '../shared/errors';
@@ -12,16 +12,18 @@ export const adminKeys = {
   invitations: ['admin', 'invitations'] as const,
   outbox: ['admin', 'outbox'] as const,
   audit: ['admin', 'audit'] as const,
+  auditPages: (limit: number) => ['admin', 'audit', limit] as const,
 };
 
-export const useAdminUsers = () => useQuery({ queryKey: adminKeys.users, queryFn: listUsers });
-export const useInvitations = () => useQuery({ queryKey: adminKeys.invitations, queryFn: listInvitations });
-export const useAdminOutbox = () => useQuery({ queryKey: adminKeys.outbox, queryFn: listOutbox });
+// Lists keep the previous answer on screen while they refetch.
+export const useAdminUsers = () => useQuery({ queryKey: adminKeys.users, queryFn: listUsers, placeholderData: keepPreviousData });
+export const useInvitations = () => useQuery({ queryKey: adminKeys.invitations, queryFn: listInvitations, placeholderData: keepPreviousData });
+export const useAdminOutbox = () => useQuery({ queryKey: adminKeys.outbox, queryFn: listOutbox, placeholderData: keepPreviousData });
 
 /** The audit log in server pages, newest first; `fetchNextPage()` loads the next older page. */
 export const useAuditLog = (limit = AUDIT_PAGE_DEFAULT) =>
   useInfiniteQuery<AuditPage, KeelsonApiError, { pages: AuditPage[] }, readonly unknown[], number | undefined>({
-    queryKey: [...adminKeys.audit, limit],
+    queryKey: adminKeys.auditPages(limit),
     queryFn: ({ pageParam }) => listAudit({ before: pageParam, limit }),
     initialPageParam: undefined,
     getNextPageParam: (last) => last.nextBefore ?? undefined,

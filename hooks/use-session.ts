@@ -1,12 +1,16 @@
 /** Session hooks: who is signed in, sign in, sign out, accept an invitation, change the password. */
 import { useEffect } from 'react';
 import { Platform } from 'react-native';
-import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
+import { skipToken, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type { User } from '../shared/auth';
 import type { KeelsonApiError } from '../shared/errors';
 import { acceptInvitation, changePassword, getInvitation, getMe, getMyOutbox, login, logout, type PasswordChangeBody } from '../api/auth';
 
-export const sessionKeys = { me: ['session', 'me'] as const, myOutbox: ['session', 'outbox'] as const };
+export const sessionKeys = {
+  me: ['session', 'me'] as const,
+  myOutbox: ['session', 'outbox'] as const,
+  invitation: (token: string) => ['session', 'invitation', token] as const,
+};
 
 const HINT_KEY = 'keelson.signed-in';
 
@@ -83,9 +87,8 @@ export function useForgetSession() {
 
 export function useInvitationPreview(token: string | undefined) {
   return useQuery({
-    queryKey: ['invitation', token],
-    queryFn: () => getInvitation(token ?? ''),
-    enabled: !!token,
+    queryKey: sessionKeys.invitation(token ?? ''),
+    queryFn: token ? () => getInvitation(token) : skipToken,
     retry: false,
   });
 }

@@ -74,6 +74,8 @@ const SENTENCES: Record<string, (who: string, d: Detail, person: (id: number) =>
   'spec.copy': (who, d) =>
     int(d.specId) ? `${who} copied model spec ${int(d.copiedFromId) ? `#${d.copiedFromId} ` : ''}as #${d.specId}.` : null,
   'spec.update': (who, d) => (int(d.specId) ? `${who} edited model spec #${d.specId}.` : null),
+  'spec.archive': (who, d) => (int(d.specId) ? `${who} archived model spec #${d.specId}.` : null),
+  'spec.restore': (who, d) => (int(d.specId) ? `${who} restored model spec #${d.specId}.` : null),
   'run.finished': (who, d) => runSentence(who, d, 'it finished'),
   'run.failed': (who, d) => runSentence(who, d, 'the data refused the model, so it is stored as failed'),
   'run.comment': (who, d) => (int(d.runId) ? `${who} commented on run #${d.runId}.` : null),

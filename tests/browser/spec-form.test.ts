@@ -31,7 +31,11 @@ afterAll(async () => {
 /** Screenshot of the viewport, then of each further screenful of the app's own scrolling view. */
 async function screens(page: Page, name: string, max = 6): Promise<void> {
   mkdirSync(SCREENS, { recursive: true });
-  await page.evaluate(() => document.fonts.ready);
+  await page.evaluate(async () => {
+    await document.fonts.ready;
+    for (const d of document.querySelectorAll('div')) if (d.scrollTop > 0) d.scrollTop = 0;
+  });
+  await page.waitForTimeout(200);
   await page.screenshot({ path: join(SCREENS, `${name}-0.png`) });
   for (let i = 1; i < max; i++) {
     const moved = await page.evaluate(() => {
@@ -146,7 +150,7 @@ describe.each(SIZES)('spec form (%s)', (size, viewport) => {
     const items = await problems.getByText(/^• /).allTextContents();
     expect(items).toHaveLength(1);
     expect(items[0]).toMatch(new RegExp(`^• ${FEWER_ASSETS_THAN_FACTORS}: N = 1 test asset, K = 3 factors`));
-    await expect(page.getByLabel('Model size').textContent()).resolves.toMatch(/df = N − K\s*-2/);
+    await expect(page.getByLabel('Model size').textContent()).resolves.toMatch(/df = N − K\s*−2/);
     await expect(page.getByText('The spec fits this edition', { exact: false }).count()).resolves.toBe(0);
     for (const name of ['Save spec and run', 'Save spec', 'Run without saving']) {
       const b = page.getByRole('button', { name, exact: true });
@@ -199,7 +203,7 @@ describe.each(SIZES)('spec form (%s)', (size, viewport) => {
     await context.close();
   });
 
-  it('says "not found" for a spec id that names nothing, instead of loading forever', async () => {
+  it('says "not found" for a spec or library id that names nothing, instead of loading forever', async () => {
     const { context, page, errors } = await openPage(browser, viewport);
     await signIn(page, 'desk');
     for (const bad of ['abc', '0x10', '999999']) {
@@ -208,6 +212,9 @@ describe.each(SIZES)('spec form (%s)', (size, viewport) => {
       await expect(page.getByText('Loading…', { exact: true }).count()).resolves.toBe(0);
     }
     await screens(page, `spec-not-found-${size}`, 1);
+    // the same for a library id that is no number
+    await page.goto('/libraries/abc');
+    await page.getByText('Library not found', { exact: true }).waitFor({ timeout: 10_000 });
     // 404 from the server is an answer, not a page error
     expect(errors.filter((e) => !/404/.test(e))).toEqual([]);
     await context.close();
@@ -240,6 +247,43 @@ describe.each(SIZES)('spec form (%s)', (size, viewport) => {
     await sw.click();
     await page.getByRole('button', { name: `Archive spec ${name}` }).waitFor();
     expect(errors).toEqual([]);
+    await context.close();
+  });
+});
+
+describe('spec form: what the server still refuses', () => {
+  it('puts the issues of a refusal on the fields they name', async () => {
+    const { context, page } = await openPage(browser, WIDE);
+    await signIn(page, 'researcher');
+    await pickDemo(page);
+    await page.getByRole('button', { name: /^All \d+ test assets$/ }).click();
+    await page.getByRole('checkbox', { name: 'Factor TIDE' }).click();
+    await page.getByLabel('Spec name', { exact: true }).fill('Refused by the server');
+    // a refusal the form cannot foresee (e.g. the edition changed meanwhile), in the server's envelope
+    await page.route('**/api/v1/specs', (route) =>
+      route.request().method() === 'POST'
+        ? route.fulfill({
+            status: 422,
+            contentType: 'application/json',
+            body: JSON.stringify({
+              error: {
+                code: 'unprocessable',
+                message: "The spec does not fit edition 1 of Harbour market (demo): The edition has no series 'Skiff Amber'",
+                issues: [
+                  { path: ['spec', 'assets', 0], message: "The edition has no series 'Skiff Amber'" },
+                  { path: ['spec', 'lags'], message: 'A HAC lag of 9 is too long for T = 30 periods' },
+                ],
+              },
+            }),
+          })
+        : route.continue(),
+    );
+    await page.getByRole('button', { name: 'Save spec', exact: true }).click();
+    await page.getByText("The edition has no series 'Skiff Amber'", { exact: true }).waitFor();
+    await page.getByText('A HAC lag of 9 is too long for T = 30 periods', { exact: true }).waitFor();
+    await page.getByText('Keelson refused this spec; the reason is shown at the field above.', { exact: true }).waitFor();
+    expect(page.url()).toMatch(/\/runs\/new$/);
+    await screens(page, 'spec-form-server-issues-wide', 1);
     await context.close();
   });
 });
