@@ -59,20 +59,20 @@ function MiniLedger({ run }: { run: Run }) {
   return (
     <View style={styles.table} role="table" aria-label={`Ledger of run ${run.id}`}>
       <View style={[styles.tr, styles.th]} role="row">
-        <Text role="columnheader" style={[styles.h, styles.nameCol, { textAlign: 'left' }]}>
+        <Text role="columnheader" style={[styles.hc, styles.nameCol, { textAlign: 'left' }]}>
           Factor
         </Text>
-        <Text role="columnheader" style={[styles.h, styles.numCol]}>
+        <Text role="columnheader" style={[styles.hc, styles.numCol]}>
           b (t)
         </Text>
-        <Text role="columnheader" style={[styles.h, styles.numCol]}>
+        <Text role="columnheader" style={[styles.hc, styles.numCol]}>
           λ, % (t)
         </Text>
-        <Text role="columnheader" style={[styles.h, styles.pCol]}>
+        <Text role="columnheader" style={[styles.hc, styles.pCol]}>
           p Holm
         </Text>
         {verdictCol ? (
-          <Text role="columnheader" style={[styles.h, styles.verdictCol, { textAlign: 'left' }]}>
+          <Text role="columnheader" style={[styles.hc, styles.verdictCol, { textAlign: 'left' }]}>
             Verdict
           </Text>
         ) : null}
@@ -164,16 +164,20 @@ function ModelTest({ data, level }: { data: CompareResponse; level: number }) {
       <View style={{ gap: space.xs }} aria-label="Squared Sharpe ratio test">
         <View style={styles.thetaRow}>
           <Text style={styles.line}>
-            θ̂ A {theta(s.a.theta)} (se {theta(s.a.se)})
+            θ A {theta(s.a.theta)} (se {theta(s.a.se)})
           </Text>
           <Text style={styles.line}>
-            θ̂ B {theta(s.b.theta)} (se {theta(s.b.se)})
+            θ B {theta(s.b.theta)} (se {theta(s.b.se)})
           </Text>
         </View>
-        <Text style={[styles.big, sig && styles.m]}>
-          A − B {theta(s.diff)} · se {theta(s.se)} · z {formatNum(s.z, 2)} · p {formatP(s.p)}
-          {sig ? '*' : ''}
-        </Text>
+        <View style={styles.thetaRow} role="group" aria-label={`A − B ${theta(s.diff)} · se ${theta(s.se)} · z ${formatNum(s.z, 2)} · p ${formatP(s.p)}${sig ? '*' : ''}`}>
+          {[`A − B ${theta(s.diff)}`, `se ${theta(s.se)}`, `z ${formatNum(s.z, 2)}`, `p ${formatP(s.p)}${sig ? '*' : ''}`].map((part, i) => (
+            <Text key={i} style={[styles.big, sig && styles.m]} numberOfLines={1}>
+              {i > 0 ? '· ' : ''}
+              {part}
+            </Text>
+          ))}
+        </View>
         <Text style={text.body}>
           {sig
             ? `Model ${higher}'s factors reach a significantly higher squared Sharpe ratio at ${level}: with traded factors, that model prices the other's factors and the test assets better.`
@@ -187,7 +191,7 @@ function ModelTest({ data, level }: { data: CompareResponse; level: number }) {
           <Text style={text.muted}>The models share no factor.</Text>
         )}
         <Text style={text.muted}>
-          θ̂ = μ′Σ⁻¹μ per period of each model's factors; z from the HAC standard error of the difference (lag {s.lags}, T = {s.T}); two-sided normal p. Barillas, Kan, Robotti and Shanken (2020).
+          θ: the estimated squared Sharpe ratio μ′Σ⁻¹μ per period of each model's factors; z from the HAC standard error of the difference (lag {s.lags}, T = {s.T}); two-sided normal p. Barillas, Kan, Robotti and Shanken (2020).
         </Text>
       </View>
     );
@@ -210,7 +214,7 @@ function ModelTest({ data, level }: { data: CompareResponse; level: number }) {
         </Text>
         <Text style={text.muted}>Why: {sp.reason}</Text>
         <Text style={text.muted}>
-          θ̂ A {theta(sp.a.theta)} (se {theta(sp.a.se)}) · θ̂ B {theta(sp.b.theta)} (se {theta(sp.b.se)}). Shared factors: {sp.shared.join(', ')}.
+          θ A {theta(sp.a.theta)} (se {theta(sp.a.se)}) · θ B {theta(sp.b.theta)} (se {theta(sp.b.se)}). Shared factors: {sp.shared.join(', ')}.
         </Text>
       </View>
     );
@@ -288,6 +292,7 @@ const styles = StyleSheet.create({
   table: { borderWidth: 1, borderColor: colors.rule, borderRadius: radius.md },
   tr: { flexDirection: 'row', alignItems: 'center', gap: space.sm, paddingHorizontal: space.sm, paddingVertical: 6, borderBottomWidth: 1, borderBottomColor: colors.rule },
   th: { backgroundColor: colors.paper },
+  hc: { fontFamily: fonts.textStrong, fontSize: 13, color: colors.slate, textAlign: 'right' },
   h: { flex: 1, fontFamily: fonts.textStrong, fontSize: 13, color: colors.slate, textAlign: 'right' },
   // Fixed-width number columns: no flex shorthand (its 0% basis would override the width).
   nameCol: { flexGrow: 1, flexShrink: 1, flexBasis: 64, minWidth: 48 },
