@@ -1,13 +1,17 @@
 /**
- * Results of the three deep checks: bootstrap p-values beside the asymptotic ones; the subset
- * sweep's best models per size and factor frequencies; rolling-window estimates as one chart per
- * factor with a band of ±z standard errors (victory, web SVG).
+ * Results of the deep checks: bootstrap p-values beside the asymptotic ones; the subset sweep's
+ * best models per size, factor frequencies, each candidate's adjusted p with the t ≥ 3.0 reference
+ * line, and the ranking by squared Sharpe ratio; rolling-window estimates as one chart per factor
+ * with a band of ±z standard errors; the hold-out check's pricing errors, and per block for the
+ * rolling hold-out (victory, web SVG).
  */
 import { useRef, useState, type ReactNode } from 'react';
 import { Text, View, type LayoutChangeEvent } from 'react-native';
 import { VictoryArea, VictoryAxis, VictoryBar, VictoryChart, VictoryLine } from 'victory';
 import type { BootstrapResult, RollingResult, SubsetSweepResult } from '../lib/gmm/index';
-import type { Job } from '../shared/jobs';
+import { HLZ_T_HURDLE } from '../lib/gmm/multiple-testing';
+import type { HoldoutJobResult, Job } from '../shared/jobs';
+import { formatP } from '../shared/format';
 import { Caution } from './caution';
 import { ChartDownload } from './chart-download';
 import { edgeAnchor, formatTick, labelIndices, monoWidth, niceTicks } from './library-chart';
@@ -205,7 +209,127 @@ export function SweepResultView({ result }: { result: SubsetSweepResult }) {
         <Text style={text.strong}>How often each factor is among the best models</Text>
         <FrequencyChart result={result} />
       </View>
+      <CandidateTests result={result} />
+      <ThetaRanking result={result} />
       <Caution>Which factors a sweep prefers is evidence about these assets and this sample, not investment advice.</Caution>
+    </View>
+  );
+}
+
+/** Each candidate's b test in the full model, adjusted across all K candidates (Holm; Benjamini–Yekutieli), and |t| against the t ≥ 3.0 reference line. */
+function CandidateTests({ result }: { result: SubsetSweepResult }) {
+  const lv = result.level;
+  return (
+    <View style={{ gap: space.xs }}>
+      <Text style={text.strong}>Each candidate’s b test, adjusted for trying {result.K}</Text>
+      <Grid
+        label="Candidates' adjusted p"
+        head={['candidate', '|t|', 'p', 'p Holm', 'p BY']}
+        rows={result.candidates.map((c) => ({
+          key: c.name,
+          label: c.name,
+          name: c.traded === false ? `${c.name} (not traded)` : c.name,
+          cells: [{ value: Math.abs(c.tB), decimals: 2, marked: Math.abs(c.tB) >= HLZ_T_HURDLE, marker: '◆' }, formatP(c.pB), formatP(c.pHolm), formatP(c.pBY)],
+        }))}
+      />
+      <Text style={text.muted}>
+        p: the full model’s b test of each candidate. p Holm controls the chance of any false discovery among the {result.K} tests; p BY (Benjamini–Yekutieli) the expected share of false discoveries, under any dependence. Compare them with your level {lv}.
+      </Text>
+      <TChart result={result} />
+    </View>
+  );
+}
+
+/** |t| of each candidate's b as horizontal bars, with the t = 3.0 reference line (Harvey, Liu and Zhu 2016). */
+function TChart({ result }: { result: SubsetSweepResult }) {
+  const [w, setW] = useState(0);
+  const ref = useRef<View>(null);
+  const c = result.candidates;
+  const n = c.length;
+  const font = 11;
+  const maxName = Math.max(4, Math.floor((w * 0.4) / (font * 0.6)));
+  const names = c.map((f) => (f.name.length > maxName ? `${f.name.slice(0, maxName - 1)}…` : f.name));
+  const left = Math.min(Math.ceil(w * 0.4), Math.max(0, ...names.map((x) => monoWidth(x, font)))) + 12;
+  const pad = { top: 8, bottom: 28, left, right: 48 };
+  const height = pad.top + pad.bottom + Math.max(2, n) * 24;
+  const tmax = Math.max(HLZ_T_HURDLE + 0.5, ...c.map((f) => Math.abs(f.tB)));
+  const x = niceTicks(0, tmax, Math.max(3, Math.floor((w - left - 48) / 56)));
+  const style = { ...axisStyle, tickLabels: { ...axisStyle.tickLabels, fontSize: font } };
+  return (
+    <View style={{ gap: space.xs }}>
+      <View
+        ref={ref}
+        role="img"
+        aria-label={`|t| of each candidate's b with the reference line at t = ${HLZ_T_HURDLE.toFixed(1)}: ${c.map((f) => `${f.name} ${Math.abs(f.tB).toFixed(2)}`).join(', ')}`}
+        onLayout={(e) => setW(Math.floor(e.nativeEvent.layout.width))}
+      >
+        {w > 0 && n > 0 ? (
+          <VictoryChart horizontal width={w} height={height} padding={pad} domain={{ x: [-0.6, n - 0.4], y: x.domain }}>
+            <VictoryAxis crossAxis={false} orientation="left" offsetX={pad.left} tickValues={c.map((_, i) => n - 1 - i)} tickFormat={(t: number) => names[n - 1 - Math.round(t)] ?? ''} style={{ ...style, grid: { stroke: 'none' } }} />
+            <VictoryAxis dependentAxis crossAxis={false} orientation="bottom" offsetY={pad.bottom} tickValues={x.ticks} tickFormat={(t: number) => formatTick(t, x.step)} style={style} />
+            <VictoryBar
+              data={c.map((f, i) => ({ x: n - 1 - i, y: Math.abs(f.tB) }))}
+              barWidth={12}
+              labels={({ datum }: { datum: { y: number } }) => datum.y.toFixed(2)}
+              style={{ data: { fill: colors.slate }, labels: { fontFamily: fonts.mono, fontSize: font, fill: colors.ink } }}
+            />
+            <VictoryLine
+              data={[
+                { x: -0.6, y: HLZ_T_HURDLE },
+                { x: n - 0.4, y: HLZ_T_HURDLE },
+              ]}
+              style={{ data: { stroke: colors.brass, strokeDasharray: '5,4', strokeWidth: 1.5 } }}
+            />
+          </VictoryChart>
+        ) : null}
+      </View>
+      <Text style={text.muted}>
+        The dashed line at |t| = {HLZ_T_HURDLE.toFixed(1)} is the hurdle Harvey, Liu and Zhu (2016) propose for a new factor, given how many factors have already been tried in
+        the literature. It is a reference, not a rule: the verdicts use your level, and the adjusted p-values above are the correction for the tests run here. ◆ |t| at or above the line.
+      </Text>
+      <ChartDownload
+        target={ref}
+        fileName="subset-sweep-candidate-t"
+        title="|t| of each candidate's b in the full model"
+        legend={[
+          { label: '|t| of b', stroke: colors.slate, width: 10 },
+          { label: `reference |t| = ${HLZ_T_HURDLE.toFixed(1)} (Harvey, Liu and Zhu 2016)`, stroke: colors.brass, dash: '5,4' },
+        ]}
+        note={`${result.K} candidates, ${result.N} test assets, T = ${result.T}. A reference line, not a rule.`}
+      />
+    </View>
+  );
+}
+
+/** Subsets of the traded candidates ranked by the squared Sharpe ratio of their factors, with SEs; ◆ within one SE of the best. */
+function ThetaRanking({ result }: { result: SubsetSweepResult }) {
+  const r = result.thetaRanking;
+  const row = (m: { factors: readonly string[]; theta: number; se: number; withinOneSe: boolean }, prefix = '') => ({
+    key: `${prefix}${m.factors.join('+')}`,
+    label: m.factors.join(' + '),
+    name: m.factors.join(' + '),
+    cells: [{ value: m.theta, decimals: 4, marked: m.withinOneSe, marker: '◆' }, { value: m.se, decimals: 4 }, String(m.factors.length)],
+  });
+  return (
+    <View style={{ gap: space.xs }}>
+      <Text style={text.strong}>Ranking by squared Sharpe ratio (traded candidates)</Text>
+      {!r ? (
+        <Text style={text.muted}>{result.thetaNote ?? 'No ranking.'}</Text>
+      ) : (
+        <>
+          <Text style={text.muted}>
+            {r.models} subsets of {r.candidates.join(', ')} ranked by θ̂ = μ′Σ⁻¹μ of their factors (per period). Best: {r.best.factors.join(' + ')}, θ̂ {formatNum(r.best.theta, 4)} (se {formatNum(r.best.se, 4)}); {r.withinOneSe} subsets lie within one standard error of it (◆).
+          </Text>
+          <Grid label="Top subsets by squared Sharpe ratio" head={['factors', 'θ̂', 'se', 'K']} rows={r.top.slice(0, 10).map((m) => row(m, 'top-'))} />
+          {r.smallestWithinOneSe.length ? (
+            <>
+              <Text style={text.strong}>Smallest subsets within one SE of the best</Text>
+              <Grid label="Smallest subsets within one SE" head={['factors', 'θ̂', 'se', 'K']} rows={r.smallestWithinOneSe.map((m) => row(m, 'small-'))} />
+            </>
+          ) : null}
+          <Text style={text.muted}>Adding a factor never lowers θ̂; a smaller subset within one SE of the best does about as well with fewer factors (Barillas and Shanken 2017).</Text>
+        </>
+      )}
     </View>
   );
 }
@@ -355,10 +479,116 @@ export function RollingResultView({ result }: { result: RollingResult }) {
   );
 }
 
+const pct = (x: number | null | undefined) => (x === null || x === undefined ? '—' : `${formatNum(x * 100, 3)}`);
+
+/** The hold-out check: one split (α₂ per asset), or the rolling version charted per block. */
+export function HoldoutResultView({ result }: { result: HoldoutJobResult }) {
+  if (result.mode === 'split') {
+    const r = result;
+    return (
+      <View style={{ gap: space.md }} aria-label="Hold-out result">
+        <Text style={text.muted}>
+          b estimated with the run’s settings on the first {r.T1} periods; the {r.T2} periods from {r.splitDate ?? `period ${r.split + 1}`} on are priced with it (HAC lag {r.lags}, {r.form} SDF).
+        </Text>
+        <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.lg }}>
+          <Text style={text.strong}>R²_oos {formatNum(r.r2oos, 3)}</Text>
+          <Text style={text.body}>in sample {formatNum(r.r2in, 3)}</Text>
+          <Text style={text.body}>mean |α₂| {pct(r.meanAbsAlpha)} % per period</Text>
+        </View>
+        <Grid
+          label="Hold-out pricing errors"
+          head={['asset', 'mean %', 'model %', 'α₂ %']}
+          rows={r.assetNames.map((a, i) => ({
+            key: a,
+            label: a,
+            name: a,
+            cells: [{ value: r.holdoutMean[i] * 100, decimals: 3 }, { value: r.predicted[i] * 100, decimals: 3 }, { value: r.alpha[i] * 100, decimals: 3 }],
+          }))}
+        />
+        <Text style={text.muted}>
+          mean: the hold-out mean excess return m₂; model: C₂b̂, the mean the model predicts with the hold-out covariances; α₂ = m₂ − C₂b̂. R²_oos = 1 − α₂′α₂ / m₂′m₂: 1 is a perfect
+          price, 0 no better than predicting zero for every asset, below 0 worse (Kozak, Nagel and Santosh 2020).{r.note ? ` ${r.note}` : ''}
+        </Text>
+        <Caution>A hold-out check is evidence about the model on periods it was not fitted to, not investment advice.</Caution>
+      </View>
+    );
+  }
+  const r = result;
+  const ok = r.rows.filter((x) => x.ok);
+  return (
+    <View style={{ gap: space.md }} aria-label="Rolling hold-out result">
+      <Text style={text.muted}>
+        {r.rows.length} blocks: b re-estimated on each window of {r.length} periods, then the next {r.step} periods priced with it (HAC lag {r.lags}). Pooled R²_oos{' '}
+        {formatNum(r.pooledR2oos, 3)}; mean |α₂| over the blocks {pct(r.meanAbsAlpha)} % per period.
+        {r.rows.length > ok.length ? ` ${r.rows.length - ok.length} block(s) could not be estimated.` : ''}
+      </Text>
+      <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.lg }}>
+        <BlockChart result={r} what="r2" />
+        <BlockChart result={r} what="alpha" />
+      </View>
+      <Text style={text.muted}>x: first period of each priced block. R²_oos can fall below 0 when the model prices a block worse than predicting zero. {r.note ?? ''}</Text>
+      <Caution>A hold-out check is evidence about the model on periods it was not fitted to, not investment advice.</Caution>
+    </View>
+  );
+}
+
+function BlockChart({ result, what }: { result: Extract<HoldoutJobResult, { mode: 'rolling' }>; what: 'r2' | 'alpha' }) {
+  const [w, setW] = useState(320);
+  const ref = useRef<View>(null);
+  const onLayout = (e: LayoutChangeEvent) => setW(Math.max(240, Math.floor(e.nativeEvent.layout.width)));
+  const rows = result.rows.filter((x) => x.ok);
+  const data = rows.map((x, i) => ({ x: i, y: what === 'r2' ? x.r2oos! : x.meanAbsAlpha! * 100, label: x.blockStartDate ?? String(x.end + 1) }));
+  const title = what === 'r2' ? 'R²_oos per block' : 'mean |α₂| per block (% per period)';
+  const plotW = w - ROLL_PAD.left - ROLL_PAD.right;
+  const plotH = ROLL_H - ROLL_PAD.top - ROLL_PAD.bottom;
+  const widest = Math.max(0, ...data.map((d) => monoWidth(d.label, AXIS_FONT)));
+  const ticks = labelIndices(data.length, plotW, widest);
+  const ys = data.map((d) => d.y).filter((v) => Number.isFinite(v));
+  const y = niceTicks(Math.min(...ys, 0), Math.max(...ys, what === 'r2' ? 1 : 0), Math.max(3, Math.floor(plotH / 30)), true);
+  const last = Math.max(1, data.length - 1);
+  return (
+    <View style={{ flexGrow: 1, flexBasis: 320, minWidth: 0, gap: space.xs }} onLayout={onLayout}>
+      <Text style={text.strong}>{title}</Text>
+      {data.length === 0 ? (
+        <Text style={text.muted}>No block could be estimated.</Text>
+      ) : (
+        <>
+          <View ref={ref} role="img" aria-label={`${title}: ${data.map((d) => `${d.label} ${d.y.toFixed(3)}`).join(', ')}`}>
+            <VictoryChart width={w} height={ROLL_H} padding={ROLL_PAD} domain={{ x: [0, last], y: y.domain }}>
+              <VictoryLine data={[{ x: 0, y: 0 }, { x: last, y: 0 }]} style={{ data: { stroke: colors.fog, strokeDasharray: '4,4', strokeWidth: 1 } }} />
+              <VictoryLine data={data.map((d) => ({ x: d.x, y: d.y }))} style={{ data: { stroke: colors.ink, strokeWidth: 1.5 } }} />
+              <VictoryAxis
+                crossAxis={false}
+                orientation="bottom"
+                offsetY={ROLL_PAD.bottom}
+                style={{ ...axisStyle, tickLabels: { ...axisStyle.tickLabels, padding: 6, textAnchor: edgeAnchor(data.length) } }}
+                tickValues={ticks}
+                tickFormat={(t: number) => data[t]?.label ?? ''}
+              />
+              <VictoryAxis dependentAxis crossAxis={false} orientation="left" offsetX={ROLL_PAD.left} style={axisStyle} tickValues={y.ticks} tickFormat={(t: number) => formatTick(t, y.step)} />
+            </VictoryChart>
+          </View>
+          <ChartDownload
+            target={ref}
+            fileName={`holdout-${what}`}
+            title={`${title}, windows of ${result.length}, blocks of ${result.step}`}
+            legend={[
+              { label: what === 'r2' ? 'R²_oos' : 'mean |α₂|', stroke: colors.ink },
+              { label: 'zero', stroke: colors.fog, dash: '4,4' },
+            ]}
+            note="x: first period of each priced block. Statistical evidence, not investment advice."
+          />
+        </>
+      )}
+    </View>
+  );
+}
+
 /** The result view for a finished job of any kind. */
 export function DeepCheckResult({ job }: { job: Job }) {
   if (!job.result) return null;
   if (job.kind === 'bootstrap') return <BootstrapResultView result={job.result as BootstrapResult} />;
   if (job.kind === 'subset-sweep') return <SweepResultView result={job.result as SubsetSweepResult} />;
+  if (job.kind === 'holdout') return <HoldoutResultView result={job.result as HoldoutJobResult} />;
   return <RollingResultView result={job.result as RollingResult} />;
 }

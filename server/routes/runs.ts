@@ -6,7 +6,8 @@ import { changeBasisBodySchema, compareQuerySchema, createRunBodySchema, runList
 import { changeRunBasis, createRun, firstStageCopy, getRun, getRunResultText, listRuns, type RunDeps } from '../services/runs';
 import type { JobRunner } from '../jobs/runner';
 import { compareRuns } from '../services/runs-compare';
-import { runCsv, runTex } from '../services/exports';
+import { exportContextFor, runCsv, runTex } from '../services/exports';
+import { compareCsv, compareTex } from '../services/compare-exports';
 import { KeelsonApiError } from '../../shared/errors';
 import { idParam } from '../middlewares/params';
 import type { AppDeps } from '../app-deps';
@@ -56,6 +57,24 @@ export function registerRunRoutes(api: ApiRouter, deps: AppDeps, runner: JobRunn
   api.get('/runs/compare', 'signed-in', (req: Request, res: Response) => {
     const q = parseOr400(compareQuerySchema, req.query, 'compare request');
     res.json(compareRuns(db, currentUser(req), q.a, q.b, q.require));
+  });
+
+  api.get('/runs/compare/export.csv', 'signed-in', (req: Request, res: Response) => {
+    const q = parseOr400(compareQuerySchema, req.query, 'compare request');
+    const c = compareRuns(db, currentUser(req), q.a, q.b, q.require);
+    res
+      .type('text/csv; charset=utf-8')
+      .set('content-disposition', `attachment; filename="keelson-compare-${q.a}-${q.b}.csv"`)
+      .send(compareCsv(c, exportContextFor(db, c.a.editionId)));
+  });
+
+  api.get('/runs/compare/export.tex', 'signed-in', (req: Request, res: Response) => {
+    const q = parseOr400(compareQuerySchema, req.query, 'compare request');
+    const c = compareRuns(db, currentUser(req), q.a, q.b, q.require);
+    res
+      .type('application/x-tex; charset=utf-8')
+      .set('content-disposition', `attachment; filename="keelson-compare-${q.a}-${q.b}.tex"`)
+      .send(compareTex(c, exportContextFor(db, c.a.editionId)));
   });
 
   api.get('/runs/:id', 'signed-in', (req: Request, res: Response) => {

@@ -88,7 +88,7 @@ export function spanningStatus(f: Factor): 'computed' | 'not traded' | 'not comp
 
 const yesNo = (b: boolean | null | undefined): string => (b === null || b === undefined ? '' : b ? 'yes' : 'no');
 
-function factorRow(f: Factor): CsvCell[] {
+export function factorRow(f: Factor): CsvCell[] {
   const r = f.robust;
   const bs = f.bootstrap;
   return [

@@ -80,6 +80,8 @@ describe('declared access of specs, runs and review routes', () => {
     'get /runs': 'signed-in',
     'post /runs': 'researcher,admin',
     'get /runs/compare': 'signed-in',
+    'get /runs/compare/export.csv': 'signed-in',
+    'get /runs/compare/export.tex': 'signed-in',
     'get /runs/:id': 'signed-in',
     'get /runs/:id/result.json': 'signed-in',
     'get /runs/:id/export.csv': 'signed-in',

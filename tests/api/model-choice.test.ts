@@ -10,6 +10,7 @@
  * the server must not change the numbers); identities that must hold.
  */
 import { execFileSync } from 'node:child_process';
+import Papa from 'papaparse';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { agentAs, anonymousAgent, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp } from './helpers';
 import { FIX_ASSETS, makeFixture, spec, type Fixture } from './runs-fixture';
@@ -65,7 +66,7 @@ beforeAll(async () => {
   reviewer = await agentAs(t.app, 'reviewer');
   desk = await agentAs(t.app, 'desk');
   ed = await upload(admin, fx, 'Carry economy');
-  ed2 = await upload(admin, fx, 'Carry economy, second copy');
+  ed2 = await upload(admin, fx, '=HYPERLINK("http://x")');
 });
 afterAll(async () => {
   await mailSettled();
@@ -313,5 +314,74 @@ describe('hold-out check', () => {
     const seen = await finished(desk, job.id);
     expect(seen.status).toBe('finished');
     expect((seen.result as { T1: number }).T1).toBe(120);
+  });
+});
+
+// ---------------------------------------------------------------- exports of the compare view
+
+describe('compare exports', () => {
+  it('CSV: both ledgers (model column A/B) and the test between them; numbers round-trip exactly; formula-safe text', async () => {
+    const A = await startRun({ factors: ['MKT', 'CARRY'] });
+    const B = await startRun({ factors: ['ECHO', 'CARRY'] });
+    const c = await compare(A.id, B.id);
+    const r = await desk.get(`/api/v1/runs/compare/export.csv?a=${A.id}&b=${B.id}`).expect(200);
+    expect(r.headers['content-type']).toMatch(/text\/csv/);
+    expect(r.headers['content-disposition']).toMatch(new RegExp(`keelson-compare-${A.id}-${B.id}\\.csv`));
+    const rows = Papa.parse<string[]>(r.text, { skipEmptyLines: false }).data;
+    const key = new Map(rows.filter((x) => x.length >= 2).map((x) => [x[0], x.slice(1)]));
+    expect(key.get('keelson_export')).toEqual(['model comparison']);
+    expect(Number(key.get('test_theta_a')![0])).toBe(c.sharpe!.a.theta);
+    expect(Number(key.get('test_diff_se')![0])).toBe(c.sharpe!.se);
+    expect(Number(key.get('test_z')![0])).toBe(c.sharpe!.z);
+    expect(Number(key.get('test_p')![0])).toBe(c.sharpe!.p);
+    expect(key.get('test_shared_factors')).toEqual(['CARRY']);
+    expect(key.get('units_returns')![0]).toMatch(/decimal return per month/);
+    const head = rows.findIndex((x) => x[0] === 'model');
+    expect(rows[head].slice(0, 4)).toEqual(['model', 'run_id', 'factor', 'traded']);
+    const table = rows.slice(head + 1).filter((x) => x.length > 1);
+    expect(table.map((x) => `${x[0]}:${x[2]}`)).toEqual(['A:MKT', 'A:CARRY', 'B:ECHO', 'B:CARRY']);
+    const bCol = rows[head].indexOf('b');
+    const holm = rows[head].indexOf('p_holm');
+    expect(Number(table[2][bCol])).toBe(B.result!.factors[0].b);
+    expect(Number(table[3][holm])).toBe(B.result!.factors[1].pHolm);
+    // formula-safe: a library named =HYPERLINK(…) is written as text (shared/csv.ts rule, OWASP CSV injection)
+    const X = await startRun({ factors: ['ECHO'] }, ed2);
+    const x = await desk.get(`/api/v1/runs/compare/export.csv?a=${A.id}&b=${X.id}`).expect(200);
+    const xr = Papa.parse<string[]>(x.text).data;
+    expect(xr.find((row) => row[0] === 'run_b_library')![1]).toBe(`'=HYPERLINK("http://x")`);
+    expect(xr.find((row) => row[0] === 'test')![1]).toBe('none');
+    expect(xr.find((row) => row[0] === 'test_reason')![1]).toMatch(/different library editions/);
+  });
+
+  it('LaTeX: a table with caption, label, booktabs, units in the heads, $-$ minus, p as on screen; the nested spanning test in the notes', async () => {
+    const small = await startRun({ factors: ['MKT'] });
+    const large = await startRun({ factors: ['MKT', 'CARRY'] });
+    const tex = (await desk.get(`/api/v1/runs/compare/export.tex?a=${small.id}&b=${large.id}`).expect(200)).text;
+    expect(tex).toMatch(/\\begin\{table\}\[htbp\]/);
+    expect(tex).toMatch(/\\caption\{Two models compared: model A = run \d+ \(MKT;/);
+    expect(tex).toContain(`\\label{tab:keelson-compare-${small.id}-${large.id}}`);
+    for (const rule of ['\\toprule', '\\midrule', '\\bottomrule']) expect(tex).toContain(rule);
+    expect(tex).toContain('$\\lambda$ (\\% per month)');
+    expect(tex).toMatch(/joint spanning test of CARRY on MKT, \$\\chi\^2 = [\d.]+\$ \(1 df\)/);
+    expect(tex).toMatch(/Drop test of CARRY from run \d+/);
+    const body = tex.split('\\midrule')[1].split('\\bottomrule')[0];
+    // every number cell: a true minus ($-$), never a bare hyphen before a digit; p below 0.001 as "$<$0.001"
+    expect(body).not.toMatch(/(^|[^$])-\d/);
+    const rowsTex = tex.split('\n').filter((l) => /^[AB] & /.test(l));
+    expect(rowsTex).toHaveLength(3);
+    for (const l of rowsTex) expect(l.split(' & ')).toHaveLength(11);
+    const mkt = large.result!.factors[0];
+    const cell = mkt.pB < 0.001 ? '$<$0.001' : mkt.pB.toFixed(3);
+    expect(rowsTex[1]).toContain(` & ${cell} & `);
+    expect(tex).toMatch(/not investment advice/);
+  });
+
+  it('exports refuse like the compare view (same run twice 400; require=sharpe 422) and need a sign-in', async () => {
+    const A = await startRun({ factors: ['MKT'] });
+    expectEnvelope((await desk.get(`/api/v1/runs/compare/export.csv?a=${A.id}&b=${A.id}`).expect(400)).body, 'bad_request');
+    const N = await startRun({ factors: ['ECHO', 'CLIMA'], nonTraded: ['CLIMA'] });
+    expectEnvelope((await desk.get(`/api/v1/runs/compare/export.tex?a=${A.id}&b=${N.id}&require=sharpe`).expect(422)).body, 'unprocessable');
+    const anon = await anonymousAgent(t.app);
+    expectEnvelope((await anon.get(`/api/v1/runs/compare/export.csv?a=${A.id}&b=${N.id}`).expect(401)).body, 'unauthenticated');
   });
 });
