@@ -190,14 +190,16 @@ export function LedgerNumbers({ f, test, result, bootstrapPending = false }: Led
           {bases.map((b) => {
             const v = f.verdicts[b];
             return (
-              <View key={b} style={styles.row} aria-label={`${BASIS_LABEL[b]}: ${v ?? 'not available'}`}>
-                <Text style={[text.body, { flexShrink: 1 }]}>
+              <View key={b} style={styles.basisRow} aria-label={`${BASIS_LABEL[b]}: ${v ?? 'not available'}`}>
+                <Text style={text.strong}>
                   {BASIS_LABEL[b]}
-                  {b === result.verdictBasis ? ' (used)' : ''}
+                  {b === result.verdictBasis ? ' (used)' : ''}: {v ?? (b === 'bootstrap' && bootstrapPending ? 'pending' : 'not available')}
                 </Text>
-                <Text style={[styles.num, { fontSize: 13, flexShrink: 1, textAlign: 'right' }]}>
-                  {v ? `${v} · p(b) ${P(pOn(b, 'b'))} · p(λ) ${P(pOn(b, 'λ') ?? (b === 'bootstrap' ? (f.robust?.pLambda ?? f.pLambda) : null))}` : b === 'bootstrap' && bootstrapPending ? 'pending' : 'not available'}
-                </Text>
+                {v ? (
+                  <Text style={styles.smallNum}>
+                    p(b) {P(pOn(b, 'b'))} · p(λ) {P(pOn(b, 'λ') ?? (b === 'bootstrap' ? (f.robust?.pLambda ?? f.pLambda) : null))}
+                  </Text>
+                ) : null}
               </View>
             );
           })}
@@ -249,6 +251,8 @@ const styles = StyleSheet.create({
   sheet: { backgroundColor: colors.card, borderRadius: radius.md, borderWidth: 1, borderColor: colors.rule, padding: space.lg, width: '100%', maxWidth: 520, maxHeight: '90%' },
   row: { flexDirection: 'row', justifyContent: 'space-between', gap: space.md, paddingVertical: 3, borderBottomWidth: 1, borderBottomColor: colors.rule },
   num: { fontFamily: fonts.mono, fontSize: 15, color: colors.ink, textAlign: 'right', fontVariant: ['tabular-nums'] },
+  basisRow: { paddingVertical: 4, borderBottomWidth: 1, borderBottomColor: colors.rule, gap: 2 },
+  smallNum: { fontFamily: fonts.mono, fontSize: 13, color: colors.slate },
   warn: { fontFamily: fonts.text, fontSize: 13, color: colors.ink, backgroundColor: colors.brassTint, padding: space.sm, borderRadius: radius.sm, marginTop: space.xs },
   flag: { fontFamily: fonts.textStrong, fontSize: 14, color: colors.rust },
   caution: { fontFamily: fonts.textStrong, fontSize: 13, color: colors.ink, marginTop: space.xs },

@@ -47,7 +47,7 @@ const W = { est: 92, se: 54, t: 52, p: 68, boot: 68, adj: 68, thin: 80, verdict:
 
 function Cell({ children, onPress, label, width, style }: { children: ReactNode; onPress?: () => void; label: string; width: number; style?: ViewStyle }) {
   return (
-    <View role="cell" style={[styles.tdTight, { width }, style]}>
+    <View role="cell" style={[styles.tdTight, { width }, style]} aria-label={!onPress && label ? label : undefined}>
       {onPress ? (
         <Pressable
           onPress={onPress}

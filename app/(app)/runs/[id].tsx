@@ -56,30 +56,30 @@ export default function RunPage() {
       ) : null}
       {r ? <RunCaution /> : null}
       {r ? (
-        <Card title="Factor ledger" subtitle="b answers “needed?”, λ answers “priced?”. Verdict last, with the basis it rests on.">
+        <Card title="Factor ledger" accessibilityLabel="Factor ledger" subtitle="b answers “needed?”, λ answers “priced?”. Verdict last, with the basis it rests on.">
           <LedgerBasisBar run={run} me={me} bootstrapJob={boot.job} bootstrapPending={boot.pending} />
           <LedgerTable result={r} bootstrapPending={boot.pending} />
         </Card>
       ) : null}
       {r && (wide || r.jointDrop) ? (
-        <Card title="Drop tests and spanning checks" subtitle="Can the factor be dropped? Do the other factors span it?">
+        <Card title="Drop tests and spanning checks" accessibilityLabel="Drop tests and spanning checks" subtitle="Can the factor be dropped? Do the other factors span it?">
           <LedgerTestsTable result={r} bootstrapPending={boot.pending} />
           <JointDropCard result={r} bootstrapPending={boot.pending} />
           {!r.jointDrop ? <Text style={text.muted}>No joint drop set in this spec.</Text> : null}
         </Card>
       ) : null}
       {r && run.status === 'finished' ? (
-        <Card title="Basis of the verdicts" subtitle="standard, robust or bootstrap">
+        <Card title="Basis of the verdicts" accessibilityLabel="Basis of the verdicts" subtitle="standard, robust or bootstrap">
           <BasisSwitcher run={run} me={me} />
         </Card>
       ) : null}
       {r ? (
-        <Card title="Fit">
+        <Card title="Fit" accessibilityLabel="Fit">
           <LedgerFit result={r} bootstrapPending={boot.pending} />
         </Card>
       ) : null}
       {r ? (
-        <Card title="Charts">
+        <Card title="Charts" accessibilityLabel="Charts">
           <LedgerCharts result={r} runId={run.id} />
         </Card>
       ) : null}
