@@ -48,13 +48,17 @@ export function formatPercent(x: number | null | undefined, decimals: number = D
 
 /**
  * A p-value: "< 0.001" below P_FLOOR, else three decimals — or, with `style.level`, as many more
- * (up to six) as it takes for a p below the level not to print as the level or above it.
+ * (up to six) as it takes for a p below the level not to print as the level or above it; a p even
+ * closer under the level prints as "< level" (e.g. "< 0.050").
  */
 export function formatP(p: number | null | undefined, style: FormatStyle = {}): string {
   if (p === null || p === undefined || !Number.isFinite(p)) return formatFixed(p, DECIMALS.p, style);
   if (p < P_FLOOR) return `${style.less ?? '< '}${P_FLOOR.toFixed(DECIMALS.p)}`;
   let d: number = DECIMALS.p;
   const level = style.level;
-  if (level !== undefined && p < level) while (d < 6 && Number(p.toFixed(d)) >= level) d++;
+  if (level !== undefined && p < level) {
+    while (d < 6 && Number(p.toFixed(d)) >= level) d++;
+    if (Number(p.toFixed(d)) >= level) return `${style.less ?? '< '}${formatFixed(level, DECIMALS.p, style)}`;
+  }
   return formatFixed(p, d, style);
 }
