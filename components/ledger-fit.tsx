@@ -48,7 +48,8 @@ function Stat({ label, value, sub, marked }: { label: string; value: string; sub
 export function LedgerFit({ result, bootstrapPending = false }: { result: LedgerResult; bootstrapPending?: boolean }) {
   const r = result;
   const level = r.options.level;
-  const P = (p: number | null | undefined) => formatP(p, { level });
+  // A non-breaking space keeps "< 0.001" on one line in narrow columns.
+  const P = (p: number | null | undefined) => formatP(p, { level, less: '<\u00a0' });
   const fm = r.famaMacBeth;
   const bootAsked = r.bootstrap !== null || r.options.bootstrap !== null || bootstrapPending;
   const iter = iterationText(r);
@@ -129,6 +130,6 @@ const styles = StyleSheet.create({
   tr: { flexDirection: 'row', alignItems: 'center', paddingHorizontal: space.sm, paddingVertical: 6, borderBottomWidth: 1, borderBottomColor: colors.rule, gap: space.sm },
   th: { backgroundColor: colors.paper },
   hcell: { flex: 1, fontFamily: fonts.textStrong, fontSize: 13, color: colors.slate, textAlign: 'right' },
-  cell: { flex: 1, fontFamily: fonts.mono, fontSize: 14, color: colors.ink, textAlign: 'right', fontVariant: ['tabular-nums'] },
+  cell: { flex: 1, fontFamily: fonts.mono, fontSize: 13, color: colors.ink, textAlign: 'right', fontVariant: ['tabular-nums'] },
   marked: { fontFamily: fonts.monoStrong },
 });

@@ -266,7 +266,10 @@ describe('new runs from a finished run', () => {
     await shots(page, 'ledger-iterated-wide', 3);
     // a double click still makes one copy (the button waits for its POST)
     const before = ((await (await page.request.get('/api/v1/runs?limit=500')).json()) as { runs: unknown[] }).runs.length;
+    const posted = page.waitForRequest((q) => q.method() === 'POST' && q.url().endsWith(`/runs/${iteratedId}/first-stage-copy`));
     await copy.dblclick();
+    // one key per press: a repeated request would get the first answer, not a second copy
+    expect((await posted).headers()['idempotency-key']).toMatch(/^[0-9a-f]{32}$/);
     await page.waitForURL((u) => /\/runs\/\d+$/.test(u.pathname) && u.pathname !== `/runs/${iteratedId}`);
     const newId = Number(new URL(page.url()).pathname.split('/').pop());
     await page.getByRole('table', { name: 'Factor ledger' }).waitFor();
@@ -296,7 +299,10 @@ describe('new runs from a finished run', () => {
     await card.scrollIntoViewIfNeeded();
     await shotNow(page, 'ledger-basis-switcher-wide');
     const old = await getRun(page, firstId);
+    const posted = page.waitForRequest((q) => q.method() === 'POST' && q.url().endsWith(`/runs/${firstId}/basis`));
     await card.getByRole('button', { name: 'Start a new run on the standard basis' }).click();
+    expect((await posted).headers()['idempotency-key']).toMatch(/^[0-9a-f]{32}$/);
+    expect((await posted).postDataJSON()).toEqual({ basis: 'standard' });
     await page.waitForURL((u) => /\/runs\/\d+$/.test(u.pathname) && u.pathname !== `/runs/${firstId}`);
     const newId = Number(new URL(page.url()).pathname.split('/').pop());
     await page.getByLabel('Verdict basis: standard').waitFor();
