@@ -93,19 +93,21 @@ export function LedgerFit({ result, bootstrapPending = false }: { result: Ledger
       {fm ? (
         <View style={styles.table} role="table" aria-label="Fama–MacBeth premia">
           <View style={[styles.tr, styles.th]} role="row">
-            <Text style={[styles.hcell, { flex: 1.3, textAlign: 'left' }]} role="columnheader">Fama–MacBeth</Text>
+            <Text style={[styles.hcell, { flex: 1.2, textAlign: 'left' }]} role="columnheader">Fama–MacBeth</Text>
             <Text style={styles.hcell} role="columnheader">λ, %</Text>
-            <Text style={styles.hcell} role="columnheader">t</Text>
-            <Text style={styles.hcell} role="columnheader">t Shanken</Text>
-            <Text style={styles.hcell} role="columnheader">p Shanken</Text>
+            <Text style={[styles.hcell, { flex: 0.8 }]} role="columnheader">t</Text>
+            <Text style={[styles.hcell, { flex: 0.9 }]} role="columnheader">t Shanken</Text>
+            <Text style={[styles.hcell, { flex: 1.3 }]} role="columnheader">p Shanken</Text>
           </View>
           {[...(fm.zeroBeta ? [{ ...fm.zeroBeta, name: 'zero-beta (intercept)' }] : []), ...fm.factors].map((c) => (
             <View key={c.name} style={styles.tr} role="row">
-              <Text style={[text.body, { flex: 1.3 }]} role="cell">{c.name}</Text>
+              <Text style={[text.body, { flex: 1.2 }]} role="cell">{c.name}</Text>
               <Text style={[styles.cell, c.pShanken < level && styles.marked]} role="cell">{formatNum(c.lambda * 100, 3)}{c.pShanken < level ? '*' : ' '}</Text>
-              <Text style={[styles.cell, c.p < level && styles.marked]} role="cell">{formatNum(c.t, 2)}</Text>
-              <Text style={[styles.cell, c.pShanken < level && styles.marked]} role="cell">{formatNum(c.tShanken, 2)}</Text>
-              <Text style={[styles.cell, c.pShanken < level && styles.marked]} role="cell">{P(c.pShanken)}</Text>
+              <Text style={[styles.cell, { flex: 0.8 }, c.p < level && styles.marked]} role="cell">{formatNum(c.t, 2)}</Text>
+              <Text style={[styles.cell, { flex: 0.9 }, c.pShanken < level && styles.marked]} role="cell">{formatNum(c.tShanken, 2)}</Text>
+              <Text style={[styles.cell, { flex: 1.3 }, c.pShanken < level && styles.marked]} role="cell" numberOfLines={1}>
+                {P(c.pShanken)}
+              </Text>
             </View>
           ))}
           <Text style={[text.muted, { padding: space.sm }]}>
@@ -130,6 +132,6 @@ const styles = StyleSheet.create({
   tr: { flexDirection: 'row', alignItems: 'center', paddingHorizontal: space.sm, paddingVertical: 6, borderBottomWidth: 1, borderBottomColor: colors.rule, gap: space.sm },
   th: { backgroundColor: colors.paper },
   hcell: { flex: 1, fontFamily: fonts.textStrong, fontSize: 13, color: colors.slate, textAlign: 'right' },
-  cell: { flex: 1, fontFamily: fonts.mono, fontSize: 13, color: colors.ink, textAlign: 'right', fontVariant: ['tabular-nums'] },
+  cell: { flex: 1, fontFamily: fonts.mono, fontSize: 12.5, color: colors.ink, textAlign: 'right', fontVariant: ['tabular-nums'] },
   marked: { fontFamily: fonts.monoStrong },
 });

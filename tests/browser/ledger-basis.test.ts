@@ -233,6 +233,18 @@ describe('phone ledger: cards, adjusted p behind the detail', () => {
     await shotNow(page, 'ledger-detail-verdict-phone');
     await vd.getByRole('button', { name: 'Close' }).click();
 
+    // the Fama–MacBeth numbers stay on one line each ("< 0.001" not split into "<" and "0.001")
+    const fm = page.getByRole('table', { name: 'Fama–MacBeth premia' });
+    await fm.scrollIntoViewIfNeeded();
+    const wrapped = await fm.evaluate((el) =>
+      (Array.from(el.querySelectorAll('[role=cell]')) as HTMLElement[])
+        .filter((c) => c.getBoundingClientRect().height > 1.9 * parseFloat(getComputedStyle(c).fontSize))
+        .map((c) => c.textContent ?? ''),
+    );
+    expect(wrapped).toEqual([]);
+    expect(await clippedIn(fm)).toEqual([]);
+    await shotNow(page, 'ledger-fama-macbeth-phone');
+
     const charts = page.getByRole('region', { name: 'Charts' });
     for (const name of ['Predicted vs realised mean excess return, %', 'Pricing error per test asset, %', 'b per factor (needed?)', 'λ per factor, % (priced?)']) {
       const chart = charts.getByRole('img', { name, exact: true });
