@@ -1,8 +1,13 @@
-/** Fetchers for runs, exports, compare and review. */
+/**
+ * Fetchers for runs, exports, compare and review. Every POST that creates something sends an
+ * `Idempotency-Key` (one per user action: the caller passes the key it made for the press, or a
+ * fresh one is made here), so a repeated request answers the first response instead of a duplicate.
+ */
 import { z } from 'zod';
 import { apiRequest, newIdempotencyKey } from './client';
 import {
   compareResponseSchema,
+  firstStageCopyResponseSchema,
   reviewQueueSchema,
   reviewersResponseSchema,
   runCommentSchema,
@@ -11,6 +16,7 @@ import {
   runsResponseSchema,
   signoffRequestSchema,
   signoffSchema,
+  type ChangeBasisBody,
   type CreateRunBody,
   type RunListQuery,
   type SignoffDecision,
@@ -40,16 +46,31 @@ export function exportHref(id: number, kind: 'export.csv' | 'export.tex' | 'resu
 export async function getReview(runId: number) {
   return (await apiRequest(`/runs/${runId}/review`, { schema: runReviewResponseSchema })).review;
 }
-export async function addComment(runId: number, text: string) {
-  return (await apiRequest(`/runs/${runId}/comments`, { method: 'POST', body: { text }, schema: z.object({ comment: runCommentSchema }) })).comment;
+export async function addComment(runId: number, text: string, idempotencyKey: string = newIdempotencyKey()) {
+  return (await apiRequest(`/runs/${runId}/comments`, { method: 'POST', body: { text }, schema: z.object({ comment: runCommentSchema }), idempotencyKey })).comment;
 }
-export async function giveSignoff(runId: number, decision: SignoffDecision, note?: string) {
-  return (await apiRequest(`/runs/${runId}/signoff`, { method: 'POST', body: { decision, ...(note ? { note } : {}) }, schema: z.object({ signoff: signoffSchema }) })).signoff;
-}
-export async function requestSignoff(runId: number, reviewerId: number, note?: string) {
+export async function giveSignoff(runId: number, decision: SignoffDecision, note?: string, idempotencyKey: string = newIdempotencyKey()) {
   return (
-    await apiRequest(`/runs/${runId}/signoff-requests`, { method: 'POST', body: { reviewerId, ...(note ? { note } : {}) }, schema: z.object({ request: signoffRequestSchema }) })
+    await apiRequest(`/runs/${runId}/signoff`, { method: 'POST', body: { decision, ...(note ? { note } : {}) }, schema: z.object({ signoff: signoffSchema }), idempotencyKey })
+  ).signoff;
+}
+export async function requestSignoff(runId: number, reviewerId: number, note?: string, idempotencyKey: string = newIdempotencyKey()) {
+  return (
+    await apiRequest(`/runs/${runId}/signoff-requests`, {
+      method: 'POST',
+      body: { reviewerId, ...(note ? { note } : {}) },
+      schema: z.object({ request: signoffRequestSchema }),
+      idempotencyKey,
+    })
   ).request;
+}
+/** `POST /runs/:id/basis`: a new run of the same spec and edition on another basis (the run itself is not changed). */
+export async function changeRunBasis(runId: number, body: ChangeBasisBody, idempotencyKey: string = newIdempotencyKey()) {
+  return (await apiRequest(`/runs/${runId}/basis`, { method: 'POST', body, schema: runResponseSchema, idempotencyKey })).run;
+}
+/** `POST /runs/:id/first-stage-copy`: the spec copied with stage first and basis robust, run on the same edition. */
+export async function firstStageCopy(runId: number, idempotencyKey: string = newIdempotencyKey()) {
+  return apiRequest(`/runs/${runId}/first-stage-copy`, { method: 'POST', body: {}, schema: firstStageCopyResponseSchema, idempotencyKey });
 }
 export async function listReviewers() {
   return (await apiRequest('/review/reviewers', { schema: reviewersResponseSchema })).reviewers;

@@ -3,10 +3,11 @@
  * and error bars; b and λ per factor with confidence intervals; pricing errors per asset.
  * Values in % per period (λ, returns, α); b in its own units.
  */
-import { useState } from 'react';
+import { useRef, useState } from 'react';
 import { Text, View, type LayoutChangeEvent } from 'react-native';
 import { VictoryAxis, VictoryBar, VictoryChart, VictoryErrorBar, VictoryLine, VictoryScatter } from 'victory';
 import type { LedgerResult } from '../shared/runs';
+import { ChartDownload } from './chart-download';
 import { colors, space, text } from './theme';
 
 /** The two-sided critical value the engine used, read back from a factor's interval (b ± z·se). */
@@ -30,17 +31,22 @@ function useWidth(initial = 320): [number, (e: LayoutChangeEvent) => void] {
   return [w, (e) => setW(Math.max(240, Math.floor(e.nativeEvent.layout.width)))];
 }
 
-function ChartBox({ title, caption, children, onLayout }: { title: string; caption: string; children: React.ReactNode; onLayout: (e: LayoutChangeEvent) => void }) {
+/** A chart with its title, caption and SVG / PNG download (the file carries the title and caption). */
+function ChartBox({ title, caption, fileName, children, onLayout }: { title: string; caption: string; fileName: string; children: React.ReactNode; onLayout: (e: LayoutChangeEvent) => void }) {
+  const ref = useRef<View>(null);
   return (
-    <View style={{ flexGrow: 1, flexBasis: 320, minWidth: 0, gap: space.xs }} onLayout={onLayout} aria-label={title} role="img">
-      <Text style={text.strong}>{title}</Text>
-      {children}
+    <View style={{ flexGrow: 1, flexBasis: 320, minWidth: 0, gap: space.xs }}>
+      <View style={{ gap: space.xs }} onLayout={onLayout} aria-label={title} role="img" ref={ref}>
+        <Text style={text.strong}>{title}</Text>
+        {children}
+      </View>
       <Text style={text.muted}>{caption}</Text>
+      <ChartDownload target={ref} fileName={fileName} title={title} note={caption} />
     </View>
   );
 }
 
-export function PredictedRealisedChart({ result }: { result: LedgerResult }) {
+export function PredictedRealisedChart({ result, fileBase = 'keelson-run' }: { result: LedgerResult; fileBase?: string }) {
   const [w, onLayout] = useWidth();
   const z = criticalZ(result);
   const pts = result.pricingErrors.map((e) => ({ x: e.predicted * 100, y: e.meanReturn * 100, errorY: z * e.se * 100 }));
@@ -53,6 +59,7 @@ export function PredictedRealisedChart({ result }: { result: LedgerResult }) {
     <ChartBox
       title="Predicted vs realised mean excess return, %"
       caption={`One dot per test asset; bars: ±${z.toFixed(2)} standard errors of the pricing error. On the 45° line the model prices the asset exactly.`}
+      fileName={`${fileBase}-predicted-vs-realised`}
       onLayout={onLayout}
     >
       <VictoryChart width={w} height={Math.min(w, 340)} domain={{ x: dom, y: dom }} padding={{ top: 10, bottom: 44, left: 52, right: 12 }}>
@@ -66,7 +73,7 @@ export function PredictedRealisedChart({ result }: { result: LedgerResult }) {
   );
 }
 
-function CoefChart({ title, caption, items }: { title: string; caption: string; items: { x: string; y: number; lo: number; hi: number }[] }) {
+function CoefChart({ title, caption, fileName, items }: { title: string; caption: string; fileName: string; items: { x: string; y: number; lo: number; hi: number }[] }) {
   const [w, onLayout] = useWidth();
   const data = items.map((d, i) => ({ x: i + 1, y: d.y, errorY: [d.hi - d.y, d.y - d.lo] as [number, number] }));
   // Victory sizes the axis to the points only; widen it to the whole intervals (and 0) so no bar is cut off.
@@ -74,7 +81,7 @@ function CoefChart({ title, caption, items }: { title: string; caption: string; 
   const hi = Math.max(0, ...items.map((d) => d.hi));
   const pad = (hi - lo) * 0.06 || 1;
   return (
-    <ChartBox title={title} caption={caption} onLayout={onLayout}>
+    <ChartBox title={title} caption={caption} fileName={fileName} onLayout={onLayout}>
       <VictoryChart width={w} height={240} domain={{ x: [0.5, items.length + 0.5], y: [lo - pad, hi + pad] }} domainPadding={{ x: 24 }} padding={{ top: 10, bottom: 40, left: 56, right: 12 }}>
         <VictoryAxis tickValues={items.map((_, i) => i + 1)} tickFormat={(t: number) => items[t - 1]?.x ?? ''} style={axisStyle} offsetY={40} />
         <VictoryAxis dependentAxis crossAxis={false} style={axisStyle} tickFormat={tick} />
@@ -86,31 +93,38 @@ function CoefChart({ title, caption, items }: { title: string; caption: string; 
   );
 }
 
-export function CoefficientCharts({ result }: { result: LedgerResult }) {
+export function CoefficientCharts({ result, fileBase = 'keelson-run' }: { result: LedgerResult; fileBase?: string }) {
   const pct = Math.round((1 - result.options.level) * 100);
   return (
     <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.lg }}>
       <CoefChart
         title="b per factor (needed?)"
         caption={`${pct}% intervals; an interval that excludes 0 means the factor is needed.`}
+        fileName={`${fileBase}-b`}
         items={result.factors.map((f) => ({ x: f.name, y: f.b, lo: f.ciB[0], hi: f.ciB[1] }))}
       />
       <CoefChart
         title="λ per factor, % (priced?)"
         caption={`${pct}% intervals; an interval that excludes 0 means the factor is priced.`}
+        fileName={`${fileBase}-lambda`}
         items={result.factors.map((f) => ({ x: f.name, y: f.lambda * 100, lo: f.ciLambda[0] * 100, hi: f.ciLambda[1] * 100 }))}
       />
     </View>
   );
 }
 
-export function PricingErrorChart({ result }: { result: LedgerResult }) {
+export function PricingErrorChart({ result, fileBase = 'keelson-run' }: { result: LedgerResult; fileBase?: string }) {
   const [w, onLayout] = useWidth();
   const z = criticalZ(result);
   const data = result.pricingErrors.map((e, i) => ({ x: i + 1, y: e.alpha * 100, errorY: z * e.se * 100, asset: e.asset }));
   const h = Math.max(220, 16 * data.length + 50);
   return (
-    <ChartBox title="Pricing error per test asset, %" caption={`α = realised − predicted mean excess return; bars ±${z.toFixed(2)} standard errors.`} onLayout={onLayout}>
+    <ChartBox
+      title="Pricing error per test asset, %"
+      caption={`α = realised − predicted mean excess return; bars ±${z.toFixed(2)} standard errors.`}
+      fileName={`${fileBase}-pricing-errors`}
+      onLayout={onLayout}
+    >
       <VictoryChart horizontal width={w} height={h} domainPadding={{ x: 10 }} padding={{ top: 10, bottom: 36, left: 110, right: 16 }}>
         <VictoryAxis tickValues={data.map((d) => d.x)} tickFormat={(t: number) => data[t - 1]?.asset ?? ''} style={axisStyle} offsetX={110} />
         <VictoryAxis dependentAxis crossAxis={false} style={axisStyle} tickFormat={tick} />
@@ -121,14 +135,15 @@ export function PricingErrorChart({ result }: { result: LedgerResult }) {
   );
 }
 
-export function LedgerCharts({ result }: { result: LedgerResult }) {
+export function LedgerCharts({ result, runId }: { result: LedgerResult; runId?: number }) {
+  const fileBase = runId ? `keelson-run-${runId}` : 'keelson-run';
   return (
     <View style={{ gap: space.xl }}>
       <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.lg }}>
-        <PredictedRealisedChart result={result} />
-        <PricingErrorChart result={result} />
+        <PredictedRealisedChart result={result} fileBase={fileBase} />
+        <PricingErrorChart result={result} fileBase={fileBase} />
       </View>
-      <CoefficientCharts result={result} />
+      <CoefficientCharts result={result} fileBase={fileBase} />
     </View>
   );
 }

@@ -1,12 +1,10 @@
 import { StyleSheet, Text, type StyleProp, type TextStyle } from 'react-native';
+import { formatFixed } from '../shared/format';
 import { colors, fonts } from './theme';
 
-/** Formats a number with fixed decimals and a true minus sign; null/undefined/non-finite → "—". */
+/** Formats a number with fixed decimals and a true minus sign; null/undefined/non-finite → "—" (shared/format.ts's formatFixed). */
 export function formatNum(value: number | null | undefined, decimals = 3): string {
-  if (value === null || value === undefined || !Number.isFinite(value)) return '—';
-  const s = Math.abs(value).toFixed(decimals);
-  const zero = Number(s) === 0;
-  return value < 0 && !zero ? `\u2212${s}` : s;
+  return formatFixed(value, decimals);
 }
 
 export interface NumProps {

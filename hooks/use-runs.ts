@@ -1,8 +1,25 @@
 /** TanStack Query hooks for runs, compare and review. */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type { KeelsonApiError } from '../shared/errors';
-import type { CreateRunBody, Run, RunListQuery, SignoffDecision } from '../shared/runs';
-import { addComment, compareRuns, createRun, getReview, getReviewQueue, getRun, giveSignoff, listReviewers, listRuns, requestSignoff } from '../api/runs';
+import type { ChangeBasisBody, CreateRunBody, FirstStageCopyResponse, Run, RunListQuery, SignoffDecision } from '../shared/runs';
+import {
+  addComment,
+  changeRunBasis,
+  compareRuns,
+  createRun,
+  firstStageCopy,
+  getReview,
+  getReviewQueue,
+  getRun,
+  giveSignoff,
+  listReviewers,
+  listRuns,
+  requestSignoff,
+} from '../api/runs';
+import { newIdempotencyKey } from '../api/client';
+import { useEffect } from 'react';
+import type { Job } from '../shared/jobs';
+import { isActiveJob, useJob } from './use-jobs';
 
 export const runKeys = {
   all: ['runs'] as const,
@@ -47,6 +64,60 @@ function useReviewMutation<V>(fn: (v: V) => Promise<unknown>, runId: number) {
   });
 }
 
-export const useAddComment = (runId: number) => useReviewMutation((text: string) => addComment(runId, text), runId);
-export const useGiveSignoff = (runId: number) => useReviewMutation((v: { decision: SignoffDecision; note?: string }) => giveSignoff(runId, v.decision, v.note), runId);
-export const useRequestSignoff = (runId: number) => useReviewMutation((v: { reviewerId: number; note?: string }) => requestSignoff(runId, v.reviewerId, v.note), runId);
+// One Idempotency-Key per mutate call (one press): a repeat of the same request is answered, not duplicated.
+export const useAddComment = (runId: number) => useReviewMutation((text: string) => addComment(runId, text, newIdempotencyKey()), runId);
+export const useGiveSignoff = (runId: number) =>
+  useReviewMutation((v: { decision: SignoffDecision; note?: string }) => giveSignoff(runId, v.decision, v.note, newIdempotencyKey()), runId);
+export const useRequestSignoff = (runId: number) =>
+  useReviewMutation((v: { reviewerId: number; note?: string }) => requestSignoff(runId, v.reviewerId, v.note, newIdempotencyKey()), runId);
+
+/** Puts a newly created run into the cache and refreshes the lists. */
+function useRememberRun() {
+  const qc = useQueryClient();
+  return (run: Run) => {
+    qc.setQueryData(runKeys.one(run.id), run);
+    void qc.invalidateQueries({ queryKey: ['runs', 'list'] });
+  };
+}
+
+/** A new run of `runId` on another basis (`POST /runs/:id/basis`); the run itself is not changed. */
+export function useChangeBasis(runId: number) {
+  const remember = useRememberRun();
+  return useMutation<Run, KeelsonApiError, ChangeBasisBody>({
+    mutationFn: (body) => changeRunBasis(runId, body, newIdempotencyKey()),
+    onSuccess: remember,
+  });
+}
+
+/** A first-stage copy of `runId`'s spec, run on the same edition (`POST /runs/:id/first-stage-copy`). */
+export function useFirstStageCopy(runId: number) {
+  const remember = useRememberRun();
+  const qc = useQueryClient();
+  return useMutation<FirstStageCopyResponse, KeelsonApiError, void>({
+    mutationFn: () => firstStageCopy(runId, newIdempotencyKey()),
+    onSuccess: (out) => {
+      remember(out.run);
+      if (out.spec) void qc.invalidateQueries({ queryKey: ['specs'] });
+    },
+  });
+}
+
+/**
+ * The run's own bootstrap (the deep check started with a spec that asks for bootstrap p-values):
+ * polls its job while it runs (useJob) and, when the job finishes, refetches the run, whose
+ * ledger then carries the bootstrap p-values (the server merges them when the job ends).
+ * `pending`: asked for and not in the ledger yet while the job is queued or running.
+ */
+export function useRunBootstrap(run: Run | undefined): { job: Job | undefined; pending: boolean; waitingForMerge: boolean } {
+  const qc = useQueryClient();
+  const r = run?.result ?? null;
+  const wanted = !!run && run.bootstrapJobId !== null && !!r && r.bootstrap === null;
+  const job = useJob(wanted ? (run.bootstrapJobId ?? undefined) : undefined).data;
+  const status = job?.status;
+  const runId = run?.id;
+  useEffect(() => {
+    if (wanted && status === 'finished' && runId) void qc.invalidateQueries({ queryKey: runKeys.one(runId) });
+  }, [wanted, status, runId, qc]);
+  const active = !!job && isActiveJob(job);
+  return { job: wanted ? job : undefined, pending: wanted && (active || !job || status === 'finished'), waitingForMerge: wanted && status === 'finished' };
+}

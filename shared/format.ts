@@ -25,6 +25,12 @@ export interface FormatStyle {
   readonly missing?: string;
   /** "Less than" sign before P_FLOOR (screen: "< "; LaTeX: `$<$`). */
   readonly less?: string;
+  /**
+   * formatP only: the significance level a star marks (p < level). When three decimals would round
+   * a p below the level up to it (0.0498 → "0.050" beside a star at 5%), more decimals are printed
+   * until the text reads below the level ("0.0498").
+   */
+  readonly level?: number;
 }
 
 /** A number with fixed decimals and a true minus sign; null/undefined/non-finite → `missing`. */
@@ -40,9 +46,19 @@ export function formatPercent(x: number | null | undefined, decimals: number = D
   return formatFixed(x === null || x === undefined ? x : x * 100, decimals, style);
 }
 
-/** A p-value: "< 0.001" below P_FLOOR, else three decimals. */
+/**
+ * A p-value: "< 0.001" below P_FLOOR, else three decimals — or, with `style.level`, as many more
+ * (up to six) as it takes for a p below the level not to print as the level or above it; a p even
+ * closer under the level prints as "< level" (e.g. "< 0.050").
+ */
 export function formatP(p: number | null | undefined, style: FormatStyle = {}): string {
   if (p === null || p === undefined || !Number.isFinite(p)) return formatFixed(p, DECIMALS.p, style);
   if (p < P_FLOOR) return `${style.less ?? '< '}${P_FLOOR.toFixed(DECIMALS.p)}`;
-  return formatFixed(p, DECIMALS.p, style);
+  let d: number = DECIMALS.p;
+  const level = style.level;
+  if (level !== undefined && p < level) {
+    while (d < 6 && Number(p.toFixed(d)) >= level) d++;
+    if (Number(p.toFixed(d)) >= level) return `${style.less ?? '< '}${formatFixed(level, DECIMALS.p, style)}`;
+  }
+  return formatFixed(p, d, style);
 }

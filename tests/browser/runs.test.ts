@@ -103,7 +103,9 @@ describe('researcher: spec → run → ledger → export', () => {
 
     // ask the reviewer for a sign-off
     await page.getByRole('radio', { name: 'Ravi Okonedo (reviewer)' }).click();
+    const requestPost = page.waitForRequest((q) => q.method() === 'POST' && q.url().endsWith(`/runs/${runId}/signoff-requests`));
     await page.getByRole('button', { name: 'Request sign-off' }).click();
+    expect((await requestPost).headers()['idempotency-key']).toMatch(/^[0-9a-f]{32}$/);
     await page.getByText('Request sent; the reviewer gets an e-mail.').waitFor();
 
     expectSameOrigin(requests);
@@ -163,10 +165,15 @@ describe('reviewer: comment and approve', () => {
     await page.getByRole('link', { name: `Open run ${runId}` }).first().click();
     await page.waitForURL(new RegExp(`/runs/${runId}$`));
     await page.getByLabel('Comment', { exact: true }).fill('Drop tests agree with the b t-statistics.');
+    const commentPost = page.waitForRequest((q) => q.method() === 'POST' && q.url().endsWith(`/runs/${runId}/comments`));
     await page.getByRole('button', { name: 'Add comment' }).click();
+    // every creating POST of the run page carries a fresh Idempotency-Key (one per press)
+    expect((await commentPost).headers()['idempotency-key']).toMatch(/^[0-9a-f]{32}$/);
     await page.getByText('Drop tests agree with the b t-statistics.').waitFor();
     await page.getByLabel('Sign-off note (optional)', { exact: true }).fill('Approved for the desk.');
+    const signoffPost = page.waitForRequest((q) => q.method() === 'POST' && q.url().endsWith(`/runs/${runId}/signoff`));
     await page.getByRole('button', { name: 'Approve' }).click();
+    expect((await signoffPost).headers()['idempotency-key']).toMatch(/^[0-9a-f]{32}$/);
     await page.getByText('Ravi Okonedo: approved').waitFor();
     await shots(page, 'run-reviewed-wide', 10);
     const mine = await api<{ messages: { subject: string }[] }>(page, '/auth/outbox');

@@ -2,14 +2,16 @@ import { useState } from 'react';
 import { Text, View } from 'react-native';
 import { router, useLocalSearchParams } from 'expo-router';
 import { useMe } from '../../../hooks/use-session';
-import { useRun } from '../../../hooks/use-runs';
+import { useIsWide } from '../../../hooks/use-layout';
+import { useRun, useRunBootstrap } from '../../../hooks/use-runs';
 import { Screen } from '../../../components/screen';
 import { Card } from '../../../components/card';
 import { Button } from '../../../components/button';
 import { ErrorView } from '../../../components/error-view';
 import { TextField } from '../../../components/text-field';
 import { formatWhen } from '../../../components/format';
-import { JointDropCard, LedgerTable } from '../../../components/ledger-table';
+import { JointDropCard, LedgerTable, LedgerTestsTable } from '../../../components/ledger-table';
+import { BasisSwitcher, LedgerBasisBar } from '../../../components/ledger-basis';
 import { LedgerFit } from '../../../components/ledger-fit';
 import { LedgerCharts } from '../../../components/ledger-charts';
 import { RunCaution, RunExports, RunSpecSummary, RunStatusChip } from '../../../components/run-summary';
@@ -24,6 +26,8 @@ export default function RunPage() {
   const me = useMe().data;
   const q = useRun(Number.isInteger(runId) && runId > 0 ? runId : undefined);
   const [other, setOther] = useState('');
+  const boot = useRunBootstrap(q.data);
+  const wide = useIsWide();
 
   if (q.isPending) return <Screen title={`Run #${id}`} subtitle="Loading…" />;
   if (q.isError)
@@ -52,19 +56,31 @@ export default function RunPage() {
       ) : null}
       {r ? <RunCaution /> : null}
       {r ? (
-        <Card title="Factor ledger" subtitle="b answers “needed?”, λ answers “priced?”. Verdict last.">
-          <LedgerTable result={r} />
-          <JointDropCard result={r} />
+        <Card title="Factor ledger" accessibilityLabel="Factor ledger" subtitle="b answers “needed?”, λ answers “priced?”. Verdict last, with the basis it rests on.">
+          <LedgerBasisBar run={run} me={me} bootstrapJob={boot.job} bootstrapPending={boot.pending} />
+          <LedgerTable result={r} bootstrapPending={boot.pending} />
+        </Card>
+      ) : null}
+      {r && (wide || r.jointDrop) ? (
+        <Card title="Drop tests and spanning checks" accessibilityLabel="Drop tests and spanning checks" subtitle="Can the factor be dropped? Do the other factors span it?">
+          <LedgerTestsTable result={r} bootstrapPending={boot.pending} />
+          <JointDropCard result={r} bootstrapPending={boot.pending} />
+          {!r.jointDrop ? <Text style={text.muted}>No joint drop set in this spec.</Text> : null}
+        </Card>
+      ) : null}
+      {r && run.status === 'finished' ? (
+        <Card title="Basis of the verdicts" accessibilityLabel="Basis of the verdicts" subtitle="standard, robust or bootstrap">
+          <BasisSwitcher run={run} me={me} />
         </Card>
       ) : null}
       {r ? (
-        <Card title="Fit">
-          <LedgerFit result={r} />
+        <Card title="Fit" accessibilityLabel="Fit">
+          <LedgerFit result={r} bootstrapPending={boot.pending} />
         </Card>
       ) : null}
       {r ? (
-        <Card title="Charts">
-          <LedgerCharts result={r} />
+        <Card title="Charts" accessibilityLabel="Charts">
+          <LedgerCharts result={r} runId={run.id} />
         </Card>
       ) : null}
       {/* Deep checks (owned by the checks module): mount its run panel on the next line. */}
