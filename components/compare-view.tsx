@@ -106,6 +106,7 @@ function MiniLedger({ run }: { run: Run }) {
 
 function Side({ run, label }: { run: Run; label: string }) {
   const r = run.result;
+  const level = r?.options.level ?? 0.05;
   return (
     <Card title={`${label}: run #${run.id}${run.specName ? ` · ${run.specName}` : ''}`} subtitle={`${run.libraryName}, edition ${run.editionNumber} · ${run.spec.stage} stage · ${run.authorName}`} style={{ flex: 1, minWidth: 0 }}>
       <RunStatusChip status={run.status} />
@@ -113,7 +114,7 @@ function Side({ run, label }: { run: Run; label: string }) {
       {r ? (
         <View style={{ gap: 2 }}>
           <Text style={styles.line}>
-            J {formatNum(r.J.stat, 2)} · df {r.J.df} · p {formatNum(r.J.p, 3)}
+            J {formatNum(r.J.stat, 2)} · df {r.J.df} · p {formatP(r.J.p, { level })}
           </Text>
           <Text style={styles.line}>HJ {r.hj === null ? '—' : formatNum(r.hj, 4)} · T {r.T} · N {r.N}</Text>
           <Text style={styles.line}>
@@ -170,8 +171,8 @@ function ModelTest({ data, level }: { data: CompareResponse; level: number }) {
             θ B {theta(s.b.theta)} (se {theta(s.b.se)})
           </Text>
         </View>
-        <View style={styles.thetaRow} role="group" aria-label={`A − B ${theta(s.diff)} · se ${theta(s.se)} · z ${formatNum(s.z, 2)} · p ${formatP(s.p)}${sig ? '*' : ''}`}>
-          {[`A − B ${theta(s.diff)}`, `se ${theta(s.se)}`, `z ${formatNum(s.z, 2)}`, `p ${formatP(s.p)}${sig ? '*' : ''}`].map((part, i) => (
+        <View style={styles.thetaRow} role="group" aria-label={`A − B ${theta(s.diff)} · se ${theta(s.se)} · z ${formatNum(s.z, 2)} · p ${formatP(s.p, { level })}${sig ? '*' : ''}`}>
+          {[`A − B ${theta(s.diff)}`, `se ${theta(s.se)}`, `z ${formatNum(s.z, 2)}`, `p ${formatP(s.p, { level })}${sig ? '*' : ''}`].map((part, i) => (
             <Text key={i} style={[styles.big, sig && styles.m]} numberOfLines={1}>
               {i > 0 ? '· ' : ''}
               {part}
@@ -204,7 +205,7 @@ function ModelTest({ data, level }: { data: CompareResponse; level: number }) {
           Nested models: the joint spanning test of {sp.factors.join(', ')} on {sp.on.join(', ')} replaces the z test.
         </Text>
         <Text style={[styles.big, sig && styles.m]}>
-          χ² {formatNum(sp.stat, 2)} · df {sp.df} · p {formatP(sp.p)}
+          χ² {formatNum(sp.stat, 2)} · df {sp.df} · p {formatP(sp.p, { level })}
           {sig ? '*' : ''}
         </Text>
         <Text style={text.body}>
@@ -264,7 +265,7 @@ export function CompareView({ data }: { data: CompareResponse }) {
               Run #{n.smallerRunId} drops {n.dropped.join(', ')} from run #{n.largerRunId}.
             </Text>
             <Text style={[styles.big, n.test.p < level && styles.m]}>
-              χ² {formatNum(n.test.stat, 3)} · df {n.test.df} · p {formatNum(n.test.p, 4)}
+              χ² {formatNum(n.test.stat, 3)} · df {n.test.df} · p {formatP(n.test.p, { level })}
               {n.test.p < level ? '*' : ''}
             </Text>
             <Text style={text.muted}>
