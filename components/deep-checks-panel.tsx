@@ -58,7 +58,7 @@ function useStartCheckOnce(runId: number) {
     },
     onSuccess: (job) => {
       qc.setQueryData(jobKeys.one(job.id), job);
-      void qc.invalidateQueries({ queryKey: ['jobs', 'list'] });
+      void qc.invalidateQueries({ queryKey: jobKeys.lists });
     },
     onSettled: () => {
       inFlight.current = false;

@@ -2,4 +2,6 @@
 import { useQuery } from '@tanstack/react-query';
 import { getMethodsMarkdown } from '../api/docs';
 
-export const useMethodsDoc = () => useQuery({ queryKey: ['docs', 'methods'], queryFn: ({ signal }) => getMethodsMarkdown(signal), staleTime: 60 * 60_000 });
+export const docKeys = { methods: ['docs', 'methods'] as const };
+
+export const useMethodsDoc = () => useQuery({ queryKey: docKeys.methods, queryFn: ({ signal }) => getMethodsMarkdown(signal), staleTime: 60 * 60_000 });

@@ -11,6 +11,7 @@ export const POLL_MS = 1000;
 
 export const jobKeys = {
   all: ['jobs'] as const,
+  lists: ['jobs', 'list'] as const,
   list: (q: Partial<JobListQuery>) => ['jobs', 'list', q] as const,
   one: (id: number) => ['jobs', 'one', id] as const,
 };
@@ -40,7 +41,7 @@ function useJobMutation<V>(fn: (v: V) => Promise<Job>) {
     mutationFn: fn,
     onSuccess: (job) => {
       qc.setQueryData(jobKeys.one(job.id), (old: Job | undefined) => (job.result || !old ? job : { ...job, result: old.result }));
-      void qc.invalidateQueries({ queryKey: ['jobs', 'list'] });
+      void qc.invalidateQueries({ queryKey: jobKeys.lists });
       void qc.invalidateQueries({ queryKey: jobKeys.one(job.id) });
     },
   });

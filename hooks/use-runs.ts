@@ -20,10 +20,13 @@ import { newIdempotencyKey } from '../api/client';
 import { useEffect } from 'react';
 import type { Job } from '../shared/jobs';
 import { isActiveJob, useJob } from './use-jobs';
+import { specKeys } from './use-specs';
 
 export const runKeys = {
   all: ['runs'] as const,
+  lists: ['runs', 'list'] as const,
   list: (q: Partial<RunListQuery>) => ['runs', 'list', q] as const,
+  reviewers: ['reviewers'] as const,
   one: (id: number) => ['runs', 'one', id] as const,
   review: (id: number) => ['runs', 'review', id] as const,
   compare: (a: number, b: number) => ['runs', 'compare', a, b] as const,
@@ -37,7 +40,7 @@ export const useRunReview = (id: number | undefined) => useQuery({ queryKey: run
 export const useCompare = (a: number | undefined, b: number | undefined) =>
   useQuery({ queryKey: runKeys.compare(a ?? 0, b ?? 0), queryFn: () => compareRuns(a!, b!), enabled: !!a && !!b && a !== b, staleTime: Infinity });
 export const useReviewQueue = () => useQuery({ queryKey: runKeys.queue, queryFn: getReviewQueue });
-export const useReviewers = (enabled = true) => useQuery({ queryKey: ['reviewers'], queryFn: listReviewers, enabled });
+export const useReviewers = (enabled = true) => useQuery({ queryKey: runKeys.reviewers, queryFn: listReviewers, enabled });
 
 export function useCreateRun() {
   const qc = useQueryClient();
@@ -46,7 +49,7 @@ export function useCreateRun() {
     mutationFn: ({ idempotencyKey, ...body }) => createRun(body, idempotencyKey),
     onSuccess: (run) => {
       qc.setQueryData(runKeys.one(run.id), run);
-      void qc.invalidateQueries({ queryKey: ['runs', 'list'] });
+      void qc.invalidateQueries({ queryKey: runKeys.lists });
     },
   });
 }
@@ -58,7 +61,7 @@ function useReviewMutation<V>(fn: (v: V) => Promise<unknown>, runId: number) {
     onSuccess: () => {
       void qc.invalidateQueries({ queryKey: runKeys.review(runId) });
       void qc.invalidateQueries({ queryKey: runKeys.queue });
-      void qc.invalidateQueries({ queryKey: ['runs', 'list'] });
+      void qc.invalidateQueries({ queryKey: runKeys.lists });
       void qc.refetchQueries({ queryKey: runKeys.one(runId) });
     },
   });
@@ -76,7 +79,7 @@ function useRememberRun() {
   const qc = useQueryClient();
   return (run: Run) => {
     qc.setQueryData(runKeys.one(run.id), run);
-    void qc.invalidateQueries({ queryKey: ['runs', 'list'] });
+    void qc.invalidateQueries({ queryKey: runKeys.lists });
   };
 }
 
@@ -97,7 +100,7 @@ export function useFirstStageCopy(runId: number) {
     mutationFn: () => firstStageCopy(runId, newIdempotencyKey()),
     onSuccess: (out) => {
       remember(out.run);
-      if (out.spec) void qc.invalidateQueries({ queryKey: ['specs'] });
+      if (out.spec) void qc.invalidateQueries({ queryKey: specKeys.all });
     },
   });
 }
