@@ -10,10 +10,12 @@
  * of creating the thing twice.
  */
 import type { ZodType } from 'zod';
-import { errorEnvelopeSchema, KeelsonApiError, type ErrorCode } from '../shared/errors';
+import { KeelsonApiError, type ErrorCode } from '../shared/errors';
 import { csrfResponseSchema } from '../shared/auth';
+import { readErrorEnvelope, sendApiRequest, type HttpMethod } from '../shared/http-core';
 
-export type HttpMethod = 'GET' | 'POST' | 'PATCH' | 'PUT' | 'DELETE';
+// The HTTP core (request building, fetch, envelope parsing) is shared with the command line.
+export { newIdempotencyKey, type HttpMethod } from '../shared/http-core';
 
 export interface ApiRequestOptions<T> {
   method?: HttpMethod;
@@ -26,19 +28,6 @@ export interface ApiRequestOptions<T> {
   idempotencyKey?: string;
   /** Extra request headers. */
   headers?: Readonly<Record<string, string>>;
-}
-
-/**
- * A fresh key for one user action (one press of a creating button): 128 random bits as 32 hex
- * digits. Uses `crypto.getRandomValues`, which, unlike `crypto.randomUUID`, also exists on pages
- * served over plain http from a LAN address.
- */
-export function newIdempotencyKey(): string {
-  const bytes = new Uint8Array(16);
-  const c = (globalThis as { crypto?: { getRandomValues?: (a: Uint8Array) => Uint8Array } }).crypto;
-  if (c?.getRandomValues) c.getRandomValues(bytes);
-  else for (let i = 0; i < bytes.length; i++) bytes[i] = Math.floor(Math.random() * 256);
-  return Array.from(bytes, (b) => b.toString(16).padStart(2, '0')).join('');
 }
 
 /** Origin of the API; '' means the page's own origin (the web export is served by the API server). */
@@ -91,17 +80,8 @@ function codeForStatus(status: number): ErrorCode {
 }
 
 async function toApiError(res: Response): Promise<KeelsonApiError> {
-  let json: unknown = null;
-  try {
-    json = await res.json();
-  } catch {
-    /* not JSON: fall through */
-  }
-  const env = errorEnvelopeSchema.safeParse(json);
-  if (env.success) {
-    const { code, message, issues } = env.data.error;
-    return new KeelsonApiError(code, message, issues, res.status);
-  }
+  const env = await readErrorEnvelope(res);
+  if (env) return new KeelsonApiError(env.code, env.message, env.issues, res.status);
   return new KeelsonApiError(codeForStatus(res.status), `The server answered ${res.status} ${res.statusText || ''}`.trim(), undefined, res.status);
 }
 
@@ -113,17 +93,9 @@ async function send(
   idempotencyKey?: string,
   extra?: Readonly<Record<string, string>>,
 ): Promise<Response> {
-  const headers: Record<string, string> = { ...extra, accept: 'application/json' };
-  if (method !== 'GET') headers['x-csrf-token'] = await fetchCsrfToken();
-  if (idempotencyKey) headers['idempotency-key'] = idempotencyKey;
-  let payload: BodyInit | undefined;
-  if (body instanceof FormData) payload = body;
-  else if (body !== undefined) {
-    headers['content-type'] = 'application/json';
-    payload = JSON.stringify(body);
-  }
+  const csrfToken = method !== 'GET' ? await fetchCsrfToken() : undefined;
   try {
-    return await fetch(`${apiBase}/api/v1${path}`, { method, headers, body: payload, credentials: 'same-origin', signal });
+    return await sendApiRequest(apiBase, path, { method, body, csrfToken, idempotencyKey, headers: extra }, { credentials: 'same-origin', signal });
   } catch (e) {
     if ((e as { name?: string })?.name === 'AbortError') throw e;
     throw new KeelsonApiError('internal', NETWORK_MESSAGE, undefined, 0);

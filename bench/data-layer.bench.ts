@@ -6,6 +6,14 @@
  *  - the value blobs of an edition — loadEditionArrays / loadEditionData (runs read this);
  *  - writing an edition's series rows in one transaction — confirmUpload.
  * Each pair runs alternately, medians of 25 rounds (11 for writes) of CPU time; the ratio is Drizzle / raw.
+ *
+ * Measured 2 Dec 2026 on the shared 2-core machine (load 9–15), two runs:
+ *   daily 12,000 × 50    read-back 0.99–1.02, blobs 1.03–1.09, insert 1.24–1.27 (+19–20 ms CPU)
+ *   monthly 1,200 × 100  read-back 1.23–1.49, blobs 1.34–1.50 (+0.3–0.7 ms), insert 0.62–0.73
+ * No path slows by 20%: bench/libraries.bench.ts, raw SQL (before) → Drizzle (after), CPU medians:
+ *   daily import 911 → 1002 ms (+10%, of which ~20 ms the insert above), read-back 173 → 172 ms;
+ *   monthly import 179 → 187 ms (+4%), read-back 29 → 30 ms.
+ * So the services keep Drizzle everywhere; these raw statements exist only here, as the yardstick.
  */
 import { mkdtempSync, rmSync } from 'node:fs';
 import os, { tmpdir } from 'node:os';

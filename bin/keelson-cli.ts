@@ -5,7 +5,6 @@
  */
 import { readFileSync } from 'node:fs';
 import { parseArgs } from 'node:util';
-import Papa from 'papaparse';
 import { isRemoteCommand, REMOTE_USAGE, runRemote } from './remote';
 import {
   bootstrapSdfTests,
@@ -20,6 +19,7 @@ import {
   type LedgerResult,
 } from '../lib/gmm/index';
 import { detectUnits } from '../shared/units';
+import { parseReturnCsv, ReturnCsvError, type CsvProblem } from '../shared/return-csv';
 import { renderLedgerText } from './ledger-text';
 import { holdoutPricing } from '../lib/gmm/index';
 import { compareFactorModels, type ModelComparison } from '../server/services/model-compare';
@@ -86,60 +86,65 @@ function list(v: string | undefined): string[] | undefined {
     .filter((s) => s.length > 0);
 }
 
-const DATE_RE = /^(\d{4})-(0[1-9]|1[0-2])(?:-(0[1-9]|[12]\d|3[01]))?$/;
-
 export interface LoadedLibrary {
   dates: string[];
   columns: string[];
+  /** Decimals (divided by 100 with `percent`); NaN = missing (an empty cell, NA, N/A, NaN, null). */
   values: Map<string, number[]>;
+  /** The file line of each date (header = line 1). */
+  lines: number[];
 }
 
-/** Parse the CSV return library; every problem names the file, line and column. */
+/** One problem of the shared reader in the command line's words: file, line, date, column. */
+function cliCsvMessage(file: string, p: CsvProblem): string {
+  const at = (withDate: boolean) =>
+    `${file}${p.row !== undefined ? ` line ${p.row}` : ''}${withDate && p.date ? ` (${p.date})` : ''}${p.column !== undefined ? `, column ${p.column}` : ''}`;
+  switch (p.code) {
+    case 'field_count':
+      return `${file} line ${p.row}: ${p.found} fields, expected ${p.expected} (one per header column)`;
+    case 'not_a_date':
+      return `${at(false)}: "${p.cell}" is not a date (YYYY-MM, YYYYMM, YYYY-MM-DD or YYYYMMDD)`;
+    case 'out_of_order':
+      return `${at(false)}: "${p.date}" does not come after "${p.previous}" (dates must increase, no repeats)`;
+    case 'not_a_number':
+      return `${at(true)}: "${p.cell}" is not a number`;
+    case 'no_date_column':
+      return `${file} line 1: the first column must be "date", found "${p.cell}"`;
+    case 'duplicate_column':
+      return `${file} line 1: column "${p.cell}" appears twice`;
+    default: {
+      // The reader's own words, without its "Row N, column C: " prefix (the location comes first here).
+      const text = p.message.replace(/^Row \d+(, column [^:]+)?: /, '');
+      return `${at(true)}: ${text.charAt(0).toLowerCase()}${text.slice(1)}`;
+    }
+  }
+}
+
+/**
+ * Reads the CSV return library with the shared reader (the one uploads use: comma, semicolon or
+ * tab; YYYY-MM, YYYYMM, YYYY-MM-DD or YYYYMMDD dates; NA, N/A, NaN, null or an empty cell for a
+ * missing value). Unlike an upload, rows out of date order are refused rather than sorted.
+ * Every problem names the file, line and column.
+ */
 export function loadLibrary(file: string, text: string, percent: boolean): LoadedLibrary {
-  const parsed = Papa.parse<string[]>(text.replace(/^\uFEFF/, ''), { skipEmptyLines: 'greedy' });
-  if (parsed.errors.length > 0) {
-    const e = parsed.errors[0];
-    throw new CliInputError(`${file} line ${(e.row ?? 0) + 1}: malformed CSV (${e.message})`);
+  let parsed;
+  try {
+    parsed = parseReturnCsv(text, { order: 'refuse' });
+  } catch (e) {
+    if (e instanceof ReturnCsvError) throw new CliInputError(cliCsvMessage(file, e.problems[0]!));
+    throw e;
   }
-  const rows = parsed.data;
-  if (rows.length < 2) throw new CliInputError(`${file}: needs a header line and at least one data line`);
-  const header = rows[0].map((h) => h.trim());
-  if (header[0].toLowerCase() !== 'date') throw new CliInputError(`${file} line 1: the first column must be "date", found "${header[0]}"`);
-  const columns = header.slice(1);
-  if (columns.length === 0) throw new CliInputError(`${file} line 1: no series columns after "date"`);
-  const seen = new Set<string>();
-  for (const c of columns) {
-    if (c === '') throw new CliInputError(`${file} line 1: a column has an empty name`);
-    if (seen.has(c)) throw new CliInputError(`${file} line 1: column "${c}" appears twice`);
-    seen.add(c);
-  }
-  const values = new Map<string, number[]>(columns.map((c) => [c, []]));
-  const dates: string[] = [];
-  for (let r = 1; r < rows.length; r++) {
-    const line = r + 1;
-    const row = rows[r];
-    if (row.length !== header.length)
-      throw new CliInputError(`${file} line ${line}: ${row.length} fields, expected ${header.length} (one per header column)`);
-    const date = row[0].trim();
-    const m = DATE_RE.exec(date);
-    if (!m) throw new CliInputError(`${file} line ${line}, column date: "${date}" is not a date (YYYY-MM or YYYY-MM-DD)`);
-    if (dates.length > 0) {
-      const prev = dates[dates.length - 1];
-      if (date.length !== prev.length)
-        throw new CliInputError(`${file} line ${line}, column date: "${date}" mixes date formats with "${prev}"`);
-      if (date <= prev)
-        throw new CliInputError(`${file} line ${line}, column date: "${date}" does not come after "${prev}" (dates must increase, no repeats)`);
-    }
-    dates.push(date);
-    for (let c = 0; c < columns.length; c++) {
-      const raw = row[c + 1].trim();
-      if (raw === '') throw new CliInputError(`${file} line ${line} (${date}), column ${columns[c]}: missing value`);
-      const v = Number(raw);
-      if (!Number.isFinite(v)) throw new CliInputError(`${file} line ${line} (${date}), column ${columns[c]}: "${raw}" is not a number`);
-      values.get(columns[c])!.push(percent ? v / 100 : v);
+  const values = new Map<string, number[]>(parsed.columns.map((c, k) => [c, Array.from(parsed.values[k]!, (v) => (percent ? v / 100 : v))]));
+  return { dates: parsed.dates, columns: parsed.columns, values, lines: parsed.lines };
+}
+
+/** Refuses a missing value in a column the estimation uses, naming its line and date. */
+function assertNoMissing(file: string, lib: LoadedLibrary, used: readonly string[]): void {
+  for (let t = 0; t < lib.dates.length; t++) {
+    for (const c of used) {
+      if (Number.isNaN(lib.values.get(c)![t]!)) throw new CliInputError(`${file} line ${lib.lines[t]} (${lib.dates[t]}), column ${c}: missing value`);
     }
   }
-  return { dates, columns, values };
 }
 
 function parseCommand(argv: string[]) {
@@ -271,6 +276,7 @@ export function buildInput(values: ReturnType<typeof parseCommand>['values']) {
   const dropSet = list(values['drop-set']);
   if (dropSet) for (const f of dropSet) if (!factorNames.includes(f)) throw new CliInputError(`--drop-set: "${f}" is not one of the --factors`);
   const used = [...assetNames, ...factorNames, ...(rf ? [rf] : [])];
+  assertNoMissing(values.data, lib, used);
   const detected = detectUnits(used.map((c) => lib.values.get(c)!));
   if (detected.units === 'percent' && !values.percent && !values.decimal)
     throw new CliInputError(

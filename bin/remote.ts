@@ -10,7 +10,7 @@ import { chmodSync, existsSync, mkdirSync, readFileSync, rmSync, writeFileSync }
 import { homedir } from 'node:os';
 import { basename, join } from 'node:path';
 import { parseArgs } from 'node:util';
-import { errorEnvelopeSchema } from '../shared/errors';
+import { readErrorEnvelope, sendApiRequest } from '../shared/http-core';
 import type { BootstrapResult } from '../lib/gmm/bootstrap';
 import type { RollingResult } from '../lib/gmm/rolling';
 import type { SubsetSweepResult } from '../lib/gmm/subset-sweep';
@@ -98,17 +98,14 @@ class Client {
   ) {}
 
   async request(method: string, path: string, body?: unknown, raw = false): Promise<{ status: number; json?: unknown; text?: string }> {
-    const headers: Record<string, string> = { cookie: this.session.cookie, accept: raw ? '*/*' : 'application/json' };
-    let payload: BodyInit | undefined;
-    if (body instanceof FormData) payload = body;
-    else if (body !== undefined) {
-      headers['content-type'] = 'application/json';
-      payload = JSON.stringify(body);
-    }
-    if (method !== 'GET') headers['x-csrf-token'] = this.session.csrf;
     let res: Response;
     try {
-      res = await fetch(`${this.session.server}/api/v1${path}`, { method, headers, body: payload, redirect: 'manual' });
+      res = await sendApiRequest(
+        this.session.server,
+        path,
+        { method, body, csrfToken: this.session.csrf, accept: raw ? '*/*' : 'application/json', headers: { cookie: this.session.cookie } },
+        { redirect: 'manual' },
+      );
     } catch (e) {
       throw new RemoteError(`cannot reach ${this.session.server}: ${(e as Error).message}`, 1);
     }
@@ -119,8 +116,8 @@ class Client {
     }
     const type = res.headers.get('content-type') ?? '';
     if (!res.ok) {
-      const parsed = type.includes('json') ? errorEnvelopeSchema.safeParse(await res.json()) : undefined;
-      const msg = parsed?.success ? envelopeLine(parsed.data.error) : `the server answered ${res.status}`;
+      const env = type.includes('json') ? await readErrorEnvelope(res) : null;
+      const msg = env ? envelopeLine(env) : `the server answered ${res.status}`;
       throw new RemoteError(`${method} ${path}: ${msg}`, exitCodeFor(res.status));
     }
     if (res.status === 204) return { status: 204 };

@@ -299,3 +299,16 @@ export const SPEC_HELP = {
   level: 'Significance level for the verdicts (needed / priced) and confidence intervals.',
   dropSet: 'Optional set of factors for a joint drop test (χ² difference with common weighting).',
 } as const;
+
+/** GET /specs query (strings, as Express hands them over). */
+export const specListQuerySchema = z.object({
+  mine: z.enum(['true', 'false']).optional(),
+  editionId: z.coerce.number().int().positive().optional(),
+  /** true: list archived specs too. */
+  archived: z.enum(['true', 'false']).optional(),
+});
+export type SpecListQuery = z.infer<typeof specListQuerySchema>;
+
+/** POST /specs/check body: a spec checked against an edition without saving it. */
+export const checkSpecBodySchema = z.object({ editionId: z.number().int().positive(), spec: modelSpecSchema });
+export type CheckSpecBody = z.infer<typeof checkSpecBodySchema>;

@@ -1,6 +1,6 @@
 /**
  * Units detection for return libraries: are the numbers decimals (0.03 = 3%) or percent (3 = 3%)?
- * Shared by the upload (server/services/csv-import.ts) and the command line (`keelson estimate`),
+ * Shared by the upload (shared/return-csv.ts, the one CSV reader) and the command line (`keelson estimate`),
  * so both decide the same way. Pure: no I/O.
  *
  * Rule: the typical size of a column is the median of |x| over its finite values; the file's scale

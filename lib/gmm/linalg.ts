@@ -4,7 +4,7 @@
  * reported as `null` (the callers turn it into a typed result), never as NaN. ml-matrix supplies
  * the symmetric eigendecomposition (rank-r pseudo-inverse) and Householder QR (least squares).
  */
-import { EigenvalueDecomposition, Matrix, QrDecomposition } from 'ml-matrix';
+import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 
 /** Relative pivot tolerance below which a Cholesky factorisation is declared singular. */
 export const SINGULAR_TOL = 1e-13;
@@ -238,14 +238,6 @@ export function pinvSymmetricRank(A: Float64Array, n: number, rank: number): Flo
   }
   symmetrise(P, n);
   return P;
-}
-
-/** Least squares by Householder QR (ml-matrix); null when X is rank deficient. */
-export function qrLeastSquares(X: number[][], y: number[]): Float64Array | null {
-  const qr = new QrDecomposition(new Matrix(X));
-  if (!qr.isFullRank()) return null;
-  const sol = qr.solve(Matrix.columnVector(y));
-  return Float64Array.from(sol.getColumn(0));
 }
 
 export function allFinite(A: ArrayLike<number>): boolean {

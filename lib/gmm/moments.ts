@@ -94,12 +94,6 @@ export function covarianceFromSecondMoment(second: Float64Array, mean: Float64Ar
   return out;
 }
 
-/** Cov_T of the columns of row-major X (T×p), computed on centred data (divisor T). */
-export function covarianceMatrix(X: Float64Array, T: number, p: number): Float64Array {
-  const Xc = centreColumns(X, T, p);
-  return crossMoment(Xc, p, Xc, p, T);
-}
-
 /** All moments from packed row-major returns (T×N) and factors (T×K). */
 export function momentsFromPacked(R: Float64Array, F: Float64Array, T: number, N: number, K: number): MomentData {
   const meanR = columnMeans(R, T, N);

@@ -6,6 +6,10 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import * as schema from './schema/index';
 
+/**
+ * The Drizzle database. `$client` is the better-sqlite3 handle, for openDb's pragmas and for closing
+ * the connection; queries go through Drizzle (a raw statement needs a benchmark, issue 12).
+ */
 export type Db = BetterSQLite3Database<typeof schema> & { $client: Database.Database };
 
 const migrationsFolder = join(dirname(fileURLToPath(import.meta.url)), '..', '..', 'drizzle');

@@ -1,23 +1,13 @@
 import type { Request, Response } from 'express';
-import { z } from 'zod';
 import type { ApiRouter } from '../middlewares/access';
 import { currentUser } from '../middlewares/access';
 import { parseOr400 } from '../middlewares/errors';
 import { idParam } from '../middlewares/params';
-import { copySpecBodySchema, createSpecBodySchema, modelSpecSchema, updateSpecBodySchema } from '../../shared/specs';
+import { checkSpecBodySchema, copySpecBodySchema, createSpecBodySchema, specListQuerySchema, updateSpecBodySchema } from '../../shared/specs';
 import { checkSpec, copySpec, createSpec, getSpec, listSpecs, setSpecArchived, updateSpec } from '../services/specs';
 import type { AppDeps } from '../app-deps';
 
 const WRITERS = ['researcher', 'admin'] as const;
-
-
-const listQuerySchema = z.object({
-  mine: z.enum(['true', 'false']).optional(),
-  editionId: z.coerce.number().int().positive().optional(),
-  /** true: list archived specs too. */
-  archived: z.enum(['true', 'false']).optional(),
-});
-const checkBodySchema = z.object({ editionId: z.number().int().positive(), spec: modelSpecSchema });
 
 /**
  * Model specs: list/read for every role, write for researchers and admins (edit, archive,
@@ -27,12 +17,12 @@ export function registerSpecRoutes(api: ApiRouter, deps: AppDeps): void {
   const { db } = deps;
 
   api.get('/specs', 'signed-in', (req: Request, res: Response) => {
-    const q = parseOr400(listQuerySchema, req.query, 'spec filter');
+    const q = parseOr400(specListQuerySchema, req.query, 'spec filter');
     res.json({ specs: listSpecs(db, currentUser(req), { mine: q.mine === 'true', editionId: q.editionId, archived: q.archived === 'true' }) });
   });
 
   api.post('/specs/check', 'signed-in', (req: Request, res: Response) => {
-    const body = parseOr400(checkBodySchema, req.body, 'spec');
+    const body = parseOr400(checkSpecBodySchema, req.body, 'spec');
     res.json({ check: checkSpec(db, currentUser(req), body.editionId, body.spec) });
   });
 

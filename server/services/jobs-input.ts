@@ -28,7 +28,7 @@ import {
   type SubsetSweepInput,
 } from '../../lib/gmm/index';
 import { loadEditionData } from './edition-data';
-import { buildLedgerInput, RunDataError } from './runs';
+import { buildLedgerInput, RunDataError, runOptionsOf } from './ledger-input';
 import { splitIndexOf } from './holdout-split';
 
 export type CheckInput =
@@ -188,7 +188,7 @@ export function buildCheckInput(db: Db, run: RunForCheck, kind: JobKind, rawPara
       factorNames: input.factorNames,
       dates,
       window: { kind: p.window, length: p.length, step: p.step },
-      options: { stage: spec.stage, weighting: spec.weighting, lags: spec.lags, form: spec.form, factorMeansKnown: spec.factorMeansKnown, level: spec.level },
+      options: runOptionsOf(spec),
     },
   };
 }

@@ -23,6 +23,7 @@ import {
   type StartCheck,
 } from '../../shared/jobs';
 import { audit } from './audit';
+import { nameOf } from './users';
 import { canReadEdition } from './specs';
 import { assertBootstrapAccepted, buildCheckInput } from './jobs-input';
 import type { JobRunner } from '../jobs/runner';
@@ -63,9 +64,6 @@ function runOf(db: Db, user: User, runId: number) {
   return run;
 }
 
-function nameOf(db: Db, id: number): string {
-  return db.select({ name: users.name }).from(users).where(eq(users.id, id)).get()?.name ?? `user ${id}`;
-}
 
 /** The job row if `user` may read it (may read its run); else 404. */
 export function findJobRow(db: Db, user: User, id: number): JobRow {

@@ -405,6 +405,9 @@ export function confirmUpload(db: Db, user: User, uploadId: string, body: Confir
         min: st.min,
         max: st.max,
       };
+      // Drizzle, not a raw statement: bench/data-layer.bench.ts measured this insert at 1.24–1.27× the
+      // raw statement's CPU for 50 daily series of 12,000 rows (+19–20 ms) and 0.62–0.81× for 100
+      // monthly series — about 2% of a daily import's CPU, below the 20% that would justify raw SQL.
       tx.insert(librarySeries).values(row).run();
     });
     tx.delete(libraryUploads).where(eq(libraryUploads.id, up.id)).run();
@@ -613,6 +616,8 @@ export function valuesJson(v: Float64Array): string {
  */
 export function editionDataJson(db: Db, user: User, libraryId: number, n: number): string {
   const { lib, edition } = editionOf(db, user, libraryId, n);
+  // Drizzle on the hot read path: bench/data-layer.bench.ts measured 0.99–1.02× the raw statement's CPU
+  // for a daily 12,000 × 50 edition; 1.2–1.5× for 1,200 × 100 monthly, i.e. +0.3–0.7 ms on a ~55 ms read-back.
   const head = db.select({ dates: libraryEditions.dates }).from(libraryEditions).where(eq(libraryEditions.id, edition.id)).get()!;
   const rows = db
     .select({

@@ -26,14 +26,16 @@ import { inTransaction } from '../db/client';
 import { jobs, runs, signoffRequests, signoffs, users } from '../db/schema/index';
 import { KeelsonApiError } from '../../shared/errors';
 import type { User } from '../../shared/auth';
-import { modelSpecSchema, resolveBasis, specBootstrapSchema, windowRange, type ModelSpec, type SavedSpec } from '../../shared/specs';
+import { modelSpecSchema, resolveBasis, specBootstrapSchema, type ModelSpec, type SavedSpec } from '../../shared/specs';
 import type { ChangeBasisBody, FirstStageCopyResponse, LedgerResult, Run, RunListQuery, RunStatus, RunSummary, SignoffState } from '../../shared/runs';
 import type { LedgerResult as EngineResult } from '../../lib/gmm/index';
-import { estimateLedger, GmmInputError, GmmNumericalError, type LedgerInput } from '../../lib/gmm/index';
+import { estimateLedger, GmmInputError, GmmNumericalError } from '../../lib/gmm/index';
 import type { EditionData } from './edition-data';
+import { bootstrapSettingsOf, buildLedgerInput, RunDataError } from './ledger-input';
 import { canReadEdition, findSpecRow, insertSpec, loadAndCheck, specForRun } from './specs';
 import { assertBootstrapAccepted, bootstrapCheckInput } from './jobs-input';
 import { audit } from './audit';
+import { nameOf } from './users';
 import { sendMailInBackground } from './mail';
 import type { Mailer } from './mailer';
 import type { JobRunner } from '../jobs/runner';
@@ -55,90 +57,7 @@ export async function mailSettled(): Promise<void> {
 /** Input mistakes of lib/gmm that mean the request (not the data) is wrong. */
 const REQUEST_ERROR_CODES = new Set(['invalid-option', 'invalid-lags', 'too-few-assets', 'unknown-factor', 'duplicate-name', 'length-mismatch', 'empty-input']);
 
-/** Failure the data caused; stored on a failed run. */
-export class RunDataError extends Error {
-  constructor(message: string) {
-    super(message);
-    this.name = 'RunDataError';
-  }
-}
-
-/**
- * Builds estimateLedger's input from a spec and an edition: window, risk-free subtraction,
- * traded flags. Throws RunDataError naming the series and first date of missing values.
- */
-export function buildLedgerInput(spec: ModelSpec, data: EditionData, dropSetOverride?: string[]): { input: LedgerInput; dates: string[] } {
-  const [from, to] = windowRange(data.dates, spec.window);
-  const dates = data.dates.slice(from, to);
-  const byName = new Map(data.series.map((s) => [s.name, s]));
-  const values = (name: string) => {
-    const s = byName.get(name);
-    if (!s) throw new KeelsonApiError('unprocessable', `The edition has no series '${name}'`);
-    return s.values.slice(from, to);
-  };
-  const used = [...spec.assets, ...spec.factors, ...(spec.rf ? [spec.rf] : [])];
-  const gaps: { name: string; t: number }[] = [];
-  for (const name of used) {
-    const v = values(name);
-    const t = v.findIndex((x) => x === null || x === undefined || !Number.isFinite(x));
-    if (t >= 0) gaps.push({ name, t });
-  }
-  if (gaps.length > 0) {
-    gaps.sort((a, b) => a.t - b.t);
-    const list = gaps
-      .slice(0, 5)
-      .map((g) => `'${g.name}' first on ${dates[g.t]}`)
-      .join('; ');
-    const more = gaps.length > 5 ? ` and ${gaps.length - 5} more series` : '';
-    throw new RunDataError(
-      `Missing values in the window ${dates[0]} – ${dates[dates.length - 1]}: ${list}${more}. Choose a window without gaps or leave those series out.`,
-    );
-  }
-  const rf = spec.rf ? (values(spec.rf) as number[]) : null;
-  const assetCols = spec.assets.map((a) => {
-    const v = values(a) as number[];
-    return rf ? v.map((x, t) => x - rf[t]) : v;
-  });
-  const factorCols = spec.factors.map((f) => values(f) as number[]);
-  const T = dates.length;
-  const returns: number[][] = [];
-  const factors: number[][] = [];
-  for (let t = 0; t < T; t++) {
-    returns.push(assetCols.map((c) => c[t]));
-    factors.push(factorCols.map((c) => c[t]));
-  }
-  const dropSet = dropSetOverride ?? spec.dropSet;
-  return {
-    dates,
-    input: {
-      assetNames: spec.assets,
-      returns,
-      factorNames: spec.factors,
-      factors,
-      traded: spec.factors.map((f) => !spec.nonTraded.includes(f)),
-      options: {
-        stage: spec.stage,
-        weighting: spec.weighting,
-        lags: spec.lags,
-        form: spec.form,
-        factorMeansKnown: spec.factorMeansKnown,
-        level: spec.level,
-        ...(dropSet && dropSet.length > 0 ? { dropSet } : {}),
-        basis: resolveBasis(spec),
-        ...(spec.bootstrap ? { bootstrap: ledgerBootstrapSettings(spec.bootstrap) } : {}),
-      },
-    },
-  };
-}
-
-function ledgerBootstrapSettings(b: NonNullable<ModelSpec['bootstrap']>) {
-  return { draws: b.draws, scheme: b.scheme, ...(b.blockLength !== undefined ? { blockLength: b.blockLength } : {}), seed: b.seed };
-}
-
-/** The bootstrap job's parameters (shared/jobs.ts bootstrapParamsSchema) from a spec's settings. */
-function bootstrapJobParams(b: NonNullable<ModelSpec['bootstrap']>): Record<string, unknown> {
-  return { draws: b.draws, scheme: b.scheme, ...(b.blockLength !== undefined ? { blockLength: b.blockLength } : {}), seed: b.seed };
-}
+export { buildLedgerInput, RunDataError } from './ledger-input';
 
 /**
  * Runs the estimator; data refusals come back as `{ ok: false, error }`, request mistakes throw a
@@ -236,9 +155,6 @@ export function findRunRow(db: Db, user: User, id: number): RunRow {
   return row;
 }
 
-function nameOf(db: Db, id: number): string {
-  return db.select({ name: users.name }).from(users).where(eq(users.id, id)).get()?.name ?? `user ${id}`;
-}
 
 export function getRun(db: Db, user: User, id: number): Run {
   const row = findRunRow(db, user, id);
@@ -347,7 +263,7 @@ function prepareRun(deps: RunDeps, user: User, rawSpec: ModelSpec, editionId: nu
   const tookMs = clock() - t0;
   let bootstrap: PreparedRun['bootstrap'] = null;
   if (outcome.ok && spec.bootstrap) {
-    const params = bootstrapJobParams(spec.bootstrap);
+    const params: Record<string, unknown> = { ...bootstrapSettingsOf(spec.bootstrap) };
     const check = bootstrapCheckInput(spec, buildLedgerInput(spec, data).input, params);
     assertBootstrapAccepted(check);
     bootstrap = { params, total: check.total };
@@ -529,14 +445,4 @@ export function firstStageCopy(deps: RunDeps, user: User, runId: number): FirstS
   });
   afterInsert(deps, user, p, out.row, out.jobId);
   return { run: toRun(out.row, user.name, 'none'), spec: out.saved };
-}
-
-/**
- * Guard for any code path that would change a run: finished, failed and cancelled runs are final.
- * (The one exception is the bootstrap part of a finished run's result, written once by the job
- * runner when the run's own bootstrap job finishes.)
- */
-export function assertRunMutable(row: Pick<RunRow, 'id' | 'status'>): void {
-  if (row.status === 'finished' || row.status === 'failed' || row.status === 'cancelled')
-    throw new KeelsonApiError('conflict', `Run ${row.id} is ${row.status}; runs cannot be changed once they end`);
 }

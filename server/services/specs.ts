@@ -20,6 +20,7 @@ import {
 } from '../../shared/specs';
 import { assertEditionReadable, loadEditionData, type EditionData } from './edition-data';
 import { audit } from './audit';
+import { nameOf } from './users';
 
 type SpecRow = typeof modelSpecs.$inferSelect;
 
@@ -74,9 +75,6 @@ export function loadAndCheck(db: Db, user: User, editionId: number, spec: ModelS
   return { data, check };
 }
 
-function authorNameOf(db: Db, id: number): string {
-  return db.select({ name: users.name }).from(users).where(eq(users.id, id)).get()?.name ?? `user ${id}`;
-}
 
 function findRow(db: Db, user: User, id: number): SpecRow {
   const row = db.select().from(modelSpecs).where(eq(modelSpecs.id, id)).get();
@@ -86,7 +84,7 @@ function findRow(db: Db, user: User, id: number): SpecRow {
 
 export function getSpec(db: Db, user: User, id: number): SavedSpec {
   const row = findRow(db, user, id);
-  return toSavedSpec(row, authorNameOf(db, row.authorId));
+  return toSavedSpec(row, nameOf(db, row.authorId));
 }
 
 function assertNotArchived(row: SpecRow, doing: string): void {
@@ -182,7 +180,7 @@ export function updateSpec(db: Db, user: User, id: number, patch: { name?: strin
     audit(tx, user.id, 'spec.update', { specId: id });
     return r;
   });
-  return toSavedSpec(updated, authorNameOf(db, updated.authorId));
+  return toSavedSpec(updated, nameOf(db, updated.authorId));
 }
 
 /**
@@ -192,7 +190,7 @@ export function updateSpec(db: Db, user: User, id: number, patch: { name?: strin
 export function setSpecArchived(db: Db, user: User, id: number, archived: boolean): SavedSpec {
   const row = findRow(db, user, id);
   assertMayEdit(user, row, archived ? 'archive it' : 'restore it');
-  if (!!row.archivedAt === archived) return toSavedSpec(row, authorNameOf(db, row.authorId));
+  if (!!row.archivedAt === archived) return toSavedSpec(row, nameOf(db, row.authorId));
   const updated = inTransaction(db, (tx) => {
     const r = tx
       .update(modelSpecs)
@@ -203,7 +201,7 @@ export function setSpecArchived(db: Db, user: User, id: number, archived: boolea
     audit(tx, user.id, archived ? 'spec.archive' : 'spec.restore', { specId: id });
     return r;
   });
-  return toSavedSpec(updated, authorNameOf(db, updated.authorId));
+  return toSavedSpec(updated, nameOf(db, updated.authorId));
 }
 
 export function copySpec(db: Db, user: User, id: number, name?: string): SavedSpec {

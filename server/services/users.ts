@@ -18,6 +18,11 @@ const DUMMY_HASH = bcrypt.hashSync('not-a-real-password', BCRYPT_ROUNDS);
 
 type UserRow = typeof users.$inferSelect;
 
+/** The display name of user `id` ("user 12" when the account is gone): the one lookup every service uses. */
+export function nameOf(db: Db, id: number): string {
+  return db.select({ name: users.name }).from(users).where(eq(users.id, id)).get()?.name ?? `user ${id}`;
+}
+
 export function toUser(row: UserRow): User {
   return { id: row.id, email: row.email, name: row.name, role: row.role };
 }
