@@ -25,6 +25,7 @@ import { holdoutPricing } from '../lib/gmm/index';
 import { compareFactorModels, type ModelComparison } from '../server/services/model-compare';
 import { splitIndexOf } from '../server/services/holdout-split';
 import { formatFixed, formatP } from '../shared/format';
+import { DATE_LABEL } from '../shared/jobs';
 
 /** A caller mistake: reported on one line, exit code 2. */
 export class CliInputError extends Error {
@@ -403,7 +404,7 @@ export interface CliHoldout {
 
 /** Hold-out pricing (lib/gmm holdout.ts) with the run's settings, split at the first period on or after `from`. */
 export function holdoutFrom(input: LedgerInput, dates: readonly string[], from: string): CliHoldout {
-  if (!DATE_RE.test(from)) throw new CliInputError(`--holdout-from must be a date YYYY-MM or YYYY-MM-DD; got "${from}"`);
+  if (!DATE_LABEL.test(from)) throw new CliInputError(`--holdout-from must be a date YYYY-MM or YYYY-MM-DD; got "${from}"`);
   const at = splitIndexOf(dates, from);
   if ('error' in at) throw new CliInputError(`--holdout-from: ${at.error.replace("the run's estimation sample", 'the sample')}`);
   const o = input.options;

@@ -62,7 +62,7 @@ export const rollingParamsSchema = z
 export type RollingParams = z.output<typeof rollingParamsSchema>;
 
 /** A date label as the editions write them: YYYY-MM or YYYY-MM-DD. */
-const DATE_LABEL = /^\d{4}-(0[1-9]|1[0-2])(-(0[1-9]|[12]\d|3[01]))?$/;
+export const DATE_LABEL = /^\d{4}-(0[1-9]|1[0-2])(-(0[1-9]|[12]\d|3[01]))?$/;
 
 /**
  * Hold-out check (Kozak, Nagel and Santosh 2020): `split` estimates b̂ on the periods before `from`
