@@ -18,7 +18,7 @@
  * // → { alpha ≈ 0.01 (± 3·0.005/√2000), se ≈ 0.005/√2000, t ≈ 89, p ≈ 0 }
  */
 import { chiSquareSf } from './distributions';
-import { GmmInputError } from './errors';
+import { GmmInputError, type GmmFailure } from './errors';
 import { hacCovariance } from './hac';
 import { cholesky, choleskySolve, fromNested, spdInverse } from './linalg';
 import { momentsFromPacked, type MomentData } from './moments';
@@ -39,11 +39,8 @@ export interface SpanningJoint {
   readonly p: number;
 }
 
-export interface SpanningFailure {
-  readonly ok: false;
-  readonly reason: 'singular';
-  readonly message: string;
-}
+/** The typed numerical failure of this module (the library's one failure shape, errors.ts). */
+export type SpanningFailure = GmmFailure;
 
 /**
  * Spanning intercepts for the factor indices `set` regressed on the other factors, on
@@ -143,7 +140,7 @@ export function spanningTest(input: SpanningTestInput): SpanningSingle | Spannin
   const T = input.factors.length;
   const F = fromNested(input.factors, K);
   const m = momentsFromPacked(new Float64Array(T), F, T, 1, K);
-  const fail: SpanningFailure = { ok: false, reason: 'singular', message: 'The other factors are collinear.' };
+  const fail: SpanningFailure = { ok: false, code: 'singular', message: 'The other factors are collinear.' };
   if (idx.length === 1) return spanningSingle(m, idx[0], input.lags) ?? fail;
   const j = spanningJointCore(m, idx, input.lags);
   return j ? { factors: [...input.test], ...j } : fail;

@@ -15,7 +15,6 @@ import {
 import {
   defaultBlockLength,
   GmmInputError,
-  GmmNumericalError,
   prepareBootstrap,
   rollingWindows,
   type BootstrapInput,
@@ -90,7 +89,7 @@ export function assertBootstrapAccepted(check: Extract<CheckInput, { kind: 'boot
   try {
     prepareBootstrap(check.input);
   } catch (e) {
-    if (e instanceof GmmInputError || e instanceof GmmNumericalError) unprocessable(e.message);
+    if (e instanceof GmmInputError) unprocessable(e.message);
     throw e;
   }
 }

@@ -3,27 +3,8 @@
  * drift from the code). Hand-computed values are derived in the comments.
  */
 import { describe, expect, it } from 'vitest';
-import {
-  chiSquareDifference,
-  estimateLedger,
-  estimateSdfGmm,
-  factorVerdict,
-  famaMacBethCore,
-  grsTest,
-  hjDistance,
-  longRunCovariance,
-  premiaFromLoadings,
-  prepareMoments,
-  secondMomentMatrix,
-  spanningTest,
-  thinBetaTest,
-  validateMatrices,
-  VERDICTS,
-  waldJoint,
-  waldSingle,
-  GmmInputError,
-} from '../../lib/gmm/index';
-import { normalSampler, simulateEconomy } from './helpers';
+import { chiSquareDifference, estimateSdfGmm, factorVerdict, famaMacBethCore, grsTest, hjDistance, longRunCovariance, premiaFromLoadings, prepareMoments, secondMomentMatrix, spanningTest, thinBetaTest, validateMatrices, VERDICTS, waldJoint, waldSingle, GmmInputError } from '../../lib/gmm/index';
+import { estimateLedger, normalSampler, simulateEconomy } from './helpers';
 
 describe('module examples', () => {
   it('hac: Γ₀ = 1, Γ₁ = −0.75, S = 1 + 0.5·(−1.5) = 0.25 (hand computation)', () => {

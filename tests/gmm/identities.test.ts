@@ -2,19 +2,8 @@
  * Identities that must hold whatever the data (methods contract, "Reference checks").
  */
 import { describe, expect, it } from 'vitest';
-import {
-  estimateLedger,
-  fitSdfGmm,
-  GmmInputError,
-  hjDistance,
-  olsFit,
-  prepareMoments,
-  secondMomentMatrix,
-  selectFactors,
-  spdInverse,
-  toNested,
-} from '../../lib/gmm/index';
-import { maxRel, runReference, simulateEconomy } from './helpers';
+import { fitSdfGmm, GmmInputError, hjDistance, olsFit, prepareMoments, secondMomentMatrix, selectFactors, spdInverse, toNested } from '../../lib/gmm/index';
+import { estimateLedger, maxRel, runReference, simulateEconomy } from './helpers';
 
 const base = { weighting: 'identity', form: 'centred', factorMeansKnown: false, level: 0.05 } as const;
 

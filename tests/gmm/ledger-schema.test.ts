@@ -3,8 +3,8 @@
  */
 import { describe, expect, it } from 'vitest';
 import { ledgerResultSchema, type LedgerResultParsed } from '../../shared/ledger';
-import { estimateLedger, type LedgerResult } from '../../lib/gmm/index';
-import { simulateEconomy } from './helpers';
+import { type LedgerResult } from '../../lib/gmm/index';
+import { estimateLedger, simulateEconomy } from './helpers';
 
 // Compile-time: the library's result type and the schema's inferred type are mutually assignable
 // (tsc checks this file).
