@@ -64,6 +64,14 @@ export interface GmmFailure {
 /** A typed result: the value's fields beside `ok: true`, or a {@link GmmFailure}. */
 export type GmmResult<T extends object> = (T & { readonly ok: true }) | GmmFailure;
 
+/** The value of a successful result without its `ok` field (for embedding in a ledger), or null on failure. */
+export function okValue<T extends object>(r: GmmResult<T>): T | null {
+  if (!r.ok) return null;
+  const { ok, ...value } = r;
+  void ok;
+  return value as unknown as T;
+}
+
 /** Build a {@link GmmFailure}. */
 export function gmmFailure(code: GmmFailureCode, message: string, matrix?: string): GmmFailure {
   return matrix === undefined ? { ok: false, code, message } : { ok: false, code, message, matrix };

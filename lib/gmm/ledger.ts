@@ -21,7 +21,7 @@
  * // r.ok && r.ledger.factors[0].verdict is one of VERDICTS; JSON.stringify(r.ledger) round-trips.
  */
 import { normalQuantile } from './distributions';
-import { GmmInputError, type GmmResult, type LedgerWarning, type LedgerWarningCode } from './errors';
+import { GmmInputError, okValue, type GmmResult, type LedgerWarning, type LedgerWarningCode } from './errors';
 import { famaMacBethCore, type FamaMacBethResult } from './fama-macbeth';
 import { lagWarningThreshold, resolveLag } from './hac';
 import { grsCore } from './grs';
@@ -392,8 +392,9 @@ export function estimateLedger(input: LedgerInput): LedgerOutcome {
 
   const z = normalQuantile(1 - level / 2);
   const Wstar = dropWeighting(fit);
-  const drop = Wstar ? dropTester({ T, N, K, X: fit.X, W: Wstar, meanR: m.meanR }) : null;
-  if (!Wstar) warn('drop-singular', 'The drop tests could not be computed: the long-run covariance Ŝ at the first-stage b̂ is singular.');
+  const tester = Wstar.ok ? dropTester({ T, N, K, X: fit.X, W: Wstar.W, meanR: m.meanR }) : null;
+  const drop = tester ? (idx: readonly number[]) => okValue(tester(idx)) : null;
+  if (!Wstar.ok) warn('drop-singular', 'The drop tests could not be computed: the long-run covariance Ŝ at the first-stage b̂ is singular.');
   else if (o.stage === 'first')
     warn('drop-first-stage', 'The drop tests of this first-stage run use the second stage computed from it: W* = Ŝ⁻¹, Ŝ at the first-stage b̂ with the same lag.');
   const basis: Basis = o.basis ?? (o.stage === 'first' ? 'robust' : 'standard');
@@ -405,7 +406,7 @@ export function estimateLedger(input: LedgerInput): LedgerOutcome {
     const bz = waldSingle(fit.b[k], Math.sqrt(Math.max(0, fit.covB[k * K + k])));
     const lz = waldSingle(prem.lambda[k], Math.sqrt(Math.max(0, prem.covLambda[k * K + k])));
     const traded = input.traded[k];
-    const thin = thinBetaTest(m, k, lags);
+    const thin = okValue(thinBetaTest(m, k, lags));
     const standardVerdict = factorVerdict(bz.p, lz.p, level);
     let robustRow: LedgerRobust | null = null;
     let robustVerdict: Verdict | null = null;
@@ -426,7 +427,7 @@ export function estimateLedger(input: LedgerInput): LedgerOutcome {
     }
     if (!thin) warn('thin-beta-failed', `The thin-beta test for '${name}' could not be computed (singular covariance).`);
     else if (thin.flag) warn('thin-beta', `'${name}' has a thin beta (p = ${thin.p.toFixed(3)}): its b and λ inference is unreliable.`);
-    const span = traded ? spanningSingle(m, k, lags) : null;
+    const span = traded ? okValue(spanningSingle(m, k, lags)) : null;
     if (traded && !span) warn('spanning-failed', `The spanning check for '${name}' could not be computed (the other factors are collinear).`);
     return {
       name,
@@ -464,7 +465,7 @@ export function estimateLedger(input: LedgerInput): LedgerOutcome {
     return { asset, alpha: fit.alpha[i], se: az.se, t: az.t, meanReturn: m.meanR[i], predicted: m.meanR[i] - fit.alpha[i] };
   });
 
-  const hj = hjDistance(m, second, o.form);
+  const hj = okValue(hjDistance(m, second, o.form))?.distance ?? null;
   if (hj === null) warn('hj-failed', 'The HJ distance could not be computed (singular second-moment matrix).');
 
   let grs: LedgerGrs | null = null;
@@ -474,7 +475,7 @@ export function estimateLedger(input: LedgerInput): LedgerOutcome {
     else warn('grs-failed', 'The GRS test could not be computed (singular covariance).');
   } else warn('grs-not-traded', `GRS is not reported: it needs every factor traded (${nonTradedNames.join(', ')} are not).`);
 
-  const fm = famaMacBethCore(m, names, o.fmIntercept ?? false);
+  const fm = okValue(famaMacBethCore(m, names, o.fmIntercept ?? false));
   if (!fm) warn('fama-macbeth-failed', 'Fama–MacBeth could not be computed (singular cross-sectional design).');
 
   let jointDrop: LedgerJointDrop | null = null;
@@ -484,7 +485,7 @@ export function estimateLedger(input: LedgerInput): LedgerOutcome {
     const idx = dropSet.map((n) => names.indexOf(n));
     jointDrop = { factors: dropSet, wald: waldJoint(fit.b, fit.covB, K, idx), chi2Drop: drop ? drop(idx) : null };
     if (idx.every((k) => input.traded[k])) {
-      const js = spanningJointCore(m, idx, lags);
+      const js = okValue(spanningJointCore(m, idx, lags));
       if (js) jointSpanning = { factors: dropSet, ...js };
     } else warn('joint-spanning-not-traded', 'The joint spanning check is not reported: the drop set contains a non-traded factor.');
   }
