@@ -197,6 +197,7 @@ describe('small-sample caution', () => {
     expect(r.caution).toBe(cautionText(120, 25, r.lags));
     // the free-text warnings keep their T < 10·N line
     expect(r.warnings.map((w) => w.message).join(' ')).toMatch(/T < 10·N/);
+    expect(r.warnings.find((w) => /T < 10·N/.test(w.message))?.code).toBe('small-sample');
   });
   it('T ≥ 10·N with the default lag: no caution', () => {
     expect(estimateLedger(ledgerInput(300, 8, 2, 16)).caution).toBeNull();

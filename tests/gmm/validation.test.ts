@@ -146,6 +146,7 @@ describe('validation errors', () => {
     expect(r.factors[1].spanning).toBeNull();
     expect(r.grs).toBeNull();
     expect(r.warnings.map((w) => w.message).join(' ')).toMatch(/GRS is not reported/);
+    expect(r.warnings.find((w) => /GRS is not reported/.test(w.message))?.code).toBe('grs-not-traded');
   });
 
   it('empty input', () => {
