@@ -113,7 +113,8 @@ for (const [i, s] of sizes.entries()) {
     const res = estimateLedger(inp);
     times.push(performance.now() - t0);
     cpuTimes.push(cpuMs() - c0);
-    J = res.J.stat;
+    if (!res.ok) throw new Error(`estimateLedger failed: ${res.message}`);
+    J = res.ledger.J.stat;
     peakRss = Math.max(peakRss, process.memoryUsage().rss);
   }
   const ms = median(times);

@@ -179,8 +179,11 @@ function nullTable(T: number, N: number, L: number, draws: number, seed: number)
     const { factors, returns, bStar } = nullEconomy(T, N, z);
     const base = { assetNames, returns, factorNames: ['F1', 'F2'], factors, traded: [true, true] };
     const opts = { weighting: 'identity', lags: L, form: 'centred', factorMeansKnown: false, level: 0.05 } as const;
-    const sec = estimateLedger({ ...base, options: { ...opts, stage: 'second', basis: 'standard' } });
-    const fst = estimateLedger({ ...base, options: { ...opts, stage: 'first', basis: 'robust' } });
+    const secOut = estimateLedger({ ...base, options: { ...opts, stage: 'second', basis: 'standard' } });
+    const fstOut = estimateLedger({ ...base, options: { ...opts, stage: 'first', basis: 'robust' } });
+    if (!secOut.ok || !fstOut.ok) throw new Error('estimateLedger failed on a simulated draw');
+    const sec = secOut.ledger;
+    const fst = fstOut.ledger;
     const tally = (s: NullStats, f: (k: number) => { pB: number; ci: readonly [number, number] }, pDrop: number) => {
       if (f(1).pB < 0.05) s.wald++;
       if (pDrop < 0.05) s.drop++;

@@ -10,14 +10,15 @@ import {
   bootstrapSdfTests,
   estimateLedger,
   GmmInputError,
-  GmmNumericalError,
   withBootstrap,
   type Basis,
   type LedgerBootstrapSettings,
   type LedgerInput,
+  type LedgerOutcome,
   type LedgerOptions,
   type LedgerResult,
 } from '../lib/gmm/index';
+import { gmmFailureMessage } from '../shared/gmm-messages';
 import { detectUnits } from '../shared/units';
 import { parseReturnCsv, ReturnCsvError, type CsvProblem } from '../shared/return-csv';
 import { renderLedgerText } from './ledger-text';
@@ -478,10 +479,11 @@ export function renderTable(r: LedgerResult, dates: string[], source = 'data', u
  * The ledger, with the bootstrap run inline and merged (withBootstrap) when the options ask for
  * bootstrap p-values (basis bootstrap, or bootstrap settings beside another basis).
  */
-export function estimateWithBootstrap(input: LedgerInput): LedgerResult {
-  const ledger = estimateLedger(input);
+export function estimateWithBootstrap(input: LedgerInput): LedgerOutcome {
+  const out = estimateLedger(input);
   const o = input.options;
-  if (!o.bootstrap) return ledger;
+  if (!out.ok || !o.bootstrap) return out;
+  const ledger = out.ledger;
   const boot = bootstrapSdfTests({
     returns: input.returns,
     factors: input.factors,
@@ -499,7 +501,7 @@ export function estimateWithBootstrap(input: LedgerInput): LedgerResult {
       ...(o.dropSet && o.dropSet.length ? { dropSet: o.dropSet } : {}),
     },
   });
-  return withBootstrap(ledger, boot);
+  return { ok: true, ledger: withBootstrap(ledger, boot) };
 }
 
 /** Run the CLI; returns the exit code (0 ok, 2 bad input, 1 unexpected failure). */
@@ -528,7 +530,9 @@ export async function main(argv: string[], io: Io = defaultIo): Promise<number> 
     const { input, dates, unitsNote, versus } = buildInput(parsed.values);
     let result: LedgerResult;
     try {
-      result = estimateWithBootstrap(input);
+      const out = estimateWithBootstrap(input);
+      if (!out.ok) throw new CliInputError(`${parsed.values.data}: ${gmmFailureMessage(out)}`);
+      result = out.ledger;
     } catch (e) {
       if (e instanceof GmmInputError) {
         let where = '';
@@ -536,7 +540,6 @@ export async function main(argv: string[], io: Io = defaultIo): Promise<number> 
         if (e.series !== undefined) where += `${where ? ',' : ''} column ${e.series}`;
         throw new CliInputError(`${parsed.values.data}${where}: ${e.message}`);
       }
-      if (e instanceof GmmNumericalError) throw new CliInputError(`${parsed.values.data}: ${e.message}`);
       throw e;
     }
     const gmm = <R>(f: () => R): R => {

@@ -6,6 +6,7 @@
  * returns-like numbers (λ, α, spanning intercepts, mean returns) are shown in % per period and say so.
  */
 import type { LedgerResult } from '../lib/gmm/ledger';
+import { ledgerWarningText } from '../shared/gmm-messages';
 
 /** What the header says about where the numbers came from. */
 export interface LedgerTextMeta {
@@ -166,7 +167,7 @@ export function renderLedgerText(r: LedgerResult, meta: LedgerTextMeta): string 
   out.push('Pricing errors (% per period)');
   out.push(grid(['asset', 'mean', 'predicted', 'α', 'se', 't'], pe.map((p, i) => [p.asset, pc[4 * i], pc[4 * i + 1], pc[4 * i + 2], pc[4 * i + 3], p.t.toFixed(2)])));
 
-  const cautions = [r.caution, r.lagWarning, ...r.warnings].filter((w): w is string => Boolean(w));
+  const cautions = [r.caution, r.lagWarning, ...r.warnings.map(ledgerWarningText)].filter((w): w is string => Boolean(w));
   if (r.robustNote && r.stage !== 'first') cautions.push(r.robustNote);
   if (cautions.length) {
     out.push('Cautions');

@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { LEDGER_WARNING_CODES } from '../lib/gmm/errors';
 
 /**
  * Schema of the factor ledger: exactly the output of `estimateLedger` in lib/gmm/ledger.ts (and
@@ -138,7 +139,14 @@ export const ledgerResultSchema = z.object({
     basis: basisSchema,
     bootstrap: bootstrapSettingsSchema.nullable(),
   }),
-  warnings: z.array(z.string()),
+  // { code, message } (lib/gmm/errors.ts); ledgers stored before warnings had codes hold plain
+  // strings, read as code 'note'.
+  warnings: z.array(
+    z.preprocess(
+      (w) => (typeof w === 'string' ? { code: 'note', message: w } : w),
+      z.object({ code: z.enum(LEDGER_WARNING_CODES), message: z.string() }),
+    ),
+  ),
 });
 
 export type LedgerResultParsed = z.infer<typeof ledgerResultSchema>;

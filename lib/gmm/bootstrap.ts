@@ -632,7 +632,7 @@ export function prepareBootstrap(input: BootstrapInput): BootstrapPlan {
   const makeNull = (idx: readonly number[]): DropNull | null => {
     const r = restricted(fit.X, Wstar, m.meanR, N, K, idx);
     const d = tester(idx);
-    if (!r || !d) return null;
+    if (!r || !d.ok) return null;
     let M: Float64Array | null = null;
     if (corrected) {
       const omega = sdfLongRunCovariance(m, r.b, o.form, fmk, lags);

@@ -14,9 +14,10 @@
  * @example
  * // With W* = I, E[R] = (1, 2), X = [[1, 0], [0, 1]] (N = K = 2, T = 10): g_u = 0; dropping
  * // factor 2 leaves g_r = (0, 2), so D = 10 · 4 = 40 on 1 df.
- * chiSquareDifference({ T: 10, N: 2, K: 2, X: [1, 0, 0, 1], W: [1, 0, 0, 1], meanR: [1, 2] }, [1]).stat // → 40
+ * chiSquareDifference({ T: 10, N: 2, K: 2, X: [1, 0, 0, 1], W: [1, 0, 0, 1], meanR: [1, 2] }, [1]) // → { ok: true, stat: 40, df: 1, p }
  */
 import { chiSquareSf } from './distributions';
+import { gmmFailure, type GmmResult } from './errors';
 import { cholesky, choleskyInverse, choleskySolve, quadForm } from './linalg';
 import type { SdfGmmFit } from './sdf-gmm';
 
@@ -24,12 +25,12 @@ import type { SdfGmmFit } from './sdf-gmm';
  * The common weighting W* of the drop tests for a fit: the last weighting of a second-stage or
  * iterated fit (Ŝ_u⁻¹), and for a first-stage fit the second stage computed from it — Ŝ, the HAC
  * of h_t at the first-stage b̂ with the same lag (the fit's `Sb`), inverted (methods contract,
- * drop test 2). Null when that Ŝ is singular.
+ * drop test 2). A typed 'singular' failure when that Ŝ is singular.
  */
-export function dropWeighting(fit: SdfGmmFit): Float64Array | null {
-  if (fit.stage !== 'first') return fit.W;
+export function dropWeighting(fit: SdfGmmFit): GmmResult<{ readonly W: Float64Array }> {
+  if (fit.stage !== 'first') return { ok: true, W: fit.W };
   const L = cholesky(fit.Sb, fit.N);
-  return L ? choleskyInverse(L, fit.N) : null;
+  return L ? { ok: true, W: choleskyInverse(L, fit.N) } : gmmFailure('singular', 'The long-run covariance Ŝ at the first-stage b̂ is singular.', 'S');
 }
 
 export interface DropTestInput {
@@ -105,7 +106,7 @@ export function weightProducts(
  * A tester that shares W*X, W*E[R] and the unrestricted objective across many drop sets
  * (per-factor tests, chosen sets, a subset sweep).
  */
-export function dropTester(inp: DropTestInput): (drop: readonly number[]) => DropTest | null {
+export function dropTester(inp: DropTestInput): (drop: readonly number[]) => GmmResult<DropTest> {
   const { N, K, X, W, meanR, T } = inp;
   const { WX, WR } = weightProducts(X, W, meanR, N, K);
   const all = Array.from({ length: K }, (_, k) => k);
@@ -117,16 +118,16 @@ export function dropTester(inp: DropTestInput): (drop: readonly number[]) => Dro
       WR,
       all.filter((k) => !drop.includes(k)),
     );
-    if (qu === null || qr === null) return null;
+    if (qu === null || qr === null) return gmmFailure('singular', 'A restricted or the unrestricted system of the drop test is singular.');
     const stat = Math.max(0, T * (qr - qu));
-    return { stat, df: drop.length, p: chiSquareSf(stat, drop.length) };
+    return { ok: true, stat, df: drop.length, p: chiSquareSf(stat, drop.length) };
   };
 }
 
 /**
- * The drop test for the factor indices `drop` (0-based). Returns null when a restricted system is
- * singular.
+ * The drop test for the factor indices `drop` (0-based). A typed 'singular' failure when a
+ * restricted system is singular.
  */
-export function chiSquareDifference(inp: DropTestInput, drop: readonly number[]): DropTest | null {
+export function chiSquareDifference(inp: DropTestInput, drop: readonly number[]): GmmResult<DropTest> {
   return dropTester(inp)(drop);
 }

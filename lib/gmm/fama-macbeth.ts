@@ -15,6 +15,7 @@
  * // One factor, no intercept: λ_t = Σ_i β_i R_i,t / Σ_i β_i², and λ̂ is its time average.
  * famaMacBethCore(prepareMoments(returns, factors), ['MKT'], false).factors[0].lambda
  */
+import { gmmFailure, type GmmResult } from './errors';
 import { cholesky, choleskySolve, spdInverse, quadForm } from './linalg';
 import type { MomentData } from './moments';
 import { waldSingle } from './wald';
@@ -43,13 +44,13 @@ export interface FamaMacBethResult {
  * Fama–MacBeth on precomputed moments.
  * @param m moments; @param names factor names (K); @param intercept add a cross-sectional
  *   intercept (reported as zeroBeta).
- * @returns premia with plain and Shanken-corrected SEs, or null when Σ_f or the
- *   cross-sectional X'X is singular.
+ * @returns `{ ok: true, ... }` premia with plain and Shanken-corrected SEs, or a typed 'singular'
+ *   failure when Σ_f, the cross-sectional X'X or the premia covariance is singular.
  */
-export function famaMacBethCore(m: MomentData, names: readonly string[], intercept: boolean): FamaMacBethResult | null {
+export function famaMacBethCore(m: MomentData, names: readonly string[], intercept: boolean): GmmResult<FamaMacBethResult> {
   const { T, N, K, R, sigmaF, covRF } = m;
   const Lf = cholesky(sigmaF, K);
-  if (!Lf) return null;
+  if (!Lf) return gmmFailure('singular', 'The factor covariance matrix is singular.', 'Σ_f');
   const Ct = new Float64Array(K * N);
   for (let i = 0; i < N; i++) for (let k = 0; k < K; k++) Ct[k * N + i] = covRF[i * K + k];
   const Bt = choleskySolve(Lf, K, Ct, N); // K×N = β'
@@ -67,7 +68,7 @@ export function famaMacBethCore(m: MomentData, names: readonly string[], interce
       XtX[a * q + c] = s;
     }
   const Lx = cholesky(XtX, q);
-  if (!Lx) return null;
+  if (!Lx) return gmmFailure('singular', "The cross-sectional design X'X is singular.", "X'X");
   const P = choleskySolve(Lx, q, Xt, N); // (X'X)^{-1} X'  (q×N)
   const lam = new Float64Array(T * q);
   const mean = new Float64Array(q);
@@ -93,7 +94,7 @@ export function famaMacBethCore(m: MomentData, names: readonly string[], interce
   const off = intercept ? 1 : 0;
   const lf = mean.subarray(off);
   const Si = spdInverse(sigmaF, K);
-  if (!Si) return null;
+  if (!Si) return gmmFailure('singular', 'The covariance of the period premia is singular.');
   const cSh = quadForm(Si, K, lf);
   const coef = (a: number, name: string): FmCoefficient => {
     const v = Vfm[a * q + a];
@@ -103,6 +104,7 @@ export function famaMacBethCore(m: MomentData, names: readonly string[], interce
     return { name, lambda: mean[a], se: z.se, t: z.t, p: z.p, seShanken: zs.se, tShanken: zs.t, pShanken: zs.p };
   };
   return {
+    ok: true,
     intercept,
     factors: names.map((nm, k) => coef(k + off, nm)),
     zeroBeta: intercept ? coef(0, '(intercept)') : null,

@@ -12,10 +12,10 @@
  *
  * @example
  * // With T = 600, N = 10, one traded factor and zero true alphas:
- * grsTest({ returns, factors, factorNames: ['MKT'], traded: [true] }) // → { stat ≈ 1, df1: 10, df2: 589, p, alpha }
+ * grsTest({ returns, factors, factorNames: ['MKT'], traded: [true] }) // → { ok: true, stat ≈ 1, df1: 10, df2: 589, p, alpha }
  */
 import { fSf } from './distributions';
-import { GmmInputError } from './errors';
+import { GmmInputError, gmmFailure, type GmmResult } from './errors';
 import { cholesky, choleskySolve, quadForm, spdInverse } from './linalg';
 import { covarianceFromSecondMoment, prepareMoments, secondMomentMatrix, type MomentData } from './moments';
 import { validateMatrices } from './validate';
@@ -31,14 +31,15 @@ export interface GrsTest {
 
 /**
  * GRS on precomputed moments and E_T[RR'] (N×N). The caller checks that every factor is traded.
- * @returns { stat, df1 = N, df2 = T − N − K, p, alpha }, or null when a covariance matrix is
- *   singular or T ≤ N + K.
+ * @returns `{ ok: true, stat, df1 = N, df2 = T − N − K, p, alpha }`, or a typed failure: code
+ *   'not-defined' when T ≤ N + K, 'singular' when a covariance matrix is singular.
  */
-export function grsCore(m: MomentData, secondMoment: Float64Array): GrsTest | null {
+export function grsCore(m: MomentData, secondMoment: Float64Array): GmmResult<GrsTest> {
   const { T, N, K, meanR, meanF, sigmaF, covRF } = m;
-  if (T - N - K <= 0 || T - K - 1 <= 0) return null;
+  if (T - N - K <= 0 || T - K - 1 <= 0) return gmmFailure('not-defined', `The GRS test needs T > N + K (T = ${T}, N = ${N}, K = ${K}).`);
+  const singular = gmmFailure('singular', 'The residual or factor covariance matrix is singular.');
   const Lf = cholesky(sigmaF, K);
-  if (!Lf) return null;
+  if (!Lf) return singular;
   const covR = covarianceFromSecondMoment(secondMoment, meanR);
   // B' = Σ_f^{-1} C' (K×N)
   const Ct = new Float64Array(K * N);
@@ -59,17 +60,17 @@ export function grsCore(m: MomentData, secondMoment: Float64Array): GrsTest | nu
       Sigma[i * N + j] = Sigma[j * N + i] = s * scale;
     }
   const Ls = cholesky(Sigma, N);
-  if (!Ls) return null;
+  if (!Ls) return singular;
   const x = choleskySolve(Ls, N, alpha, 1);
   let aSa = 0;
   for (let i = 0; i < N; i++) aSa += alpha[i] * x[i];
   const Omega = Float64Array.from(sigmaF, (v) => (v * T) / (T - 1));
   const Oi = spdInverse(Omega, K);
-  if (!Oi) return null;
+  if (!Oi) return singular;
   const mOm = quadForm(Oi, K, meanF);
   const stat = Math.max(0, ((T / N) * ((T - N - K) / (T - K - 1)) * aSa) / (1 + mOm));
   const df2 = T - N - K;
-  return { stat, df1: N, df2, p: fSf(stat, N, df2), alpha: Array.from(alpha) };
+  return { ok: true, stat, df1: N, df2, p: fSf(stat, N, df2), alpha: Array.from(alpha) };
 }
 
 export interface GrsInput {
@@ -83,9 +84,9 @@ export interface GrsInput {
  * GRS on plain arrays.
  * @throws GmmInputError 'not-traded' naming the first non-traded factor; other input errors
  *   from validateMatrices.
- * @returns the test or a typed singular failure.
+ * @returns `{ ok: true, stat, df1, df2, p, alpha }` or a typed failure (see grsCore).
  */
-export function grsTest(input: GrsInput): GrsTest | { readonly ok: false; readonly reason: 'singular'; readonly message: string } {
+export function grsTest(input: GrsInput): GmmResult<GrsTest> {
   const bad = input.traded.findIndex((t) => !t);
   if (bad >= 0)
     throw new GmmInputError('not-traded', `The GRS test needs every factor traded; '${input.factorNames[bad]}' is not.`, {
@@ -93,6 +94,5 @@ export function grsTest(input: GrsInput): GrsTest | { readonly ok: false; readon
     });
   validateMatrices(input.returns, input.factors, { factorNames: input.factorNames });
   const m = prepareMoments(input.returns, input.factors);
-  const r = grsCore(m, secondMomentMatrix(m.R, m.T, m.N, m.Rcols));
-  return r ?? { ok: false, reason: 'singular', message: 'The residual or factor covariance matrix is singular.' };
+  return grsCore(m, secondMomentMatrix(m.R, m.T, m.N, m.Rcols));
 }

@@ -9,21 +9,22 @@
  * @example
  * // Exactly identified (N = K): α̂ = 0, so HJ = 0.
  */
+import { gmmFailure, type GmmResult } from './errors';
 import { cholesky, choleskySolve } from './linalg';
 import type { MomentData } from './moments';
 
 /**
  * HJ distance from moments and a precomputed E_T[RR'].
  * @param form 'centred' uses X = C, 'uncentred' X = D.
- * @returns the distance (≥ 0), or null when E[RR'] or X'WX is singular.
+ * @returns `{ ok: true, distance }` (≥ 0), or a typed 'singular' failure when E[RR'] or X'WX is singular.
  */
-export function hjDistance(m: MomentData, secondMoment: Float64Array, form: 'centred' | 'uncentred' = 'centred'): number | null {
+export function hjDistance(m: MomentData, secondMoment: Float64Array, form: 'centred' | 'uncentred' = 'centred'): GmmResult<{ readonly distance: number }> {
   const { N, K, meanR } = m;
   const X = form === 'centred' ? m.covRF : m.crossRF;
   const Le = cholesky(secondMoment, N);
-  if (!Le) return null;
+  if (!Le) return gmmFailure('singular', 'The second-moment matrix of the returns is singular.', "E[RR']");
   // exactly identified: every weighting prices the assets exactly (α̂ = 0, as in sdf-gmm)
-  if (N === K) return 0;
+  if (N === K) return { ok: true, distance: 0 };
   const WX = choleskySolve(Le, N, X, K); // N×K
   const A = new Float64Array(K * K);
   const rhs = new Float64Array(K);
@@ -38,7 +39,7 @@ export function hjDistance(m: MomentData, secondMoment: Float64Array, form: 'cen
     rhs[a] = s;
   }
   const La = cholesky(A, K);
-  if (!La) return null;
+  if (!La) return gmmFailure('singular', "The second-moment-weighted system X'WX is singular.", "X'WX");
   const b = choleskySolve(La, K, rhs, 1);
   const alpha = new Float64Array(N);
   for (let i = 0; i < N; i++) {
@@ -50,5 +51,5 @@ export function hjDistance(m: MomentData, secondMoment: Float64Array, form: 'cen
   const Wa = choleskySolve(Le, N, alpha, 1);
   let q = 0;
   for (let i = 0; i < N; i++) q += alpha[i] * Wa[i];
-  return Math.sqrt(Math.max(0, q));
+  return { ok: true, distance: Math.sqrt(Math.max(0, q)) };
 }

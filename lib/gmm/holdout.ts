@@ -28,7 +28,7 @@
  *   options: { stage: 'first', weighting: 'identity', lags: 'auto', form: 'centred', factorMeansKnown: false } });
  * // r.T1 + r.T2 === T; r.alpha[i] = r.holdoutMean[i] − r.predicted[i]; r.r2oos ≤ 1
  */
-import { GmmInputError } from './errors';
+import { GmmInputError, type GmmFailure } from './errors';
 import { resolveLag } from './hac';
 import { fromNested } from './linalg';
 import { momentsFromPacked, type MomentData } from './moments';
@@ -84,11 +84,8 @@ export interface HoldoutFit {
   readonly note: string | null;
 }
 
-export interface HoldoutFailure {
-  readonly ok: false;
-  readonly reason: 'singular';
-  readonly message: string;
-}
+/** The typed numerical failure of this module (the library's one failure shape, errors.ts). */
+export type HoldoutFailure = GmmFailure;
 
 export interface HoldoutResult extends HoldoutFit {
   /** First hold-out period (0-based) and its date. */
@@ -107,7 +104,7 @@ const UNCENTRED_NOTE =
  */
 export function holdoutFromMoments(est: MomentData, hold: MomentData, options: Omit<HoldoutOptions, 'lags'> & { lags: number }): HoldoutFit | HoldoutFailure {
   const fit = fitSdfGmm(est, { stage: options.stage, weighting: options.weighting, lags: options.lags, form: options.form, factorMeansKnown: options.factorMeansKnown });
-  if (!fit.ok) return { ok: false, reason: 'singular', message: fit.message };
+  if (!fit.ok) return { ok: false, code: fit.code, message: fit.message };
   const { N, K } = hold;
   const X2 = options.form === 'centred' ? hold.covRF : hold.crossRF;
   const alpha: number[] = [];
@@ -125,7 +122,7 @@ export function holdoutFromMoments(est: MomentData, hold: MomentData, options: O
     sst += hold.meanR[i] * hold.meanR[i];
     abs += Math.abs(a);
   }
-  if (!(sst > 0)) return { ok: false, reason: 'singular', message: 'Every hold-out mean return is zero: R²_oos is undefined.' };
+  if (!(sst > 0)) return { ok: false, code: 'not-defined', message: 'Every hold-out mean return is zero: R²_oos is undefined.' };
   let sse1 = 0;
   let sst1 = 0;
   for (let i = 0; i < N; i++) {

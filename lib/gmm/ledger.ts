@@ -18,10 +18,10 @@
  * @example
  * const r = estimateLedger({ assetNames, returns, factorNames: ['MKT', 'CARRY'], factors, traded: [true, true],
  *   options: { stage: 'second', weighting: 'identity', lags: 'auto', form: 'centred', factorMeansKnown: false, level: 0.05 } });
- * // r.factors[0].verdict is one of VERDICTS; JSON.stringify(r) round-trips.
+ * // r.ok && r.ledger.factors[0].verdict is one of VERDICTS; JSON.stringify(r.ledger) round-trips.
  */
 import { normalQuantile } from './distributions';
-import { GmmInputError, GmmNumericalError } from './errors';
+import { GmmInputError, okValue, type GmmResult, type LedgerWarning, type LedgerWarningCode } from './errors';
 import { famaMacBethCore, type FamaMacBethResult } from './fama-macbeth';
 import { lagWarningThreshold, resolveLag } from './hac';
 import { grsCore } from './grs';
@@ -75,6 +75,9 @@ export interface LedgerOptions {
   /** Bootstrap settings (required for basis 'bootstrap'; optional otherwise, to show bootstrap p beside). */
   readonly bootstrap?: LedgerBootstrapSettings;
 }
+
+/** What estimateLedger returns: the ledger, or a typed numerical failure (errors.ts). */
+export type LedgerOutcome = GmmResult<{ readonly ledger: LedgerResult }>;
 
 export interface LedgerInput {
   readonly assetNames: readonly string[];
@@ -242,7 +245,8 @@ export interface LedgerResult {
     readonly basis: Basis;
     readonly bootstrap: LedgerBootstrapSettings | null;
   };
-  readonly warnings: readonly string[];
+  /** Cautions about this run: a code (errors.ts LEDGER_WARNING_CODES) and a text with its numbers and names. */
+  readonly warnings: readonly LedgerWarning[];
 }
 
 function checkNames(names: readonly string[], what: string): void {
@@ -334,11 +338,12 @@ export function cautionText(T: number, N: number, L: number): string | null {
 /**
  * Estimate the factor ledger.
  * @param input asset and factor names, T×N returns, T×K factors, traded flags, options.
- * @returns a readonly, JSON-serialisable LedgerResult (no NaN anywhere).
- * @throws GmmInputError for caller mistakes (named series/row, see errors.ts);
- *   GmmNumericalError ('singular') when the core GMM system cannot be solved after validation.
+ * @returns `{ ok: true, ledger }` with a readonly, JSON-serialisable LedgerResult (no NaN
+ *   anywhere), or a typed failure `{ ok: false, code: 'singular' | 'not-defined', message }` when the
+ *   core GMM system or the premia cannot be solved after validation.
+ * @throws GmmInputError for caller mistakes (named series/row, see errors.ts).
  */
-export function estimateLedger(input: LedgerInput): LedgerResult {
+export function estimateLedger(input: LedgerInput): LedgerOutcome {
   if (!input || typeof input !== 'object') throw new GmmInputError('empty-input', 'No input.');
   checkNames(input.assetNames ?? [], 'asset');
   checkNames(input.factorNames ?? [], 'factor');
@@ -365,8 +370,9 @@ export function estimateLedger(input: LedgerInput): LedgerResult {
     'asset',
   );
 
-  const warnings: string[] = [];
-  if (T < 10 * N) warnings.push(`T < 10·N (T = ${T}, N = ${N}): asymptotic p-values may mislead.`);
+  const warnings: LedgerWarning[] = [];
+  const warn = (code: LedgerWarningCode, message: string) => warnings.push({ code, message });
+  if (T < 10 * N) warn('small-sample', `T < 10·N (T = ${T}, N = ${N}): asymptotic p-values may mislead.`);
 
   const fit = fitSdfGmm(m, {
     stage: o.stage,
@@ -376,20 +382,21 @@ export function estimateLedger(input: LedgerInput): LedgerResult {
     factorMeansKnown: o.factorMeansKnown,
     secondMoment: second,
   });
-  if (!fit.ok) throw new GmmNumericalError('singular', `${fit.message} (matrix ${fit.matrix})`);
-  if (!fit.converged) warnings.push(`Iterated GMM did not converge in ${fit.iterations} iterations; the last iterate is reported.`);
+  if (!fit.ok) return { ok: false, code: fit.code, message: `${fit.message} (matrix ${fit.matrix})`, matrix: fit.matrix };
+  if (!fit.converged) warn('not-converged', `Iterated GMM did not converge in ${fit.iterations} iterations; the last iterate is reported.`);
   const prem = fitPremia(m, fit);
-  if (!prem.ok) throw new GmmNumericalError('singular', prem.message);
+  if (!prem.ok) return prem;
   const rob = o.stage === 'first' ? robustInference(m, fit) : null;
-  if (rob && !rob.ok) warnings.push(`Robust SEs could not be computed: ${rob.message}`);
+  if (rob && !rob.ok) warn('robust-failed', `Robust SEs could not be computed: ${rob.message}`);
   const robust = rob && rob.ok ? rob : null;
 
   const z = normalQuantile(1 - level / 2);
   const Wstar = dropWeighting(fit);
-  const drop = Wstar ? dropTester({ T, N, K, X: fit.X, W: Wstar, meanR: m.meanR }) : null;
-  if (!Wstar) warnings.push('The drop tests could not be computed: the long-run covariance Ŝ at the first-stage b̂ is singular.');
+  const tester = Wstar.ok ? dropTester({ T, N, K, X: fit.X, W: Wstar.W, meanR: m.meanR }) : null;
+  const drop = tester ? (idx: readonly number[]) => okValue(tester(idx)) : null;
+  if (!Wstar.ok) warn('drop-singular', 'The drop tests could not be computed: the long-run covariance Ŝ at the first-stage b̂ is singular.');
   else if (o.stage === 'first')
-    warnings.push('The drop tests of this first-stage run use the second stage computed from it: W* = Ŝ⁻¹, Ŝ at the first-stage b̂ with the same lag.');
+    warn('drop-first-stage', 'The drop tests of this first-stage run use the second stage computed from it: W* = Ŝ⁻¹, Ŝ at the first-stage b̂ with the same lag.');
   const basis: Basis = o.basis ?? (o.stage === 'first' ? 'robust' : 'standard');
   // The headline basis now: bootstrap p-values arrive later (withBootstrap switches to them).
   const verdictBasis: Basis = basis === 'bootstrap' ? (robust ? 'robust' : 'standard') : basis === 'robust' && !robust ? 'standard' : basis;
@@ -399,7 +406,7 @@ export function estimateLedger(input: LedgerInput): LedgerResult {
     const bz = waldSingle(fit.b[k], Math.sqrt(Math.max(0, fit.covB[k * K + k])));
     const lz = waldSingle(prem.lambda[k], Math.sqrt(Math.max(0, prem.covLambda[k * K + k])));
     const traded = input.traded[k];
-    const thin = thinBetaTest(m, k, lags);
+    const thin = okValue(thinBetaTest(m, k, lags));
     const standardVerdict = factorVerdict(bz.p, lz.p, level);
     let robustRow: LedgerRobust | null = null;
     let robustVerdict: Verdict | null = null;
@@ -418,10 +425,10 @@ export function estimateLedger(input: LedgerInput): LedgerResult {
       };
       robustVerdict = factorVerdict(rb.p, rl.p, level);
     }
-    if (!thin) warnings.push(`The thin-beta test for '${name}' could not be computed (singular covariance).`);
-    else if (thin.flag) warnings.push(`'${name}' has a thin beta (p = ${thin.p.toFixed(3)}): its b and λ inference is unreliable.`);
-    const span = traded ? spanningSingle(m, k, lags) : null;
-    if (traded && !span) warnings.push(`The spanning check for '${name}' could not be computed (the other factors are collinear).`);
+    if (!thin) warn('thin-beta-failed', `The thin-beta test for '${name}' could not be computed (singular covariance).`);
+    else if (thin.flag) warn('thin-beta', `'${name}' has a thin beta (p = ${thin.p.toFixed(3)}): its b and λ inference is unreliable.`);
+    const span = traded ? okValue(spanningSingle(m, k, lags)) : null;
+    if (traded && !span) warn('spanning-failed', `The spanning check for '${name}' could not be computed (the other factors are collinear).`);
     return {
       name,
       traded,
@@ -451,25 +458,25 @@ export function estimateLedger(input: LedgerInput): LedgerResult {
   const pBY = benjaminiYekutieliAdjust(pForAdjust);
   const factors: LedgerFactor[] = rows.map((f, k) => ({ ...f, pHolm: pHolm[k], pBY: pBY[k] }));
   if (nonTradedNames.length > 0 && K > 1 && nonTradedNames.length < K)
-    warnings.push(`Spanning regressions use every other factor as a regressor, including non-traded ${nonTradedNames.join(', ')}.`);
+    warn('spanning-non-traded-regressors', `Spanning regressions use every other factor as a regressor, including non-traded ${nonTradedNames.join(', ')}.`);
 
   const pricingErrors: LedgerPricingError[] = input.assetNames.map((asset, i) => {
     const az = waldSingle(fit.alpha[i], Math.sqrt(Math.max(0, fit.covAlpha[i * N + i])));
     return { asset, alpha: fit.alpha[i], se: az.se, t: az.t, meanReturn: m.meanR[i], predicted: m.meanR[i] - fit.alpha[i] };
   });
 
-  const hj = hjDistance(m, second, o.form);
-  if (hj === null) warnings.push('The HJ distance could not be computed (singular second-moment matrix).');
+  const hj = okValue(hjDistance(m, second, o.form))?.distance ?? null;
+  if (hj === null) warn('hj-failed', 'The HJ distance could not be computed (singular second-moment matrix).');
 
   let grs: LedgerGrs | null = null;
   if (nonTradedNames.length === 0) {
     const g = grsCore(m, second);
-    if (g) grs = { stat: g.stat, df1: g.df1, df2: g.df2, p: g.p };
-    else warnings.push('The GRS test could not be computed (singular covariance).');
-  } else warnings.push(`GRS is not reported: it needs every factor traded (${nonTradedNames.join(', ')} are not).`);
+    if (g.ok) grs = { stat: g.stat, df1: g.df1, df2: g.df2, p: g.p };
+    else warn('grs-failed', 'The GRS test could not be computed (singular covariance).');
+  } else warn('grs-not-traded', `GRS is not reported: it needs every factor traded (${nonTradedNames.join(', ')} are not).`);
 
-  const fm = famaMacBethCore(m, names, o.fmIntercept ?? false);
-  if (!fm) warnings.push('Fama–MacBeth could not be computed (singular cross-sectional design).');
+  const fm = okValue(famaMacBethCore(m, names, o.fmIntercept ?? false));
+  if (!fm) warn('fama-macbeth-failed', 'Fama–MacBeth could not be computed (singular cross-sectional design).');
 
   let jointDrop: LedgerJointDrop | null = null;
   let jointSpanning: LedgerJointSpanning | null = null;
@@ -478,9 +485,9 @@ export function estimateLedger(input: LedgerInput): LedgerResult {
     const idx = dropSet.map((n) => names.indexOf(n));
     jointDrop = { factors: dropSet, wald: waldJoint(fit.b, fit.covB, K, idx), chi2Drop: drop ? drop(idx) : null };
     if (idx.every((k) => input.traded[k])) {
-      const js = spanningJointCore(m, idx, lags);
+      const js = okValue(spanningJointCore(m, idx, lags));
       if (js) jointSpanning = { factors: dropSet, ...js };
-    } else warnings.push('The joint spanning check is not reported: the drop set contains a non-traded factor.');
+    } else warn('joint-spanning-not-traded', 'The joint spanning check is not reported: the drop set contains a non-traded factor.');
   }
 
   const robustNote =
@@ -492,7 +499,7 @@ export function estimateLedger(input: LedgerInput): LedgerResult {
   const lagWarning = lagWarningText(T, lags);
   const caution = cautionText(T, N, lags);
 
-  return {
+  const ledger: LedgerResult = {
     T,
     N,
     K,
@@ -529,4 +536,5 @@ export function estimateLedger(input: LedgerInput): LedgerResult {
     },
     warnings,
   };
+  return { ok: true, ledger };
 }

@@ -13,7 +13,7 @@
  * olsFit([3, 5, 7, 9], [[1, 1], [1, 2], [1, 3], [1, 4]]).coef // → [1, 2]
  */
 import { Matrix, QrDecomposition } from 'ml-matrix';
-import { GmmInputError } from './errors';
+import { GmmInputError, type GmmFailure } from './errors';
 import { hacCovariance } from './hac';
 
 export interface OlsResult {
@@ -26,11 +26,8 @@ export interface OlsResult {
   readonly dfResidual: number;
 }
 
-export interface OlsFailure {
-  readonly ok: false;
-  readonly reason: 'singular';
-  readonly message: string;
-}
+/** The typed numerical failure of this module (the library's one failure shape, errors.ts). */
+export type OlsFailure = GmmFailure;
 
 /**
  * OLS by QR with classical SEs (`covariance: 'classical'`) or Bartlett HAC SEs with lag `lags`.
@@ -52,7 +49,7 @@ export function olsFit(
   }
   if (n <= p) throw new GmmInputError('too-few-periods', `${n} observations are too few for ${p} regressors.`);
   const qr = new QrDecomposition(new Matrix(X.map((r) => [...r])));
-  if (!qr.isFullRank()) return { ok: false, reason: 'singular', message: 'The regressors are linearly dependent.' };
+  if (!qr.isFullRank()) return { ok: false, code: 'singular', message: 'The regressors are linearly dependent.' };
   const coef = qr.solve(Matrix.columnVector([...y])).getColumn(0);
   const R = qr.upperTriangularMatrix;
   // R^{-1} by back substitution (p×p upper triangular)

@@ -18,6 +18,7 @@
  * // One factor with Σ_f = 4e-4 and b̂ = 2.5: λ̂ = 4e-4 · 2.5 = 1e-3.
  * // premiaFromLoadings([4e-4], 1, [2.5]) → [0.001]
  */
+import type { GmmFailure } from './errors';
 import { hacCovariance } from './hac';
 import type { MomentData } from './moments';
 import type { SdfGmmFit } from './sdf-gmm';
@@ -39,11 +40,8 @@ export interface PremiaFit {
   readonly covLambda: Float64Array;
 }
 
-export interface PremiaFailure {
-  readonly ok: false;
-  readonly reason: 'singular';
-  readonly message: string;
-}
+/** The typed numerical failure of this module (the library's one failure shape, errors.ts). */
+export type PremiaFailure = GmmFailure;
 
 /**
  * λ̂ and Var(λ̂) from a GMM fit on the same moments.
@@ -61,7 +59,7 @@ export function fitPremia(m: MomentData, fit: SdfGmmFit, psiB?: Float64Array): P
     c = 1;
     for (let k = 0; k < K; k++) c -= meanF[k] * b[k];
     if (!(Math.abs(c) > 1e-12))
-      return { ok: false, reason: 'singular', message: "1 − μ'b̂ is zero: the uncentred premia are undefined." };
+      return { ok: false, code: 'not-defined', message: "1 − μ'b̂ is zero: the uncentred premia are undefined." };
   }
   const sigB = premiaFromLoadings(sigmaF, K, b);
   const lambda = Float64Array.from(sigB, (v) => v / c);

@@ -45,7 +45,7 @@
  * const rob = fit.ok ? robustInference(m, fit) : null;
  * // rob.ok → rob.covB (K×K), rob.covLambda (K×K); with N = K, rob.covB equals fit.covB to rounding
  */
-import { GmmInputError } from './errors';
+import { GmmInputError, type GmmFailure } from './errors';
 import { hacCovariance } from './hac';
 import { cholesky, choleskySolve } from './linalg';
 import type { MomentData } from './moments';
@@ -62,11 +62,8 @@ export interface RobustFit {
   readonly covLambda: Float64Array;
 }
 
-export interface RobustFailure {
-  readonly ok: false;
-  readonly reason: 'singular';
-  readonly message: string;
-}
+/** The typed numerical failure of this module (the library's one failure shape, errors.ts). */
+export type RobustFailure = GmmFailure;
 
 /**
  * The misspecification-robust influence series ψ_t (T×K) of a first-stage fit.
@@ -170,11 +167,11 @@ export function robustInfluence(m: MomentData, fit: SdfGmmFit): Float64Array | n
  */
 export function robustInference(m: MomentData, fit: SdfGmmFit): RobustFit | RobustFailure {
   const psi = robustInfluence(m, fit);
-  if (!psi) return { ok: false, reason: 'singular', message: "X'WX is singular: robust SEs cannot be computed." };
+  if (!psi) return { ok: false, code: 'singular', message: "X'WX is singular: robust SEs cannot be computed." };
   const { T, K } = m;
   const covB = hacCovariance(psi, T, K, fit.lags);
   for (let i = 0; i < covB.length; i++) covB[i] /= T;
   const prem = fitPremia(m, fit, psi);
-  if (!prem.ok) return { ok: false, reason: 'singular', message: prem.message };
+  if (!prem.ok) return prem;
   return { ok: true, psi, covB, covLambda: prem.covLambda };
 }

@@ -33,6 +33,7 @@
  * // r.ok === true, r.J.stat === 0, r.J.df === 0
  */
 import { chiSquareSf } from './distributions';
+import type { GmmFailure } from './errors';
 import { validateMatrices } from './validate';
 import { hacFromColumns } from './hac';
 import {
@@ -107,13 +108,8 @@ export interface SdfGmmFit {
   readonly J: ChiSquareTest;
 }
 
-export interface SdfGmmFailure {
-  readonly ok: false;
-  readonly reason: 'singular';
-  /** Which matrix could not be inverted. */
-  readonly matrix: string;
-  readonly message: string;
-}
+/** The typed numerical failure of the fit (errors.ts): code 'singular' and the matrix that could not be inverted. */
+export type SdfGmmFailure = GmmFailure & { readonly matrix: string };
 
 /** h_t(b) for the chosen form (T×N row-major). */
 export function sdfMomentSeries(m: MomentData, b: ArrayLike<number>, form: SdfForm, factorMeansKnown: boolean): Float64Array {
@@ -210,7 +206,7 @@ function pricingErrors(X: Float64Array, b: Float64Array, meanR: Float64Array, N:
  * @param options stage, first-stage weighting, lag, form, factorMeansKnown, iteration cap and
  *   tolerance, optional precomputed E_T[RR'].
  * @returns the fit on typed arrays (b̂, W, H, α̂, Ŝ_b, Var(b̂), Var(α̂), J, iterations,
- *   converged), or `{ ok: false, reason: 'singular', matrix }` when X'WX, E[RR'] or Ŝ cannot be
+ *   converged), or `{ ok: false, code: 'singular', matrix, message }` when X'WX, E[RR'] or Ŝ cannot be
  *   inverted. Never NaN; does not throw for numerical failures.
  */
 export function fitSdfGmm(m: MomentData, options: SdfGmmOptions): SdfGmmFit | SdfGmmFailure {
@@ -221,7 +217,7 @@ export function fitSdfGmm(m: MomentData, options: SdfGmmOptions): SdfGmmFit | Sd
   const maxIt = options.maxIterations ?? 100;
   const tol = options.tolerance ?? 1e-10;
   const X = form === 'centred' ? m.covRF : m.crossRF;
-  const fail = (matrix: string, message: string): SdfGmmFailure => ({ ok: false, reason: 'singular', matrix, message });
+  const fail = (matrix: string, message: string): SdfGmmFailure => ({ ok: false, code: 'singular', matrix, message });
 
   let W1: Float64Array;
   const weighting = options.weighting ?? 'identity';

@@ -278,7 +278,7 @@ export function compareModels(input: CompareModelsInput): SharpeComparison | Nes
     const mb = momentsFromPacked(new Float64Array(p.T), Fb, p.T, 1, Kb);
     const set = extra.map((k) => big.indexOf(k));
     const js = spanningJointCore(mb, set, p.lags);
-    if (!js) return singular;
+    if (!js.ok) return singular;
     const bigName = larger === 'a' ? 'A' : 'B';
     const smallName = larger === 'a' ? 'B' : 'A';
     return {

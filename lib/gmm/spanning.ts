@@ -18,7 +18,7 @@
  * // → { alpha ≈ 0.01 (± 3·0.005/√2000), se ≈ 0.005/√2000, t ≈ 89, p ≈ 0 }
  */
 import { chiSquareSf } from './distributions';
-import { GmmInputError } from './errors';
+import { gmmFailure, type GmmFailure, GmmInputError, type GmmResult, okValue } from './errors';
 import { hacCovariance } from './hac';
 import { cholesky, choleskySolve, fromNested, spdInverse } from './linalg';
 import { momentsFromPacked, type MomentData } from './moments';
@@ -39,11 +39,8 @@ export interface SpanningJoint {
   readonly p: number;
 }
 
-export interface SpanningFailure {
-  readonly ok: false;
-  readonly reason: 'singular';
-  readonly message: string;
-}
+/** The typed numerical failure of this module (the library's one failure shape, errors.ts). */
+export type SpanningFailure = GmmFailure;
 
 /**
  * Spanning intercepts for the factor indices `set` regressed on the other factors, on
@@ -93,25 +90,30 @@ export function spanningCore(m: MomentData, set: readonly number[], lags: number
   return { alpha, cov };
 }
 
-/** Single-factor spanning check on precomputed moments (null when singular). */
-export function spanningSingle(m: MomentData, k: number, lags: number): SpanningSingle | null {
+/** spanningTest's single result keeps its plain shape (no ok field). */
+const okOrFail = (r: GmmResult<SpanningSingle>): SpanningSingle | GmmFailure => (r.ok ? okValue(r)! : r);
+
+const collinear = (): GmmFailure => gmmFailure('singular', 'The other factors are collinear.');
+
+/** Single-factor spanning check on precomputed moments (typed 'singular' failure when the other factors are collinear). */
+export function spanningSingle(m: MomentData, k: number, lags: number): GmmResult<SpanningSingle> {
   const core = spanningCore(m, [k], lags);
-  if (!core) return null;
+  if (!core) return collinear();
   const z: ZTest = waldSingle(core.alpha[0], Math.sqrt(Math.max(0, core.cov[0])));
-  return { alpha: core.alpha[0], se: z.se, t: z.t, p: z.p };
+  return { ok: true, alpha: core.alpha[0], se: z.se, t: z.t, p: z.p };
 }
 
-/** Joint spanning check for the set on precomputed moments (null when singular). */
-export function spanningJointCore(m: MomentData, set: readonly number[], lags: number): { alpha: number[]; stat: number; df: number; p: number } | null {
+/** Joint spanning check for the set on precomputed moments (typed 'singular' failure when singular). */
+export function spanningJointCore(m: MomentData, set: readonly number[], lags: number): GmmResult<{ alpha: number[]; stat: number; df: number; p: number }> {
   const core = spanningCore(m, set, lags);
-  if (!core) return null;
+  if (!core) return collinear();
   const s = set.length;
   const Vi = spdInverse(core.cov, s);
-  if (!Vi) return null;
+  if (!Vi) return gmmFailure('singular', 'The covariance of the spanning intercepts is singular.');
   let stat = 0;
   for (let a = 0; a < s; a++) for (let c = 0; c < s; c++) stat += core.alpha[a] * Vi[a * s + c] * core.alpha[c];
   stat = Math.max(0, stat);
-  return { alpha: Array.from(core.alpha), stat, df: s, p: chiSquareSf(stat, s) };
+  return { ok: true, alpha: Array.from(core.alpha), stat, df: s, p: chiSquareSf(stat, s) };
 }
 
 export interface SpanningTestInput {
@@ -143,8 +145,7 @@ export function spanningTest(input: SpanningTestInput): SpanningSingle | Spannin
   const T = input.factors.length;
   const F = fromNested(input.factors, K);
   const m = momentsFromPacked(new Float64Array(T), F, T, 1, K);
-  const fail: SpanningFailure = { ok: false, reason: 'singular', message: 'The other factors are collinear.' };
-  if (idx.length === 1) return spanningSingle(m, idx[0], input.lags) ?? fail;
+  if (idx.length === 1) return okOrFail(spanningSingle(m, idx[0], input.lags));
   const j = spanningJointCore(m, idx, input.lags);
-  return j ? { factors: [...input.test], ...j } : fail;
+  return j.ok ? { factors: [...input.test], ...okValue(j)! } : j;
 }

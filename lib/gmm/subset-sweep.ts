@@ -249,9 +249,9 @@ export function prepareSubsetSweep(input: SubsetSweepInput): SweepPlan {
   const hj = products(X, Whj, m.meanR, N, K);
   const full = fitSdfGmm(m, { stage: o.stage ?? 'second', weighting: o.weighting, lags, form: o.form, factorMeansKnown: o.factorMeansKnown, secondMoment: second });
   if (!full.ok) throw new GmmInputError('invalid-option', `The full model cannot be estimated: ${full.message}`);
-  const Wstar = dropWeighting(full);
-  if (!Wstar) throw new GmmInputError('invalid-option', 'The full model cannot be estimated: its long-run covariance Ŝ is singular.');
-  const w = products(X, Wstar, m.meanR, N, K);
+  const weighting = dropWeighting(full);
+  if (!weighting.ok) throw new GmmInputError('invalid-option', 'The full model cannot be estimated: its long-run covariance Ŝ is singular.');
+  const w = products(X, weighting.W, m.meanR, N, K);
   const all = Int32Array.from({ length: K }, (_, k) => k);
   const qFull = objective(w.A, w.c, w.q0, K, all, K, new Float64Array(K * K), new Float64Array(K));
   if (qFull === null) throw new GmmInputError('invalid-option', 'The full model is singular under its own weighting.');

@@ -18,6 +18,7 @@
  * // thinBetaTest(m, 0, 0).flag === false (p ≈ 0); thinBetaTest(m, 1, 0).flag === true for
  * // about 90% of seeds (p uniform under the null)
  */
+import { gmmFailure, type GmmResult } from './errors';
 import { chiSquareSf } from './distributions';
 import { hacFromColumns } from './hac';
 import { cholesky, choleskySolve } from './linalg';
@@ -37,9 +38,9 @@ export interface ThinBetaTest {
 /**
  * The thin-beta test for factor k on precomputed moments.
  * @param m moments; @param k factor index (0-based); @param lags Bartlett lag.
- * @returns { stat, df = N, p, flag = p ≥ 0.10 }, or null when Var(Ĉ_k) is singular.
+ * @returns `{ ok: true, stat, df = N, p, flag = p ≥ 0.10 }`, or a typed 'singular' failure when Var(Ĉ_k) is singular.
  */
-export function thinBetaTest(m: MomentData, k: number, lags: number): ThinBetaTest | null {
+export function thinBetaTest(m: MomentData, k: number, lags: number): GmmResult<ThinBetaTest> {
   const { T, N, K, Fc, meanR, covRF } = m;
   const Rc = m.Rcols;
   const f = new Float64Array(T);
@@ -51,12 +52,12 @@ export function thinBetaTest(m: MomentData, k: number, lags: number): ThinBetaTe
     for (let t = 0; t < T; t++) buf[t] = (Rc[off + t] - mi) * f[t];
   });
   const L = cholesky(V, N);
-  if (!L) return null;
+  if (!L) return gmmFailure('singular', 'The covariance of the estimated covariances Ĉ_k is singular.', 'Var(Ĉ_k)');
   const c = Float64Array.from({ length: N }, (_, i) => covRF[i * K + k]);
   const x = choleskySolve(L, N, c, 1);
   let stat = 0;
   for (let i = 0; i < N; i++) stat += c[i] * x[i];
   stat = Math.max(0, stat * T);
   const p = chiSquareSf(stat, N);
-  return { stat, df: N, p, flag: p >= THIN_BETA_LEVEL };
+  return { ok: true, stat, df: N, p, flag: p >= THIN_BETA_LEVEL };
 }

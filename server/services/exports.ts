@@ -22,6 +22,7 @@ import type { LedgerResult, Run } from '../../shared/runs';
 import { RUN_CAUTION } from '../../shared/runs';
 import { toCsv, type CsvCell } from '../../shared/csv';
 import { DECIMALS, P_FLOOR, formatFixed, formatP, formatPercent, type FormatStyle } from '../../shared/format';
+import { ledgerWarningText } from '../../shared/gmm-messages';
 
 type Factor = LedgerResult['factors'][number];
 type Basis = LedgerResult['basis'];
@@ -241,7 +242,7 @@ export function runCsv(run: Run, ctx: ExportContext = {}): string {
   if (r.robustNote) rows.push(['robust_note', r.robustNote]);
   if (r.caution) rows.push(['caution', r.caution]);
   if (r.lagWarning) rows.push(['lag_warning', r.lagWarning]);
-  for (const w of r.warnings) rows.push(['warning', w]);
+  for (const w of r.warnings) rows.push(['warning', ledgerWarningText(w)]);
   rows.push(['advice', RUN_CAUTION]);
   rows.push([], [...CSV_FACTOR_COLUMNS], ...r.factors.map(factorRow));
   return toCsv(rows, '\r\n');

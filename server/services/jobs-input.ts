@@ -16,7 +16,6 @@ import {
 import {
   defaultBlockLength,
   GmmInputError,
-  GmmNumericalError,
   prepareBootstrap,
   resolveLag,
   resolveSplit,
@@ -99,7 +98,7 @@ export function assertBootstrapAccepted(check: Extract<CheckInput, { kind: 'boot
   try {
     prepareBootstrap(check.input);
   } catch (e) {
-    if (e instanceof GmmInputError || e instanceof GmmNumericalError) unprocessable(e.message);
+    if (e instanceof GmmInputError) unprocessable(e.message);
     throw e;
   }
 }

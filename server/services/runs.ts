@@ -29,7 +29,8 @@ import type { User } from '../../shared/auth';
 import { modelSpecSchema, resolveBasis, specBootstrapSchema, type ModelSpec, type SavedSpec } from '../../shared/specs';
 import type { ChangeBasisBody, FirstStageCopyResponse, LedgerResult, Run, RunListQuery, RunStatus, RunSummary, SignoffState } from '../../shared/runs';
 import type { LedgerResult as EngineResult } from '../../lib/gmm/index';
-import { estimateLedger, GmmInputError, GmmNumericalError } from '../../lib/gmm/index';
+import { estimateLedger, GmmInputError } from '../../lib/gmm/index';
+import { gmmFailureMessage } from '../../shared/gmm-messages';
 import type { EditionData } from './edition-data';
 import { bootstrapSettingsOf, buildLedgerInput, RunDataError } from './ledger-input';
 import { canReadEdition, findSpecRow, insertSpec, loadAndCheck, specForRun } from './specs';
@@ -68,7 +69,8 @@ export function estimate(spec: ModelSpec, data: EditionData, dropSetOverride?: s
   try {
     const built = buildLedgerInput(spec, data, dropSetOverride);
     dates = built.dates;
-    return { ok: true, result: estimateLedger(built.input) };
+    const out = estimateLedger(built.input);
+    return out.ok ? { ok: true, result: out.ledger } : { ok: false, error: gmmFailureMessage(out) };
   } catch (e) {
     if (e instanceof RunDataError) return { ok: false, error: e.message };
     if (e instanceof GmmInputError) {
@@ -76,7 +78,6 @@ export function estimate(spec: ModelSpec, data: EditionData, dropSetOverride?: s
       const when = e.row !== undefined && dates[e.row] ? ` (date ${dates[e.row]})` : '';
       return { ok: false, error: `${e.message}${when}` };
     }
-    if (e instanceof GmmNumericalError) return { ok: false, error: `The estimation could not be solved: ${e.message}` };
     throw e;
   }
 }

@@ -11,7 +11,8 @@ import { join } from 'node:path';
 import { openDb, type Db } from '../../server/db/client';
 import { seedDemo } from '../../server/seed/index';
 import { loadEditionData, type EditionData } from '../../server/services/edition-data';
-import { estimateLedger, type GmmStage, type FirstStageWeighting } from '../../lib/gmm/index';
+import { type GmmStage, type FirstStageWeighting } from '../../lib/gmm/index';
+import { estimateLedger } from '../gmm/helpers';
 import { DAILY_FILE, DEMO_DIR, MARKET_FILE, generateDaily, generateMarket, marketTruth, toCsv } from '../../scripts/generate-demo-data';
 
 let db: Db;

@@ -14,7 +14,8 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { agentAs, anonymousAgent, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp } from './helpers';
 import { FIX_ASSETS, makeFixture, spec, uploadFixture, waitForMail, type Fixture } from './runs-fixture';
-import { bootstrapSdfTests, estimateLedger, prepareBootstrap, withBootstrap, type LedgerResult as EngineLedger } from '../../lib/gmm/index';
+import { bootstrapSdfTests, prepareBootstrap, withBootstrap, type LedgerResult as EngineLedger } from '../../lib/gmm/index';
+import { estimateLedger } from '../gmm/helpers';
 import { createRun, mailSettled } from '../../server/services/runs';
 import { createUser, findActiveUser } from '../../server/services/users';
 import { DEMO_PASSWORD } from '../../server/seed/users';

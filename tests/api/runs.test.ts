@@ -8,7 +8,8 @@ import Papa from 'papaparse';
 import type { Test } from 'supertest';
 import { agentAs, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp } from './helpers';
 import { FIX_ASSETS, GAP_INDEX, makeFixture, spec, uploadFixture, type Fixture } from './runs-fixture';
-import { estimateLedger } from '../../lib/gmm/index';
+
+import { estimateLedger } from '../gmm/helpers';
 import { mailSettled } from '../../server/services/runs';
 import { runResponseSchema, runsResponseSchema, compareResponseSchema, type Run } from '../../shared/runs';
 import { CSV_FACTOR_COLUMNS } from '../../server/services/exports';

@@ -17,8 +17,8 @@
  */
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { estimateLedger, type LedgerOptions, type LedgerResult } from '../../lib/gmm/index';
-import { pythonFixture, REFERENCE_DIR } from './helpers';
+import { type LedgerOptions, type LedgerResult } from '../../lib/gmm/index';
+import { estimateLedger, pythonFixture, REFERENCE_DIR } from './helpers';
 
 const TOL = 1e-8;
 const SCRIPT = join(REFERENCE_DIR, 'audit_reference.py');

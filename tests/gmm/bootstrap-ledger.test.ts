@@ -7,7 +7,8 @@
 import { describe, expect, it } from 'vitest';
 import { bootstrapSdfTests } from '../../lib/gmm/bootstrap';
 import { withBootstrap } from '../../lib/gmm/ledger-bootstrap';
-import { estimateLedger, type LedgerOptions } from '../../lib/gmm/ledger';
+import { type LedgerOptions } from '../../lib/gmm/ledger';
+import { estimateLedger } from './helpers';
 import { factorVerdict } from '../../lib/gmm/verdict';
 import { GmmInputError } from '../../lib/gmm/errors';
 import { simulateEconomy } from './helpers';

@@ -9,8 +9,8 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { ledgerResultSchema } from '../../shared/ledger';
-import { bootstrapSdfTests, estimateLedger } from '../../lib/gmm/index';
-import { normalSampler } from './helpers';
+import { bootstrapSdfTests } from '../../lib/gmm/index';
+import { estimateLedger, normalSampler } from './helpers';
 import { main } from '../../bin/keelson-cli';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..', '..');

@@ -3,27 +3,8 @@
  * drift from the code). Hand-computed values are derived in the comments.
  */
 import { describe, expect, it } from 'vitest';
-import {
-  chiSquareDifference,
-  estimateLedger,
-  estimateSdfGmm,
-  factorVerdict,
-  famaMacBethCore,
-  grsTest,
-  hjDistance,
-  longRunCovariance,
-  premiaFromLoadings,
-  prepareMoments,
-  secondMomentMatrix,
-  spanningTest,
-  thinBetaTest,
-  validateMatrices,
-  VERDICTS,
-  waldJoint,
-  waldSingle,
-  GmmInputError,
-} from '../../lib/gmm/index';
-import { normalSampler, simulateEconomy } from './helpers';
+import { chiSquareDifference, estimateSdfGmm, factorVerdict, famaMacBethCore, grsTest, hjDistance, longRunCovariance, premiaFromLoadings, prepareMoments, secondMomentMatrix, spanningTest, thinBetaTest, validateMatrices, VERDICTS, waldJoint, waldSingle, GmmInputError } from '../../lib/gmm/index';
+import { estimateLedger, normalSampler, okOf, simulateEconomy } from './helpers';
 
 describe('module examples', () => {
   it('hac: Γ₀ = 1, Γ₁ = −0.75, S = 1 + 0.5·(−1.5) = 0.25 (hand computation)', () => {
@@ -67,7 +48,7 @@ describe('module examples', () => {
   });
 
   it('drop-test: W* = I, g_r = (0, 2) → D = 10 · 4 = 40', () => {
-    const d = chiSquareDifference({ T: 10, N: 2, K: 2, X: [1, 0, 0, 1], W: [1, 0, 0, 1], meanR: [1, 2] }, [1])!;
+    const d = okOf(chiSquareDifference({ T: 10, N: 2, K: 2, X: [1, 0, 0, 1], W: [1, 0, 0, 1], meanR: [1, 2] }, [1]));
     expect(d.stat).toBeCloseTo(40, 12);
     expect(d.df).toBe(1);
   });
@@ -99,10 +80,10 @@ describe('module examples', () => {
       const factors = Array.from({ length: T }, () => [0.005 + 0.04 * z(), 0.003 + 0.03 * z()]);
       const returns = factors.map((f) => Array.from({ length: 5 }, (_, i) => (0.6 + 0.2 * i) * f[0] + 0.02 * z()));
       const m = prepareMoments(returns, factors);
-      const loaded = thinBetaTest(m, 0, 0)!;
+      const loaded = okOf(thinBetaTest(m, 0, 0));
       expect(loaded.flag).toBe(false);
       expect(loaded.p).toBeLessThan(1e-6);
-      if (thinBetaTest(m, 1, 0)!.flag) flagged++;
+      if (okOf(thinBetaTest(m, 1, 0)).flag) flagged++;
     }
     // p uniform under the null → flagged with probability 0.9; binomial(40, 0.9) ≥ 30 w.p. > 0.99
     expect(flagged).toBeGreaterThanOrEqual(30);
@@ -121,7 +102,7 @@ describe('module examples', () => {
   it('fama-macbeth: one factor, no intercept: λ̂ = mean_t (Σ β_i R_it / Σ β_i²)', () => {
     const eco = simulateEconomy({ T: 200, N: 6, K: 1, seed: 6 });
     const m = prepareMoments(eco.returns, eco.factors);
-    const fm = famaMacBethCore(m, ['MKT'], false)!;
+    const fm = okOf(famaMacBethCore(m, ['MKT'], false));
     const beta = Array.from({ length: m.N }, (_, i) => m.covRF[i] / m.sigmaF[0]);
     const bb = beta.reduce((s, b) => s + b * b, 0);
     const lam = eco.returns.map((r) => r.reduce((s, v, i) => s + beta[i] * v, 0) / bb);
@@ -135,7 +116,7 @@ describe('module examples', () => {
   it('hj-distance: N = K → 0', () => {
     const eco = simulateEconomy({ T: 100, N: 2, K: 2, seed: 2 });
     const m = prepareMoments(eco.returns, eco.factors);
-    expect(hjDistance(m, secondMomentMatrix(m.R, m.T, m.N))!).toBeLessThan(1e-12);
+    expect(okOf(hjDistance(m, secondMomentMatrix(m.R, m.T, m.N))).distance).toBeLessThan(1e-12);
   });
 
   it('verdict: the four combinations', () => {

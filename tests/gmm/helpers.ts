@@ -9,9 +9,23 @@ import { existsSync, mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 
 import { tmpdir } from 'node:os';
 import { basename, dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { estimateLedger as estimateLedgerOutcome, type GmmResult, type LedgerInput, type LedgerResult } from '../../lib/gmm/index';
 import { boxMuller, mulberry32 } from '../../lib/gmm/random';
 
 export { mulberry32 };
+
+/** The value of a typed result that must have succeeded (throws with the failure's code and message otherwise). */
+export function okOf<T extends object>(r: GmmResult<T>): T & { readonly ok: true } {
+  if (!r.ok) throw new Error(`expected success, got ${r.code}: ${r.message}`);
+  return r;
+}
+
+/** estimateLedger for tests that expect a ledger: unwraps `{ ok: true, ledger }`, throws on a typed failure. */
+export function estimateLedger(input: LedgerInput): LedgerResult {
+  const r = estimateLedgerOutcome(input);
+  if (!r.ok) throw new Error(`estimateLedger: ${r.code}: ${r.message}`);
+  return r.ledger;
+}
 
 /** Standard normal draws: Box–Muller on mulberry32 (both from lib/gmm/random.ts). */
 export function normalSampler(seed: number): () => number {

@@ -6,16 +6,8 @@
  * prices itself; refused splits; the rolling version against single splits.
  */
 import { describe, expect, it } from 'vitest';
-import {
-  estimateLedger,
-  GmmInputError,
-  holdoutFromMoments,
-  holdoutPricing,
-  prepareMoments,
-  rollingHoldout,
-  type HoldoutOptions,
-} from '../../lib/gmm/index';
-import { maxRel, runReference, simulateEconomy } from './helpers';
+import { GmmInputError, holdoutFromMoments, holdoutPricing, prepareMoments, rollingHoldout, type HoldoutOptions } from '../../lib/gmm/index';
+import { estimateLedger, maxRel, runReference, simulateEconomy } from './helpers';
 
 const TOL = 1e-8;
 

@@ -3,8 +3,8 @@
  */
 import { describe, expect, it } from 'vitest';
 import { ledgerResultSchema, type LedgerResultParsed } from '../../shared/ledger';
-import { estimateLedger, type LedgerResult } from '../../lib/gmm/index';
-import { simulateEconomy } from './helpers';
+import { type LedgerResult } from '../../lib/gmm/index';
+import { estimateLedger, simulateEconomy } from './helpers';
 
 // Compile-time: the library's result type and the schema's inferred type are mutually assignable
 // (tsc checks this file).
@@ -39,5 +39,14 @@ describe('ledgerResultSchema', () => {
     expect(ledgerResultSchema.safeParse(bad).success).toBe(false);
     const { J: _J, ...missing } = r;
     expect(ledgerResultSchema.safeParse(missing).success).toBe(false);
+  });
+
+  it('warnings are { code, message }; a ledger stored with plain-text warnings reads them as code note; an unknown code is refused', () => {
+    const r = estimateLedger({ ...base, options: { stage: 'second', weighting: 'identity', lags: 2, form: 'centred', factorMeansKnown: false, level: 0.05 } });
+    expect(r.warnings.length).toBeGreaterThan(0);
+    for (const w of r.warnings) expect(Object.keys(w).sort()).toEqual(['code', 'message']);
+    const legacy = { ...structuredClone(r), warnings: ['An old free-text warning.'] };
+    expect(ledgerResultSchema.parse(legacy).warnings).toEqual([{ code: 'note', message: 'An old free-text warning.' }]);
+    expect(ledgerResultSchema.safeParse({ ...structuredClone(r), warnings: [{ code: 'made-up', message: 'x' }] }).success).toBe(false);
   });
 });

@@ -5,16 +5,8 @@
  * pairwise-summation block (128), to 1e-15 absolute; and the ledger's pHolm / pBY.
  */
 import { describe, expect, it } from 'vitest';
-import {
-  adjustPValues,
-  benjaminiYekutieliAdjust,
-  estimateLedger,
-  GmmInputError,
-  HLZ_T_HURDLE,
-  holmAdjust,
-  pairwiseSum,
-} from '../../lib/gmm/index';
-import { mulberry32, runReference, simulateEconomy } from './helpers';
+import { adjustPValues, benjaminiYekutieliAdjust, GmmInputError, HLZ_T_HURDLE, holmAdjust, pairwiseSum } from '../../lib/gmm/index';
+import { estimateLedger, mulberry32, runReference, simulateEconomy } from './helpers';
 
 const u = mulberry32(2024);
 const vectors: number[][] = [

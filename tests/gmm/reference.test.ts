@@ -4,16 +4,8 @@
  * invented data, to 1e-8 relative.
  */
 import { afterAll, describe, expect, it } from 'vitest';
-import {
-  estimateLedger,
-  fitPremia,
-  fitSdfGmm,
-  hacCovariance,
-  olsFit,
-  prepareMoments,
-  type LedgerOptions,
-} from '../../lib/gmm/index';
-import { disagreement, maxRel, runReference, simulateEconomy } from './helpers';
+import { fitPremia, fitSdfGmm, hacCovariance, olsFit, prepareMoments, type LedgerOptions } from '../../lib/gmm/index';
+import { disagreement, estimateLedger, maxRel, runReference, simulateEconomy } from './helpers';
 
 const TOL = 1e-8;
 

@@ -5,21 +5,8 @@
  * run once on every case, to 1e-8 relative; and the identities the formula must satisfy.
  */
 import { afterAll, describe, expect, it } from 'vitest';
-import {
-  estimateLedger,
-  fitPremia,
-  fitSdfGmm,
-  GmmInputError,
-  prepareMoments,
-  robustInference,
-  robustInfluence,
-  sdfMomentSeries,
-  type FirstStageWeighting,
-  type MomentData,
-  type SdfForm,
-  type SdfGmmFit,
-} from '../../lib/gmm/index';
-import { disagreement, maxRel, runReference, simulateEconomy } from './helpers';
+import { fitPremia, fitSdfGmm, GmmInputError, prepareMoments, robustInference, robustInfluence, sdfMomentSeries, type FirstStageWeighting, type MomentData, type SdfForm, type SdfGmmFit } from '../../lib/gmm/index';
+import { disagreement, estimateLedger, maxRel, runReference, simulateEconomy } from './helpers';
 
 const TOL = 1e-8;
 

@@ -6,7 +6,7 @@
  * break in the premium shows up in the windows; a window with a constant factor is flagged, not NaN.
  */
 import { describe, expect, it } from 'vitest';
-import { estimateLedger } from '../../lib/gmm/ledger';
+import { estimateLedger } from './helpers';
 import { estimateWindows, rollingEstimates, rollingWindows, summariseRolling, type RollingInput } from '../../lib/gmm/rolling';
 import { GmmInputError } from '../../lib/gmm/errors';
 import { normalSampler, simulateEconomy } from './helpers';

@@ -7,19 +7,8 @@
  * ledger computes them (same stage and weighting).
  */
 import { describe, expect, it } from 'vitest';
-import {
-  benjaminiYekutieliAdjust,
-  estimateLedger,
-  evaluateSubsets,
-  holmAdjust,
-  prepareSubsetSweep,
-  squaredSharpe,
-  subsetFactors,
-  subsetSweep,
-  summariseSubsetSweep,
-  type SubsetSweepInput,
-} from '../../lib/gmm/index';
-import { simulateEconomy } from './helpers';
+import { benjaminiYekutieliAdjust, evaluateSubsets, holmAdjust, prepareSubsetSweep, squaredSharpe, subsetFactors, subsetSweep, summariseSubsetSweep, type SubsetSweepInput } from '../../lib/gmm/index';
+import { estimateLedger, simulateEconomy } from './helpers';
 
 const names = ['A', 'B', 'C', 'D', 'E', 'F'];
 const e = simulateEconomy({ T: 400, N: 12, K: 6, seed: 31, mu: [0.005, 0.004, 0.003, 0.002, 0.004, 0.001] });

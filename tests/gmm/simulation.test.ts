@@ -8,8 +8,8 @@
  * about its 5% size.
  */
 import { describe, expect, it } from 'vitest';
-import { estimateLedger } from '../../lib/gmm/index';
-import { normalSampler } from './helpers';
+
+import { estimateLedger, normalSampler } from './helpers';
 
 const DRAWS = 400;
 const T = 1000;

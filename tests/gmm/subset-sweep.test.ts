@@ -8,7 +8,7 @@
  * does not reject; (3) input errors.
  */
 import { describe, expect, it } from 'vitest';
-import { estimateLedger } from '../../lib/gmm/ledger';
+import { estimateLedger } from './helpers';
 import { evaluateSubsets, prepareSubsetSweep, subsetFactors, subsetSweep, summariseSubsetSweep, type SubsetSweepInput } from '../../lib/gmm/subset-sweep';
 import { GmmInputError } from '../../lib/gmm/errors';
 import { normalSampler, simulateEconomy } from './helpers';

@@ -3,20 +3,8 @@
  * singular systems come back as typed results (never NaN).
  */
 import { describe, expect, it } from 'vitest';
-import {
-  estimateLedger,
-  estimateSdfGmm,
-  fitSdfGmm,
-  GmmInputError,
-  GmmNumericalError,
-  grsTest,
-  longRunCovariance,
-  prepareMoments,
-  spanningTest,
-  waldSingle,
-  type LedgerInput,
-} from '../../lib/gmm/index';
-import { simulateEconomy } from './helpers';
+import { estimateSdfGmm, fitSdfGmm, GmmInputError, grsTest, longRunCovariance, prepareMoments, spanningTest, waldSingle, type LedgerInput, estimateLedger as estimateLedgerOutcome } from '../../lib/gmm/index';
+import { estimateLedger, simulateEconomy } from './helpers';
 
 const eco = simulateEconomy({ T: 120, N: 4, K: 2, seed: 77 });
 const good: LedgerInput = {
@@ -157,7 +145,8 @@ describe('validation errors', () => {
     const r = estimateLedger({ ...good, traded: [true, false] });
     expect(r.factors[1].spanning).toBeNull();
     expect(r.grs).toBeNull();
-    expect(r.warnings.join(' ')).toMatch(/GRS is not reported/);
+    expect(r.warnings.map((w) => w.message).join(' ')).toMatch(/GRS is not reported/);
+    expect(r.warnings.find((w) => /GRS is not reported/.test(w.message))?.code).toBe('grs-not-traded');
   });
 
   it('empty input', () => {
@@ -183,15 +172,18 @@ describe('singular systems give typed results, never NaN', () => {
     const fit = fitSdfGmm(prepareMoments(returns, factors), { stage: 'second', lags: 1 });
     expect(fit.ok).toBe(false);
     if (!fit.ok) {
-      expect(fit.reason).toBe('singular');
+      expect(fit.code).toBe('singular');
       expect(fit.message).toMatch(/singular/);
     }
   });
 
-  it('estimateLedger throws a typed GmmNumericalError (code singular), not NaN', () => {
-    expect(() =>
-      estimateLedger({ ...good, assetNames: ['A', 'B', 'C'], returns, factors, options: { ...good.options, lags: 1 } }),
-    ).toThrow(GmmNumericalError);
+  it('estimateLedger returns a typed failure (code singular, the matrix named), not NaN and not a throw', () => {
+    const r = estimateLedgerOutcome({ ...good, assetNames: ['A', 'B', 'C'], returns, factors, options: { ...good.options, lags: 1 } });
+    expect(r.ok).toBe(false);
+    if (r.ok) return;
+    expect(r.code).toBe('singular');
+    expect(r.matrix).toBeTruthy();
+    expect(r.message).toMatch(/singular/);
   });
 
   it('second-moment weighting with a singular E[RR\'] is a typed failure', () => {

@@ -19,6 +19,7 @@ import { RunReview, SignoffChip } from '../../../components/run-review';
 import { space, text } from '../../../components/theme';
 import { DeepChecksPanel } from '../../../components/deep-checks-panel';
 import { CompareWithPicker } from '../../../components/compare-pick';
+import { ledgerWarningText } from '../../../shared/gmm-messages';
 
 export default function RunPage() {
   const { id } = useLocalSearchParams<{ id: string }>();
@@ -87,9 +88,9 @@ export default function RunPage() {
       {r ? <DeepChecksPanel runId={run.id} /> : null}
       {r && r.warnings.length > 0 ? (
         <Card title="Notes from the estimator">
-          {r.warnings.map((w) => (
-            <Text key={w} style={text.body}>
-              • {w}
+          {r.warnings.map((w, i) => (
+            <Text key={`${w.code}-${i}`} style={text.body}>
+              • {ledgerWarningText(w)}
             </Text>
           ))}
         </Card>
