@@ -374,10 +374,13 @@ export function compareWithVersus(input: LedgerInput, v: VersusModel, lags: numb
         traded: idx.map((j) => traded[j]),
         options: { ...o, stage: o.stage === 'first' ? 'second' : o.stage, dropSet: dropped },
       });
-      const t = led.jointDrop?.chi2Drop ?? null;
-      nested = { nested: true, reason: t ? null : 'The drop test could not be computed.', dropped, test: t ? { stat: t.stat, df: t.df, p: t.p } : null };
+      if (!led.ok) nested = { nested: true, reason: `The larger model could not be estimated: ${gmmFailureMessage(led)}`, dropped, test: null };
+      else {
+        const t = led.ledger.jointDrop?.chi2Drop ?? null;
+        nested = { nested: true, reason: t ? null : 'The drop test could not be computed.', dropped, test: t ? { stat: t.stat, df: t.df, p: t.p } : null };
+      }
     } catch (e) {
-      if (!(e instanceof GmmInputError || e instanceof GmmNumericalError)) throw e;
+      if (!(e instanceof GmmInputError)) throw e;
       nested = { nested: true, reason: `The larger model could not be estimated: ${e.message}`, dropped, test: null };
     }
   }
@@ -546,7 +549,7 @@ export async function main(argv: string[], io: Io = defaultIo): Promise<number> 
       try {
         return f();
       } catch (e) {
-        if (e instanceof GmmInputError || e instanceof GmmNumericalError) throw new CliInputError(`${parsed.values.data}: ${e.message}`);
+        if (e instanceof GmmInputError) throw new CliInputError(`${parsed.values.data}: ${e.message}`);
         throw e;
       }
     };

@@ -10,7 +10,7 @@
  * instead, with the reason. Refusals (a non-traded factor, identical sets, shapes) come back as an
  * error-envelope body `{ code, message }`, never as a thrown error.
  */
-import { compareModels, GmmInputError, GmmNumericalError } from '../../lib/gmm/index';
+import { compareModels, GmmInputError } from '../../lib/gmm/index';
 import type { SharpeSpanning, SharpeTest } from '../../shared/runs';
 
 export interface ModelComparison {
@@ -37,7 +37,7 @@ export function compareFactorModels(input: {
   try {
     r = compareModels(input);
   } catch (e) {
-    if (e instanceof GmmInputError || e instanceof GmmNumericalError) return refusedComparison(e.message);
+    if (e instanceof GmmInputError) return refusedComparison(e.message);
     throw e;
   }
   if (r.kind === 'sharpe') {
