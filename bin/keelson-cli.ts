@@ -21,6 +21,7 @@ import {
 } from '../lib/gmm/index';
 import { detectUnits } from '../shared/units';
 import { renderLedgerText } from './ledger-text';
+import { runWorkerCommand, WORKER_USAGE } from './worker-command';
 
 /** A caller mistake: reported on one line, exit code 2. */
 export class CliInputError extends Error {
@@ -324,10 +325,11 @@ export async function main(argv: string[], io: Io = defaultIo): Promise<number> 
   try {
     const [command, ...rest] = argv;
     if (command === undefined || command === '--help' || command === '-h' || command === 'help') {
-      io.out(USAGE + '\n\n' + REMOTE_USAGE + '\n');
+      io.out(USAGE + '\n\n' + REMOTE_USAGE + '\n\n' + WORKER_USAGE + '\n');
       return command === undefined ? 2 : 0;
     }
     if (isRemoteCommand(command)) return await runRemote(command, rest, io);
+    if (command === 'worker') return await runWorkerCommand(rest, io);
     if (command !== 'estimate') throw new CliInputError(`unknown command "${command}" (try: keelson estimate --help)`);
     let parsed;
     try {

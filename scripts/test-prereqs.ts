@@ -1,7 +1,8 @@
 /**
  * First step of `npm test`: make sure what the tests need outside npm is on this machine, so no
- * test silently disappears. Needed: Debian's Chromium at /usr/bin/chromium (browser tests) and
- * numpy, scipy and statsmodels for /usr/bin/python3 (reference checks).
+ * test silently disappears. Needed: Debian's Chromium at /usr/bin/chromium (browser tests),
+ * numpy, scipy and statsmodels for /usr/bin/python3 (reference checks) and Debian's redis-server
+ * (queue tests).
  *
  * When something is missing and the process runs as root with apt-get available (as on these
  * machines and in CI), it is installed with apt-get; otherwise the run stops at once with the exact
@@ -25,6 +26,7 @@ const needs: readonly Need[] = [
       existsSync('/usr/bin/python3') &&
       spawnSync('/usr/bin/python3', ['-c', 'import numpy, scipy, statsmodels'], { stdio: 'ignore' }).status === 0,
   },
+  { what: 'redis-server at /usr/bin/redis-server (queue tests, tests/queue)', packages: ['redis-server'], present: () => existsSync('/usr/bin/redis-server') },
 ];
 
 const missing = needs.filter((n) => !n.present());
