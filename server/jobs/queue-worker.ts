@@ -65,6 +65,9 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
   const conn = connectionFor(opts.redisUrl, 'worker');
   const redis = new Redis(opts.redisUrl, { maxRetriesPerRequest: null, retryStrategy: conn.retryStrategy });
   const sub = new Redis(opts.redisUrl, { maxRetriesPerRequest: null, retryStrategy: conn.retryStrategy });
+  // connection errors: BullMQ's worker reports them ('error' below); these two just reconnect
+  redis.on('error', () => undefined);
+  sub.on('error', () => undefined);
   /** Running chunks' abort controllers, by flow. */
   const running = new Map<string, Set<AbortController>>();
   /** Inputs fetched from Redis, by flow (the last few; a summary drops its flow's). */

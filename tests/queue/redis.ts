@@ -62,9 +62,12 @@ async function waitUp(url: string, ms = 10_000): Promise<void> {
   }
 }
 
-/** A Redis for the tests (see the file's note). Throws with the reason; never resolves to "skip". */
-export async function testRedis(): Promise<TestRedis> {
-  const ci = process.env.KEELSON_TEST_REDIS_URL;
+/**
+ * A Redis for the tests (see the file's note). Throws with the reason; never resolves to "skip".
+ * `own`: always start a private server (a test that stops and starts Redis cannot use CI's).
+ */
+export async function testRedis(opts: { own?: boolean } = {}): Promise<TestRedis> {
+  const ci = opts.own ? undefined : process.env.KEELSON_TEST_REDIS_URL;
   if (ci) {
     try {
       await ping(ci);
