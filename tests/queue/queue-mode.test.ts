@@ -192,6 +192,20 @@ describe('queue mode with two worker processes', () => {
     expect(fin.result).toEqual(directBootstrap(draws, 12));
   }, 300_000);
 
+  it('SIGTERM: a worker stops taking chunks, finishes its running one and exits 0; the job finishes on the other', async () => {
+    const draws = 3000;
+    const job = await startCheck(researcher, { kind: 'bootstrap', params: { draws, seed: 14 } });
+    await waitJob(researcher, job.id, (j) => j.done > 0 || ended(j));
+    const leaving = workers[1];
+    leaving.proc.kill('SIGTERM');
+    expect(await leaving.exited).toBe(0);
+    expect(leaving.output()).toMatch(/SIGTERM, finishing running chunks[\s\S]*stopped after \d+ chunk\(s\)/);
+    const fin = await waitJob(researcher, job.id, ended, 240_000);
+    expect(fin.status).toBe('finished');
+    expect(fin.result).toEqual(directBootstrap(draws, 14));
+    workers[1] = await startWorkerProcess(redis.url);
+  }, 300_000);
+
   it('cancel from a second API client stops the chunks on every worker within a second', async () => {
     const draws = 60_000;
     const job = await startCheck(researcher, { kind: 'bootstrap', params: { draws, seed: 13 } });
