@@ -27,6 +27,7 @@ import { compareFactorModels, type ModelComparison } from '../server/services/mo
 import { splitIndexOf } from '../server/services/holdout-split';
 import { formatFixed, formatP } from '../shared/format';
 import { DATE_LABEL } from '../shared/jobs';
+import { runWorkerCommand, WORKER_USAGE } from './worker-command';
 
 /** A caller mistake: reported on one line, exit code 2. */
 export class CliInputError extends Error {
@@ -512,10 +513,11 @@ export async function main(argv: string[], io: Io = defaultIo): Promise<number> 
   try {
     const [command, ...rest] = argv;
     if (command === undefined || command === '--help' || command === '-h' || command === 'help') {
-      io.out(USAGE + '\n\n' + REMOTE_USAGE + '\n');
+      io.out(USAGE + '\n\n' + REMOTE_USAGE + '\n\n' + WORKER_USAGE + '\n');
       return command === undefined ? 2 : 0;
     }
     if (isRemoteCommand(command)) return await runRemote(command, rest, io);
+    if (command === 'worker') return await runWorkerCommand(rest, io);
     if (command !== 'estimate') throw new CliInputError(`unknown command "${command}" (try: keelson estimate --help)`);
     let parsed;
     try {

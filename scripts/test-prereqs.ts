@@ -1,9 +1,11 @@
 /**
  * First step of `npm test`: make sure what the tests need outside npm is on this machine, so no
  * test silently disappears. `npm test` needs Debian's Chromium at /usr/bin/chromium (browser
- * tests); its reference checks read committed fixtures (tests/fixtures/*.json) and need no Python.
- * With `--fixtures` (first step of `npm run fixtures:check` / `fixtures:write`, which rerun the
- * Python references): numpy, scipy, statsmodels and mpmath for /usr/bin/python3.
+ * tests), Debian's redis-server (queue tests, tests/queue) and, for the model-choice checks that
+ * still run numpy/statsmodels on the spot (tests/api/model-choice*.test.ts), numpy, scipy and
+ * statsmodels for /usr/bin/python3; the other reference checks read committed fixtures
+ * (tests/fixtures/*.json). With `--fixtures` (first step of `npm run fixtures:check` /
+ * `fixtures:write`, which rerun the Python references): numpy, scipy, statsmodels and mpmath.
  *
  * When something is missing and the process runs as root with apt-get available (as on these
  * machines and in CI), it is installed with apt-get; otherwise the run stops at once with the exact
@@ -19,6 +21,12 @@ interface Need {
 }
 
 const browser: Need = { what: 'Chromium at /usr/bin/chromium (browser tests)', packages: ['chromium'], present: () => existsSync('/usr/bin/chromium') };
+const pythonNow: Need = {
+  what: 'numpy, scipy and statsmodels for /usr/bin/python3 (model-choice checks run on the spot)',
+  packages: ['python3-numpy', 'python3-scipy', 'python3-statsmodels'],
+  present: () => existsSync('/usr/bin/python3') && spawnSync('/usr/bin/python3', ['-c', 'import numpy, scipy, statsmodels'], { stdio: 'ignore' }).status === 0,
+};
+const redis: Need = { what: 'redis-server at /usr/bin/redis-server (queue tests, tests/queue)', packages: ['redis-server'], present: () => existsSync('/usr/bin/redis-server') };
 const python: Need = {
   what: 'numpy, scipy, statsmodels and mpmath for /usr/bin/python3 (the Python references behind tests/fixtures)',
   packages: ['python3-numpy', 'python3-scipy', 'python3-statsmodels', 'python3-mpmath'],
@@ -26,7 +34,7 @@ const python: Need = {
     existsSync('/usr/bin/python3') &&
     spawnSync('/usr/bin/python3', ['-c', 'import numpy, scipy, statsmodels, mpmath'], { stdio: 'ignore' }).status === 0,
 };
-const needs: readonly Need[] = process.argv.includes('--fixtures') ? [python] : [browser];
+const needs: readonly Need[] = process.argv.includes('--fixtures') ? [python] : [browser, redis, pythonNow];
 
 const missing = needs.filter((n) => !n.present());
 if (missing.length === 0) process.exit(0);

@@ -54,6 +54,8 @@ export interface AppOptions {
   jobPool?: JobPool;
   /** Mail a job's author when the job took longer than this (default 60 s). */
   jobMailAfterMs?: number;
+  /** Queue mode (KEELSON_REDIS_URL): deep checks go to BullMQ workers over this Redis. */
+  redisUrl?: string;
 }
 
 export type { AppDeps };
@@ -181,7 +183,7 @@ export function createApp(opts: AppOptions): KeelsonApp {
   });
   registerAuthRoutes(api, deps);
   registerAdminRoutes(api, deps);
-  const jobRunner = new JobRunner({ db, mailer, publicUrl: opts.publicUrl, pool: opts.jobPool, mailAfterMs: opts.jobMailAfterMs });
+  const jobRunner = new JobRunner({ db, mailer, publicUrl: opts.publicUrl, pool: opts.jobPool, mailAfterMs: opts.jobMailAfterMs, redisUrl: opts.redisUrl });
   registerJobRoutes(api, deps, jobRunner);
   registerSpecRoutes(api, deps);
   registerRunRoutes(api, deps, jobRunner);

@@ -76,9 +76,12 @@ export async function boot(env: NodeJS.ProcessEnv = process.env): Promise<{ app:
   const db = openDb(config.KEELSON_DB === ':memory:' ? ':memory:' : resolve(ROOT, config.KEELSON_DB));
   if (config.KEELSON_SEED === 'demo') await seedDemo(db);
   const mailer = await createMailer({ smtpUrl: config.SMTP_URL, from: config.MAIL_FROM });
-  // Deep-check jobs that were running when the last process stopped can only be restarted.
-  const interrupted = markInterruptedJobs(db);
-  if (interrupted > 0) console.log(`Keelson marked ${interrupted} deep-check job(s) interrupted by the last shutdown`);
+  // Deep-check jobs that were running when the last process stopped can only be restarted
+  // (embedded pool); in queue mode their flows go on in Redis and the runner re-attaches below.
+  if (!config.KEELSON_REDIS_URL) {
+    const interrupted = markInterruptedJobs(db);
+    if (interrupted > 0) console.log(`Keelson marked ${interrupted} deep-check job(s) interrupted by the last shutdown`);
+  }
   const app = createApp({
     db,
     mailer,
@@ -88,7 +91,12 @@ export async function boot(env: NodeJS.ProcessEnv = process.env): Promise<{ app:
     uploadLimit: config.UPLOAD_LIMIT_MB * 1024 * 1024,
     secureCookies: config.COOKIE_SECURE,
     trustProxy: config.TRUST_PROXY,
-    jobPool: createJobPool(),
+    jobPool: config.KEELSON_REDIS_URL ? undefined : createJobPool(),
+    redisUrl: config.KEELSON_REDIS_URL,
   });
+  if (config.KEELSON_REDIS_URL) {
+    const followed = app.jobRunner.reattach();
+    console.log(`Keelson queue mode: deep checks go to the workers on ${app.jobRunner.queue?.where}` + (followed > 0 ? `; following ${followed} job(s) in flight` : ''));
+  }
   return { app, db, mailer, config };
 }

@@ -28,6 +28,20 @@ export const configSchema = z.object({
   /** Mark the session cookie `Secure` (serve over HTTPS, directly or behind a proxy named in TRUST_PROXY). */
   COOKIE_SECURE: booleanText.default(false),
   TRUST_PROXY: trustProxy.default('loopback'),
+  /**
+   * Queue mode: deep checks (and heavy runs) go to BullMQ workers over this Redis
+   * (`redis://[user:password@]host:port[/db]` or `rediss://…`). Unset: the embedded worker-thread
+   * pool inside the API process, as a newcomer gets it.
+   */
+  KEELSON_REDIS_URL: z.preprocess(
+    (v) => (typeof v === 'string' && v.trim() === '' ? undefined : v),
+    z
+      .string()
+      .trim()
+      .url()
+      .refine((v) => /^rediss?:\/\//.test(v), { message: 'use a redis:// or rediss:// URL' })
+      .optional(),
+  ),
 });
 export type Config = z.infer<typeof configSchema>;
 

@@ -5,6 +5,12 @@
  * Cancel: an AbortController per job; aborting rejects the chunks still queued or running
  * (piscina stops the worker of a running chunk) and no further chunk is sent. A job whose
  * process dies is left 'running' in the table; boot marks it 'interrupted' (markInterruptedJobs).
+ *
+ * Queue mode (`redisUrl`, from KEELSON_REDIS_URL): the same chunks go to BullMQ workers as one flow
+ * per job attempt (queue-client.ts, queue-worker.ts). This process follows the flow — progress
+ * from its finished chunks, the result from its summary — and writes both to SQLite as in the
+ * embedded mode. Stopping the API does not stop the flow: at boot `reattach()` follows the jobs
+ * still running instead of marking them interrupted.
  */
 import { setMaxListeners } from 'node:events';
 import { and, eq, inArray } from 'drizzle-orm';
@@ -17,6 +23,8 @@ import { buildCheckInput, type CheckInput } from '../services/jobs-input';
 import { JOB_KIND_LABELS } from '../../shared/jobs';
 import { createJobPool, type JobPool } from './pool';
 import type { ChunkTask, HoldoutBlocks } from './tasks';
+import { QueueClient } from './queue-client';
+import { CANCELLED_REASON, flowId } from './queue-shared';
 import { withBootstrap, type BootstrapBatch, type BootstrapResult, type LedgerResult, type RollingPoint, type SweepRow } from '../../lib/gmm/index';
 
 export interface JobRunnerOptions {
@@ -27,7 +35,14 @@ export interface JobRunnerOptions {
   pool?: JobPool;
   /** Mail the author when a job took longer than this (default one minute). */
   mailAfterMs?: number;
+  /** Queue mode: chunks go to BullMQ workers over this Redis instead of the in-process pool. */
+  redisUrl?: string;
+  /** Queue mode: how often the flow's state is read (default 250 ms). */
+  pollMs?: number;
 }
+
+/** The abort reason when this process stops following a job that goes on in the queue. */
+const SHUTDOWN = 'keelson-shutdown';
 
 /**
  * How a job is cut into chunks: small enough that progress moves and a cancel bites within a
@@ -76,6 +91,9 @@ export class JobRunner {
   private readonly active = new Map<number, AbortController>();
   private readonly settled = new Map<number, Promise<void>>();
   private closed = false;
+  /** Queue mode's client (null: embedded pool). */
+  readonly queue: QueueClient | null;
+  private readonly pollMs: number;
 
   constructor(opts: JobRunnerOptions) {
     this.db = opts.db;
@@ -84,6 +102,8 @@ export class JobRunner {
     this.mailAfterMs = opts.mailAfterMs ?? 60_000;
     this.pool = opts.pool ?? null;
     this.ownsPool = !opts.pool;
+    this.queue = opts.redisUrl ? new QueueClient(opts.redisUrl) : null;
+    this.pollMs = opts.pollMs ?? 250;
   }
 
   private getPool(): JobPool {
@@ -93,11 +113,28 @@ export class JobRunner {
 
   /** Starts a queued job in the background. */
   start(jobId: number): void {
+    this.launch(jobId, false);
+  }
+
+  /**
+   * Boot-time recovery. Embedded mode: jobs left running or queued are marked interrupted, as
+   * before. Queue mode: their flows live on in Redis, so this process follows them again (a job
+   * whose flow Redis lost is enqueued again: draws are seeded per index, the result is the same).
+   * @returns how many jobs were re-attached (queue mode) or marked interrupted (embedded).
+   */
+  reattach(): number {
+    if (!this.queue) return markInterruptedJobs(this.db);
+    const open = this.db.select({ id: jobs.id, status: jobs.status }).from(jobs).where(inArray(jobs.status, ['running', 'queued'])).all();
+    for (const j of open) this.launch(j.id, j.status === 'running');
+    return open.length;
+  }
+
+  private launch(jobId: number, resume: boolean): void {
     if (this.closed || this.active.has(jobId)) return;
     const ac = new AbortController();
     setMaxListeners(0, ac.signal); // every chunk of the job listens to the one signal
     this.active.set(jobId, ac);
-    const p = this.execute(jobId, ac)
+    const p = this.execute(jobId, ac, resume)
       .catch((e: unknown) => console.error('[keelson] job runner error', jobId, e))
       .finally(() => {
         this.active.delete(jobId);
@@ -111,11 +148,21 @@ export class JobRunner {
     return this.active.has(jobId);
   }
 
-  /** Aborts a running job's chunks; the job is marked cancelled by its own loop. */
+  /**
+   * Aborts a running job's chunks; the job is marked cancelled by its own loop. In queue mode a
+   * job followed by another API process is cancelled on the workers from here too.
+   */
   abort(jobId: number): boolean {
     const ac = this.active.get(jobId);
-    if (!ac) return false;
-    ac.abort();
+    if (ac) {
+      ac.abort();
+      return true;
+    }
+    if (!this.queue) return false;
+    const row = this.db.select({ attempts: jobs.attempts }).from(jobs).where(eq(jobs.id, jobId)).get();
+    if (!row) return false;
+    const flow = flowId(jobId, row.attempts);
+    this.queue.cancel(flow).catch((e: unknown) => console.error(`[keelson] could not cancel ${flow} in the queue: ${messageOf(e)}`));
     return true;
   }
 
@@ -124,23 +171,29 @@ export class JobRunner {
     await this.settled.get(jobId);
   }
 
+  /**
+   * Stops. Embedded mode: the running jobs are aborted (boot marks them interrupted). Queue mode:
+   * this process only stops following them; their flows go on and the next boot re-attaches.
+   */
   async close(): Promise<void> {
     this.closed = true;
-    for (const ac of this.active.values()) ac.abort();
+    for (const ac of this.active.values()) ac.abort(this.queue ? SHUTDOWN : undefined);
     await Promise.allSettled([...this.settled.values()]);
     if (this.ownsPool && this.pool) await this.pool.destroy();
+    if (this.queue) await this.queue.close();
   }
 
-  private async execute(jobId: number, ac: AbortController): Promise<void> {
+  private async execute(jobId: number, ac: AbortController, resume = false): Promise<void> {
     const signal = ac.signal;
     const db = this.db;
     const job = db.select().from(jobs).where(eq(jobs.id, jobId)).get();
-    if (!job || job.status !== 'queued') return;
-    const started = Date.now();
-    db.update(jobs)
-      .set({ status: 'running', startedAt: nowIso(), finishedAt: null, done: 0, error: null, result: null })
-      .where(and(eq(jobs.id, jobId), eq(jobs.status, 'queued')))
-      .run();
+    if (!job || job.status !== (resume ? 'running' : 'queued')) return;
+    const started = resume && job.startedAt ? Date.parse(job.startedAt) : Date.now();
+    if (!resume)
+      db.update(jobs)
+        .set({ status: 'running', startedAt: nowIso(), finishedAt: null, done: 0, error: null, result: null })
+        .where(and(eq(jobs.id, jobId), eq(jobs.status, 'queued')))
+        .run();
     let check: CheckInput;
     try {
       const runRow = db.$client.prepare('select id, edition_id as editionId, spec from runs where id = ?').get(job.runId) as
@@ -155,6 +208,7 @@ export class JobRunner {
     db.update(jobs).set({ total: check.total }).where(eq(jobs.id, jobId)).run();
     const key = `job:${jobId}:${job.attempts}`;
     const ranges = chunkRanges(check.total, check.kind);
+    if (this.queue) return this.followFlow(this.queue, jobId, flowId(jobId, job.attempts), check, ranges, signal, started);
     let done = 0;
     const pool = this.getPool();
     // At most threads + 1 chunks in flight per job: jobs started later interleave with a long
@@ -211,6 +265,85 @@ export class JobRunner {
         this.finish(jobId, 'failed', null, messageOf(e), started);
       }
     }
+  }
+
+  /**
+   * Queue mode: enqueues the job's flow (unless it is already in Redis) and follows it until its
+   * summary is done, writing progress to SQLite as chunks finish and the result at the end.
+   * A Redis outage is written to the job's message (status stays running, progress stays where
+   * it was) and cleared when Redis answers again; a flow that Redis lost meanwhile is enqueued again.
+   */
+  private async followFlow(
+    q: QueueClient,
+    jobId: number,
+    flow: string,
+    check: CheckInput,
+    ranges: [number, number][],
+    signal: AbortSignal,
+    started: number,
+  ): Promise<void> {
+    const db = this.db;
+    const chunkSize = ranges.length > 0 ? ranges[0][1] - ranges[0][0] : 1;
+    let enqueued = false;
+    let outage = false;
+    let requeues = 0;
+    let lastTouch = Date.now();
+    let done = -1;
+    while (!signal.aborted) {
+      try {
+        if (!enqueued) {
+          await q.enqueue(flow, check, ranges, check.total);
+          enqueued = true;
+        }
+        const st = await q.state(flow);
+        if (outage) {
+          outage = false;
+          db.update(jobs).set({ error: null }).where(and(eq(jobs.id, jobId), eq(jobs.status, 'running'))).run();
+        }
+        if (st.state === 'completed') {
+          this.finish(jobId, 'finished', st.result, null, started);
+          await q.remove(flow).catch(() => undefined);
+          return;
+        }
+        if (st.state === 'failed') {
+          if (st.reason === CANCELLED_REASON) this.finish(jobId, 'cancelled', null, null, started);
+          else this.finish(jobId, 'failed', null, st.reason, started);
+          await q.remove(flow).catch(() => undefined);
+          return;
+        }
+        if (st.state === 'missing') {
+          if (++requeues > 5) {
+            this.finish(jobId, 'failed', null, `The queue at ${q.where} lost this job's chunks five times; restart the job.`, started);
+            return;
+          }
+          enqueued = false;
+          continue;
+        }
+        const now = Math.min(check.total, st.chunksDone * chunkSize);
+        if (now > done) {
+          done = now;
+          db.update(jobs).set({ done }).where(and(eq(jobs.id, jobId), eq(jobs.status, 'running'))).run();
+        }
+        if (Date.now() - lastTouch > 3600_000) {
+          lastTouch = Date.now();
+          await q.touch(flow);
+        }
+      } catch (e) {
+        if (!outage) {
+          outage = true;
+          const msg = `The queue at ${q.where} does not answer (${messageOf(e)}) since ${nowIso()}; the job waits and resumes when it is back.`;
+          db.update(jobs).set({ error: msg }).where(and(eq(jobs.id, jobId), eq(jobs.status, 'running'))).run();
+        }
+      }
+      await sleep(this.pollMs, signal);
+    }
+    if (signal.reason === SHUTDOWN) return; // the flow goes on; the next boot re-attaches
+    try {
+      await q.cancel(flow);
+    } catch (e) {
+      console.error(`[keelson] could not cancel ${flow} in the queue: ${messageOf(e)}`);
+    }
+    this.finish(jobId, 'cancelled', null, null, started);
   }
 
   /**
@@ -280,6 +413,19 @@ function mergeIntoRun(tx: Db, runId: number, jobId: number, boot: BootstrapResul
   }
   tx.update(runs).set({ result: JSON.stringify(merged) }).where(and(eq(runs.id, runId), eq(runs.bootstrapJobId, jobId))).run();
   return { ok: true };
+}
+
+function sleep(ms: number, signal: AbortSignal): Promise<void> {
+  return new Promise((resolve) => {
+    if (signal.aborted) return resolve();
+    const t = setTimeout(done, ms);
+    function done() {
+      clearTimeout(t);
+      signal.removeEventListener('abort', done);
+      resolve();
+    }
+    signal.addEventListener('abort', done, { once: true });
+  });
 }
 
 function abortError(): Error {

@@ -3,7 +3,7 @@ import type { ApiRouter } from '../middlewares/access';
 import { currentUser } from '../middlewares/access';
 import { parseOr400 } from '../middlewares/errors';
 import { changeBasisBodySchema, compareQuerySchema, createRunBodySchema, runListQuerySchema } from '../../shared/runs';
-import { changeRunBasis, createRun, firstStageCopy, getRun, getRunResultText, listRuns, type RunDeps } from '../services/runs';
+import { changeRunBasis, createRun, firstStageCopy, getRun, getRunJson, getRunResultText, listRuns, type RunDeps } from '../services/runs';
 import type { JobRunner } from '../jobs/runner';
 import { compareRuns } from '../services/runs-compare';
 import { exportContextFor, runCsv, runTex } from '../services/exports';
@@ -78,7 +78,7 @@ export function registerRunRoutes(api: ApiRouter, deps: AppDeps, runner: JobRunn
   });
 
   api.get('/runs/:id', 'signed-in', (req: Request, res: Response) => {
-    res.json({ run: getRun(db, currentUser(req), idParam(req, 'run id')) });
+    res.type('application/json').send(getRunJson(db, currentUser(req), idParam(req, 'run id')));
   });
 
   api.get('/runs/:id/result.json', 'signed-in', (req: Request, res: Response) => {

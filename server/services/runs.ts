@@ -162,6 +162,17 @@ export function getRun(db: Db, user: User, id: number): Run {
   return toRun(row, nameOf(db, row.authorId), signoffStates(db, [row.id]).get(row.id) ?? 'none');
 }
 
+/**
+ * getRun's answer `{ run }` as JSON text, with the stored result spliced in as stored: a finished
+ * run's (large) ledger is parsed once for the summary and never re-serialised.
+ */
+export function getRunJson(db: Db, user: User, id: number): string {
+  const row = findRunRow(db, user, id);
+  const summary = toSummary(row, nameOf(db, row.authorId), signoffStates(db, [row.id]).get(row.id) ?? 'none');
+  const head = JSON.stringify({ ...summary, spec: modelSpecSchema.parse(JSON.parse(row.spec)), result: null });
+  return `{"run":${head.slice(0, -'null}'.length)}${row.result ?? 'null'}}}`;
+}
+
 /** The stored result text exactly as estimated (404 for a run without a result). */
 export function getRunResultText(db: Db, user: User, id: number): string {
   const row = findRunRow(db, user, id);

@@ -4,6 +4,8 @@ import type { Db } from '../db/client';
 import { sessions } from '../db/schema/index';
 
 const DAY_MS = 24 * 60 * 60 * 1000;
+/** A session's expiry is written at most once in this long by `touch` (rolling sessions touch on every request). */
+export const SESSION_TOUCH_MS = 60_000;
 
 /**
  * Ends every stored session signed in as `userId` (passport keeps the id at `passport.user`),
@@ -23,6 +25,8 @@ export function destroyUserSessions(db: Db, userId: number, keepSid?: string): n
  */
 export class SqliteSessionStore extends session.Store {
   private readonly timer: ReturnType<typeof setInterval>;
+  /** When this process last wrote each session's expiry (touch or set). */
+  private readonly touched = new Map<string, number>();
 
   constructor(
     private readonly db: Db,
@@ -64,13 +68,20 @@ export class SqliteSessionStore extends session.Store {
         .values({ sid, data, expiresAt })
         .onConflictDoUpdate({ target: sessions.sid, set: { data, expiresAt } })
         .run();
+      this.remember(sid);
       cb?.();
     } catch (e) {
       cb?.(e);
     }
   }
 
+  private remember(sid: string): void {
+    if (this.touched.size > 50_000) this.touched.clear();
+    this.touched.set(sid, this.now());
+  }
+
   override destroy(sid: string, cb?: (err?: unknown) => void): void {
+    this.touched.delete(sid);
     try {
       this.db.delete(sessions).where(eq(sessions.sid, sid)).run();
       cb?.();
@@ -79,9 +90,16 @@ export class SqliteSessionStore extends session.Store {
     }
   }
 
+  /**
+   * Rolling expiry without a write per request: the row's expiry moves at most once a minute
+   * (SESSION_TOUCH_MS), so a session lives at most a minute less than its cookie says.
+   */
   override touch(sid: string, sess: session.SessionData, cb?: (err?: unknown) => void): void {
+    const last = this.touched.get(sid);
+    if (last !== undefined && this.now() - last < SESSION_TOUCH_MS) return cb?.();
     try {
       this.db.update(sessions).set({ expiresAt: this.expiry(sess) }).where(eq(sessions.sid, sid)).run();
+      this.remember(sid);
       cb?.();
     } catch (e) {
       cb?.(e);

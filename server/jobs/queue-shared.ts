@@ -1,0 +1,73 @@
+/**
+ * What the API and the queue workers agree on in queue mode (KEELSON_REDIS_URL set): the BullMQ
+ * queue and key names, the job payloads, and a JSON codec that keeps non-finite numbers.
+ *
+ * One deep check = one BullMQ flow: a parent job ('summary') whose children are the chunks
+ * ('chunk', one per range of draws, subset masks or windows). The chunk input — the packed
+ * edition slice and the spec, as lib/gmm takes it — is stored ONCE in Redis under the flow's key
+ * (`keelson:input:<flow>`, with a TTL) and every chunk names that key; no chunk carries a copy.
+ */
+import type { CheckInput } from '../services/jobs-input';
+
+/** Redis key prefix of the BullMQ queue. */
+export const QUEUE_PREFIX = 'keelson';
+/** The one queue: chunks and summaries of every deep check. */
+export const QUEUE_NAME = 'deep-checks';
+/** Pub/sub channel on which a cancel reaches every worker at once (message: the flow id). */
+export const CANCEL_CHANNEL = 'keelson:cancel';
+/** How long a check's input (and a cancel mark) stays in Redis: a week, refreshed while the API follows the flow. */
+export const INPUT_TTL_SECONDS = 7 * 24 * 3600;
+
+export const inputKey = (flow: string) => `keelson:input:${flow}`;
+export const cancelKey = (flow: string) => `keelson:cancelled:${flow}`;
+/** A deep check's flow id: one per job attempt, so a restarted job never meets the old one's chunks. */
+export const flowId = (jobId: number, attempt: number) => `job-${jobId}-${attempt}`;
+export const chunkId = (flow: string, index: number) => `${flow}-c${index}`;
+
+export interface ChunkJobData {
+  flow: string;
+  kind: CheckInput['kind'];
+  /** Range in the check's own units (draw indices, subset masks − 1, window indices), half-open. */
+  from: number;
+  to: number;
+}
+export interface SummaryJobData {
+  flow: string;
+  kind: CheckInput['kind'];
+  total: number;
+}
+
+/** The stored input: what the chunks and the summary compute on. */
+export type StoredInput = { [K in CheckInput['kind']]: Pick<Extract<CheckInput, { kind: K }>, 'kind' | 'input'> }[CheckInput['kind']];
+
+/** Worker's reason when it stops a chunk of a cancelled flow (the API records 'cancelled'). */
+export const CANCELLED_REASON = 'cancelled';
+
+/**
+ * JSON with ±Infinity and NaN kept (plain JSON turns them into null): bit-for-bit results need
+ * every double back as it was. JSON.stringify prints the shortest decimal that reads back to the
+ * same double (ECMA-262 Number::toString), so finite numbers round-trip exactly.
+ */
+export function encode(value: unknown): string {
+  return JSON.stringify(value, (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? { $num: String(v) } : v));
+}
+
+export function decode<T>(text: string): T {
+  return JSON.parse(text, (_k, v: unknown) => {
+    if (v && typeof v === 'object' && !Array.isArray(v)) {
+      const o = v as Record<string, unknown>;
+      if (typeof o.$num === 'string' && Object.keys(o).length === 1) return Number(o.$num);
+    }
+    return v;
+  }) as T;
+}
+
+/** ioredis options from a redis:// URL, for BullMQ. Workers wait for Redis forever; the API's commands fail after one retry. */
+export function connectionFor(url: string, role: 'worker' | 'api'): { url: string; maxRetriesPerRequest: number | null; enableOfflineQueue: boolean; retryStrategy: (n: number) => number } {
+  return {
+    url,
+    maxRetriesPerRequest: role === 'worker' ? null : 1,
+    enableOfflineQueue: true,
+    retryStrategy: (n: number) => Math.min(2000, 100 * n),
+  };
+}

@@ -1,0 +1,192 @@
+/**
+ * A queue worker (`npx keelson worker --redis redis://host:6379`): takes deep-check chunks and
+ * summaries from the BullMQ queue and computes them with lib/gmm in the existing worker-thread pool
+ * (server/jobs/pool.ts, one thread per unit of concurrency). It needs no database and no session:
+ * everything it computes on is the flow's stored input in Redis.
+ *
+ * - Progress: BullMQ records each finished chunk in its parent flow; the API reads those counts.
+ * - A worker killed mid-chunk stops renewing the chunk's lock; BullMQ's stalled-job check moves the
+ *   chunk back to the wait list and another worker runs it again. Draws are seeded per index
+ *   (lib/gmm bootstrap), so the repeat is bit-for-bit the chunk that was lost.
+ * - Cancel: the API sets `keelson:cancelled:<flow>` and publishes the flow on `keelson:cancel`;
+ *   every worker aborts that flow's running chunks (piscina stops the thread) and refuses its
+ *   waiting ones, so the CPU is free within a second.
+ * - SIGTERM (handled by the caller): close() stops taking chunks, lets running ones finish within
+ *   `graceMs`, and otherwise hands them back (they stall and are retried elsewhere).
+ */
+import { Redis } from 'ioredis';
+import { UnrecoverableError, Worker, type Job } from 'bullmq';
+import { setMaxListeners } from 'node:events';
+import { createJobPool, type JobPool } from './pool';
+import type { ChunkTask } from './tasks';
+import type { BootstrapBatch, RollingPoint, SweepRow } from '../../lib/gmm/index';
+import {
+  CANCELLED_REASON,
+  CANCEL_CHANNEL,
+  QUEUE_NAME,
+  QUEUE_PREFIX,
+  cancelKey,
+  connectionFor,
+  decode,
+  encode,
+  inputKey,
+  type ChunkJobData,
+  type StoredInput,
+  type SummaryJobData,
+} from './queue-shared';
+
+export interface QueueWorkerOptions {
+  redisUrl: string;
+  /** Chunks run at once (and pool threads); default: the machine's threads less one, at least 1. */
+  concurrency?: number;
+  /** BullMQ lock on a running chunk; a dead worker's chunk is retried after about this long (default 15 s). */
+  lockMs?: number;
+  /** On close, how long running chunks may take to finish before they are handed back (default 30 s). */
+  graceMs?: number;
+  log?: (line: string) => void;
+}
+
+export interface QueueWorker {
+  readonly concurrency: number;
+  /** Chunks and summaries this worker completed. */
+  readonly completed: number;
+  /** Resolves once connected to Redis and listening. */
+  ready(): Promise<void>;
+  close(): Promise<void>;
+}
+
+type Payload = ChunkJobData | SummaryJobData;
+
+export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
+  const log = opts.log ?? ((l: string) => console.log(l));
+  const pool: JobPool = createJobPool(opts.concurrency ? { threads: opts.concurrency } : {});
+  const concurrency = pool.threads;
+  const lockMs = opts.lockMs ?? 15_000;
+  const conn = connectionFor(opts.redisUrl, 'worker');
+  const redis = new Redis(opts.redisUrl, { maxRetriesPerRequest: null, retryStrategy: conn.retryStrategy });
+  const sub = new Redis(opts.redisUrl, { maxRetriesPerRequest: null, retryStrategy: conn.retryStrategy });
+  // connection errors: BullMQ's worker reports them ('error' below); these two just reconnect
+  redis.on('error', () => undefined);
+  sub.on('error', () => undefined);
+  /** Running chunks' abort controllers, by flow. */
+  const running = new Map<string, Set<AbortController>>();
+  /** Inputs fetched from Redis, by flow (the last few; a summary drops its flow's). */
+  const inputs = new Map<string, Promise<StoredInput>>();
+  let completed = 0;
+
+  const loadInput = (flow: string): Promise<StoredInput> => {
+    let p = inputs.get(flow);
+    if (!p) {
+      p = redis.get(inputKey(flow)).then((text) => {
+        if (text === null) throw new UnrecoverableError(`The input of ${flow} is no longer in Redis (expired or removed); restart the job.`);
+        return decode<StoredInput>(text);
+      });
+      p.catch(() => inputs.delete(flow));
+      inputs.set(flow, p);
+      while (inputs.size > 4) inputs.delete(inputs.keys().next().value as string);
+    }
+    return p;
+  };
+
+  const abortFlow = (flow: string) => {
+    for (const ac of running.get(flow) ?? []) ac.abort();
+  };
+
+  void sub.subscribe(CANCEL_CHANNEL).catch((e: unknown) => log(`[keelson worker] cancel channel: ${String(e)}`));
+  sub.on('message', (_ch: string, flow: string) => abortFlow(flow));
+
+  const runInPool = async <T>(flow: string, task: ChunkTask): Promise<T> => {
+    const ac = new AbortController();
+    setMaxListeners(0, ac.signal);
+    let set = running.get(flow);
+    if (!set) running.set(flow, (set = new Set()));
+    set.add(ac);
+    try {
+      return await pool.run<T>(task, ac.signal);
+    } catch (e) {
+      if (ac.signal.aborted) throw new UnrecoverableError(CANCELLED_REASON);
+      // lib/gmm's refusals are the same on every try: fail the job at once, with lib/gmm's message
+      // (piscina keeps the name in the error's stack text; the name property may read 'Error')
+      const err = e as { name?: string; stack?: string; message?: string } | null;
+      if (/^Gmm(Input|Numerical)Error/.test(`${err?.name ?? ''}`) || /^Gmm(Input|Numerical)Error/.test(err?.stack ?? ''))
+        throw new UnrecoverableError(err?.message ?? String(e));
+      throw e;
+    } finally {
+      set.delete(ac);
+      if (set.size === 0) running.delete(flow);
+    }
+  };
+
+  const processor = async (job: Job<Payload>): Promise<string> => {
+    const d = job.data;
+    if ((await redis.exists(cancelKey(d.flow))) === 1) throw new UnrecoverableError(CANCELLED_REASON);
+    const stored = await loadInput(d.flow);
+    if (job.name === 'chunk') {
+      const c = d as ChunkJobData;
+      let out: unknown;
+      if (stored.kind === 'bootstrap') out = await runInPool<BootstrapBatch>(c.flow, { op: 'bootstrap', key: c.flow, input: stored.input, from: c.from, to: c.to });
+      else if (stored.kind === 'subset-sweep')
+        out = await runInPool<SweepRow[]>(c.flow, { op: 'subset-sweep', key: c.flow, input: stored.input, from: c.from + 1, to: c.to + 1 });
+      else out = await runInPool<RollingPoint[]>(c.flow, { op: 'rolling', key: c.flow, input: stored.input, from: c.from, to: c.to });
+      completed++;
+      return encode({ from: c.from, to: c.to, value: out });
+    }
+    // the summary: every chunk's value, in range order
+    const values = Object.values(await job.getChildrenValues<string>())
+      .map((v) => decode<{ from: number; to: number; value: unknown }>(v))
+      .sort((a, b) => a.from - b.from);
+    let result: unknown;
+    if (stored.kind === 'bootstrap')
+      result = await runInPool(d.flow, { op: 'bootstrap-summary', key: d.flow, input: stored.input, batches: values.map((v) => v.value as BootstrapBatch) });
+    else if (stored.kind === 'subset-sweep')
+      result = await runInPool(d.flow, { op: 'subset-sweep-summary', key: d.flow, input: stored.input, rows: values.flatMap((v) => v.value as SweepRow[]) });
+    else result = await runInPool(d.flow, { op: 'rolling-summary', key: d.flow, input: stored.input, points: values.flatMap((v) => v.value as RollingPoint[]) });
+    inputs.delete(d.flow);
+    completed++;
+    return encode(result);
+  };
+
+  const worker = new Worker<Payload, string>(QUEUE_NAME, processor, {
+    connection: conn,
+    prefix: QUEUE_PREFIX,
+    concurrency,
+    lockDuration: lockMs,
+    stalledInterval: Math.max(1000, Math.floor(lockMs / 2)),
+    // a chunk may be lost to a dying worker a few times before the job is called failed
+    maxStalledCount: 5,
+  });
+  worker.on('error', (e) => log(`[keelson worker] ${e.message}`));
+  worker.on('failed', (job, e) => {
+    if (job && e.message !== CANCELLED_REASON) log(`[keelson worker] ${job.id} failed: ${e.message}`);
+  });
+
+  let closing: Promise<void> | null = null;
+  return {
+    concurrency,
+    get completed() {
+      return completed;
+    },
+    async ready() {
+      await worker.waitUntilReady();
+      await redis.ping();
+    },
+    close() {
+      closing ??= (async () => {
+        const grace = opts.graceMs ?? 30_000;
+        let timer: ReturnType<typeof setTimeout> | undefined;
+        const graceful = worker.close();
+        const late = new Promise<'late'>((r) => (timer = setTimeout(() => r('late'), grace)));
+        if ((await Promise.race([graceful.then(() => 'ok' as const), late])) === 'late') {
+          log('[keelson worker] chunks still running after the grace period: handing them back to the queue');
+          for (const set of running.values()) for (const ac of set) ac.abort();
+          await worker.close(true);
+        }
+        clearTimeout(timer);
+        await pool.destroy();
+        sub.disconnect();
+        redis.disconnect();
+      })();
+      return closing;
+    },
+  };
+}

@@ -1,0 +1,138 @@
+/**
+ * Real components for the queue tests: a Redis server and `keelson worker` processes.
+ *
+ * Redis: when CI set KEELSON_TEST_REDIS_URL (.ci/run starts one), the tests use it and FAIL when it
+ * does not answer. When it is not set, they start their own Debian redis-server from
+ * /usr/bin/redis-server on a free loopback port with no persistence, or fail with the install
+ * command. They never skip.
+ */
+import { spawn, type ChildProcess } from 'node:child_process';
+import { existsSync, mkdtempSync, rmSync } from 'node:fs';
+import { createServer } from 'node:net';
+import { tmpdir } from 'node:os';
+import { join, resolve } from 'node:path';
+import { Redis } from 'ioredis';
+
+export const REDIS_SERVER = '/usr/bin/redis-server';
+export const REDIS_INSTALL = 'apt-get install -y redis-server';
+const ROOT = resolve(import.meta.dirname, '../..');
+
+export interface TestRedis {
+  url: string;
+  /** Stops the server (only one this helper started); CI's server is left to CI. */
+  stop(): Promise<void>;
+  /** Stops and starts the server this helper started, on the same port (an outage). */
+  restart?: (downMs: number) => Promise<void>;
+}
+
+export function freePort(): Promise<number> {
+  return new Promise((res, rej) => {
+    const s = createServer();
+    s.unref();
+    s.on('error', rej);
+    s.listen(0, '127.0.0.1', () => {
+      const a = s.address();
+      const port = typeof a === 'object' && a ? a.port : 0;
+      s.close(() => res(port));
+    });
+  });
+}
+
+async function ping(url: string, ms = 3000): Promise<void> {
+  const r = new Redis(url, { lazyConnect: true, maxRetriesPerRequest: 0, connectTimeout: ms, retryStrategy: () => null });
+  r.on('error', () => undefined);
+  try {
+    await r.connect();
+    await r.ping();
+  } finally {
+    r.disconnect();
+  }
+}
+
+async function waitUp(url: string, ms = 10_000): Promise<void> {
+  const end = Date.now() + ms;
+  for (;;) {
+    try {
+      await ping(url, 500);
+      return;
+    } catch (e) {
+      if (Date.now() > end) throw e;
+      await new Promise((r) => setTimeout(r, 50));
+    }
+  }
+}
+
+/**
+ * A Redis for the tests (see the file's note). Throws with the reason; never resolves to "skip".
+ * `own`: always start a private server (a test that stops and starts Redis cannot use CI's).
+ */
+export async function testRedis(opts: { own?: boolean } = {}): Promise<TestRedis> {
+  const ci = opts.own ? undefined : process.env.KEELSON_TEST_REDIS_URL;
+  if (ci) {
+    try {
+      await ping(ci);
+    } catch (e) {
+      throw new Error(`KEELSON_TEST_REDIS_URL=${ci} is set but Redis does not answer there: ${(e as Error).message}`);
+    }
+    return { url: ci, stop: async () => undefined };
+  }
+  if (!existsSync(REDIS_SERVER)) throw new Error(`The queue tests need Debian's redis-server at ${REDIS_SERVER}; install it with:\n  ${REDIS_INSTALL}`);
+  const port = await freePort();
+  const dir = mkdtempSync(join(tmpdir(), 'keelson-redis-'));
+  const url = `redis://127.0.0.1:${port}`;
+  let proc: ChildProcess | null = null;
+  const up = async () => {
+    proc = spawn(REDIS_SERVER, ['--port', String(port), '--bind', '127.0.0.1', '--save', '', '--appendonly', 'no', '--dir', dir], { stdio: 'ignore' });
+    await waitUp(url);
+  };
+  const down = async () => {
+    const p = proc;
+    proc = null;
+    if (!p || p.exitCode !== null) return;
+    await new Promise<void>((r) => {
+      p.once('exit', () => r());
+      p.kill('SIGTERM');
+    });
+  };
+  await up();
+  return {
+    url,
+    stop: async () => {
+      await down();
+      rmSync(dir, { recursive: true, force: true });
+    },
+    restart: async (downMs: number) => {
+      await down();
+      await new Promise((r) => setTimeout(r, downMs));
+      await up();
+    },
+  };
+}
+
+export interface WorkerProcess {
+  proc: ChildProcess;
+  output: () => string;
+  /** Resolves with the exit code. */
+  exited: Promise<number | null>;
+}
+
+/** Starts `keelson worker` as its own process (the launcher users run) and waits until it listens. */
+export async function startWorkerProcess(url: string, opts: { concurrency?: number; lockMs?: number } = {}): Promise<WorkerProcess> {
+  const args = [join(ROOT, 'bin/keelson.mjs'), 'worker', '--redis', url, '--concurrency', String(opts.concurrency ?? 1)];
+  const proc = spawn(process.execPath, args, {
+    cwd: ROOT,
+    env: { ...process.env, KEELSON_WORKER_LOCK_MS: String(opts.lockMs ?? 2000) },
+    stdio: ['ignore', 'pipe', 'pipe'],
+  });
+  let out = '';
+  proc.stdout!.on('data', (b: Buffer) => (out += b.toString()));
+  proc.stderr!.on('data', (b: Buffer) => (out += b.toString()));
+  const exited = new Promise<number | null>((r) => proc.once('exit', (code) => r(code)));
+  const end = Date.now() + 30_000;
+  while (!/chunk\(s\) at once/.test(out)) {
+    if (proc.exitCode !== null) throw new Error(`keelson worker exited ${proc.exitCode}: ${out}`);
+    if (Date.now() > end) throw new Error(`keelson worker did not start: ${out}`);
+    await new Promise((r) => setTimeout(r, 50));
+  }
+  return { proc, output: () => out, exited };
+}
