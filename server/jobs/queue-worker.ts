@@ -127,7 +127,9 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
       if (stored.kind === 'bootstrap') out = await runInPool<BootstrapBatch>(c.flow, { op: 'bootstrap', key: c.flow, input: stored.input, from: c.from, to: c.to });
       else if (stored.kind === 'subset-sweep')
         out = await runInPool<SweepRow[]>(c.flow, { op: 'subset-sweep', key: c.flow, input: stored.input, from: c.from + 1, to: c.to + 1 });
-      else out = await runInPool<RollingPoint[]>(c.flow, { op: 'rolling', key: c.flow, input: stored.input, from: c.from, to: c.to });
+      else if (stored.kind === 'rolling') out = await runInPool<RollingPoint[]>(c.flow, { op: 'rolling', key: c.flow, input: stored.input, from: c.from, to: c.to });
+      // hold-out checks are cheap (one estimate per block) and stay in the API's own pool (runner.ts)
+      else throw new UnrecoverableError(`${stored.kind} checks are not run by queue workers`);
       completed++;
       return encode({ from: c.from, to: c.to, value: out });
     }
@@ -140,7 +142,8 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
       result = await runInPool(d.flow, { op: 'bootstrap-summary', key: d.flow, input: stored.input, batches: values.map((v) => v.value as BootstrapBatch) });
     else if (stored.kind === 'subset-sweep')
       result = await runInPool(d.flow, { op: 'subset-sweep-summary', key: d.flow, input: stored.input, rows: values.flatMap((v) => v.value as SweepRow[]) });
-    else result = await runInPool(d.flow, { op: 'rolling-summary', key: d.flow, input: stored.input, points: values.flatMap((v) => v.value as RollingPoint[]) });
+    else if (stored.kind === 'rolling') result = await runInPool(d.flow, { op: 'rolling-summary', key: d.flow, input: stored.input, points: values.flatMap((v) => v.value as RollingPoint[]) });
+    else throw new UnrecoverableError(`${stored.kind} checks are not run by queue workers`);
     inputs.delete(d.flow);
     completed++;
     return encode(result);

@@ -208,7 +208,8 @@ export class JobRunner {
     db.update(jobs).set({ total: check.total }).where(eq(jobs.id, jobId)).run();
     const key = `job:${jobId}:${job.attempts}`;
     const ranges = chunkRanges(check.total, check.kind);
-    if (this.queue) return this.followFlow(this.queue, jobId, flowId(jobId, job.attempts), check, ranges, signal, started);
+    // hold-out checks (one estimate per block) stay in this process's pool in queue mode too
+    if (this.queue && check.kind !== 'holdout') return this.followFlow(this.queue, jobId, flowId(jobId, job.attempts), check, ranges, signal, started);
     let done = 0;
     const pool = this.getPool();
     // At most threads + 1 chunks in flight per job: jobs started later interleave with a long
