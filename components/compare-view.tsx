@@ -25,6 +25,18 @@ function MiniLedger({ run }: { run: Run }) {
   if (!r) return <Text style={text.body}>{run.status === 'failed' ? `Failed: ${run.error}` : `This run is ${run.status}.`}</Text>;
   const level = r.options.level;
   const factors = r.factors;
+  const basis = r.verdictBasis;
+  /** t and p of b and λ on the basis the verdicts rest on (robust SEs, bootstrap p where asked). */
+  const onBasis = (f: (typeof factors)[number]) => {
+    const rob = basis !== 'standard' && f.robust ? f.robust : null;
+    const boot = basis === 'bootstrap' ? f.bootstrap : null;
+    return {
+      tB: rob ? rob.tB : f.tB,
+      pB: boot?.pB ?? (rob ? rob.pB : f.pB),
+      tLambda: rob ? rob.tLambda : f.tLambda,
+      pLambda: boot?.pLambda ?? (rob ? rob.pLambda : f.pLambda),
+    };
+  };
   const measure = (e: LayoutChangeEvent) => setW(Math.floor(e.nativeEvent.layout.width));
   const verdictCol = w >= VERDICT_COL_MIN;
   return <View onLayout={measure}>{w === 0 ? null : w < TABLE_MIN ? list() : table()}</View>;
@@ -36,14 +48,14 @@ function MiniLedger({ run }: { run: Run }) {
           <View key={f.name} style={[styles.tr, { alignItems: 'flex-start' }]} role="listitem">
             <View style={{ flex: 1, gap: 4 }}>
               <Text style={text.strong}>{f.name}</Text>
-              <VerdictChip verdict={f.verdict} />
+              <VerdictChip verdict={f.verdict} basis={basis} thinFlag={f.thinBeta?.flag ?? false} />
             </View>
             <View style={{ gap: 2 }}>
-              <Text style={[styles.n, f.pB < level && styles.m]} numberOfLines={1}>
-                b {formatNum(f.b, 2)} ({formatNum(f.tB, 1)}){f.pB < level ? '*' : ' '}
+              <Text style={[styles.n, onBasis(f).pB < level && styles.m]} numberOfLines={1}>
+                b {formatNum(f.b, 2)} ({formatNum(onBasis(f).tB, 1)}){onBasis(f).pB < level ? '*' : ' '}
               </Text>
-              <Text style={[styles.n, f.pLambda < level && styles.m]} numberOfLines={1}>
-                λ% {formatNum(f.lambda * 100, 3)} ({formatNum(f.tLambda, 1)}){f.pLambda < level ? '*' : ' '}
+              <Text style={[styles.n, onBasis(f).pLambda < level && styles.m]} numberOfLines={1}>
+                λ% {formatNum(f.lambda * 100, 3)} ({formatNum(onBasis(f).tLambda, 1)}){onBasis(f).pLambda < level ? '*' : ' '}
               </Text>
               <Text style={[styles.n, { color: colors.slate }]} numberOfLines={1}>
                 p Holm {formatP(f.pHolm)}
@@ -81,20 +93,20 @@ function MiniLedger({ run }: { run: Run }) {
         <View key={f.name} style={styles.tr} role="row">
           <View role="cell" style={[styles.nameCol, { gap: 4 }]}>
             <Text style={text.body}>{f.name}</Text>
-            {verdictCol ? null : <VerdictChip verdict={f.verdict} />}
+            {verdictCol ? null : <VerdictChip verdict={f.verdict} basis={basis} thinFlag={f.thinBeta?.flag ?? false} />}
           </View>
-          <Text role="cell" style={[styles.cellNum, styles.numCol, f.pB < level && styles.m]} numberOfLines={1}>
-            {formatNum(f.b, 2)} ({formatNum(f.tB, 1)}){f.pB < level ? '*' : ' '}
+          <Text role="cell" style={[styles.cellNum, styles.numCol, onBasis(f).pB < level && styles.m]} numberOfLines={1}>
+            {formatNum(f.b, 2)} ({formatNum(onBasis(f).tB, 1)}){onBasis(f).pB < level ? '*' : ' '}
           </Text>
-          <Text role="cell" style={[styles.cellNum, styles.numCol, f.pLambda < level && styles.m]} numberOfLines={1}>
-            {formatNum(f.lambda * 100, 3)} ({formatNum(f.tLambda, 1)}){f.pLambda < level ? '*' : ' '}
+          <Text role="cell" style={[styles.cellNum, styles.numCol, onBasis(f).pLambda < level && styles.m]} numberOfLines={1}>
+            {formatNum(f.lambda * 100, 3)} ({formatNum(onBasis(f).tLambda, 1)}){onBasis(f).pLambda < level ? '*' : ' '}
           </Text>
           <Text role="cell" style={[styles.cellNum, styles.pCol]} numberOfLines={1}>
             {formatP(f.pHolm)}
           </Text>
           {verdictCol ? (
             <View role="cell" style={styles.verdictCol}>
-              <VerdictChip verdict={f.verdict} />
+              <VerdictChip verdict={f.verdict} basis={basis} thinFlag={f.thinBeta?.flag ?? false} />
             </View>
           ) : null}
         </View>
@@ -110,6 +122,11 @@ function Side({ run, label }: { run: Run; label: string }) {
   return (
     <Card title={`${label}: run #${run.id}${run.specName ? ` · ${run.specName}` : ''}`} subtitle={`${run.libraryName}, edition ${run.editionNumber} · ${run.spec.stage} stage · ${run.authorName}`} style={{ flex: 1, minWidth: 0 }}>
       <RunStatusChip status={run.status} />
+      {r ? (
+        <Text style={text.muted}>
+          Verdicts on the {r.verdictBasis} basis at level {r.options.level}; t and * follow that basis.
+        </Text>
+      ) : null}
       <MiniLedger run={run} />
       {r ? (
         <View style={{ gap: 2 }}>
@@ -252,6 +269,11 @@ export function CompareView({ data }: { data: CompareResponse }) {
   return (
     <View style={{ gap: space.lg }}>
       <CompareExports a={data.a.id} b={data.b.id} />
+      {data.basisNote ? (
+        <Text style={text.body} role="note">
+          {data.basisNote}
+        </Text>
+      ) : null}
       <Card
         title="Which model is better?"
         subtitle="Squared Sharpe ratio of each model's factors (traded factors, same edition, assets and window): the model whose factors reach the higher one prices better. Statistical evidence, not investment advice."
