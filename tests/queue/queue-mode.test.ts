@@ -146,6 +146,8 @@ describe('queue mode with two worker processes', () => {
       returns,
       factors: F,
       factorNames: ['MKT', 'ECHO', 'CLIMA'],
+      // the edition's traded flags (runs-fixture.ts FIX_KINDS) reach the sweep for its squared-Sharpe ranking
+      traded: [true, true, false],
       options: { lags: 'auto', form: 'centred', factorMeansKnown: false, weighting: 'identity', stage: 'second', level: 0.05 },
     });
     expect(fin.result).toEqual(JSON.parse(JSON.stringify(direct)));
