@@ -47,10 +47,11 @@ export function canReadLibrary(user: User, lib: LibraryAccessRow): boolean {
 }
 
 /** The edition's head row joined to its library: what reading and access checks need. */
-export type EditionHead = Pick<LibraryEditionRow, 'libraryId' | 'number' | 'frequency' | 'dates'> &
+export type EditionHead = Pick<LibraryEditionRow, 'libraryId' | 'number' | 'frequency' | 'dates' | 'firstDate' | 'lastDate'> &
   Pick<LibraryRow, 'visibility' | 'ownerId'> & { editionId: number; libraryName: string };
 
-function editionHead(db: Db, editionId: number): EditionHead | undefined {
+/** The edition's row with its library's name and access fields (no series). */
+export function editionHead(db: Db, editionId: number): EditionHead | undefined {
   return db
     .select({
       editionId: libraryEditions.id,
@@ -59,6 +60,8 @@ function editionHead(db: Db, editionId: number): EditionHead | undefined {
       number: libraryEditions.number,
       frequency: libraryEditions.frequency,
       dates: libraryEditions.dates,
+      firstDate: libraryEditions.firstDate,
+      lastDate: libraryEditions.lastDate,
       visibility: libraries.visibility,
       ownerId: libraries.ownerId,
     })

@@ -4,29 +4,16 @@
  */
 import { asc, eq } from 'drizzle-orm';
 import type { Db } from '../db/client';
-import { libraries, libraryEditions, librarySeries } from '../db/schema/index';
+import { librarySeries } from '../db/schema/index';
 import type { User } from '../../shared/auth';
 import { KeelsonApiError } from '../../shared/errors';
 import type { EditionMeta } from '../../shared/edition-meta';
+import { editionHead } from './edition-data';
 import { editionIdOf } from './libraries';
 
 export function getEditionMeta(db: Db, user: User, libraryId: number, n: number): EditionMeta {
   const editionId = editionIdOf(db, user, libraryId, n);
-  const head = db
-    .select({
-      editionId: libraryEditions.id,
-      libraryId: libraryEditions.libraryId,
-      libraryName: libraries.name,
-      number: libraryEditions.number,
-      frequency: libraryEditions.frequency,
-      firstDate: libraryEditions.firstDate,
-      lastDate: libraryEditions.lastDate,
-      dates: libraryEditions.dates,
-    })
-    .from(libraryEditions)
-    .innerJoin(libraries, eq(libraries.id, libraryEditions.libraryId))
-    .where(eq(libraryEditions.id, editionId))
-    .get();
+  const head = editionHead(db, editionId);
   if (!head) throw new KeelsonApiError('not_found', `No library edition ${editionId}`);
   const series = db
     .select({ name: librarySeries.name, kind: librarySeries.kind, traded: librarySeries.traded })
