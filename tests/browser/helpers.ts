@@ -107,6 +107,42 @@ export async function shot(page: Page, name: string): Promise<string> {
   return path;
 }
 
+/** Scrolls the app's own tallest scrolling view by one screenful less 100 px; false at its end. */
+export function scrollAppView(page: Page): Promise<boolean> {
+  return page.evaluate(() => {
+    const els = [...document.querySelectorAll('div')].filter((d) => {
+      const s = getComputedStyle(d);
+      return (s.overflowY === 'auto' || s.overflowY === 'scroll') && d.scrollHeight > d.clientHeight + 5;
+    });
+    const el = els.sort((a, b) => b.clientHeight - a.clientHeight)[0];
+    if (!el) return false;
+    const before = el.scrollTop;
+    el.scrollTop += el.clientHeight - 100;
+    return el.scrollTop !== before;
+  });
+}
+
+/**
+ * Screenshots of the whole scrolling screen, one viewport at a time (the app scrolls inside its
+ * own view, so a full-page shot would show only the first screen): `<dir>/<name>-<i>.png`.
+ */
+export async function scrollShots(page: Page, name: string, opts: { dir?: string; max?: number; fromTop?: boolean; pauseMs?: number } = {}): Promise<void> {
+  const dir = opts.dir ?? SCREENSHOT_DIR;
+  mkdirSync(dir, { recursive: true });
+  await page.evaluate(async (fromTop) => {
+    await document.fonts.ready;
+    if (fromTop) for (const d of document.querySelectorAll('div')) if (d.scrollTop > 0) d.scrollTop = 0;
+  }, opts.fromTop ?? false);
+  if (opts.fromTop) await page.waitForTimeout(200);
+  for (let i = 0; i < (opts.max ?? 6); i++) {
+    if (i > 0) {
+      if (!(await scrollAppView(page))) break;
+      await page.waitForTimeout(opts.pauseMs ?? 250);
+    }
+    await page.screenshot({ path: join(dir, `${name}-${i}.png`) });
+  }
+}
+
 /** Asserts every recorded request stayed on the server's origin (or data:/blob:): nothing leaves localhost. */
 export function expectSameOrigin(requests: readonly string[], origin = new URL(baseUrl()).origin): void {
   const outside = requests.filter((u) => !u.startsWith('data:') && !u.startsWith('blob:') && new URL(u).origin !== origin);

@@ -16,7 +16,7 @@ import type { Browser, Locator, Page } from 'playwright-core';
 import { ROOT } from '../../scripts/web-build';
 import { formatFixed, formatP } from '../../shared/format';
 import type { Run } from '../../shared/runs';
-import { PHONE, SCREENSHOT_DIR, WIDE, expectSameOrigin, launchBrowser, openPage, signIn, type Viewport } from './helpers';
+import { PHONE, SCREENSHOT_DIR, WIDE, expectSameOrigin, launchBrowser, openPage, scrollShots, signIn, type Viewport } from './helpers';
 import { expectChartDownloads, expectReadableChart, expectTablesFit } from './chart-checks';
 
 const SCREENS = join(ROOT, 'test-results', 'screens');
@@ -30,27 +30,8 @@ let iteratedId = 0;
 /** Second stage on 2005–2020 (T = 192 < 10·N) with lag 14 (> 2·T^(1/3)): caution, lag warning, thin-beta flags. */
 let shortId = 0;
 
-/** Screenshots of the whole scrolling screen, one viewport at a time (the app scrolls inside its own view). */
-async function shots(page: Page, name: string, max = 8): Promise<void> {
-  mkdirSync(SCREENS, { recursive: true });
-  await page.evaluate(() => document.fonts.ready);
-  for (let i = 0; i < max; i++) {
-    await page.screenshot({ path: join(SCREENS, `${name}-${i}.png`) });
-    const moved = await page.evaluate(() => {
-      const els = [...document.querySelectorAll('div')].filter((d) => {
-        const s = getComputedStyle(d);
-        return (s.overflowY === 'auto' || s.overflowY === 'scroll') && d.scrollHeight > d.clientHeight + 5;
-      });
-      const el = els.sort((a, b) => b.clientHeight - a.clientHeight)[0];
-      if (!el) return false;
-      const before = el.scrollTop;
-      el.scrollTop += el.clientHeight - 100;
-      return el.scrollTop !== before;
-    });
-    if (!moved) break;
-    await page.waitForTimeout(250);
-  }
-}
+/** Screenshots of the whole scrolling screen (helpers.ts scrollShots) under test-results/screens. */
+const shots = (page: Page, name: string, max = 8) => scrollShots(page, name, { dir: SCREENS, max });
 
 /** One screenshot of what is on screen now. */
 async function shotNow(page: Page, name: string): Promise<void> {

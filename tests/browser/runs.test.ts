@@ -5,12 +5,10 @@
  * author's outbox has the e-mails; a desk user compares two runs and cannot edit.
  */
 import { readFileSync } from 'node:fs';
-import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import Papa from 'papaparse';
-import { mkdirSync } from 'node:fs';
-import { PHONE, SCREENSHOT_DIR, WIDE, expectSameOrigin, launchBrowser, openPage, shot, signIn, type Viewport } from './helpers';
+import { PHONE, WIDE, expectSameOrigin, launchBrowser, openPage, scrollShots, shot, signIn, type Viewport } from './helpers';
 
 let browser: Browser;
 let runId = 0;
@@ -24,27 +22,8 @@ afterAll(async () => {
   await browser?.close();
 });
 
-/** Screenshots of the whole scrolling screen, one viewport at a time (the app scrolls inside its own view). */
-async function shots(page: Page, name: string, max = 6): Promise<void> {
-  await shot(page, `${name}-0`);
-  for (let i = 1; i < max; i++) {
-    const moved = await page.evaluate(() => {
-      const els = [...document.querySelectorAll('div')].filter((d) => {
-        const s = getComputedStyle(d);
-        return (s.overflowY === 'auto' || s.overflowY === 'scroll') && d.scrollHeight > d.clientHeight + 5;
-      });
-      const el = els.sort((a, b) => b.clientHeight - a.clientHeight)[0];
-      if (!el) return false;
-      const before = el.scrollTop;
-      el.scrollTop += el.clientHeight - 100;
-      return el.scrollTop !== before;
-    });
-    if (!moved) break;
-    await page.waitForTimeout(300);
-    mkdirSync(SCREENSHOT_DIR, { recursive: true });
-    await page.screenshot({ path: join(SCREENSHOT_DIR, `${name}-${i}.png`) });
-  }
-}
+/** Screenshots of the whole scrolling screen (helpers.ts scrollShots). */
+const shots = (page: Page, name: string, max = 6) => scrollShots(page, name, { max, pauseMs: 300 });
 
 async function api<T = Record<string, unknown>>(page: Page, path: string): Promise<T> {
   const r = await page.request.get(`/api/v1${path}`);

@@ -6,13 +6,12 @@
  * "not found" for bad spec ids, and archiving from the specs list. Screenshots go to
  * test-results/screens/ and are looked at by hand.
  */
-import { mkdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import { ROOT } from '../../scripts/web-build';
 import { FEWER_ASSETS_THAN_FACTORS } from '../../shared/specs';
-import { PHONE, WIDE, expectSameOrigin, launchBrowser, openPage, signIn, type Viewport } from './helpers';
+import { PHONE, WIDE, expectSameOrigin, launchBrowser, openPage, scrollShots, signIn, type Viewport } from './helpers';
 
 const SCREENS = join(ROOT, 'test-results', 'screens');
 const SIZES: [string, Viewport][] = [
@@ -28,32 +27,8 @@ afterAll(async () => {
   await browser?.close();
 });
 
-/** Screenshot of the viewport, then of each further screenful of the app's own scrolling view. */
-async function screens(page: Page, name: string, max = 6): Promise<void> {
-  mkdirSync(SCREENS, { recursive: true });
-  await page.evaluate(async () => {
-    await document.fonts.ready;
-    for (const d of document.querySelectorAll('div')) if (d.scrollTop > 0) d.scrollTop = 0;
-  });
-  await page.waitForTimeout(200);
-  await page.screenshot({ path: join(SCREENS, `${name}-0.png`) });
-  for (let i = 1; i < max; i++) {
-    const moved = await page.evaluate(() => {
-      const els = [...document.querySelectorAll('div')].filter((d) => {
-        const s = getComputedStyle(d);
-        return (s.overflowY === 'auto' || s.overflowY === 'scroll') && d.scrollHeight > d.clientHeight + 5;
-      });
-      const el = els.sort((a, b) => b.clientHeight - a.clientHeight)[0];
-      if (!el) return false;
-      const before = el.scrollTop;
-      el.scrollTop += el.clientHeight - 100;
-      return el.scrollTop !== before;
-    });
-    if (!moved) break;
-    await page.waitForTimeout(250);
-    await page.screenshot({ path: join(SCREENS, `${name}-${i}.png`) });
-  }
-}
+/** Screenshot of the viewport, then of each further screenful (helpers.ts scrollShots, from the top). */
+const screens = (page: Page, name: string, max = 6) => scrollShots(page, name, { dir: SCREENS, max, fromTop: true });
 
 async function apiGet<T>(page: Page, path: string): Promise<T> {
   const r = await page.request.get(`/api/v1${path}`);
