@@ -11,6 +11,7 @@ import { VictoryArea, VictoryAxis, VictoryBar, VictoryChart, VictoryLine } from 
 import { HLZ_T_HURDLE } from '../lib/gmm/multiple-testing';
 import type { BootstrapJobResult, HoldoutJobResult, RollingJobResult, SubsetSweepJobResult } from '../shared/deep-check-results';
 import type { Job } from '../shared/jobs';
+import { gmmFailureMessage } from '../shared/gmm-messages';
 import { formatP } from '../shared/format';
 import { Caution } from './caution';
 import { ChartDownload } from './chart-download';
@@ -469,9 +470,8 @@ export function RollingResultView({ result }: { result: RollingJobResult }) {
         <Text style={text.muted}>
           Not estimated:{' '}
           {result.points
-            .filter((p) => !p.ok)
+            .flatMap((p) => (p.ok ? [] : [`${p.startDate ?? p.start}–${p.endDate ?? p.end} (${gmmFailureMessage(p)})`]))
             .slice(0, 5)
-            .map((p) => `${p.startDate ?? p.start}–${p.endDate ?? p.end} (${p.reason})`)
             .join('; ')}
         </Text>
       ) : null}

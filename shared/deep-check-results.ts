@@ -77,13 +77,14 @@ export const subsetSweepResultSchema = z.object({
 export type SubsetSweepJobResult = z.infer<typeof subsetSweepResultSchema>;
 
 // ---- rolling windows ----
-export const rollingPointSchema = z.object({
+/** A row that could not be computed: the library's failure shape (lib/gmm/errors.ts), words from shared/gmm-messages.ts. */
+const rowFailure = { ok: z.literal(false), code: gmmFailureCodeSchema, message: z.string() };
+
+const rollingPointValues = z.object({
   start: z.number().int(),
   end: z.number().int(),
   startDate: z.string().nullable(),
   endDate: z.string().nullable(),
-  ok: z.boolean(),
-  reason: z.string().nullable(),
   b: nums,
   seB: nums,
   tB: nums,
@@ -93,6 +94,7 @@ export const rollingPointSchema = z.object({
   J: num,
   pJ: num,
 });
+export const rollingPointSchema = z.discriminatedUnion('ok', [rollingPointValues.extend({ ok: z.literal(true) }), rollingPointValues.extend(rowFailure)]);
 export type RollingJobPoint = z.infer<typeof rollingPointSchema>;
 
 export const rollingResultSchema = z.object({
@@ -131,20 +133,19 @@ export const holdoutSplitResultSchema = z.object({
   factorNames: z.array(z.string()),
 });
 
-export const rollingHoldoutRowSchema = z.object({
+const rollingHoldoutRowValues = z.object({
   start: z.number().int(),
   end: z.number().int(),
   blockEnd: z.number().int(),
   blockStartDate: z.string().nullable(),
   blockEndDate: z.string().nullable(),
-  ok: z.boolean(),
-  reason: z.string().nullable(),
   b: nums,
   alpha: nums,
   meanAbsAlpha: num.nullable(),
   r2oos: num.nullable(),
   r2in: num.nullable(),
 });
+export const rollingHoldoutRowSchema = z.discriminatedUnion('ok', [rollingHoldoutRowValues.extend({ ok: z.literal(true) }), rollingHoldoutRowValues.extend(rowFailure)]);
 export type RollingHoldoutJobRow = z.infer<typeof rollingHoldoutRowSchema>;
 
 export const rollingHoldoutResultSchema = z.object({
