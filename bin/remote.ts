@@ -11,9 +11,7 @@ import { homedir } from 'node:os';
 import { basename, join } from 'node:path';
 import { parseArgs } from 'node:util';
 import { readErrorEnvelope, sendApiRequest } from '../shared/http-core';
-import type { BootstrapResult } from '../lib/gmm/bootstrap';
-import type { RollingResult } from '../lib/gmm/rolling';
-import type { SubsetSweepResult } from '../lib/gmm/subset-sweep';
+import { jobResponseSchema, type Job } from '../shared/jobs';
 import type { LedgerResult } from '../shared/runs';
 import type { LedgerResult as GmmLedgerResult } from '../lib/gmm/ledger';
 import { renderLedgerText } from './ledger-text';
@@ -234,7 +232,6 @@ export function isRemoteCommand(command: string): boolean {
   return REMOTE_COMMANDS.has(command);
 }
 
-type Job = { id: number; kind?: string; status: string; done: number; total: number; error: string | null; result: unknown };
 
 /** Runs one server-facing command; returns the exit code. */
 export async function runRemote(command: string, args: string[], io: Io): Promise<number> {
@@ -448,17 +445,17 @@ export async function runRemote(command: string, args: string[], io: Io): Promis
             throw new RemoteError('check: --params must be JSON, e.g. {"draws":999}', 2);
           }
         }
-        const { job } = await client.post<{ job: Job }>(`/runs/${runId}/checks`, { kind: p.values.kind, params });
+        const { job } = jobResponseSchema.parse(await client.post<unknown>(`/runs/${runId}/checks`, { kind: p.values.kind, params }));
         return await followJob(client, job, Boolean(p.values.wait), Boolean(p.values.json), io);
       }
       case 'job': {
         const p = parse(args, { wait: { type: 'boolean' }, json: { type: 'boolean' } }, command);
-        const { job } = await client.get<{ job: Job }>(`/jobs/${posInt(p.positionals[0], 'job id')}`);
+        const { job } = jobResponseSchema.parse(await client.get<unknown>(`/jobs/${posInt(p.positionals[0], 'job id')}`));
         return await followJob(client, job, Boolean(p.values.wait), Boolean(p.values.json), io);
       }
       case 'cancel': {
         const p = parse(args, {}, command);
-        const { job } = await client.post<{ job: Job }>(`/jobs/${posInt(p.positionals[0], 'job id')}/cancel`);
+        const { job } = jobResponseSchema.parse(await client.post<unknown>(`/jobs/${posInt(p.positionals[0], 'job id')}/cancel`));
         io.out(`Job ${job.id}: ${job.status}\n`);
         return 0;
       }
@@ -549,13 +546,12 @@ export function runBasisChoice(v: { stage?: string; basis?: string; 'bootstrap-d
 }
 
 /** What `check --wait` prints about a finished deep check: the result, not only its status. */
-export function renderJobResult(kind: string | undefined, result: unknown): string {
-  if (!result || typeof result !== 'object') return '';
+export function renderJobResult(job: Job): string {
+  if (!job.result) return '';
   const p = (x: number | null | undefined) => (typeof x === 'number' ? (x < 0.001 ? '<0.001' : x.toFixed(3)) : '–');
-  const r = result as Record<string, unknown>;
   let s = '';
-  if (kind === 'bootstrap' || ('J' in r && 'jDeciles' in r)) {
-    const b = result as BootstrapResult;
+  if (job.kind === 'bootstrap' && job.result) {
+    const b = job.result;
     s += `Bootstrap: ${b.validDraws} of ${b.draws} ${b.scheme === 'block' ? `block (length ${b.blockLength})` : 'iid'} draws, seed ${b.seed}${b.correction === 'hall-horowitz' ? ', Hall–Horowitz block correction' : ''}\n`;
     const rows = [['test', 'statistic', 'p asymptotic', 'p bootstrap', '5% critical']];
     rows.push(['J', b.J.stat.toFixed(2), p(b.J.asymptoticP), p(b.J.bootstrapP), b.J.critical95.toFixed(2)]);
@@ -568,15 +564,15 @@ export function renderJobResult(kind: string | undefined, result: unknown): stri
       if (t) rows.push([`${label} {${b.joint!.factors.join(', ')}}`, t.stat.toFixed(2), p(t.asymptoticP), p(t.bootstrapP), t.critical95.toFixed(2)]);
     s += pad(rows);
     for (const n of b.notes ?? []) s += `  - ${n}\n`;
-  } else if (kind === 'subset-sweep' || 'bestByHj' in r) {
-    const w = result as SubsetSweepResult;
+  } else if (job.kind === 'subset-sweep' && job.result) {
+    const w = job.result;
     s += `Subset sweep: ${w.models} models${w.singular ? ` (${w.singular} singular, skipped)` : ''}\n`;
     const rows = [['smallest adequate models', 'HJ', 'drop χ²', 'df', 'p']];
     for (const m of w.adequate) rows.push([m.factors.join(' + '), m.hj.toFixed(4), m.drop.toFixed(2), String(m.df), p(m.p)]);
     s += rows.length > 1 ? pad(rows) : `No model smaller than the full one passes the drop test at ${w.level}.\n`;
     s += `Factor frequency among the best models: ${w.factorFrequency.map((f) => `${f.name} ${(f.share * 100).toFixed(0)}%`).join(', ')}\n`;
-  } else if (kind === 'rolling' || 'points' in r) {
-    const w = result as RollingResult;
+  } else if (job.kind === 'rolling' && job.result) {
+    const w = job.result;
     const ok = w.points.filter((x) => x.ok);
     s += `Rolling check (${w.kind}, ${w.length} periods, step ${w.step}): ${ok.length} windows estimated${w.failed ? `, ${w.failed} failed` : ''}\n`;
     if (ok.length) {
@@ -595,12 +591,12 @@ async function followJob(client: Client, first: Job, wait: boolean, asJson: bool
   let job = first;
   while (wait && (job.status === 'queued' || job.status === 'running')) {
     await new Promise((r) => setTimeout(r, 250));
-    job = (await client.get<{ job: Job }>(`/jobs/${job.id}`)).job;
+    job = jobResponseSchema.parse(await client.get<unknown>(`/jobs/${job.id}`)).job;
   }
   if (asJson) io.out(JSON.stringify({ job }, null, 2) + '\n');
   else {
     io.out(`Job ${job.id}: ${job.status} (${job.done}/${job.total})${job.error ? ` — ${job.error}` : ''}\n`);
-    if (job.status === 'finished') io.out(renderJobResult(job.kind, job.result));
+    if (job.status === 'finished') io.out(renderJobResult(job));
   }
   return job.status === 'failed' ? 1 : 0;
 }

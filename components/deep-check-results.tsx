@@ -8,9 +8,10 @@
 import { useRef, useState, type ReactNode } from 'react';
 import { Text, View, type LayoutChangeEvent } from 'react-native';
 import { VictoryArea, VictoryAxis, VictoryBar, VictoryChart, VictoryLine } from 'victory';
-import type { BootstrapResult, RollingResult, SubsetSweepResult } from '../lib/gmm/index';
 import { HLZ_T_HURDLE } from '../lib/gmm/multiple-testing';
-import type { HoldoutJobResult, Job } from '../shared/jobs';
+import type { BootstrapJobResult, HoldoutJobResult, RollingJobResult, SubsetSweepJobResult } from '../shared/deep-check-results';
+import type { Job } from '../shared/jobs';
+import { gmmFailureMessage } from '../shared/gmm-messages';
 import { formatP } from '../shared/format';
 import { Caution } from './caution';
 import { ChartDownload } from './chart-download';
@@ -127,7 +128,7 @@ function Grid({ label, head, rows }: { label: string; head: string[]; rows: Grid
 
 const P_MARK = 0.05;
 
-export function BootstrapResultView({ result }: { result: BootstrapResult }) {
+export function BootstrapResultView({ result }: { result: BootstrapJobResult }) {
   const rows: { name: string; stat: number; asy: number; boot: number; crit: number }[] = [
     { name: `J (df ${result.J.df})`, stat: result.J.stat, asy: result.J.asymptoticP, boot: result.J.bootstrapP, crit: result.J.critical95 },
     ...result.factors.map((f) => ({ name: `b of ${f.name} (|t|)`, stat: Math.abs(f.wald.stat), asy: f.wald.asymptoticP, boot: f.wald.bootstrapP, crit: f.wald.critical95 })),
@@ -165,7 +166,7 @@ export function BootstrapResultView({ result }: { result: BootstrapResult }) {
   );
 }
 
-export function SweepResultView({ result }: { result: SubsetSweepResult }) {
+export function SweepResultView({ result }: { result: SubsetSweepJobResult }) {
   return (
     <View style={{ gap: space.md }} aria-label="Subset sweep result">
       <Text style={text.muted}>
@@ -217,7 +218,7 @@ export function SweepResultView({ result }: { result: SubsetSweepResult }) {
 }
 
 /** Each candidate's b test in the full model, adjusted across all K candidates (Holm; Benjamini–Yekutieli), and |t| against the t ≥ 3.0 reference line. */
-function CandidateTests({ result }: { result: SubsetSweepResult }) {
+function CandidateTests({ result }: { result: SubsetSweepJobResult }) {
   const lv = result.level;
   return (
     <View style={{ gap: space.xs }}>
@@ -241,7 +242,7 @@ function CandidateTests({ result }: { result: SubsetSweepResult }) {
 }
 
 /** |t| of each candidate's b as horizontal bars, with the t = 3.0 reference line (Harvey, Liu and Zhu 2016). */
-function TChart({ result }: { result: SubsetSweepResult }) {
+function TChart({ result }: { result: SubsetSweepJobResult }) {
   const [w, setW] = useState(0);
   const ref = useRef<View>(null);
   const c = result.candidates;
@@ -302,7 +303,7 @@ function TChart({ result }: { result: SubsetSweepResult }) {
 }
 
 /** Subsets of the traded candidates ranked by the squared Sharpe ratio of their factors, with SEs; ◆ within one SE of the best. */
-function ThetaRanking({ result }: { result: SubsetSweepResult }) {
+function ThetaRanking({ result }: { result: SubsetSweepJobResult }) {
   const r = result.thetaRanking;
   const row = (m: { factors: readonly string[]; theta: number; se: number; withinOneSe: boolean }, prefix = '') => ({
     key: `${prefix}${m.factors.join('+')}`,
@@ -335,7 +336,7 @@ function ThetaRanking({ result }: { result: SubsetSweepResult }) {
 }
 
 /** Share of the best models (per size) that hold each factor, as horizontal bars with their percent. */
-function FrequencyChart({ result }: { result: SubsetSweepResult }) {
+function FrequencyChart({ result }: { result: SubsetSweepJobResult }) {
   const [w, setW] = useState(0);
   const ref = useRef<View>(null);
   const sorted = [...result.factorFrequency].sort((a, b) => b.share - a.share);
@@ -382,7 +383,7 @@ const axisStyle = {
 const ROLL_PAD = { top: 10, bottom: 30, left: 52, right: 14 };
 const ROLL_H = 200;
 
-function FactorWindowChart({ result, k, what }: { result: RollingResult; k: number; what: 'b' | 'lambda' }) {
+function FactorWindowChart({ result, k, what }: { result: RollingJobResult; k: number; what: 'b' | 'lambda' }) {
   const [w, setW] = useState(320);
   const ref = useRef<View>(null);
   const onLayout = (e: LayoutChangeEvent) => setW(Math.max(240, Math.floor(e.nativeEvent.layout.width)));
@@ -443,7 +444,7 @@ function FactorWindowChart({ result, k, what }: { result: RollingResult; k: numb
   );
 }
 
-export function RollingResultView({ result }: { result: RollingResult }) {
+export function RollingResultView({ result }: { result: RollingJobResult }) {
   const [what, setWhat] = useState<'b' | 'lambda'>('b');
   return (
     <View style={{ gap: space.md }} aria-label="Rolling window result">
@@ -469,9 +470,8 @@ export function RollingResultView({ result }: { result: RollingResult }) {
         <Text style={text.muted}>
           Not estimated:{' '}
           {result.points
-            .filter((p) => !p.ok)
+            .flatMap((p) => (p.ok ? [] : [`${p.startDate ?? p.start}–${p.endDate ?? p.end} (${gmmFailureMessage(p)})`]))
             .slice(0, 5)
-            .map((p) => `${p.startDate ?? p.start}–${p.endDate ?? p.end} (${p.reason})`)
             .join('; ')}
         </Text>
       ) : null}
@@ -587,8 +587,8 @@ function BlockChart({ result, what }: { result: Extract<HoldoutJobResult, { mode
 /** The result view for a finished job of any kind. */
 export function DeepCheckResult({ job }: { job: Job }) {
   if (!job.result) return null;
-  if (job.kind === 'bootstrap') return <BootstrapResultView result={job.result as BootstrapResult} />;
-  if (job.kind === 'subset-sweep') return <SweepResultView result={job.result as SubsetSweepResult} />;
-  if (job.kind === 'holdout') return <HoldoutResultView result={job.result as HoldoutJobResult} />;
-  return <RollingResultView result={job.result as RollingResult} />;
+  if (job.kind === 'bootstrap') return <BootstrapResultView result={job.result} />;
+  if (job.kind === 'subset-sweep') return <SweepResultView result={job.result} />;
+  if (job.kind === 'holdout') return <HoldoutResultView result={job.result} />;
+  return <RollingResultView result={job.result} />;
 }

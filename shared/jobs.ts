@@ -1,12 +1,20 @@
 import { z } from 'zod';
-import type { BootstrapResult } from '../lib/gmm/bootstrap';
-import type { SubsetSweepResult } from '../lib/gmm/subset-sweep';
-import type { RollingResult } from '../lib/gmm/rolling';
-import type { HoldoutResult, RollingHoldoutResult } from '../lib/gmm/holdout';
+import {
+  bootstrapResultSchema,
+  holdoutJobResultSchema,
+  rollingResultSchema,
+  subsetSweepResultSchema,
+  type BootstrapJobResult,
+  type HoldoutJobResult,
+  type RollingJobResult,
+  type SubsetSweepJobResult,
+} from './deep-check-results';
+
+export type { HoldoutJobResult } from './deep-check-results';
 
 /**
  * Deep checks run as background jobs (issue 6): request bodies, parameter schemas and the job
- * shape the API returns. The results' shapes are lib/gmm's result types.
+ * shape the API returns, its `result` validated by kind (shared/deep-check-results.ts).
  */
 
 export const JOB_KINDS = ['bootstrap', 'subset-sweep', 'rolling', 'holdout'] as const;
@@ -91,9 +99,6 @@ export const holdoutParamsSchema = z
   });
 export type HoldoutParams = z.output<typeof holdoutParamsSchema>;
 
-/** A hold-out job's result: one split, or one row per priced block. */
-export type HoldoutJobResult = ({ mode: 'split' } & HoldoutResult) | ({ mode: 'rolling' } & RollingHoldoutResult);
-
 export const startCheckBodySchema = z.discriminatedUnion('kind', [
   z.object({ kind: z.literal('bootstrap'), params: bootstrapParamsSchema.default({ draws: 999, scheme: 'iid' }) }),
   z.object({ kind: z.literal('subset-sweep'), params: subsetSweepParamsSchema.default({ topPerSize: 5 }) }),
@@ -104,11 +109,10 @@ export type StartCheckBody = z.input<typeof startCheckBodySchema>;
 export type StartCheck = z.output<typeof startCheckBodySchema>;
 
 export type JobParams = BootstrapParams | SubsetSweepParams | RollingParams | HoldoutParams;
-export type JobResult = BootstrapResult | SubsetSweepResult | RollingResult | HoldoutJobResult;
+export type JobResult = BootstrapJobResult | SubsetSweepJobResult | RollingJobResult | HoldoutJobResult;
 
-export const jobSchema = z.object({
+const jobBaseSchema = z.object({
   id: z.number().int(),
-  kind: jobKindSchema,
   runId: z.number().int(),
   authorId: z.number().int(),
   authorName: z.string(),
@@ -123,10 +127,16 @@ export const jobSchema = z.object({
   /** Seconds left at the current pace; null until the first chunk is done or when not running. */
   etaSeconds: z.number().nullable(),
   error: z.string().nullable(),
-  /** The check's result (lib/gmm BootstrapResult, SubsetSweepResult or RollingResult) once finished. */
-  result: z.unknown().nullable(),
 });
-export type Job = Omit<z.infer<typeof jobSchema>, 'result'> & { result: JobResult | null };
+
+/** A job; `result` (once finished) is checked against its kind's result schema. */
+export const jobSchema = z.discriminatedUnion('kind', [
+  jobBaseSchema.extend({ kind: z.literal('bootstrap'), result: bootstrapResultSchema.nullable() }),
+  jobBaseSchema.extend({ kind: z.literal('subset-sweep'), result: subsetSweepResultSchema.nullable() }),
+  jobBaseSchema.extend({ kind: z.literal('rolling'), result: rollingResultSchema.nullable() }),
+  jobBaseSchema.extend({ kind: z.literal('holdout'), result: holdoutJobResultSchema.nullable() }),
+]);
+export type Job = z.infer<typeof jobSchema>;
 export const jobResponseSchema = z.object({ job: jobSchema });
 export const jobsResponseSchema = z.object({ jobs: z.array(jobSchema) });
 

@@ -28,7 +28,7 @@
  *   options: { stage: 'first', weighting: 'identity', lags: 'auto', form: 'centred', factorMeansKnown: false } });
  * // r.T1 + r.T2 === T; r.alpha[i] = r.holdoutMean[i] − r.predicted[i]; r.r2oos ≤ 1
  */
-import { GmmInputError, type GmmFailure } from './errors';
+import { GmmInputError, type GmmFailure, type GmmFailureCode } from './errors';
 import { resolveLag } from './hac';
 import { fromNested } from './linalg';
 import { momentsFromPacked, type MomentData } from './moments';
@@ -223,21 +223,25 @@ export interface RollingHoldoutInput extends Omit<HoldoutInput, 'split'> {
   };
 }
 
-export interface RollingHoldoutRow {
+interface RollingHoldoutRowValues {
   /** Estimation periods [start, end), priced block [end, blockEnd). */
   readonly start: number;
   readonly end: number;
   readonly blockEnd: number;
   readonly blockStartDate: string | null;
   readonly blockEndDate: string | null;
-  readonly ok: boolean;
-  readonly reason: string | null;
   readonly b: readonly number[];
   readonly alpha: readonly number[];
   readonly meanAbsAlpha: number | null;
   readonly r2oos: number | null;
   readonly r2in: number | null;
 }
+
+/**
+ * One priced block: `ok: true` with its numbers, or the library's failure shape (errors.ts:
+ * `code` and `message`) with empty b̂, α and null statistics.
+ */
+export type RollingHoldoutRow = RollingHoldoutRowValues & ({ readonly ok: true } | { readonly ok: false; readonly code: GmmFailureCode; readonly message: string });
 
 export interface RollingHoldoutResult {
   readonly kind: 'rolling' | 'expanding';
@@ -295,8 +299,8 @@ export function rollingHoldout(input: RollingHoldoutInput): RollingHoldoutResult
       sst += r.sst;
       absSum += r.meanAbsAlpha;
       okRows += 1;
-      rows.push({ start, end, blockEnd, ...dates, ok: true, reason: null, b: r.b, alpha: r.alpha, meanAbsAlpha: r.meanAbsAlpha, r2oos: r.r2oos, r2in: r.r2in });
-    } else rows.push({ start, end, blockEnd, ...dates, ok: false, reason: r.message, b: [], alpha: [], meanAbsAlpha: null, r2oos: null, r2in: null });
+      rows.push({ start, end, blockEnd, ...dates, ok: true, b: r.b, alpha: r.alpha, meanAbsAlpha: r.meanAbsAlpha, r2oos: r.r2oos, r2in: r.r2in });
+    } else rows.push({ start, end, blockEnd, ...dates, ok: false, code: r.code, message: r.message, b: [], alpha: [], meanAbsAlpha: null, r2oos: null, r2in: null });
     if (blockEnd >= T) break;
   }
   return {

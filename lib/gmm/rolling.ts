@@ -18,7 +18,7 @@
  * rollingWindows(10, { kind: 'expanding', length: 4, step: 3 }) // → [[0, 4], [0, 7], [0, 10]]
  */
 import { normalQuantile } from './distributions';
-import { GmmInputError } from './errors';
+import { GmmInputError, type GmmFailureCode } from './errors';
 import { defaultLag, maxLag } from './hac';
 import { fromNested } from './linalg';
 import { momentsFromPacked } from './moments';
@@ -54,14 +54,11 @@ export interface RollingInput {
   readonly options: RollingOptions;
 }
 
-export interface RollingPoint {
+interface RollingPointValues {
   readonly start: number;
   readonly end: number;
   readonly startDate: string | null;
   readonly endDate: string | null;
-  readonly ok: boolean;
-  /** Why the window could not be estimated (ok = false). */
-  readonly reason: string | null;
   readonly b: readonly number[];
   readonly seB: readonly number[];
   readonly tB: readonly number[];
@@ -71,6 +68,12 @@ export interface RollingPoint {
   readonly J: number;
   readonly pJ: number;
 }
+
+/**
+ * One window: `ok: true` with its estimates, or the library's failure shape (errors.ts: `code`
+ * and `message`) with zeros in the estimates (never NaN).
+ */
+export type RollingPoint = RollingPointValues & ({ readonly ok: true } | { readonly ok: false; readonly code: GmmFailureCode; readonly message: string });
 
 export interface RollingResult {
   readonly kind: 'rolling' | 'expanding';
@@ -126,18 +129,20 @@ export function estimateWindows(input: RollingInput, from: number, to: number): 
     // the window's own lag limit (L < n/4, methods contract) caps a fixed lag
     const lags = o.lags === 'auto' ? defaultLag(n) : Math.min(o.lags, maxLag(n));
     const m = momentsFromPacked(R.subarray(s * N, e * N), F.subarray(s * K, e * K), n, N, K);
-    let failure: string | null = null;
+    let failure: { code: GmmFailureCode; message: string } | null = null;
     for (let k = 0; k < K && !failure; k++) {
       let varies = false;
       for (let t = s + 1; t < e && !varies; t++) varies = F[t * K + k] !== F[s * K + k];
-      if (!varies) failure = `factor '${input.factorNames[k]}' is constant in this window`;
+      // a constant factor makes the window's factor covariance singular
+      if (!varies) failure = { code: 'singular', message: `factor '${input.factorNames[k]}' is constant in this window` };
     }
     const fit = failure ? null : fitSdfGmm(m, { stage: o.stage, weighting: o.weighting, lags, form: o.form, factorMeansKnown: o.factorMeansKnown });
-    if (fit && !fit.ok) failure = fit.message;
+    if (fit && !fit.ok) failure = { code: fit.code, message: fit.message };
     const prem = fit && fit.ok ? fitPremia(m, fit) : null;
-    if (prem && !prem.ok) failure = prem.message;
+    if (prem && !prem.ok) failure = { code: prem.code, message: prem.message };
     if (failure || !fit || !fit.ok || !prem || !prem.ok) {
-      out.push({ ...base, ok: false, reason: failure ?? 'not estimable', b: z0(K), seB: z0(K), tB: z0(K), lambda: z0(K), seLambda: z0(K), tLambda: z0(K), J: 0, pJ: 1 });
+      const f = failure ?? { code: 'not-defined' as const, message: 'not estimable' };
+      out.push({ ...base, ok: false, code: f.code, message: f.message, b: z0(K), seB: z0(K), tB: z0(K), lambda: z0(K), seLambda: z0(K), tLambda: z0(K), J: 0, pJ: 1 });
       continue;
     }
     const seB = Array.from({ length: K }, (_, k) => Math.sqrt(Math.max(0, fit.covB[k * K + k])));
@@ -145,7 +150,6 @@ export function estimateWindows(input: RollingInput, from: number, to: number): 
     out.push({
       ...base,
       ok: true,
-      reason: null,
       b: Array.from(fit.b),
       seB,
       tB: seB.map((se, k) => (se > 0 ? fit.b[k] / se : 0)),

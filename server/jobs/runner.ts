@@ -196,9 +196,7 @@ export class JobRunner {
         .run();
     let check: CheckInput;
     try {
-      const runRow = db.$client.prepare('select id, edition_id as editionId, spec from runs where id = ?').get(job.runId) as
-        | { id: number; editionId: number; spec: string }
-        | undefined;
+      const runRow = db.select({ id: runs.id, editionId: runs.editionId, spec: runs.spec }).from(runs).where(eq(runs.id, job.runId)).get();
       if (!runRow) throw new Error(`Run ${job.runId} no longer exists.`);
       check = buildCheckInput(db, runRow, job.kind, JSON.parse(job.params));
     } catch (e) {

@@ -38,7 +38,10 @@ function etaSeconds(row: JobRow, now = Date.now()): number | null {
 }
 
 export function toJob(row: JobRow, authorName: string, withResult: boolean): Job {
-  return {
+  // The stored result is the runner's lib/gmm result for this row's kind (JSON); the pairing of
+  // kind and result shape is checked where it is read (jobSchema, shared/jobs.ts) and by
+  // tests/api/deep-check-schemas.test.ts.
+  const job = {
     id: row.id,
     kind: row.kind,
     runId: row.runId,
@@ -56,6 +59,7 @@ export function toJob(row: JobRow, authorName: string, withResult: boolean): Job
     error: row.error,
     result: withResult && row.status === 'finished' && row.result ? (JSON.parse(row.result) as JobResult) : null,
   };
+  return job as Job;
 }
 
 function runOf(db: Db, user: User, runId: number) {

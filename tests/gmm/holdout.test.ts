@@ -7,6 +7,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { GmmInputError, holdoutFromMoments, holdoutPricing, prepareMoments, rollingHoldout, type HoldoutOptions } from '../../lib/gmm/index';
+import { gmmFailureMessage } from '../../shared/gmm-messages';
 import { estimateLedger, maxRel, runReference, simulateEconomy } from './helpers';
 
 const TOL = 1e-8;
@@ -122,6 +123,30 @@ describe('rolling hold-out', () => {
     for (const row of r.rows) {
       const m2 = holdoutPricing({ ...base, returns: e.returns.slice(row.start, row.blockEnd), factors: e.factors.slice(row.start, row.blockEnd), split: { index: row.end - row.start } });
       if (!m2.ok) throw new Error('');
+      sse += m2.sse;
+      sst += m2.sst;
+    }
+    expect(r.pooledR2oos).toBeCloseTo(1 - sse / sst, 13);
+  });
+  it('a block that cannot be priced is a row in the library failure shape (code + message), left out of the pooled R²_oos', () => {
+    // zero returns in the last block [270, 300): every hold-out mean is zero, R²_oos is undefined
+    const returns = e.returns.map((row, t) => (t >= 270 ? row.map(() => 0) : row));
+    const r = rollingHoldout({ ...base, returns, window: { length: 120, step: 50 } });
+    expect(r.rows).toHaveLength(4);
+    const last = r.rows[3];
+    if (last.ok) throw new Error('the last block should fail');
+    expect(last.code).toBe('not-defined');
+    expect(last.message).toMatch(/R²_oos is undefined/);
+    expect(Object.keys(last)).not.toContain('reason');
+    expect(gmmFailureMessage(last)).toBe('The statistic is not defined for these data: Every hold-out mean return is zero: R²_oos is undefined.');
+    expect([last.b, last.alpha, last.r2oos, last.meanAbsAlpha]).toEqual([[], [], null, null]);
+    // pooled over the three priced blocks only (identity: 1 − Σ α'α / Σ m'm of the single splits)
+    let sse = 0;
+    let sst = 0;
+    for (const row of r.rows.slice(0, 3)) {
+      expect(row.ok).toBe(true);
+      const m2 = holdoutPricing({ ...base, returns: returns.slice(row.start, row.blockEnd), factors: e.factors.slice(row.start, row.blockEnd), split: { index: row.end - row.start } });
+      if (!m2.ok) throw new Error(m2.message);
       sse += m2.sse;
       sst += m2.sst;
     }

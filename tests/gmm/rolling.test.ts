@@ -9,6 +9,7 @@ import { describe, expect, it } from 'vitest';
 import { estimateLedger } from './helpers';
 import { estimateWindows, rollingEstimates, rollingWindows, summariseRolling, type RollingInput } from '../../lib/gmm/rolling';
 import { GmmInputError } from '../../lib/gmm/errors';
+import { gmmFailureMessage } from '../../shared/gmm-messages';
 import { normalSampler, simulateEconomy } from './helpers';
 
 const opts = { stage: 'second', weighting: 'identity', lags: 2, form: 'centred', factorMeansKnown: false, level: 0.05 } as const;
@@ -87,8 +88,13 @@ describe('rolling windows', () => {
   it('flags a window where a factor is constant instead of returning NaN', () => {
     const f = e.factors.map((row, t) => (t < 120 ? [row[0], 0.01] : row));
     const r = rollingEstimates({ ...input, factors: f, window: { kind: 'rolling', length: 60, step: 60 } });
-    expect(r.points[0].ok).toBe(false);
-    expect(r.points[0].reason).toMatch(/constant/);
+    const p0 = r.points[0];
+    if (p0.ok) throw new Error('window 0 should fail');
+    // the library's one failure shape (lib/gmm/errors.ts): a code and the detail
+    expect(p0.code).toBe('singular');
+    expect(p0.message).toMatch(/constant/);
+    expect(Object.keys(p0)).not.toContain('reason');
+    expect(gmmFailureMessage(p0)).toBe(`The estimation could not be solved: factor 'F2' is constant in this window`);
     expect(r.failed).toBe(2);
     expect(JSON.stringify(r)).not.toMatch(/NaN|Infinity/);
     for (const p of r.points) expect(p.b.every(Number.isFinite)).toBe(true);
