@@ -94,7 +94,18 @@ const rollingPointValues = z.object({
   J: num,
   pJ: num,
 });
-export const rollingPointSchema = z.discriminatedUnion('ok', [rollingPointValues.extend({ ok: z.literal(true) }), rollingPointValues.extend(rowFailure)]);
+/** Rolling rows stored before the one failure shape carried a free-text `reason`: read it as code not-defined. */
+const legacyRollingRow = (v: unknown): unknown => {
+  if (v && typeof v === 'object' && (v as { ok?: unknown }).ok === false && !('code' in v) && typeof (v as { reason?: unknown }).reason === 'string') {
+    const { reason, ...rest } = v as { reason: string };
+    return { ...rest, code: 'not-defined', message: reason };
+  }
+  return v;
+};
+export const rollingPointSchema = z.preprocess(
+  legacyRollingRow,
+  z.discriminatedUnion('ok', [rollingPointValues.extend({ ok: z.literal(true) }), rollingPointValues.extend(rowFailure)]),
+);
 export type RollingJobPoint = z.infer<typeof rollingPointSchema>;
 
 export const rollingResultSchema = z.object({

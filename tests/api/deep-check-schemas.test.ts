@@ -14,6 +14,7 @@ import { runResponseSchema } from '../../shared/runs';
 import {
   bootstrapResultSchema,
   holdoutJobResultSchema,
+  rollingPointSchema,
   rollingResultSchema,
   subsetSweepResultSchema,
 } from '../../shared/deep-check-results';
@@ -113,5 +114,17 @@ describe('malformed results are refused', () => {
     expect(r.success).toBe(false);
     // the same job with its own result parses
     expect(jobResponseSchema.safeParse(results.get('bootstrap')!).success).toBe(true);
+  });
+});
+
+describe('rolling rows stored before the one failure shape', () => {
+  it('a failed window with a free-text reason reads as code not-defined with that text; a good row is unchanged', () => {
+    const base = { start: 0, end: 119, startDate: '2000-01', endDate: '2009-12', b: [1], seB: [0.5], tB: [2], lambda: [0.01], seLambda: [0.005], tLambda: [2], J: 3, pJ: 0.4 };
+    const old = rollingPointSchema.parse({ ...base, ok: false, reason: 'The factor MKT is constant in this window' });
+    expect(old).toMatchObject({ ok: false, code: 'not-defined', message: 'The factor MKT is constant in this window' });
+    expect('reason' in (old as object)).toBe(false);
+    expect(rollingPointSchema.parse({ ...base, ok: true })).toEqual({ ...base, ok: true });
+    // a row with neither code nor reason is still refused
+    expect(rollingPointSchema.safeParse({ ...base, ok: false }).success).toBe(false);
   });
 });
