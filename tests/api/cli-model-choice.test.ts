@@ -60,7 +60,7 @@ describe('estimate --versus', () => {
     const c = j.comparison;
     expect(c.versus).toEqual(['MKT', 'GROWTH']);
     const direct = compareModels({ factors: factorRows(['MKT', 'CARRY', 'GROWTH']), factorNames: ['MKT', 'CARRY', 'GROWTH'], traded: [true, true, true], lags: j.lags, modelA: ['MKT', 'CARRY'], modelB: ['MKT', 'GROWTH'] });
-    if (direct.kind !== 'sharpe') throw new Error('sharpe expected');
+    if (!direct.ok || direct.kind !== 'sharpe') throw new Error('sharpe expected');
     expect(c.sharpe.a.theta).toBeCloseTo(direct.a.theta, 14);
     expect(c.sharpe.b.theta).toBeCloseTo(direct.b.theta, 14);
     expect(c.sharpe.se).toBeCloseTo(direct.se, 14);
