@@ -75,7 +75,7 @@ rows.forEach((row, ri) => {
       factors.push(e.map((v, k) => sd[k] * (row.sr[k] + v)));
     }
     const r = compareModels({ factors, factorNames: names, traded: [true, true, true], modelA: ['S', 'A1'], modelB: ['S', 'B1'], lags: 'auto' });
-    if (r.kind !== 'sharpe') continue;
+    if (!r.ok || r.kind !== 'sharpe') continue;
     valid += 1;
     if (r.p < 0.1) r10 += 1;
     if (r.p < 0.05) r5 += 1;

@@ -1,11 +1,11 @@
 /**
  * First step of `npm test`: make sure what the tests need outside npm is on this machine, so no
  * test silently disappears. `npm test` needs Debian's Chromium at /usr/bin/chromium (browser
- * tests), Debian's redis-server (queue tests, tests/queue) and, for the model-choice checks that
- * still run numpy/statsmodels on the spot (tests/api/model-choice*.test.ts), numpy, scipy and
- * statsmodels for /usr/bin/python3; the other reference checks read committed fixtures
- * (tests/fixtures/*.json). With `--fixtures` (first step of `npm run fixtures:check` /
- * `fixtures:write`, which rerun the Python references): numpy, scipy, statsmodels and mpmath.
+ * tests) and Debian's redis-server (queue tests, tests/queue); it needs no Python at all: every
+ * reference value from numpy/scipy/statsmodels is read from a committed fixture (tests/fixtures/*.json,
+ * see pythonFixture in tests/gmm/helpers.ts). With `--fixtures` (first step of
+ * `npm run fixtures:check` / `fixtures:write`, which rerun the Python references): numpy, scipy,
+ * statsmodels and mpmath for /usr/bin/python3.
  *
  * When something is missing and the process runs as root with apt-get available (as on these
  * machines and in CI), it is installed with apt-get; otherwise the run stops at once with the exact
@@ -21,11 +21,6 @@ interface Need {
 }
 
 const browser: Need = { what: 'Chromium at /usr/bin/chromium (browser tests)', packages: ['chromium'], present: () => existsSync('/usr/bin/chromium') };
-const pythonNow: Need = {
-  what: 'numpy, scipy and statsmodels for /usr/bin/python3 (model-choice checks run on the spot)',
-  packages: ['python3-numpy', 'python3-scipy', 'python3-statsmodels'],
-  present: () => existsSync('/usr/bin/python3') && spawnSync('/usr/bin/python3', ['-c', 'import numpy, scipy, statsmodels'], { stdio: 'ignore' }).status === 0,
-};
 const redis: Need = { what: 'redis-server at /usr/bin/redis-server (queue tests, tests/queue)', packages: ['redis-server'], present: () => existsSync('/usr/bin/redis-server') };
 const python: Need = {
   what: 'numpy, scipy, statsmodels and mpmath for /usr/bin/python3 (the Python references behind tests/fixtures)',
@@ -34,7 +29,7 @@ const python: Need = {
     existsSync('/usr/bin/python3') &&
     spawnSync('/usr/bin/python3', ['-c', 'import numpy, scipy, statsmodels, mpmath'], { stdio: 'ignore' }).status === 0,
 };
-const needs: readonly Need[] = process.argv.includes('--fixtures') ? [python] : [browser, redis, pythonNow];
+const needs: readonly Need[] = process.argv.includes('--fixtures') ? [python] : [browser, redis];
 
 const missing = needs.filter((n) => !n.present());
 if (missing.length === 0) process.exit(0);

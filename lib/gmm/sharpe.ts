@@ -28,7 +28,7 @@
  * // with modelB: ['MKT'] instead, r.kind === 'nested' and r.spanning tests CARRY's alpha on MKT
  */
 import { normalTwoSidedP } from './distributions';
-import { GmmInputError } from './errors';
+import { gmmFailure, GmmInputError, type GmmFailure, type GmmResult } from './errors';
 import { hacFromColumns, resolveLag } from './hac';
 import { cholesky, choleskySolve } from './linalg';
 import { momentsFromPacked } from './moments';
@@ -104,13 +104,8 @@ export interface SquaredSharpe {
   readonly se: number;
 }
 
-export interface SharpeFailure {
-  readonly kind: 'singular';
-  readonly code: 'singular';
-  readonly message: string;
-}
-
 export interface SharpeComparison {
+  readonly ok: true;
   readonly kind: 'sharpe';
   readonly a: SquaredSharpe;
   readonly b: SquaredSharpe;
@@ -128,6 +123,7 @@ export interface SharpeComparison {
 }
 
 export interface NestedComparison {
+  readonly ok: true;
   readonly kind: 'nested';
   /** Why the z test is not used. */
   readonly code: 'nested-models';
@@ -152,6 +148,7 @@ export interface NestedComparison {
 
 /** The difference has (numerically) no sampling variance: both models' own factors add nothing. */
 export interface DegenerateComparison {
+  readonly ok: true;
   readonly kind: 'degenerate';
   readonly code: 'degenerate';
   readonly message: string;
@@ -231,26 +228,27 @@ function estimateOne(p: Prepared, idx: readonly number[], names: readonly string
 /**
  * θ̂ = μ'Σ_f^{-1}μ of one model with its HAC standard error (see the module comment).
  * @throws GmmInputError ('not-traded' for a non-traded factor; shapes, non-finite values, lags).
- * @returns the estimate, or a typed singular failure.
+ * @returns `{ ok: true, factors, theta, se }`, or a typed 'singular' failure (errors.ts) when Σ_f is singular.
  */
-export function squaredSharpe(input: SquaredSharpeInput): SquaredSharpe | SharpeFailure {
+export function squaredSharpe(input: SquaredSharpeInput): GmmResult<SquaredSharpe> {
   const idx = indexModel(input, input.model ?? input.factorNames, 'The model');
   const p = prepare(input, idx);
   const one = estimateOne(p, idx, input.factorNames);
-  return one ? one.est : { kind: 'singular', code: 'singular', message: 'The covariance matrix of the factors is singular.' };
+  return one ? { ok: true, ...one.est } : gmmFailure('singular', 'The covariance matrix of the factors is singular.', 'Σ_f');
 }
 
 /**
  * Compare two models by the squared Sharpe ratios of their factors (Barillas, Kan, Robotti and
  * Shanken 2020); for nested models, the joint spanning test instead.
  * @param input factors (T×K), names, traded flags, lag, and the two models' factor names.
- * @returns `{ kind: 'sharpe', a, b, diff, se, z, p, shared }` for non-nested models;
- *   `{ kind: 'nested', code: 'nested-models', reason, spanning, … }` when one model contains the
- *   other; `{ kind: 'degenerate' }` when ψ_A − ψ_B has no variance; `{ kind: 'singular' }`.
+ * @returns `{ ok: true, kind: 'sharpe', a, b, diff, se, z, p, shared }` for non-nested models;
+ *   `{ ok: true, kind: 'nested', code: 'nested-models', reason, spanning, … }` when one model
+ *   contains the other; `{ ok: true, kind: 'degenerate' }` when ψ_A − ψ_B has no variance; the
+ *   typed failure `{ ok: false, code: 'singular', message }` (errors.ts) when a covariance is singular.
  * @throws GmmInputError 'not-traded' (a factor of either model is not traded), 'unknown-factor',
  *   'invalid-option' (empty model, a factor named twice, the two models identical), shape errors.
  */
-export function compareModels(input: CompareModelsInput): SharpeComparison | NestedComparison | DegenerateComparison | SharpeFailure {
+export function compareModels(input: CompareModelsInput): SharpeComparison | NestedComparison | DegenerateComparison | GmmFailure {
   const ia = indexModel(input, input.modelA, 'Model A');
   const ib = indexModel(input, input.modelB, 'Model B');
   const names = input.factorNames;
@@ -264,7 +262,7 @@ export function compareModels(input: CompareModelsInput): SharpeComparison | Nes
   const p = prepare(input, union);
   const A = estimateOne(p, ia, names);
   const B = estimateOne(p, ib, names);
-  const singular: SharpeFailure = { kind: 'singular', code: 'singular', message: 'The covariance matrix of a model’s factors is singular.' };
+  const singular = gmmFailure('singular', 'The covariance matrix of a model’s factors is singular.');
   if (!A || !B) return singular;
   if (aInB || bInA) {
     const larger = bInA ? 'a' : 'b';
@@ -282,6 +280,7 @@ export function compareModels(input: CompareModelsInput): SharpeComparison | Nes
     const bigName = larger === 'a' ? 'A' : 'B';
     const smallName = larger === 'a' ? 'B' : 'A';
     return {
+      ok: true,
       kind: 'nested',
       code: 'nested-models',
       reason: `Model ${smallName}'s factors are all in model ${bigName}, so the models are nested: equal squared Sharpe ratios mean that ${extra.map((k) => names[k]).join(', ')} ${extra.length === 1 ? 'is' : 'are'} spanned by model ${smallName}'s factors, and the z test of the difference does not apply (its variance vanishes under that hypothesis). The joint spanning test of the extra factors on model ${smallName}'s factors answers the question instead.`,
@@ -308,6 +307,7 @@ export function compareModels(input: CompareModelsInput): SharpeComparison | Nes
   const scale = Math.max(A.est.se, B.est.se);
   if (!(v > 0) || Math.sqrt(v) <= 1e-10 * Math.max(scale, 1e-300))
     return {
+      ok: true,
       kind: 'degenerate',
       code: 'degenerate',
       message: 'The difference of the two squared Sharpe ratios has no sampling variance here (neither model’s own factors add to the shared ones), so the normal test does not apply; test each model’s own factors for spanning by the shared ones instead.',
@@ -317,5 +317,5 @@ export function compareModels(input: CompareModelsInput): SharpeComparison | Nes
     };
   const se = Math.sqrt(v);
   const z = diff / se;
-  return { kind: 'sharpe', a: A.est, b: B.est, diff, se, z, p: normalTwoSidedP(z), shared, T: p.T, lags: p.lags };
+  return { ok: true, kind: 'sharpe', a: A.est, b: B.est, diff, se, z, p: normalTwoSidedP(z), shared, T: p.T, lags: p.lags };
 }

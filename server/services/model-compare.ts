@@ -40,6 +40,7 @@ export function compareFactorModels(input: {
     if (e instanceof GmmInputError) return refusedComparison(e.message);
     throw e;
   }
+  if (!r.ok) return refusedComparison(r.message, r.code);
   if (r.kind === 'sharpe') {
     const { a, b, diff, se, z, p, shared, T, lags } = r;
     return { sharpe: { a: { ...a, factors: [...a.factors] }, b: { ...b, factors: [...b.factors] }, diff, se, z, p, shared: [...shared], T, lags }, sharpeSpanning: null, sharpeRefusal: null };

@@ -2,10 +2,10 @@
  * The CLI's model-choice options (`keelson estimate … --versus F1,F3`, `--holdout-from DATE`) and
  * the adjusted p per factor in its JSON. In process (bin/keelson-cli.ts `main`) on an invented CSV
  * library in a temp dir. Sources: lib/gmm called directly on the same matrices (identity: the CLI
- * must not change the numbers), statsmodels' `multipletests` (Debian /usr/bin/python3) for Holm and
- * BY, and identities that must hold (α₂ = m₂ − prediction, R²_oos = 1 − α₂'α₂ / m₂'m₂, T₁ + T₂ = T).
+ * must not change the numbers), statsmodels' `multipletests` (Debian /usr/bin/python3, through the
+ * committed fixture tests/fixtures/api-cli-multipletests.json, so no Python at test time) for Holm
+ * and BY, and identities that must hold (α₂ = m₂ − prediction, R²_oos = 1 − α₂'α₂ / m₂'m₂, T₁ + T₂ = T).
  */
-import { execFileSync } from 'node:child_process';
 import { mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -13,6 +13,7 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { main } from '../../bin/keelson-cli';
 import { compareModels, estimateLedger, holdoutPricing } from '../../lib/gmm/index';
 import { boxMuller, mulberry32 } from '../../lib/gmm/random';
+import { runReference } from '../gmm/helpers';
 
 let file = '';
 const T = 180;
@@ -59,7 +60,7 @@ describe('estimate --versus', () => {
     const c = j.comparison;
     expect(c.versus).toEqual(['MKT', 'GROWTH']);
     const direct = compareModels({ factors: factorRows(['MKT', 'CARRY', 'GROWTH']), factorNames: ['MKT', 'CARRY', 'GROWTH'], traded: [true, true, true], lags: j.lags, modelA: ['MKT', 'CARRY'], modelB: ['MKT', 'GROWTH'] });
-    if (direct.kind !== 'sharpe') throw new Error('sharpe expected');
+    if (!direct.ok || direct.kind !== 'sharpe') throw new Error('sharpe expected');
     expect(c.sharpe.a.theta).toBeCloseTo(direct.a.theta, 14);
     expect(c.sharpe.b.theta).toBeCloseTo(direct.b.theta, 14);
     expect(c.sharpe.se).toBeCloseTo(direct.se, 14);
@@ -167,11 +168,16 @@ describe('estimate --json: adjusted p per factor', () => {
     expect(r.code).toBe(0);
     const j = JSON.parse(r.out);
     const p = j.factors.map((f: { pB: number }) => f.pB);
-    const py = 'import json,sys\nfrom statsmodels.stats.multitest import multipletests\np=json.load(sys.stdin)\nprint(json.dumps([list(multipletests(p,method=m)[1]) for m in ("holm","fdr_by")]))';
-    const [holm, by] = JSON.parse(execFileSync('/usr/bin/python3', ['-c', py], { input: JSON.stringify(p) }).toString()) as number[][];
+    // statsmodels multipletests (gmm_reference.py `multipletests_task`) through a committed fixture. Its
+    // input is the CLI's p rounded to 12 significant digits, so a last-bit change in lib/gmm does not
+    // invalidate the fixture; rounding moves p by ≤ 5e-13 and Holm / BY are Lipschitz in p with
+    // constant ≤ m·Σ1/i = 4 × 2.08 < 9, so the adjusted values agree to < 5e-12 (stated bound 1e-11).
+    const p12 = p.map((x: number) => Number(x.toPrecision(12)));
+    const [ref] = runReference('api-cli-multipletests', { task: 'multipletests', pvalues: [p12] }) as { holm: number[]; by: number[] }[];
+    expect(ref.holm).toHaveLength(4);
     j.factors.forEach((f: { pHolm: number; pBY: number }, k: number) => {
-      expect(f.pHolm).toBeCloseTo(holm[k], 14);
-      expect(f.pBY).toBeCloseTo(by[k], 14);
+      expect(Math.abs(f.pHolm - ref.holm[k])).toBeLessThan(1e-11);
+      expect(Math.abs(f.pBY - ref.by[k])).toBeLessThan(1e-11);
     });
     expect(j.adjustedBasis).toBe('standard');
     // and the same numbers as lib/gmm's ledger on the same data

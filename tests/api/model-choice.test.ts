@@ -5,16 +5,17 @@
  *
  * Data: the seeded invented economy of runs-fixture.ts plus CARRY, an independent traded factor
  * with a positive mean (so three traded factors that are not collinear: MKT, ECHO, CARRY), and
- * CLIMA, non-traded. Sources named beside each check: numpy (Debian /usr/bin/python3) on the same
- * generated factor values for θ̂ and its SE; lib/gmm called directly on the same matrices (identity:
- * the server must not change the numbers); identities that must hold.
+ * CLIMA, non-traded. Sources named beside each check: numpy (Debian /usr/bin/python3; its values
+ * in the committed fixture tests/fixtures/api-model-choice-sharpe.json) on the same generated factor
+ * values for θ̂ and its SE; lib/gmm called directly on the same matrices (identity: the server must
+ * not change the numbers); identities that must hold.
  */
-import { execFileSync } from 'node:child_process';
 import Papa from 'papaparse';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { agentAs, anonymousAgent, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp } from './helpers';
 import { FIX_ASSETS, makeFixture, spec, type Fixture } from './runs-fixture';
 import { confirm, prng, uploadCsv } from './libraries-helpers';
+import { runReference } from '../gmm/helpers';
 import { holdoutPricing, rollingHoldout, spanningTest } from '../../lib/gmm/index';
 import { mailSettled } from '../../server/services/runs';
 import { compareResponseSchema, runResponseSchema, type Run } from '../../shared/runs';
@@ -84,25 +85,19 @@ async function startRun(over: Record<string, unknown>, edition = ed): Promise<Ru
 }
 const compare = async (a: number, b: number, extra = '') => compareResponseSchema.parse((await desk.get(`/api/v1/runs/compare?a=${a}&b=${b}${extra}`).expect(200)).body);
 
-/** numpy (Debian /usr/bin/python3): θ̂ = μ'Σ⁻¹μ (divisor T), ψ = 2u − u² + θ̂, Bartlett LRV/T of ψ_A − ψ_B, written here from methods.md. */
+/**
+ * numpy (Debian /usr/bin/python3, tests/reference/gmm_reference.py `sharpe_task`, written from
+ * methods.md: θ̂ = μ'Σ⁻¹μ (divisor T), ψ = 2u − u² + θ̂, Bartlett LRV/T of ψ_A − ψ_B) on the same
+ * factor values, through the committed fixture tests/fixtures/api-model-choice-sharpe.json
+ * (pythonFixture in tests/gmm/helpers.ts: npm test needs no Python; `npm run fixtures:check` reruns it).
+ */
 function numpySharpe(F: number[][], a: number[], b: number[], lags: number): { ta: number; tb: number; sa: number; sb: number; se: number } {
-  const py = `
-import json, sys, numpy as np
-d = json.load(sys.stdin)
-F = np.array(d["F"]); L = d["L"]; T = F.shape[0]
-def lrv(x):
-    s = x @ x / T
-    for j in range(1, L + 1):
-        s += 2 * (1 - j / (L + 1)) * (x[j:] @ x[:-j]) / T
-    return s
-def one(idx):
-    f = F[:, idx]; mu = f.mean(0); S = (f - mu).T @ (f - mu) / T
-    w = np.linalg.solve(S, mu); th = mu @ w; u = (f - mu) @ w
-    return th, 2 * u - u * u + th
-ta, pa = one(d["a"]); tb, pb = one(d["b"])
-print(json.dumps({"ta": ta, "tb": tb, "sa": np.sqrt(lrv(pa) / T), "sb": np.sqrt(lrv(pb) / T), "se": np.sqrt(lrv(pa - pb) / T)}))
-`;
-  return JSON.parse(execFileSync('/usr/bin/python3', ['-c', py], { input: JSON.stringify({ F, a, b, L: lags }) }).toString());
+  const r = runReference('api-model-choice-sharpe', { task: 'sharpe', factors: F, lags, a, b }) as {
+    a: { theta: number; se: number };
+    b: { theta: number; se: number };
+    se: number;
+  };
+  return { ta: r.a.theta, tb: r.b.theta, sa: r.a.se, sb: r.b.se, se: r.se };
 }
 
 const rel = (x: number, y: number) => Math.abs(x - y) / Math.max(1e-300, Math.abs(y));

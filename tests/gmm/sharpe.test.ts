@@ -42,7 +42,7 @@ describe.each(cases.map((c, i) => ({ ...c, i })))('θ̂ and the z test against n
   const ref = refs[c.i];
   const r = compareModels(input(c.i, c.a.map((k) => names[k]), c.b.map((k) => names[k])));
   it('θ̂_A, θ̂_B, their SEs, the difference, its SE, z and p agree to 1e-8', () => {
-    if (r.kind !== 'sharpe') throw new Error(`expected the z test, got ${r.kind}`);
+    if (!r.ok || r.kind !== 'sharpe') throw new Error(`expected the z test, got ${r.ok ? r.kind : r.code}`);
     expect(maxRel(r.a.theta, ref.a.theta, 'theta A')).toBeLessThan(TOL);
     expect(maxRel(r.b.theta, ref.b.theta, 'theta B')).toBeLessThan(TOL);
     expect(maxRel(r.a.se, ref.a.se, 'se theta A')).toBeLessThan(TOL);
@@ -57,7 +57,7 @@ describe.each(cases.map((c, i) => ({ ...c, i })))('θ̂ and the z test against n
   it('squaredSharpe of one model equals the comparison’s side', () => {
     const one = squaredSharpe({ factors: data[c.i], factorNames: names, traded: names.map(() => true), lags: c.lags, model: c.a.map((k) => names[k]) });
     if (!('theta' in one)) throw new Error('singular');
-    expect(one.theta).toBe(r.kind === 'sharpe' ? r.a.theta : NaN);
+    expect(one.theta).toBe(r.ok && r.kind === 'sharpe' ? r.a.theta : NaN);
   });
 });
 
@@ -74,7 +74,7 @@ describe('θ̂ identities', () => {
   it('swapping A and B flips z and keeps p', () => {
     const ab = compareModels(input(0, ['MKT', 'CARRY'], ['MKT', 'GROWTH']));
     const ba = compareModels(input(0, ['MKT', 'GROWTH'], ['MKT', 'CARRY']));
-    if (ab.kind !== 'sharpe' || ba.kind !== 'sharpe') throw new Error('expected the z test');
+    if (!ab.ok || !ba.ok || ab.kind !== 'sharpe' || ba.kind !== 'sharpe') throw new Error('expected the z test');
     expect(ba.z).toBeCloseTo(-ab.z, 12);
     expect(ba.p).toBeCloseTo(ab.p, 12);
   });
@@ -83,8 +83,8 @@ describe('θ̂ identities', () => {
 describe('nested models get the spanning test, not the z test', () => {
   it('B ⊂ A: kind nested, code nested-models, and the joint spanning test of A’s extra factors on B’s', () => {
     const r = compareModels(input(3, ['MKT', 'CARRY', 'GROWTH'], ['MKT']));
-    expect(r.kind).toBe('nested');
-    if (r.kind !== 'nested') return;
+    expect(r.ok && r.kind).toBe('nested');
+    if (!r.ok || r.kind !== 'nested') throw new Error('expected the nested comparison');
     expect(r.code).toBe('nested-models');
     expect(r.larger).toBe('a');
     expect(r.reason).toMatch(/nested/);
@@ -99,8 +99,8 @@ describe('nested models get the spanning test, not the z test', () => {
   });
   it('A ⊂ B: larger is b; identical models are refused', () => {
     const r = compareModels(input(3, ['GROWTH'], ['MKT', 'GROWTH']));
-    expect(r.kind === 'nested' && r.larger).toBe('b');
-    if (r.kind === 'nested') expect(r.spanning.factors).toEqual(['MKT']);
+    expect(r.ok && r.kind === 'nested' && r.larger).toBe('b');
+    if (r.ok && r.kind === 'nested') expect(r.spanning.factors).toEqual(['MKT']);
     expect(() => compareModels(input(3, ['MKT', 'CARRY'], ['CARRY', 'MKT']))).toThrow(/same factors/);
   });
 });
