@@ -7,7 +7,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { agentAs, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp } from './helpers';
-import { FIX_ASSETS, makeFixture, spec, uploadFixture, waitForMail, type Fixture } from './runs-fixture';
+import { FIX_ASSETS, fixtureMatrices, getJob, jobEnded, makeFixture, spec, uploadFixture, waitForMail, waitJob as waitJobVia, type Fixture } from './runs-fixture';
 import { bootstrapSdfTests, rollingEstimates, subsetSweep } from '../../lib/gmm/index';
 import { mailSettled } from '../../server/services/runs';
 import { markInterruptedJobs } from '../../server/jobs/runner';
@@ -57,32 +57,10 @@ async function startCheck(agent: Agent, id: number, body: unknown): Promise<Job>
   return jobResponseSchema.parse(r.body).job as Job;
 }
 
-async function getJob(agent: Agent, id: number): Promise<Job> {
-  const r = await agent.get(`/api/v1/jobs/${id}`).expect(200);
-  return jobResponseSchema.parse(r.body).job as Job;
-}
+const waitJob = (agent: Agent, id: number, until: (j: Job) => boolean, ms = 60_000) => waitJobVia(agent, id, until, ms, 50);
+const ended = jobEnded;
 
-async function waitJob(agent: Agent, id: number, until: (j: Job) => boolean, ms = 60_000): Promise<Job> {
-  const end = Date.now() + ms;
-  for (;;) {
-    const j = await getJob(agent, id);
-    if (until(j)) return j;
-    if (Date.now() > end) throw new Error(`job ${id} stuck: ${JSON.stringify({ ...j, result: undefined })}`);
-    await new Promise((r) => setTimeout(r, 50));
-  }
-}
-const ended = (j: Job) => !['queued', 'running'].includes(j.status);
-
-/** The run's matrices, built here from the generated values (raw returns minus RF). */
-function matrices(factors: string[]) {
-  const returns: number[][] = [];
-  const F: number[][] = [];
-  for (let i = 0; i < fx.dates.length; i++) {
-    returns.push(FIX_ASSETS.map((n) => fx.cols[n][i] - fx.cols.RF[i]));
-    F.push(factors.map((f) => fx.cols[f][i]));
-  }
-  return { returns, F };
-}
+const matrices = (factors: string[]) => fixtureMatrices(fx, factors);
 
 describe('deep checks on a finished run', () => {
   it('bootstrap: 201 queued, then finished with exactly lib/gmm’s numbers for the same seed', async () => {

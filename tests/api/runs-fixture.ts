@@ -9,6 +9,7 @@
  */
 import { prng, monthLabels, uploadCsv, confirm } from './libraries-helpers';
 import type { Agent } from './helpers';
+import { jobResponseSchema, type Job } from '../../shared/jobs';
 
 export const FIX_T = 240;
 export const FIX_ASSETS = ['A01', 'A02', 'A03', 'A04', 'A05', 'A06', 'A07', 'A08', 'A09', 'A10'];
@@ -103,4 +104,34 @@ export async function waitForMail(agent: Agent, subject: RegExp, tries = 50): Pr
     await new Promise((res) => setTimeout(res, 100));
   }
   throw new Error(`No mail matching ${subject}`);
+}
+
+/** A job by id through the API, parsed with the shared schema. */
+export async function getJob(agent: Agent, id: number): Promise<Job> {
+  const r = await agent.get(`/api/v1/jobs/${id}`).expect(200);
+  return jobResponseSchema.parse(r.body).job as Job;
+}
+
+/** Polls a job every `pollMs` until `until` holds; throws after `ms`. */
+export async function waitJob(agent: Agent, id: number, until: (j: Job) => boolean, ms = 60_000, pollMs = 50): Promise<Job> {
+  const end = Date.now() + ms;
+  for (;;) {
+    const j = await getJob(agent, id);
+    if (until(j)) return j;
+    if (Date.now() > end) throw new Error(`job ${id} stuck: ${JSON.stringify({ ...j, result: undefined })}`);
+    await new Promise((r) => setTimeout(r, pollMs));
+  }
+}
+
+export const jobEnded = (j: Job) => !['queued', 'running'].includes(j.status);
+
+/** The run's matrices, built from the generated values (raw returns minus RF). */
+export function fixtureMatrices(fx: Fixture, factors: string[]): { returns: number[][]; F: number[][] } {
+  const returns: number[][] = [];
+  const F: number[][] = [];
+  for (let i = 0; i < fx.dates.length; i++) {
+    returns.push(FIX_ASSETS.map((n) => fx.cols[n][i] - fx.cols.RF[i]));
+    F.push(factors.map((f) => fx.cols[f][i]));
+  }
+  return { returns, F };
 }

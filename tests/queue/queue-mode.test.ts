@@ -13,7 +13,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { Redis } from 'ioredis';
 import { agentAs, type Agent } from '../api/helpers';
-import { FIX_ASSETS, makeFixture, spec, uploadFixture, type Fixture } from '../api/runs-fixture';
+import { fixtureMatrices, getJob, jobEnded, makeFixture, spec, uploadFixture, waitJob as waitJobVia, type Fixture } from '../api/runs-fixture';
 import { bootstrapSdfTests, subsetSweep, type BootstrapOptions } from '../../lib/gmm/index';
 import { openDb, type Db } from '../../server/db/client';
 import { createApp, type KeelsonApp } from '../../server/app';
@@ -78,31 +78,10 @@ async function startCheck(agent: Agent, body: unknown): Promise<Job> {
   return jobResponseSchema.parse(r.body).job as Job;
 }
 
-async function getJob(agent: Agent, id: number): Promise<Job> {
-  const r = await agent.get(`/api/v1/jobs/${id}`).expect(200);
-  return jobResponseSchema.parse(r.body).job as Job;
-}
+const waitJob = (agent: Agent, id: number, until: (j: Job) => boolean, ms = 45_000) => waitJobVia(agent, id, until, ms, 40);
+const ended = jobEnded;
 
-async function waitJob(agent: Agent, id: number, until: (j: Job) => boolean, ms = 45_000): Promise<Job> {
-  const end = Date.now() + ms;
-  for (;;) {
-    const j = await getJob(agent, id);
-    if (until(j)) return j;
-    if (Date.now() > end) throw new Error(`job ${id} stuck: ${JSON.stringify({ ...j, result: undefined })}`);
-    await new Promise((r) => setTimeout(r, 40));
-  }
-}
-const ended = (j: Job) => !['queued', 'running'].includes(j.status);
-
-function matrices(factors: string[]) {
-  const returns: number[][] = [];
-  const F: number[][] = [];
-  for (let i = 0; i < fx.dates.length; i++) {
-    returns.push(FIX_ASSETS.map((n) => fx.cols[n][i] - fx.cols.RF[i]));
-    F.push(factors.map((f) => fx.cols[f][i]));
-  }
-  return { returns, F };
-}
+const matrices = (factors: string[]) => fixtureMatrices(fx, factors);
 
 function directBootstrap(draws: number, seed: number) {
   const { returns, F } = matrices(['MKT', 'ECHO']);
