@@ -15,6 +15,7 @@
  * the HH block correction (M_BLOCK replications, default 200; reported, no target).
  * Environment: BOOT_SIZE_M, BOOT_SIZE_B, BOOT_SIZE_M_BLOCK override the counts.
  */
+import { okOf } from './ok-of';
 import { performance } from 'node:perf_hooks';
 import { bootstrapSdfTests, type BootstrapScheme } from '../lib/gmm/bootstrap';
 import { boxMuller, mulberry32 } from '../lib/gmm/random';
@@ -67,12 +68,12 @@ function simulate(reps: number, phi: number, lags: number, scheme: BootstrapSche
   const t0 = performance.now();
   for (let s = 0; s < reps; s++) {
     const { returns, factors } = economy(seed0 + s, phi);
-    const r = bootstrapSdfTests({
+    const r = okOf(bootstrapSdfTests({
       returns,
       factors,
       factorNames: ['F1', 'F2'],
       options: { stage: 'second', weighting: 'identity', lags, form: 'centred', factorMeansKnown: false, scheme, ...(blockLength ? { blockLength } : {}), draws: B, seed: 77_000 + s },
-    });
+    })).bootstrap;
     failed += r.failedDraws;
     const f2 = r.factors[1];
     wald.boot += f2.wald.bootstrapP <= 0.05 ? 1 : 0;

@@ -13,6 +13,7 @@
  *    Target p95 ≤ 50 ms with workers.
  * Seeded invented data; medians of 5 timed repetitions after one warm-up.
  */
+import { okOf } from './ok-of';
 import { spawn } from 'node:child_process';
 import { existsSync, readFileSync } from 'node:fs';
 import { performance } from 'node:perf_hooks';
@@ -118,19 +119,19 @@ const loadAvg = () => (existsSync('/proc/loadavg') ? readFileSync('/proc/loadavg
 console.log(`load average at start: ${loadAvg()}`);
 
 const sweepInProcess = await time(() => {
-  const plan = prepareSubsetSweep(sweepInput);
+  const plan = okOf(prepareSubsetSweep(sweepInput)).plan;
   return summariseSubsetSweep(plan, evaluateSubsets(plan, 1, 4096), sweepInput.options);
 });
 const bootInProcess = await time(() => {
-  const plan = prepareBootstrap(bootInput);
+  const plan = okOf(prepareBootstrap(bootInput)).plan;
   return summariseBootstrap(plan, bootInput, [runBootstrapDraws(plan, bootInput.options, 0, 999)]);
 }, 3);
 const sweepCpu = await cpuTime(() => {
-  const plan = prepareSubsetSweep(sweepInput);
+  const plan = okOf(prepareSubsetSweep(sweepInput)).plan;
   return summariseSubsetSweep(plan, evaluateSubsets(plan, 1, 4096), sweepInput.options);
 });
 const bootCpu = await cpuTime(() => {
-  const plan = prepareBootstrap(bootInput);
+  const plan = okOf(prepareBootstrap(bootInput)).plan;
   return summariseBootstrap(plan, bootInput, [runBootstrapDraws(plan, bootInput.options, 0, 999)]);
 });
 let k = 0;
@@ -255,7 +256,7 @@ await call(`/jobs/${bootJob.id}/cancel`, {});
 await sweepLoop;
 
 // Contrast: the same bootstrap on the API's own thread, 25 draws per slice, yielding between slices.
-const plan = prepareBootstrap(bootInput);
+const plan = okOf(prepareBootstrap(bootInput)).plan;
 let computing = true;
 let draws = 0;
 const inline = (async () => {

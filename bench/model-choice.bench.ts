@@ -16,6 +16,7 @@
  *   candidates, N = 25, T = 600 (the data of bench/deep-checks.bench.ts), in process on one thread:
  *   median process CPU time of 9 (12 candidates) or 5 (15) interleaved repetitions after a warm-up.
  */
+import { okOf } from './ok-of';
 import { cpus, loadavg } from 'node:os';
 import { compareModels, evaluateSubsets, prepareSubsetSweep, summariseSubsetSweep, type SubsetSweepInput } from '../lib/gmm/index';
 import { boxMuller, mulberry32 } from '../lib/gmm/random';
@@ -134,7 +135,7 @@ for (const K of [12, 15]) {
   };
   const withTheta: SubsetSweepInput = { ...base, traded: base.factorNames.map(() => true) };
   const run = (inp: SubsetSweepInput) => () => {
-    const plan = prepareSubsetSweep(inp);
+    const plan = okOf(prepareSubsetSweep(inp)).plan;
     return summariseSubsetSweep(plan, evaluateSubsets(plan, 1, 2 ** K), inp.options);
   };
   const reps = quick ? 1 : K === 12 ? 9 : 5;

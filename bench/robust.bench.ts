@@ -29,9 +29,9 @@ import {
   robustInference,
   secondMomentMatrix,
   SMALL_SAMPLE_FIGURES,
-  spdInverse,
   type FirstStageWeighting,
 } from '../lib/gmm/index';
+import { spdInverse } from '../lib/gmm/linalg';
 import { boxMuller, mulberry32 } from '../lib/gmm/random';
 
 const quick = process.argv.includes('--quick');

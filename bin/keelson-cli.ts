@@ -505,7 +505,8 @@ export function estimateWithBootstrap(input: LedgerInput): LedgerOutcome {
       ...(o.dropSet && o.dropSet.length ? { dropSet: o.dropSet } : {}),
     },
   });
-  return { ok: true, ledger: withBootstrap(ledger, boot) };
+  if (!boot.ok) return boot;
+  return { ok: true, ledger: withBootstrap(ledger, boot.bootstrap) };
 }
 
 /** Run the CLI; returns the exit code (0 ok, 2 bad input, 1 unexpected failure). */

@@ -81,7 +81,7 @@
  */
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { chiSquareSf, normalTwoSidedP } from './distributions';
-import { GmmInputError } from './errors';
+import { GmmInputError, gmmFailure, type GmmResult } from './errors';
 import { defaultLag, hacCovariance } from './hac';
 import { dropTester } from './drop-test';
 import { cholesky, choleskyInverse, choleskySolve, fromNested, matMul, matTMul, pinvSymmetricRank, quadForm, spdInverse, toNested } from './linalg';
@@ -473,7 +473,7 @@ function solveWeighted(X: Float64Array, W: Float64Array, mean: Float64Array, N: 
  * vector c: g(b) = E_T[R] − c − X b and h_t(b) − c. With c = 0 and block = null it reproduces
  * fitSdfGmm (tested). Returns null when a system is singular.
  */
-export function fitRecentred(ms: MomentData, c: Float64Array | null, cfg: FitConfig, secondMoment?: Float64Array): RecentredFit | null {
+export function fitRecentred(ms: MomentData, c: Float64Array | null, cfg: FitConfig, secondMoment?: Float64Array): GmmResult<RecentredFit> {
   const { T, N, K } = ms;
   const fmk = cfg.form === 'centred' && cfg.factorMeansKnown;
   const X = cfg.form === 'centred' ? ms.covRF : ms.crossRF;
@@ -487,20 +487,20 @@ export function fitRecentred(ms: MomentData, c: Float64Array | null, cfg: FitCon
   } else {
     const E = secondMoment ?? secondMomentMatrix(ms.R, T, N, ms.Rcols);
     const L = cholesky(cfg.weighting === 'covariance' ? covarianceFromSecondMoment(E, ms.meanR) : E, N);
-    if (!L) return null;
+    if (!L) return gmmFailure('singular', 'The first-stage weighting matrix is singular on this draw.', 'W');
     W = choleskyInverse(L, N);
   }
   let sol = solveWeighted(X, W, mean, N, K);
-  if (!sol) return null;
+  if (!sol) return gmmFailure('singular', "X'WX is singular on this draw.", "X'WX");
   if (cfg.stage !== 'first') {
     const cap = cfg.stage === 'iterated' ? 100 : 1;
     for (let it = 1; it <= cap; it++) {
       const S = longRun(sol.b);
       const L = cholesky(S, N);
-      if (!L) return null;
+      if (!L) return gmmFailure('singular', 'The long-run covariance Ŝ is singular on this draw.', 'S');
       const Wn = choleskyInverse(L, N);
       const next = solveWeighted(X, Wn, mean, N, K);
-      if (!next) return null;
+      if (!next) return gmmFailure('singular', "X'ŴX is singular on this draw.", "X'WX");
       let move = 0;
       let size = 0;
       for (let k = 0; k < K; k++) {
@@ -542,16 +542,16 @@ export function fitRecentred(ms: MomentData, c: Float64Array | null, cfg: FitCon
       V[i * N + j] = v / T;
     }
     covAlphaPinv = pinvSymmetricRank(V, N, df);
-    if (!covAlphaPinv && df > 0) return null;
+    if (!covAlphaPinv && df > 0) return gmmFailure('singular', 'Var(α̂) does not have rank N − K on this draw.', 'Var(alpha)');
     J = df > 0 && covAlphaPinv ? Math.max(0, quadForm(covAlphaPinv, N, alpha)) : 0;
     // first stage: the reported b is the first-stage b̂, so Ŝ_b is the drop test's Ŝ
     const inv = spdInverse(Sb, N);
-    if (!inv) return null;
+    if (!inv) return gmmFailure('singular', 'The long-run covariance Ŝ at b̂ is singular on this draw.', 'S');
     Wdrop = inv;
   } else {
     J = df > 0 ? Math.max(0, T * quadForm(W, N, alpha)) : 0;
   }
-  return { b, H, X, W, Wdrop, mean, covB, covAlphaPinv, J, h };
+  return { ok: true, b, H, X, W, Wdrop, mean, covB, covAlphaPinv, J, h };
 }
 
 // ---------------------------------------------------------------- plan
@@ -570,10 +570,11 @@ function times(X: Float64Array, N: number, K: number, b: ArrayLike<number>): Flo
 /**
  * Validate the input and compute the original estimate, the observed statistics, the recentring
  * vectors and (block scheme) HH's correction factors.
- * @throws GmmInputError on malformed input or an option out of range; on a singular original fit
- *   (the run itself could not have finished).
+ * @returns `{ ok: true, plan }`, or a typed failure when the original fit or the drop tests' common
+ *   weighting is singular or does not converge (the same data cannot be bootstrapped on any try).
+ * @throws GmmInputError on malformed input or an option out of range.
  */
-export function prepareBootstrap(input: BootstrapInput): BootstrapPlan {
+export function prepareBootstrap(input: BootstrapInput): GmmResult<{ plan: BootstrapPlan }> {
   const { T, N, K } = validateMatrices(input.returns, input.factors, { factorNames: input.factorNames });
   const o = input.options;
   if (o.form !== 'centred' && o.form !== 'uncentred') throw new GmmInputError('invalid-option', `form must be centred or uncentred; got '${String(o.form)}'.`);
@@ -601,7 +602,7 @@ export function prepareBootstrap(input: BootstrapInput): BootstrapPlan {
   const m = momentsFromPacked(fromNested(input.returns, N), fromNested(input.factors, K), T, N, K);
   const fmk = o.form === 'centred' && o.factorMeansKnown;
   const fit = fitSdfGmm(m, { stage: o.stage, weighting: o.weighting, lags, form: o.form, factorMeansKnown: fmk });
-  if (!fit.ok) throw new GmmInputError('invalid-option', `The model cannot be estimated on these data: ${fit.message}`);
+  if (!fit.ok) return gmmFailure(fit.code, `The model cannot be estimated on these data: ${fit.message}`, fit.matrix);
   const tB = Float64Array.from({ length: K }, (_, k) => {
     const se = seOf(fit.covB, K, k);
     return se > 0 ? fit.b[k] / se : 0;
@@ -624,7 +625,7 @@ export function prepareBootstrap(input: BootstrapInput): BootstrapPlan {
   let Wstar = fit.W;
   if (o.stage === 'first') {
     const inv = spdInverse(sdfLongRunCovariance(m, fit.b, o.form, fmk, lags), N);
-    if (!inv) throw new GmmInputError('invalid-option', 'The long-run covariance of the moments is singular; the drop tests cannot be bootstrapped.');
+    if (!inv) return gmmFailure('singular', 'The long-run covariance of the moments is singular; the drop tests cannot be bootstrapped.', 'S');
     Wstar = inv;
   }
   const corrected = o.scheme === 'block' && blockLength > 1;
@@ -643,7 +644,8 @@ export function prepareBootstrap(input: BootstrapInput): BootstrapPlan {
   };
   const drops = Array.from({ length: K }, (_, k) => makeNull([k]));
   const jointDrop = jointIdx ? makeNull(jointIdx) : null;
-  const jointWaldStat = jointIdx ? (waldJoint(fit.b, fit.covB, K, jointIdx)?.stat ?? null) : null;
+  const jw = jointIdx ? waldJoint(fit.b, fit.covB, K, jointIdx) : null;
+  const jointWaldStat = jw?.ok ? jw.stat : null;
 
   const ratioB = new Float64Array(K).fill(1);
   let ratioLambda: Float64Array | null = lambda ? new Float64Array(K).fill(1) : null;
@@ -678,12 +680,13 @@ export function prepareBootstrap(input: BootstrapInput): BootstrapPlan {
       jointWaldMap = Vhalf && VtInvHalf ? matMul(Vhalf, q, q, VtInvHalf, q) : null;
     }
   } else if (!lambda) ratioLambda = null;
-  return {
+  const plan: BootstrapPlan = {
     T, N, K, lags, draws, blockLength, corrected, m, fit,
     J: fit.J.stat, tB, tLambda, lambda, alpha: fit.alpha,
     drops, jointDrop, jointIdx, jointWaldStat,
     ratioB, ratioLambda, MJ, jointWaldMap,
   };
+  return { ok: true, plan };
 }
 
 // ---------------------------------------------------------------- draws
@@ -744,7 +747,7 @@ export function runBootstrapDraws(plan: BootstrapPlan, options: BootstrapOptions
     const ms = momentsFromPacked(Rs, Fs, T, N, K);
     const second = options.weighting === 'identity' ? undefined : secondMomentMatrix(Rs, T, N, ms.Rcols);
     const f = fitRecentred(ms, plan.alpha, cfg, second);
-    const row = f ? drawStatistics(plan, f, ms, cfg) : null;
+    const row = f.ok ? drawStatistics(plan, f, ms, cfg) : null;
     if (!row) {
       failed += 1;
       onDraw?.(d - from + 1);
@@ -945,10 +948,13 @@ export function summariseBootstrap(plan: BootstrapPlan, input: BootstrapInput, b
  *   blockLength, draws, seed, dropSet).
  * @returns bootstrap and asymptotic p-values for J, the Wald test on each b, the t-test on each λ
  *   (centred form), each drop test and the drop set's joint tests.
+ *   As `{ ok: true, bootstrap }`, or the typed failure of {@link prepareBootstrap}.
  * @throws GmmInputError on malformed input or options.
  */
-export function bootstrapSdfTests(input: BootstrapInput): BootstrapResult {
-  const plan = prepareBootstrap(input);
+export function bootstrapSdfTests(input: BootstrapInput): GmmResult<{ bootstrap: BootstrapResult }> {
+  const prepared = prepareBootstrap(input);
+  if (!prepared.ok) return prepared;
+  const { plan } = prepared;
   const batch = runBootstrapDraws(plan, input.options, 0, plan.draws);
-  return summariseBootstrap(plan, input, [batch]);
+  return { ok: true, bootstrap: summariseBootstrap(plan, input, [batch]) };
 }

@@ -20,8 +20,6 @@ import betaln from '@stdlib/math-base-special-betaln';
 import erfc from '@stdlib/math-base-special-erfc';
 import erfcinv from '@stdlib/math-base-special-erfcinv';
 import gammainc from '@stdlib/math-base-special-gammainc';
-import chisquareQuantile from '@stdlib/stats-base-dists-chisquare-quantile';
-import fDistQuantile from '@stdlib/stats-base-dists-f-quantile';
 
 function clampP(p: number): number {
   if (Number.isNaN(p)) return 1;
@@ -98,16 +96,6 @@ export function fSf(stat: number, df1: number, df2: number): number {
   if (df1 <= 0 || df2 <= 0 || !(stat > 0)) return 1;
   if (!Number.isFinite(stat)) return 0;
   return regularizedBeta(df2 / (df2 + df1 * stat), df2 / 2, df1 / 2);
-}
-
-/** Quantile of χ²(df): the x with P(χ²(df) ≤ x) = p. */
-export function chiSquareQuantile(p: number, df: number): number {
-  return chisquareQuantile(p, df);
-}
-
-/** Quantile of F(df1, df2). */
-export function fQuantile(p: number, df1: number, df2: number): number {
-  return fDistQuantile(p, df1, df2);
 }
 
 /**

@@ -19,16 +19,8 @@ export * from './hj-distance';
 export * from './verdict';
 export * from './ledger';
 export * from './ledger-bootstrap';
-export {
-  cholesky,
-  choleskySolve,
-  choleskyInverse,
-  spdInverse,
-  spdSolve,
-  pinvSymmetricRank,
-  fromNested,
-  toNested,
-} from './linalg';
+// the dense kernels (cholesky, spdInverse, …) return null on a singular matrix and stay internal
+export { fromNested, toNested } from './linalg';
 // Deep checks (issue 6)
 export * from './bootstrap';
 export * from './random';

@@ -483,7 +483,7 @@ export function estimateLedger(input: LedgerInput): LedgerOutcome {
   const dropSet = o.dropSet ? [...o.dropSet] : [];
   if (dropSet.length > 0) {
     const idx = dropSet.map((n) => names.indexOf(n));
-    jointDrop = { factors: dropSet, wald: waldJoint(fit.b, fit.covB, K, idx), chi2Drop: drop ? drop(idx) : null };
+    jointDrop = { factors: dropSet, wald: okValue(waldJoint(fit.b, fit.covB, K, idx)), chi2Drop: drop ? drop(idx) : null };
     if (idx.every((k) => input.traded[k])) {
       const js = okValue(spanningJointCore(m, idx, lags));
       if (js) jointSpanning = { factors: dropSet, ...js };

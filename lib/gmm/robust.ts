@@ -45,7 +45,7 @@
  * const rob = fit.ok ? robustInference(m, fit) : null;
  * // rob.ok → rob.covB (K×K), rob.covLambda (K×K); with N = K, rob.covB equals fit.covB to rounding
  */
-import { GmmInputError, type GmmFailure } from './errors';
+import { GmmInputError, gmmFailure, type GmmFailure, type GmmResult } from './errors';
 import { hacCovariance } from './hac';
 import { cholesky, choleskySolve } from './linalg';
 import type { MomentData } from './moments';
@@ -70,7 +70,7 @@ export type RobustFailure = GmmFailure;
  * @throws GmmInputError ('invalid-option') for a second-stage or iterated fit: its weighting
  *   depends on b̂ and the formula does not apply.
  */
-export function robustInfluence(m: MomentData, fit: SdfGmmFit): Float64Array | null {
+export function robustInfluence(m: MomentData, fit: SdfGmmFit): GmmResult<{ psi: Float64Array }> {
   if (fit.stage !== 'first')
     throw new GmmInputError(
       'invalid-option',
@@ -96,7 +96,7 @@ export function robustInfluence(m: MomentData, fit: SdfGmmFit): Float64Array | n
       A[a * K + c] = s;
     }
   const LA = cholesky(A, K);
-  if (!LA) return null;
+  if (!LA) return gmmFailure('singular', "X'WX is singular: robust SEs cannot be computed.", "X'WX");
   // v = W ê; X'v (K)
   const v = new Float64Array(N);
   for (let i = 0; i < N; i++) {
@@ -156,7 +156,7 @@ export function robustInfluence(m: MomentData, fit: SdfGmmFit): Float64Array | n
   for (let t = 0; t < T; t++) for (let k = 0; k < K; k++) rhs[k * T + t] = mid[t * K + k];
   const sol = choleskySolve(LA, K, rhs, T);
   for (let t = 0; t < T; t++) for (let k = 0; k < K; k++) psi[t * K + k] += sol[k * T + t];
-  return psi;
+  return { ok: true, psi };
 }
 
 /**
@@ -166,8 +166,9 @@ export function robustInfluence(m: MomentData, fit: SdfGmmFit): Float64Array | n
  * @throws GmmInputError for a second-stage or iterated fit.
  */
 export function robustInference(m: MomentData, fit: SdfGmmFit): RobustFit | RobustFailure {
-  const psi = robustInfluence(m, fit);
-  if (!psi) return { ok: false, code: 'singular', message: "X'WX is singular: robust SEs cannot be computed." };
+  const influence = robustInfluence(m, fit);
+  if (!influence.ok) return influence;
+  const { psi } = influence;
   const { T, K } = m;
   const covB = hacCovariance(psi, T, K, fit.lags);
   for (let i = 0; i < covB.length; i++) covB[i] /= T;

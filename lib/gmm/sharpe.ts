@@ -46,8 +46,8 @@ export interface SharpeCore {
 
 /**
  * θ̂ = μ'Σ_f^{-1}μ and ψ_t for the columns `idx` of the T×K row-major factor matrix F (with its
- * column means `meanF` and covariance `sigmaF`, divisor T). Returns null when Σ_f of the set is
- * singular.
+ * column means `meanF` and covariance `sigmaF`, divisor T). A singular Σ_f of the set comes back as
+ * a typed 'singular' failure.
  */
 export function squaredSharpeCore(
   F: Float64Array,
@@ -56,12 +56,12 @@ export function squaredSharpeCore(
   meanF: ArrayLike<number>,
   sigmaF: ArrayLike<number>,
   idx: readonly number[],
-): SharpeCore | null {
+): GmmResult<SharpeCore> {
   const k = idx.length;
   const S = new Float64Array(k * k);
   for (let a = 0; a < k; a++) for (let c = 0; c < k; c++) S[a * k + c] = sigmaF[idx[a] * K + idx[c]];
   const L = cholesky(S, k);
-  if (!L) return null;
+  if (!L) return gmmFailure('singular', 'The covariance matrix of the model’s factors is singular.', 'Sigma_f');
   const mu = Float64Array.from(idx, (j) => meanF[j]);
   const w = choleskySolve(L, k, mu, 1);
   let theta = 0;
@@ -73,7 +73,7 @@ export function squaredSharpeCore(
     for (let a = 0; a < k; a++) u += w[a] * (F[row + idx[a]] - mu[a]);
     psi[t] = 2 * u - u * u + theta;
   }
-  return { theta, w, psi };
+  return { ok: true, theta, w, psi };
 }
 
 /** LRV(x)/T of one series (Bartlett HAC, not demeaned). */
@@ -220,7 +220,7 @@ function prepare(input: SharpeInput, used: readonly number[]): Prepared {
 
 function estimateOne(p: Prepared, idx: readonly number[], names: readonly string[]): { est: SquaredSharpe; core: SharpeCore } | null {
   const core = squaredSharpeCore(p.F, p.T, p.K, p.meanF, p.sigmaF, idx);
-  if (!core) return null;
+  if (!core.ok) return null;
   const se = Math.sqrt(seriesVarianceOfMean(core.psi, p.T, p.lags));
   return { est: { factors: idx.map((k) => names[k]), theta: core.theta, se }, core };
 }

@@ -42,12 +42,14 @@ export interface SpanningJoint {
 /** The typed numerical failure of this module (the library's one failure shape, errors.ts). */
 export type SpanningFailure = GmmFailure;
 
+const collinear = (): GmmFailure => gmmFailure('singular', 'The other factors are collinear.');
+
 /**
  * Spanning intercepts for the factor indices `set` regressed on the other factors, on
- * precomputed moments. Returns the intercepts and their HAC covariance (|S|×|S|), or null when
- * the regressors' covariance is singular.
+ * precomputed moments. Returns the intercepts and their HAC covariance (|S|×|S|), or a typed
+ * 'singular' failure when the regressors' covariance is singular.
  */
-export function spanningCore(m: MomentData, set: readonly number[], lags: number): { alpha: Float64Array; cov: Float64Array } | null {
+export function spanningCore(m: MomentData, set: readonly number[], lags: number): GmmResult<{ alpha: Float64Array; cov: Float64Array }> {
   const { T, K, Fc, meanF, sigmaF } = m;
   const s = set.length;
   const others = Array.from({ length: K }, (_, k) => k).filter((k) => !set.includes(k));
@@ -63,7 +65,7 @@ export function spanningCore(m: MomentData, set: readonly number[], lags: number
       for (let c = 0; c < s; c++) Sxy[a * s + c] = sigmaF[others[a] * K + set[c]];
     }
     const L = cholesky(Sxx, q);
-    if (!L) return null;
+    if (!L) return collinear();
     beta = choleskySolve(L, q, Sxy, s);
     // γ = Σ_xx^{-1} μ_x for the influence weights
     gamma = choleskySolve(L, q, Float64Array.from(others, (k) => meanF[k]), 1);
@@ -87,18 +89,16 @@ export function spanningCore(m: MomentData, set: readonly number[], lags: number
   }
   const cov = hacCovariance(psi, T, s, lags);
   for (let i = 0; i < cov.length; i++) cov[i] /= T;
-  return { alpha, cov };
+  return { ok: true, alpha, cov };
 }
 
 /** spanningTest's single result keeps its plain shape (no ok field). */
 const okOrFail = (r: GmmResult<SpanningSingle>): SpanningSingle | GmmFailure => (r.ok ? okValue(r)! : r);
 
-const collinear = (): GmmFailure => gmmFailure('singular', 'The other factors are collinear.');
-
 /** Single-factor spanning check on precomputed moments (typed 'singular' failure when the other factors are collinear). */
 export function spanningSingle(m: MomentData, k: number, lags: number): GmmResult<SpanningSingle> {
   const core = spanningCore(m, [k], lags);
-  if (!core) return collinear();
+  if (!core.ok) return core;
   const z: ZTest = waldSingle(core.alpha[0], Math.sqrt(Math.max(0, core.cov[0])));
   return { ok: true, alpha: core.alpha[0], se: z.se, t: z.t, p: z.p };
 }
@@ -106,7 +106,7 @@ export function spanningSingle(m: MomentData, k: number, lags: number): GmmResul
 /** Joint spanning check for the set on precomputed moments (typed 'singular' failure when singular). */
 export function spanningJointCore(m: MomentData, set: readonly number[], lags: number): GmmResult<{ alpha: number[]; stat: number; df: number; p: number }> {
   const core = spanningCore(m, set, lags);
-  if (!core) return collinear();
+  if (!core.ok) return core;
   const s = set.length;
   const Vi = spdInverse(core.cov, s);
   if (!Vi) return gmmFailure('singular', 'The covariance of the spanning intercepts is singular.');

@@ -41,7 +41,7 @@
  * subsetFactors(5, ['A', 'B', 'C']) // → ['A', 'C']
  */
 import { chiSquareSf } from './distributions';
-import { GmmInputError } from './errors';
+import { GmmInputError, gmmFailure, type GmmResult } from './errors';
 import { benjaminiYekutieliAdjust, holmAdjust } from './multiple-testing';
 import { seriesVarianceOfMean, squaredSharpeCore } from './sharpe';
 import { waldSingle } from './wald';
@@ -232,9 +232,11 @@ function objective(A: Float64Array, c: Float64Array, q0: number, K: number, idx:
 
 /**
  * Validate and precompute everything the subsets share.
- * @throws GmmInputError on malformed input, more than 15 candidates, or a singular full model.
+ * @returns `{ ok: true, plan }`, or a typed failure when the full model cannot be estimated
+ *   (singular or not converged: the same on every try).
+ * @throws GmmInputError on malformed input, more than 15 candidates, or collinear test assets.
  */
-export function prepareSubsetSweep(input: SubsetSweepInput): SweepPlan {
+export function prepareSubsetSweep(input: SubsetSweepInput): GmmResult<{ plan: SweepPlan }> {
   const { T, N, K } = validateMatrices(input.returns, input.factors, { factorNames: input.factorNames });
   if (K > MAX_SWEEP_FACTORS)
     throw new GmmInputError('invalid-option', `The subset sweep takes at most ${MAX_SWEEP_FACTORS} candidate factors; got ${K}.`);
@@ -248,13 +250,13 @@ export function prepareSubsetSweep(input: SubsetSweepInput): SweepPlan {
   const X = o.form === 'centred' ? m.covRF : m.crossRF;
   const hj = products(X, Whj, m.meanR, N, K);
   const full = fitSdfGmm(m, { stage: o.stage ?? 'second', weighting: o.weighting, lags, form: o.form, factorMeansKnown: o.factorMeansKnown, secondMoment: second });
-  if (!full.ok) throw new GmmInputError('invalid-option', `The full model cannot be estimated: ${full.message}`);
+  if (!full.ok) return gmmFailure(full.code, `The full model cannot be estimated: ${full.message}`, full.matrix);
   const weighting = dropWeighting(full);
-  if (!weighting.ok) throw new GmmInputError('invalid-option', 'The full model cannot be estimated: its long-run covariance Ŝ is singular.');
+  if (!weighting.ok) return gmmFailure('singular', 'The full model cannot be estimated: its long-run covariance Ŝ is singular.', 'S');
   const w = products(X, weighting.W, m.meanR, N, K);
   const all = Int32Array.from({ length: K }, (_, k) => k);
   const qFull = objective(w.A, w.c, w.q0, K, all, K, new Float64Array(K * K), new Float64Array(K));
-  if (qFull === null) throw new GmmInputError('invalid-option', 'The full model is singular under its own weighting.');
+  if (qFull === null) return gmmFailure('singular', 'The full model is singular under its own weighting.', "X'WX");
   let traded: boolean[] | null = null;
   if (input.traded !== undefined) {
     if (!Array.isArray(input.traded) || input.traded.length !== K || input.traded.some((v) => typeof v !== 'boolean'))
@@ -265,10 +267,11 @@ export function prepareSubsetSweep(input: SubsetSweepInput): SweepPlan {
   if (traded) traded.forEach((t, k) => { if (!t) nonTradedMask |= 1 << k; });
   const theta = traded !== null && o.thetaRanking !== false && traded.some(Boolean);
   const fullSeB = Float64Array.from({ length: K }, (_, k) => Math.sqrt(Math.max(0, full.covB[k * K + k])));
-  return {
+  const plan: SweepPlan = {
     T, N, K, lags, factorNames: [...input.factorNames], hjA: hj.A, hjC: hj.c, hjQ0: hj.q0, wA: w.A, wC: w.c, wQ0: w.q0, wQFull: qFull,
     fullB: Float64Array.from(full.b), fullSeB, traded, nonTradedMask, theta, F: m.F, meanF: m.meanF, sigmaF: m.sigmaF,
   };
+  return { ok: true, plan };
 }
 
 /**
@@ -466,7 +469,7 @@ function thetaRanking(plan: SweepPlan, rows: readonly SweepRow[], top: number): 
     if (hit !== undefined) return hit;
     const idx = names.map((_, k) => k).filter((k) => (mask >> k) & 1);
     const core = squaredSharpeCore(plan.F, plan.T, plan.K, plan.meanF, plan.sigmaF, idx);
-    const se = core ? Math.sqrt(seriesVarianceOfMean(core.psi, plan.T, plan.lags)) : 0;
+    const se = core.ok ? Math.sqrt(seriesVarianceOfMean(core.psi, plan.T, plan.lags)) : 0;
     ses.set(mask, se);
     return se;
   };
@@ -509,9 +512,12 @@ function thetaRanking(plan: SweepPlan, rows: readonly SweepRow[], top: number): 
  * @returns rankings by HJ distance and by the drop test against the full model, per size, factor
  *   frequencies, the full model's b test per candidate with Holm / BY adjusted p, and the θ̂ ranking
  *   of the subsets of traded candidates (null with `thetaNote` saying why).
+ *   As `{ ok: true, sweep }`, or the typed failure of {@link prepareSubsetSweep}.
  * @throws GmmInputError on malformed input or more than 15 candidates.
  */
-export function subsetSweep(input: SubsetSweepInput): SubsetSweepResult {
-  const plan = prepareSubsetSweep(input);
-  return summariseSubsetSweep(plan, evaluateSubsets(plan, 1, 2 ** plan.K), input.options);
+export function subsetSweep(input: SubsetSweepInput): GmmResult<{ sweep: SubsetSweepResult }> {
+  const prepared = prepareSubsetSweep(input);
+  if (!prepared.ok) return prepared;
+  const { plan } = prepared;
+  return { ok: true, sweep: summariseSubsetSweep(plan, evaluateSubsets(plan, 1, 2 ** plan.K), input.options) };
 }

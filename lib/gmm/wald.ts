@@ -9,9 +9,10 @@
  *
  * @example
  * waldSingle(0.5, 0.25) // → { estimate: 0.5, se: 0.25, t: 2, p: 0.0455 (to 4 d.p.) }
- * waldJoint([1, 0], [[1, 0], [0, 4]], 2, [0]) // → { stat: 1, df: 1, p: 0.3173 (to 4 d.p.) }
+ * waldJoint([1, 0], [[1, 0], [0, 4]], 2, [0]) // → { ok: true, stat: 1, df: 1, p: 0.3173 (to 4 d.p.) }
  */
 import { chiSquareSf, normalTwoSidedP } from './distributions';
+import { gmmFailure, type GmmResult } from './errors';
 import { spdInverse, subMatrix } from './linalg';
 
 export interface ZTest {
@@ -36,21 +37,21 @@ export function waldSingle(estimate: number, se: number): ZTest {
 
 /**
  * Joint Wald statistic for the coefficients `idx` of `estimate` with covariance `cov` (k×k,
- * row-major or nested). Returns null when Var_SS is singular.
+ * row-major or nested). A singular Var_SS comes back as a typed 'singular' failure.
  */
 export function waldJoint(
   estimate: ArrayLike<number>,
   cov: ArrayLike<number> | readonly (readonly number[])[],
   k: number,
   idx: readonly number[] = Array.from({ length: k }, (_, i) => i),
-): WaldTest | null {
+): GmmResult<WaldTest> {
   const flat = Array.isArray(cov) && Array.isArray(cov[0]) ? Float64Array.from((cov as number[][]).flat()) : Float64Array.from(cov as ArrayLike<number>);
   const V = subMatrix(flat, k, idx, idx);
   const s = idx.length;
   const Vi = spdInverse(V, s);
-  if (!Vi) return null;
+  if (!Vi) return gmmFailure('singular', 'Var(b̂) of the tested loadings is singular.', 'Var(b)');
   let stat = 0;
   for (let a = 0; a < s; a++) for (let c = 0; c < s; c++) stat += estimate[idx[a]] * Vi[a * s + c] * estimate[idx[c]];
   stat = Math.max(0, stat);
-  return { stat, df: s, p: chiSquareSf(stat, s) };
+  return { ok: true, stat, df: s, p: chiSquareSf(stat, s) };
 }

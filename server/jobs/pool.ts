@@ -9,10 +9,38 @@
  */
 import { availableParallelism } from 'node:os';
 import { Piscina } from 'piscina';
+import type { GmmFailure } from '../../lib/gmm/index';
+import { gmmFailureMessage } from '../../shared/gmm-messages';
 import type { ChunkTask } from './tasks';
 
+/**
+ * What a worker thread returns for a chunk whose check cannot be computed on these data: lib/gmm's
+ * typed numerical failure (singular, not converged), the same on every try. A plain object, so it
+ * crosses the thread boundary intact; {@link JobPool.run} turns it into a {@link ChunkFailedError}.
+ */
+export interface ChunkFailure {
+  readonly chunkFailure: GmmFailure;
+}
+
+export function isChunkFailure(v: unknown): v is ChunkFailure {
+  return !!v && typeof v === 'object' && 'chunkFailure' in v;
+}
+
+/** A chunk refused by lib/gmm (see {@link ChunkFailure}): fails the job at once, never retried. */
+export class ChunkFailedError extends Error {
+  readonly failure: GmmFailure;
+  constructor(failure: GmmFailure) {
+    super(gmmFailureMessage(failure));
+    this.name = 'ChunkFailedError';
+    this.failure = failure;
+  }
+}
+
 export interface JobPool {
-  /** Runs one chunk in a worker; rejects with an AbortError when `signal` aborts. */
+  /**
+   * Runs one chunk in a worker; rejects with an AbortError when `signal` aborts and with a
+   * {@link ChunkFailedError} when lib/gmm reports a typed failure for the chunk.
+   */
   run<T>(task: ChunkTask, signal?: AbortSignal): Promise<T>;
   readonly threads: number;
   /** Chunks waiting for a thread. */
@@ -39,8 +67,10 @@ export function createJobPool(opts: { threads?: number } = {}): JobPool {
     get queued() {
       return piscina.queueSize;
     },
-    run<T>(task: ChunkTask, signal?: AbortSignal): Promise<T> {
-      return piscina.run(task, signal ? { signal } : {}) as Promise<T>;
+    async run<T>(task: ChunkTask, signal?: AbortSignal): Promise<T> {
+      const out: unknown = await piscina.run(task, signal ? { signal } : {});
+      if (isChunkFailure(out)) throw new ChunkFailedError(out.chunkFailure);
+      return out as T;
     },
     async destroy() {
       if (destroyed) return;

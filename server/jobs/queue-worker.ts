@@ -17,7 +17,7 @@
 import { Redis } from 'ioredis';
 import { UnrecoverableError, Worker, type Job } from 'bullmq';
 import { setMaxListeners } from 'node:events';
-import { createJobPool, type JobPool } from './pool';
+import { ChunkFailedError, createJobPool, type JobPool } from './pool';
 import type { ChunkTask } from './tasks';
 import type { BootstrapBatch, RollingPoint, SweepRow } from '../../lib/gmm/index';
 import {
@@ -44,6 +44,8 @@ export interface QueueWorkerOptions {
   /** On close, how long running chunks may take to finish before they are handed back (default 30 s). */
   graceMs?: number;
   log?: (line: string) => void;
+  /** The pool that computes chunks (tests pass their own; it is not destroyed on close). Default: a new pool of `concurrency` threads. */
+  pool?: JobPool;
 }
 
 export interface QueueWorker {
@@ -59,7 +61,7 @@ type Payload = ChunkJobData | SummaryJobData;
 
 export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
   const log = opts.log ?? ((l: string) => console.log(l));
-  const pool: JobPool = createJobPool(opts.concurrency ? { threads: opts.concurrency } : {});
+  const pool: JobPool = opts.pool ?? createJobPool(opts.concurrency ? { threads: opts.concurrency } : {});
   const concurrency = pool.threads;
   const lockMs = opts.lockMs ?? 15_000;
   const conn = connectionFor(opts.redisUrl, 'worker');
@@ -105,10 +107,12 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
       return await pool.run<T>(task, ac.signal);
     } catch (e) {
       if (ac.signal.aborted) throw new UnrecoverableError(CANCELLED_REASON);
-      // lib/gmm's refusals are the same on every try: fail the job at once, with lib/gmm's message
+      // lib/gmm's refusals (a typed failure, or GmmInputError) are the same on every try: fail the
+      // job at once, with the mapped message
       // (piscina keeps the name in the error's stack text; the name property may read 'Error')
+      if (e instanceof ChunkFailedError) throw new UnrecoverableError(e.message);
       const err = e as { name?: string; stack?: string; message?: string } | null;
-      if (/^Gmm(Input|Numerical)Error/.test(`${err?.name ?? ''}`) || /^Gmm(Input|Numerical)Error/.test(err?.stack ?? ''))
+      if (/^GmmInputError/.test(`${err?.name ?? ''}`) || /^GmmInputError/.test(err?.stack ?? ''))
         throw new UnrecoverableError(err?.message ?? String(e));
       throw e;
     } finally {
@@ -185,7 +189,7 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
           await worker.close(true);
         }
         clearTimeout(timer);
-        await pool.destroy();
+        if (!opts.pool) await pool.destroy();
         sub.disconnect();
         redis.disconnect();
       })();

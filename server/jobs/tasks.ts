@@ -29,7 +29,10 @@ import {
   type SubsetSweepInput,
   type SweepPlan,
   type SweepRow,
+  type GmmFailure,
+  type GmmResult,
 } from '../../lib/gmm/index';
+import type { ChunkFailure } from './pool';
 
 export type ChunkTask =
   | { op: 'ping' }
@@ -104,15 +107,18 @@ export function summariseHoldoutBlocks(input: RollingHoldoutInput, parts: readon
   return { ...first, rows, pooledR2oos: ok > 0 && m > 0 ? 1 - e / m : null, meanAbsAlpha: ok > 0 ? abs / ok : null };
 }
 
-const plans = new Map<string, BootstrapPlan | SweepPlan>();
-function cached<T extends BootstrapPlan | SweepPlan>(key: string, make: () => T): T {
+/** Prepared plans by job key; a typed failure is kept too, so the job's other chunks return it at once. */
+const plans = new Map<string, GmmResult<{ plan: BootstrapPlan | SweepPlan }>>();
+function cached<T extends BootstrapPlan | SweepPlan>(key: string, make: () => GmmResult<{ plan: T }>): GmmResult<{ plan: T }> {
   const hit = plans.get(key);
-  if (hit) return hit as T;
+  if (hit) return hit as GmmResult<{ plan: T }>;
   const plan = make();
   plans.set(key, plan);
   while (plans.size > 4) plans.delete(plans.keys().next().value as string);
   return plan;
 }
+
+const failed = (f: GmmFailure): ChunkFailure => ({ chunkFailure: f });
 
 /** Runs one chunk (in a worker thread; also callable in-process). */
 export function runChunk(task: ChunkTask): unknown {
@@ -120,22 +126,22 @@ export function runChunk(task: ChunkTask): unknown {
     case 'ping':
       return { pong: true, threadId: 0 };
     case 'bootstrap': {
-      const plan = cached(task.key, () => prepareBootstrap(task.input));
-      return runBootstrapDraws(plan, task.input.options, task.from, task.to);
+      const p = cached(task.key, () => prepareBootstrap(task.input));
+      return p.ok ? runBootstrapDraws(p.plan, task.input.options, task.from, task.to) : failed(p);
     }
     case 'bootstrap-summary': {
-      const plan = cached(task.key, () => prepareBootstrap(task.input));
+      const p = cached(task.key, () => prepareBootstrap(task.input));
       plans.delete(task.key);
-      return summariseBootstrap(plan, task.input, task.batches);
+      return p.ok ? summariseBootstrap(p.plan, task.input, task.batches) : failed(p);
     }
     case 'subset-sweep': {
-      const plan = cached(task.key, () => prepareSubsetSweep(task.input));
-      return evaluateSubsets(plan, task.from, task.to);
+      const p = cached(task.key, () => prepareSubsetSweep(task.input));
+      return p.ok ? evaluateSubsets(p.plan, task.from, task.to) : failed(p);
     }
     case 'subset-sweep-summary': {
-      const plan = cached(task.key, () => prepareSubsetSweep(task.input));
+      const p = cached(task.key, () => prepareSubsetSweep(task.input));
       plans.delete(task.key);
-      return summariseSubsetSweep(plan, task.rows, task.input.options);
+      return p.ok ? summariseSubsetSweep(p.plan, task.rows, task.input.options) : failed(p);
     }
     case 'rolling':
       return estimateWindows(task.input, task.from, task.to);
@@ -143,7 +149,7 @@ export function runChunk(task: ChunkTask): unknown {
       return summariseRolling(task.input, task.points);
     case 'holdout-split': {
       const r = holdoutPricing(task.input);
-      if (!r.ok) throw new Error(`The hold-out could not be estimated: ${r.message}`);
+      if (!r.ok) return failed({ ...r, message: `The hold-out could not be estimated: ${r.message}` });
       return { mode: 'split', ...r };
     }
     case 'holdout-rolling':

@@ -5,6 +5,7 @@
  */
 import type { Db } from '../db/client';
 import { KeelsonApiError } from '../../shared/errors';
+import { gmmFailureMessage } from '../../shared/gmm-messages';
 import { modelSpecSchema, type ModelSpec } from '../../shared/specs';
 import {
   bootstrapParamsSchema,
@@ -92,11 +93,13 @@ export function bootstrapCheckInput(
 /**
  * Asks lib/gmm whether it accepts the bootstrap (one preparation of the original fit, no draws),
  * so a refusal is a 422 before any job is written rather than a failed job.
- * @throws KeelsonApiError 422 with lib/gmm's message.
+ * @throws KeelsonApiError 422 with lib/gmm's message (a caller mistake, or a typed numerical
+ *   failure mapped in shared/gmm-messages.ts).
  */
 export function assertBootstrapAccepted(check: Extract<CheckInput, { kind: 'bootstrap' }>): void {
   try {
-    prepareBootstrap(check.input);
+    const prepared = prepareBootstrap(check.input);
+    if (!prepared.ok) unprocessable(gmmFailureMessage(prepared));
   } catch (e) {
     if (e instanceof GmmInputError) unprocessable(e.message);
     throw e;

@@ -13,6 +13,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import Papa from 'papaparse';
 import { agentAs, makeTestApp, type Agent, type TestApp } from './helpers';
+import { okOf } from '../gmm/helpers';
 import { FIX_ASSETS, makeFixture, spec, type Fixture } from './runs-fixture';
 import { uploadCsv, confirm } from './libraries-helpers';
 import { mailSettled } from '../../server/services/runs';
@@ -253,12 +254,12 @@ function withRobustAndBootstrap(base: Run, basis: 'robust' | 'bootstrap'): Run {
   const excess = (name: string) => fx.cols[Object.keys(RENAME).find((k) => RENAME[k] === name) ?? name].map((v, i) => v - fx.cols.RF[i]);
   const returns = fx.dates.map((_, i) => ASSETS.map((a) => excess(a)[i]));
   const factorsM = fx.dates.map((_, i) => ['MKT', 'ECHO', 'CLIMA'].map((n) => fx.cols[n][i]));
-  const boot = bootstrapSdfTests({
+  const boot = okOf(bootstrapSdfTests({
     returns,
     factors: factorsM,
     factorNames: FACTORS,
     options: { stage: res.stage, weighting: res.options.weighting, lags: res.lags, form: 'centred', factorMeansKnown: false, scheme: 'iid', draws: 99, seed: 7 },
-  });
+  })).bootstrap;
   const merged = withBootstrap(ledger as unknown as Parameters<typeof withBootstrap>[0], boot);
   return { ...base, result: ledgerResultSchema.parse(merged) };
 }

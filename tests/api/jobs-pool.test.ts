@@ -4,7 +4,8 @@
  * same chunk computed in process (identity), and an AbortSignal stops a running chunk.
  */
 import { afterAll, describe, expect, it } from 'vitest';
-import { createJobPool, defaultThreadCount } from '../../server/jobs/pool';
+import { ChunkFailedError, createJobPool, defaultThreadCount } from '../../server/jobs/pool';
+import { gmmFailureMessage } from '../../shared/gmm-messages';
 import { runChunk, type ChunkTask } from '../../server/jobs/tasks';
 import { chunkRanges } from '../../server/jobs/runner';
 import { simulateEconomy } from '../gmm/helpers';
@@ -69,6 +70,27 @@ describe('job pool', () => {
       to: 10,
     };
     await expect(pool.run(bad)).rejects.toThrow(/draws must be an integer from 19 to 100000/);
+  });
+
+  it('a typed numerical failure in a worker rejects with ChunkFailedError carrying code singular and the mapped message', async () => {
+    // Cov(R, f₂) = 0 exactly (returns repeat in pairs, f₂ alternates ±0.01): X'WX is singular
+    const z = simulateEconomy({ T: 20, N: 3, K: 1, seed: 5 });
+    const returns = z.returns.flatMap((r) => [r, r]);
+    const factors = z.factors.flatMap((f) => [[f[0], 0.01], [f[0], -0.01]]);
+    const task: ChunkTask = {
+      op: 'bootstrap',
+      key: 'pool-test-singular',
+      input: { returns, factors, factorNames: ['M', 'Z'], options: { stage: 'second', weighting: 'identity', lags: 1, form: 'centred', factorMeansKnown: false, scheme: 'iid', draws: 99, seed: 5 } },
+      from: 0,
+      to: 10,
+    };
+    const err = await pool.run(task).then(() => null, (x: unknown) => x);
+    expect(err).toBeInstanceOf(ChunkFailedError);
+    if (!(err instanceof ChunkFailedError)) return;
+    expect(err.failure.code).toBe('singular');
+    expect(err.message).toBe(gmmFailureMessage(err.failure));
+    // the pool keeps working
+    expect(await pool.run({ op: 'ping' })).toEqual({ pong: true });
   });
 });
 

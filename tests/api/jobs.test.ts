@@ -7,6 +7,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { agentAs, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp } from './helpers';
+import { okOf } from '../gmm/helpers';
 import { FIX_ASSETS, fixtureMatrices, getJob, jobEnded, makeFixture, spec, uploadFixture, waitForMail, waitJob as waitJobVia, type Fixture } from './runs-fixture';
 import { bootstrapSdfTests, rollingEstimates, subsetSweep } from '../../lib/gmm/index';
 import { mailSettled } from '../../server/services/runs';
@@ -74,12 +75,12 @@ describe('deep checks on a finished run', () => {
     expect(fin.etaSeconds).toBeNull();
     expect(fin.startedAt! <= fin.finishedAt!).toBe(true);
     const { returns, F } = matrices(['MKT', 'ECHO']);
-    const direct = bootstrapSdfTests({
+    const direct = okOf(bootstrapSdfTests({
       returns,
       factors: F,
       factorNames: ['MKT', 'ECHO'],
       options: { stage: 'second', weighting: 'identity', lags: 'auto', form: 'centred', factorMeansKnown: false, scheme: 'iid', draws: 199, seed: 42 },
-    });
+    })).bootstrap;
     expect(JSON.parse(JSON.stringify(fin.result))).toEqual(JSON.parse(JSON.stringify(direct)));
     // e-mail to the author (threshold lowered to 0 ms for this app; the default is one minute)
     const mail = await waitForMail(researcher, new RegExp(`Bootstrap on run #${runId} finished`));
@@ -99,14 +100,14 @@ describe('deep checks on a finished run', () => {
     const fin = await waitJob(researcher, job.id, ended);
     expect(fin.status).toBe('finished');
     const { returns, F } = matrices(['MKT', 'ECHO', 'CLIMA']);
-    const direct = subsetSweep({
+    const direct = okOf(subsetSweep({
       returns,
       factors: F,
       factorNames: ['MKT', 'ECHO', 'CLIMA'],
       // the edition's traded flags reach the sweep (squared-Sharpe ranking of the traded candidates)
       traded: [true, true, false],
       options: { lags: 'auto', form: 'centred', factorMeansKnown: false, weighting: 'identity', level: 0.05, topPerSize: 5 },
-    });
+    })).sweep;
     expect(fin.result).toEqual(JSON.parse(JSON.stringify(direct)));
     expect(direct.thetaRanking!.candidates).toEqual(['MKT', 'ECHO']);
     // known truth of the fixture: MKT alone prices the assets

@@ -15,7 +15,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { agentAs, anonymousAgent, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp } from './helpers';
 import { FIX_ASSETS, makeFixture, spec, uploadFixture, waitForMail, type Fixture } from './runs-fixture';
 import { bootstrapSdfTests, prepareBootstrap, withBootstrap, type LedgerResult as EngineLedger } from '../../lib/gmm/index';
-import { estimateLedger } from '../gmm/helpers';
+import { estimateLedger, okOf } from '../gmm/helpers';
+import { gmmFailureMessage } from '../../shared/gmm-messages';
 import { createRun, mailSettled } from '../../server/services/runs';
 import { createUser, findActiveUser } from '../../server/services/users';
 import { DEMO_PASSWORD } from '../../server/seed/users';
@@ -159,12 +160,12 @@ describe('bootstrap p-values started with the run', () => {
     const boot = job.result as BootstrapResult;
     // Outside check: lib/gmm's bootstrap of the same matrices and seed, merged by withBootstrap, is the stored ledger.
     const { returns, F } = matrices(['MKT', 'ECHO']);
-    const direct = bootstrapSdfTests({
+    const direct = okOf(bootstrapSdfTests({
       returns,
       factors: F,
       factorNames: ['MKT', 'ECHO'],
       options: { stage: 'second', weighting: 'identity', lags: 'auto', form: 'centred', factorMeansKnown: false, scheme: 'iid', draws: 99, seed: 7 },
-    });
+    })).bootstrap;
     expect(json(boot)).toEqual(json(direct));
     expect(filled.result).toEqual(json(withBootstrap(run.result as unknown as EngineLedger, direct)));
     expect(filled.result!.bootstrap).toMatchObject({ draws: 99, seed: 7, scheme: 'iid', pJ: direct.J.bootstrapP });
@@ -191,12 +192,12 @@ describe('bootstrap p-values started with the run', () => {
     const { returns, F } = matrices(['MKT', 'ECHO']);
     // The same call the server makes, drop set included (lib/gmm reads it when it computes joint p-values).
     const withDropSet = { dropSet: ['ECHO'] } as object;
-    const direct = bootstrapSdfTests({
+    const direct = okOf(bootstrapSdfTests({
       returns,
       factors: F,
       factorNames: ['MKT', 'ECHO'],
       options: { stage: 'second', weighting: 'identity', lags: 'auto', form: 'centred', factorMeansKnown: false, scheme: 'iid', draws: 99, seed: 13, ...withDropSet },
-    });
+    })).bootstrap;
     const filled = await getRun(researcher, run.id);
     expect(filled.result).toEqual(json(withBootstrap(run.result as unknown as EngineLedger, direct)));
     expect(filled.result!.jointDrop!.factors).toEqual(['ECHO']);
@@ -277,12 +278,13 @@ describe('bootstrap p-values started with the run', () => {
     const { returns, F } = matrices(['MKT', 'ECHO']);
     let libError: string | null = null;
     try {
-      prepareBootstrap({
+      const prepared = prepareBootstrap({
         returns,
         factors: F,
         factorNames: ['MKT', 'ECHO'],
         options: { stage: 'second', weighting: 'identity', lags: 'auto', form: 'uncentred', factorMeansKnown: false, scheme: 'iid', draws: 99, seed: 5 },
       });
+      if (!prepared.ok) libError = gmmFailureMessage(prepared);
     } catch (e) {
       libError = (e as Error).message;
     }

@@ -23,7 +23,7 @@ import {
 import { momentsFromPacked, prepareMoments } from '../../lib/gmm/moments';
 import { fitSdfGmm, sdfMomentSeries } from '../../lib/gmm/sdf-gmm';
 import { matMul, transpose } from '../../lib/gmm/linalg';
-import { normalSampler, simulateEconomy } from './helpers';
+import { normalSampler, simulateEconomy, okOf } from './helpers';
 
 /** Every index vector of `positions` blocks, each start in 0..T−1 (T^positions of them, equally likely). */
 function* allStarts(T: number, positions: number): Generator<number[]> {
@@ -127,7 +127,7 @@ describe('the draw estimator and the HH map', () => {
         for (const weighting of ['identity', 'second-moment', 'covariance'] as const) {
           const ref = fitSdfGmm(m, { stage, weighting, lags: 2, form });
           const own = fitRecentred(m, null, { stage, weighting, lags: 2, form, factorMeansKnown: false, block: null });
-          if (!ref.ok || !own) throw new Error('fit');
+          if (!ref.ok || !own.ok) throw new Error('fit');
           for (let k = 0; k < 2; k++) {
             expect(own.b[k]).toBeCloseTo(ref.b[k], stage === 'iterated' ? 7 : 10);
             expect(own.covB[k * 2 + k] / ref.covB[k * 2 + k]).toBeCloseTo(1, stage === 'iterated' ? 5 : 9);
@@ -143,7 +143,7 @@ describe('the draw estimator and the HH map', () => {
       factorNames: ['F1', 'F2'],
       options: { stage: 'second', weighting: 'identity', lags: 2, form: 'centred', factorMeansKnown: false, scheme: 'block', blockLength: 5, draws: 19, seed: 1 },
     };
-    const plan = prepareBootstrap(input);
+    const plan = okOf(prepareBootstrap(input)).plan;
     expect(plan.corrected).toBe(true);
     const Om = exactBlockCovariance(sdfMomentSeries(m, plan.fit.b, 'centred', false), 200, 6, 5);
     const M = plan.MJ!;
@@ -152,7 +152,7 @@ describe('the draw estimator and the HH map', () => {
     // S_k / S̃_k: both are standard errors of the same b̂, so the ratio is near 1 (not exactly)
     for (const r of plan.ratioB) expect(r).toBeGreaterThan(0.5);
     for (const r of plan.ratioB) expect(r).toBeLessThan(2);
-    const iid = prepareBootstrap({ ...input, options: { ...input.options, scheme: 'iid' } });
+    const iid = okOf(prepareBootstrap({ ...input, options: { ...input.options, scheme: 'iid' } })).plan;
     expect(iid.corrected).toBe(false);
     expect(iid.MJ).toBeNull();
   });
@@ -168,7 +168,7 @@ describe('bootstrapSdfTests: λ, first-stage drop tests, joint drop set, uncentr
   };
 
   it('centred: a bootstrap-t p for each λ; a one-factor drop set has the same bootstrap p as that factor (identity)', () => {
-    const r = bootstrapSdfTests({ ...base, options: { ...base.options, dropSet: ['F2'] } });
+    const r = okOf(bootstrapSdfTests({ ...base, options: { ...base.options, dropSet: ['F2'] } })).bootstrap;
     expect(r.form).toBe('centred');
     expect(r.correction).toBe('none');
     for (const f of r.factors) {
@@ -183,19 +183,19 @@ describe('bootstrapSdfTests: λ, first-stage drop tests, joint drop set, uncentr
     // one-coefficient Wald: W = t², W* = t*², so the p-values coincide
     expect(r.joint!.wald!.stat).toBeCloseTo(r.factors[1].wald.stat ** 2, 8);
     expect(r.joint!.wald!.bootstrapP).toBe(r.factors[1].wald.bootstrapP);
-    const both = bootstrapSdfTests({ ...base, options: { ...base.options, dropSet: ['F1', 'F2'] } });
+    const both = okOf(bootstrapSdfTests({ ...base, options: { ...base.options, dropSet: ['F1', 'F2'] } })).bootstrap;
     expect(both.joint!.drop!.df).toBe(2);
     expect(both.joint!.wald!.df).toBe(2);
   });
 
   it('uncentred form runs (no λ test, a note says why) and block + HH correction runs at every stage', () => {
-    const u = bootstrapSdfTests({ ...base, options: { ...base.options, form: 'uncentred' } });
+    const u = okOf(bootstrapSdfTests({ ...base, options: { ...base.options, form: 'uncentred' } })).bootstrap;
     expect(u.form).toBe('uncentred');
     expect(u.factors.every((f) => f.lambda === null)).toBe(true);
     expect(u.notes.join(' ')).toMatch(/no bootstrap test of λ/);
     expect(u.J.bootstrapP).toBeGreaterThan(0);
     for (const stage of ['first', 'second', 'iterated'] as const) {
-      const b = bootstrapSdfTests({ ...base, options: { ...base.options, stage, lags: 2, scheme: 'block', blockLength: 6, form: stage === 'second' ? 'uncentred' : 'centred', dropSet: ['F1', 'F2'] } });
+      const b = okOf(bootstrapSdfTests({ ...base, options: { ...base.options, stage, lags: 2, scheme: 'block', blockLength: 6, form: stage === 'second' ? 'uncentred' : 'centred', dropSet: ['F1', 'F2'] } })).bootstrap;
       expect(b.correction).toBe('hall-horowitz');
       expect(b.validDraws).toBe(59);
       expect(b.factors.every((f) => f.drop !== null)).toBe(true);
@@ -229,12 +229,12 @@ describe('size under a simulated null, uncentred form (known truth)', () => {
       // population E[R_i(1 − b₁f₁)] = a_i(1 − b₁ μ₁) − b₁ Cov(R_i, f₁) = 0
       const mu1 = 0.005;
       const returns = shocks.map((row) => row.map((v, i) => v + (b1 * (betas[i][0] * 0.04 ** 2 + betas[i][1] * 0.5 * 0.04 * 0.03)) / (1 - b1 * mu1)));
-      const r = bootstrapSdfTests({
+      const r = okOf(bootstrapSdfTests({
         returns,
         factors,
         factorNames: ['F1', 'F2'],
         options: { stage: 'second', weighting: 'identity', lags: 0, form: 'uncentred', factorMeansKnown: false, scheme: 'iid', draws: 49, seed: 900 + s },
-      });
+      })).bootstrap;
       pJ.push(r.J.bootstrapP);
       pW.push(r.factors[1].wald.bootstrapP);
       pD.push(r.factors[1].drop!.bootstrapP);

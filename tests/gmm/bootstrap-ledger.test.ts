@@ -8,19 +8,19 @@ import { describe, expect, it } from 'vitest';
 import { bootstrapSdfTests } from '../../lib/gmm/bootstrap';
 import { withBootstrap } from '../../lib/gmm/ledger-bootstrap';
 import { type LedgerOptions } from '../../lib/gmm/ledger';
-import { estimateLedger } from './helpers';
+import { estimateLedger, okOf } from './helpers';
 import { factorVerdict } from '../../lib/gmm/verdict';
 import { GmmInputError } from '../../lib/gmm/errors';
 import { simulateEconomy } from './helpers';
 
 const e = simulateEconomy({ T: 240, N: 8, K: 2, seed: 5 });
 const common = { stage: 'second', weighting: 'identity', lags: 1, form: 'centred', factorMeansKnown: false } as const;
-const boot = bootstrapSdfTests({
+const boot = okOf(bootstrapSdfTests({
   returns: e.returns,
   factors: e.factors,
   factorNames: ['A', 'B'],
   options: { ...common, scheme: 'iid', draws: 59, seed: 11, dropSet: ['B'] },
-});
+})).bootstrap;
 
 function ledger(extra: Partial<LedgerOptions>) {
   return estimateLedger({
@@ -81,12 +81,12 @@ describe('the bootstrap tests the ledger numbers', () => {
   it('first stage: the observed drop statistics are the ledger chi2Drop (same W* = Ŝ⁻¹ at the first-stage b̂), and J, t(b) match', () => {
     for (const weighting of ['identity', 'covariance'] as const) {
       const l = ledger({ stage: 'first', weighting });
-      const b = bootstrapSdfTests({
+      const b = okOf(bootstrapSdfTests({
         returns: e.returns,
         factors: e.factors,
         factorNames: ['A', 'B'],
         options: { ...common, stage: 'first', weighting, scheme: 'iid', draws: 19, seed: 2, dropSet: ['B'] },
-      });
+      })).bootstrap;
       l.factors.forEach((f, k) => {
         expect(b.factors[k].drop!.stat).toBeCloseTo(f.chi2Drop!.stat, 9);
         expect(b.factors[k].wald.stat).toBeCloseTo(f.tB, 9);

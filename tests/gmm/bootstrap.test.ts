@@ -93,10 +93,10 @@ describe('bootstrapSdfTests', () => {
   };
 
   it('is reproducible and does not depend on how draws are chunked', () => {
-    const a = bootstrapSdfTests(input);
-    const b = bootstrapSdfTests(input);
+    const a = okOf(bootstrapSdfTests(input)).bootstrap;
+    const b = okOf(bootstrapSdfTests(input)).bootstrap;
     expect(b).toEqual(a);
-    const plan = prepareBootstrap(input);
+    const plan = okOf(prepareBootstrap(input)).plan;
     const parts = [runBootstrapDraws(plan, input.options, 60, 99), runBootstrapDraws(plan, input.options, 0, 60)];
     expect(summariseBootstrap(plan, input, parts)).toEqual(a);
     expect(a.validDraws).toBe(99);
@@ -105,12 +105,12 @@ describe('bootstrapSdfTests', () => {
     expect(a.J.bootstrapP).toBeGreaterThan(0);
     expect(a.factors).toHaveLength(2);
     expect(a.factors[0].drop).not.toBeNull();
-    const other = bootstrapSdfTests({ ...input, options: { ...input.options, seed: 8 } });
+    const other = okOf(bootstrapSdfTests({ ...input, options: { ...input.options, seed: 8 } })).bootstrap;
     expect(other.J.bootstrapP === a.J.bootstrapP && other.jDeciles[4] === a.jDeciles[4]).toBe(false);
   });
 
   it('moving-block bootstrap runs and reports its block length', () => {
-    const r = bootstrapSdfTests({ ...input, options: { ...input.options, scheme: 'block', blockLength: 6 } });
+    const r = okOf(bootstrapSdfTests({ ...input, options: { ...input.options, scheme: 'block', blockLength: 6 } })).bootstrap;
     expect(r.blockLength).toBe(6);
     expect(r.notes.join(' ')).toMatch(/Circular blocks of 6 periods; Hall–Horowitz correction/);
     expect(r.correction).toBe('hall-horowitz');
@@ -118,14 +118,14 @@ describe('bootstrapSdfTests', () => {
   });
 
   it('refuses a bad form, a bad block length, too few draws and an unknown drop-set factor with named errors', () => {
-    expect(() => bootstrapSdfTests({ ...input, options: { ...input.options, form: 'odd' as 'centred' } })).toThrow(GmmInputError);
-    expect(() => bootstrapSdfTests({ ...input, options: { ...input.options, dropSet: ['F9'] } })).toThrow(/dropSet names 'F9'/);
-    expect(() => bootstrapSdfTests({ ...input, options: { ...input.options, scheme: 'block', blockLength: 200 } })).toThrow(/blockLength/);
-    expect(() => bootstrapSdfTests({ ...input, options: { ...input.options, draws: 5 } })).toThrow(/draws/);
+    expect(() => okOf(bootstrapSdfTests({ ...input, options: { ...input.options, form: 'odd' as 'centred' } })).bootstrap).toThrow(GmmInputError);
+    expect(() => okOf(bootstrapSdfTests({ ...input, options: { ...input.options, dropSet: ['F9'] } })).bootstrap).toThrow(/dropSet names 'F9'/);
+    expect(() => okOf(bootstrapSdfTests({ ...input, options: { ...input.options, scheme: 'block', blockLength: 200 } })).bootstrap).toThrow(/blockLength/);
+    expect(() => okOf(bootstrapSdfTests({ ...input, options: { ...input.options, draws: 5 } })).bootstrap).toThrow(/draws/);
   });
 
   it('first stage: drop tests with W* = Ŝ⁻¹ at the first-stage b̂, equal to the drop tester on that W*', () => {
-    const r = bootstrapSdfTests({ ...input, options: { ...input.options, stage: 'first' } });
+    const r = okOf(bootstrapSdfTests({ ...input, options: { ...input.options, stage: 'first' } })).bootstrap;
     expect(r.factors[0].drop).not.toBeNull();
     expect(r.notes.join(' ')).toMatch(/first-stage estimate/);
     const m = prepareMoments(e.returns, e.factors);
@@ -138,7 +138,7 @@ describe('bootstrapSdfTests', () => {
 
   it('has power: a strongly priced factor gets a small bootstrap p-value for its b', () => {
     const strong = simulateEconomy({ T: 600, N: 10, K: 1, seed: 3, mu: [0.012], sd: [0.03], noise: 0.01 });
-    const r = bootstrapSdfTests({ returns: strong.returns, factors: strong.factors, factorNames: ['M'], options: { ...baseOptions, scheme: 'iid', draws: 199, seed: 1 } });
+    const r = okOf(bootstrapSdfTests({ returns: strong.returns, factors: strong.factors, factorNames: ['M'], options: { ...baseOptions, scheme: 'iid', draws: 199, seed: 1 } })).bootstrap;
     expect(r.factors[0].wald.asymptoticP).toBeLessThan(0.001);
     expect(r.factors[0].wald.bootstrapP).toBeLessThan(0.02);
   });
@@ -152,12 +152,12 @@ describe('size under a simulated null (known truth)', () => {
     const pD: number[] = [];
     for (let s = 0; s < M; s++) {
       const { returns, factors } = nullEconomy(1000 + s, 240, 6);
-      const r = bootstrapSdfTests({
+      const r = okOf(bootstrapSdfTests({
         returns,
         factors,
         factorNames: ['F1', 'F2'],
         options: { ...baseOptions, scheme: 'iid', draws: 99, seed: 500 + s },
-      });
+      })).bootstrap;
       pJ.push(r.J.bootstrapP);
       pW.push(r.factors[1].wald.bootstrapP);
       pD.push(r.factors[1].drop!.bootstrapP);

@@ -10,7 +10,7 @@ import { fileURLToPath } from 'node:url';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { ledgerResultSchema } from '../../shared/ledger';
 import { bootstrapSdfTests } from '../../lib/gmm/index';
-import { estimateLedger, normalSampler } from './helpers';
+import { estimateLedger, normalSampler, okOf } from './helpers';
 import { main } from '../../bin/keelson-cli';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..', '..');
@@ -132,12 +132,12 @@ describe('keelson estimate: weighting, basis and bootstrap flags', () => {
     expect(j.verdictBasis).toBe('bootstrap');
     expect(j.options.bootstrap).toEqual({ draws: 99, scheme: 'iid', seed: 5 });
     const { returns, factors } = libInput();
-    const boot = bootstrapSdfTests({
+    const boot = okOf(bootstrapSdfTests({
       returns,
       factors,
       factorNames: ['MKT', 'CARRY'],
       options: { stage: 'second', weighting: 'identity', lags: 2, form: 'centred', factorMeansKnown: false, scheme: 'iid', draws: 99, seed: 5, dropSet: ['CARRY'] },
-    });
+    })).bootstrap;
     expect(j.bootstrap!.pJ).toBe(boot.J.bootstrapP);
     expect(j.bootstrap!.pJointDrop).toBe(boot.joint!.drop!.bootstrapP);
     j.factors.forEach((f, k) => {

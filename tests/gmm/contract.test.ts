@@ -5,7 +5,8 @@
  * the first stage, the verdict basis, and the small-sample caution.
  */
 import { describe, expect, it } from 'vitest';
-import { cautionText, dropTester, estimateSdfGmm, fitSdfGmm, GmmInputError, LARGE_LAG_FIGURES, maxLag, prepareMoments, SMALL_SAMPLE_FIGURES, spdInverse, subsetSweep, type LedgerInput, type LedgerOptions } from '../../lib/gmm/index';
+import { cautionText, dropTester, estimateSdfGmm, fitSdfGmm, GmmInputError, LARGE_LAG_FIGURES, maxLag, prepareMoments, SMALL_SAMPLE_FIGURES, subsetSweep, type LedgerInput, type LedgerOptions } from '../../lib/gmm/index';
+import { spdInverse } from '../../lib/gmm/linalg';
 import { estimateLedger, maxRel, okOf, simulateEconomy } from './helpers';
 
 const opts: LedgerOptions = { stage: 'second', weighting: 'identity', lags: 'auto', form: 'centred', factorMeansKnown: false, level: 0.05 };

@@ -41,7 +41,8 @@ describe('module examples', () => {
     const w = waldSingle(0.5, 0.25);
     expect(w.t).toBe(2);
     expect(w.p).toBeCloseTo(0.0455, 4); // normal table: 2·(1 − Φ(2)) = 0.0455
-    const j = waldJoint([1, 0], [[1, 0], [0, 4]], 2, [0])!;
+    const j = waldJoint([1, 0], [[1, 0], [0, 4]], 2, [0]);
+    if (!j.ok) throw new Error(j.message);
     expect(j.stat).toBe(1);
     expect(j.df).toBe(1);
     expect(j.p).toBeCloseTo(0.3173, 4); // χ²(1) upper tail at 1 = 2·(1 − Φ(1)) = 0.3173

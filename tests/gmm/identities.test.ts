@@ -2,7 +2,8 @@
  * Identities that must hold whatever the data (methods contract, "Reference checks").
  */
 import { describe, expect, it } from 'vitest';
-import { fitSdfGmm, GmmInputError, hjDistance, olsFit, prepareMoments, secondMomentMatrix, selectFactors, spdInverse, toNested } from '../../lib/gmm/index';
+import { fitSdfGmm, GmmInputError, hjDistance, olsFit, prepareMoments, secondMomentMatrix, selectFactors, toNested } from '../../lib/gmm/index';
+import { spdInverse } from '../../lib/gmm/linalg';
 import { estimateLedger, maxRel, okOf, runReference, simulateEconomy } from './helpers';
 
 const base = { weighting: 'identity', form: 'centred', factorMeansKnown: false, level: 0.05 } as const;

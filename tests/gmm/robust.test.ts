@@ -156,7 +156,9 @@ describe('robust SEs: identities', () => {
           const fit = fitSdfGmm(m, { stage: 'first', weighting: w, lags: 3, form, factorMeansKnown: known });
           if (!fit.ok) throw new Error('fit failed');
           expect(Array.from(fit.alpha)).toEqual([0, 0, 0]);
-          const psi = robustInfluence(m, fit)!;
+          const infl = robustInfluence(m, fit);
+          if (!infl.ok) throw new Error(infl.message);
+          const { psi } = infl;
           const h = sdfMomentSeries(m, fit.b, form, fit.factorMeansKnown);
           const Hh = new Float64Array(m.T * 3);
           for (let t = 0; t < m.T; t++)

@@ -8,7 +8,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { benjaminiYekutieliAdjust, evaluateSubsets, holmAdjust, prepareSubsetSweep, squaredSharpe, subsetFactors, subsetSweep, summariseSubsetSweep, type SubsetSweepInput } from '../../lib/gmm/index';
-import { estimateLedger, simulateEconomy } from './helpers';
+import { estimateLedger, simulateEconomy, okOf } from './helpers';
 
 const names = ['A', 'B', 'C', 'D', 'E', 'F'];
 const e = simulateEconomy({ T: 400, N: 12, K: 6, seed: 31, mu: [0.005, 0.004, 0.003, 0.002, 0.004, 0.001] });
@@ -20,7 +20,7 @@ const input: SubsetSweepInput = {
   traded,
   options: { lags: 3, form: 'centred', factorMeansKnown: false, weighting: 'identity', thetaTop: 8 },
 };
-const plan = prepareSubsetSweep(input);
+const plan = okOf(prepareSubsetSweep(input)).plan;
 const rows = evaluateSubsets(plan, 1, 64);
 
 describe('sweep θ̂ per subset', () => {
@@ -42,12 +42,12 @@ describe('sweep θ̂ per subset', () => {
   });
   it('without traded flags, or with thetaRanking false, no θ̂ and a note', () => {
     const { traded: _t, ...noFlags } = input;
-    const r = subsetSweep(noFlags);
+    const r = okOf(subsetSweep(noFlags)).sweep;
     expect(r.thetaRanking).toBeNull();
     expect(r.thetaNote).toMatch(/traded flags/);
-    const off = subsetSweep({ ...input, options: { ...input.options, thetaRanking: false } });
+    const off = okOf(subsetSweep({ ...input, options: { ...input.options, thetaRanking: false } })).sweep;
     expect(off.thetaRanking).toBeNull();
-    expect(evaluateSubsets(prepareSubsetSweep(noFlags), 1, 64).every((row) => row.theta === null)).toBe(true);
+    expect(evaluateSubsets(okOf(prepareSubsetSweep(noFlags)).plan, 1, 64).every((row) => row.theta === null)).toBe(true);
   });
 });
 
@@ -79,7 +79,7 @@ describe('sweep θ̂ ranking', () => {
 
 describe('sweep adjusted p per candidate', () => {
   it('Holm and BY of the full model’s b tests, equal to the ledger’s (second stage, identity first stage)', () => {
-    const res = subsetSweep(input);
+    const res = okOf(subsetSweep(input)).sweep;
     const led = estimateLedger({
       assetNames: e.returns[0].map((_, i) => `P${i + 1}`),
       returns: e.returns,

@@ -8,7 +8,7 @@
  * does not reject; (3) input errors.
  */
 import { describe, expect, it } from 'vitest';
-import { estimateLedger } from './helpers';
+import { estimateLedger, okOf } from './helpers';
 import { evaluateSubsets, prepareSubsetSweep, subsetFactors, subsetSweep, summariseSubsetSweep, type SubsetSweepInput } from '../../lib/gmm/subset-sweep';
 import { GmmInputError } from '../../lib/gmm/errors';
 import { normalSampler, simulateEconomy } from './helpers';
@@ -23,7 +23,7 @@ describe('subset sweep against brute force (identity)', () => {
     factorNames: names,
     options: { lags: 3, form: 'centred', factorMeansKnown: false, weighting: 'identity' },
   };
-  const plan = prepareSubsetSweep(input);
+  const plan = okOf(prepareSubsetSweep(input)).plan;
   const rows = evaluateSubsets(plan, 1, 16);
 
   it('evaluates all 15 subsets', () => {
@@ -67,7 +67,7 @@ describe('subset sweep against brute force (identity)', () => {
   }
 
   it('with stage iterated, D equals the iterated ledger\'s joint drop test (same W*: the last iterate)', () => {
-    const iter = prepareSubsetSweep({ ...input, options: { ...input.options, stage: 'iterated' } });
+    const iter = okOf(prepareSubsetSweep({ ...input, options: { ...input.options, stage: 'iterated' } })).plan;
     const [row] = evaluateSubsets(iter, 6, 7); // mask 6 = factors 2 and 3; complement: factors 1 and 4
     const sub = subsetFactors(6, names);
     const complement = names.filter((n) => !sub.includes(n));
@@ -87,7 +87,7 @@ describe('subset sweep against brute force (identity)', () => {
   });
 
   it('chunked evaluation summarises to the same result as one pass', () => {
-    const one = subsetSweep(input);
+    const one = okOf(subsetSweep(input)).sweep;
     const chunked = summariseSubsetSweep(plan, [...evaluateSubsets(plan, 9, 16), ...evaluateSubsets(plan, 1, 9)], input.options);
     expect(chunked).toEqual(one);
     expect(one.models).toBe(15);
@@ -115,7 +115,7 @@ describe('subset sweep with known truth', () => {
       returns.push(betas.map((b) => b[0] * f[0] + b[1] * f[1] + 0.01 * z()));
     }
     const cand = ['A', 'B', 'C', 'D', 'E', 'F'];
-    const r = subsetSweep({ returns, factors, factorNames: cand, options: { lags: 0, form: 'centred', factorMeansKnown: false, weighting: 'identity' } });
+    const r = okOf(subsetSweep({ returns, factors, factorNames: cand, options: { lags: 0, form: 'centred', factorMeansKnown: false, weighting: 'identity' } })).sweep;
     expect(r.models).toBe(63);
     expect(r.bestByHj[1].models[0].factors).toEqual(['B', 'E']);
     expect(r.bestByDrop[1].models[0].factors).toEqual(['B', 'E']);
@@ -132,7 +132,7 @@ describe('subset sweep input errors', () => {
   it('refuses more than 15 candidates with a named error', () => {
     const e = simulateEconomy({ T: 200, N: 5, K: 16, seed: 2 });
     expect(() =>
-      subsetSweep({ returns: e.returns, factors: e.factors, factorNames: e.factors[0].map((_, k) => `F${k}`), options: { lags: 0, form: 'centred', factorMeansKnown: false, weighting: 'identity' } }),
+      okOf(subsetSweep({ returns: e.returns, factors: e.factors, factorNames: e.factors[0].map((_, k) => `F${k}`), options: { lags: 0, form: 'centred', factorMeansKnown: false, weighting: 'identity' } })).sweep,
     ).toThrow(GmmInputError);
   });
 });

@@ -23,6 +23,7 @@ import { mailSettled } from '../../server/services/runs';
 import { inputKey, flowId } from '../../server/jobs/queue-shared';
 import { jobResponseSchema, type Job } from '../../shared/jobs';
 import { runResponseSchema } from '../../shared/runs';
+import { okOf } from '../gmm/helpers';
 import { startWorkerProcess, testRedis, type TestRedis, type WorkerProcess } from './redis';
 
 let redis: TestRedis;
@@ -86,7 +87,7 @@ const matrices = (factors: string[]) => fixtureMatrices(fx, factors);
 function directBootstrap(draws: number, seed: number) {
   const { returns, F } = matrices(['MKT', 'ECHO']);
   const options: BootstrapOptions = { stage: 'second', weighting: 'identity', lags: 'auto', form: 'centred', factorMeansKnown: false, scheme: 'iid', draws, seed };
-  return JSON.parse(JSON.stringify(bootstrapSdfTests({ returns, factors: F, factorNames: ['MKT', 'ECHO'], options }))) as unknown;
+  return JSON.parse(JSON.stringify(okOf(bootstrapSdfTests({ returns, factors: F, factorNames: ['MKT', 'ECHO'], options })).bootstrap)) as unknown;
 }
 
 describe('queue mode with two worker processes', () => {
@@ -129,7 +130,7 @@ describe('queue mode with two worker processes', () => {
       traded: [true, true, false],
       options: { lags: 'auto', form: 'centred', factorMeansKnown: false, weighting: 'identity', stage: 'second', level: 0.05 },
     });
-    expect(fin.result).toEqual(JSON.parse(JSON.stringify(direct)));
+    expect(fin.result).toEqual(JSON.parse(JSON.stringify(okOf(direct).sweep)));
   }, 120_000);
 
   it('lib/gmm’s refusal inside a chunk fails the job once (no retries) with lib/gmm’s own message', async () => {
