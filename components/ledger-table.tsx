@@ -9,7 +9,7 @@
  * contradicts its star.
  */
 import { useState, type ReactNode } from 'react';
-import { Pressable, ScrollView, StyleSheet, Text, View, type ViewStyle } from 'react-native';
+import { Pressable, StyleSheet, Text, View, type ViewStyle } from 'react-native';
 import type { LedgerResult } from '../shared/runs';
 import { DECIMALS, formatFixed, formatP } from '../shared/format';
 import { useIsWide } from '../hooks/use-layout';
@@ -229,29 +229,24 @@ export function LedgerTable({ result, bootstrapPending = false }: LedgerViewProp
     </View>
   );
 
-  const [tableW, setTableW] = useState(0);
+  // The table needs minW px; where the room is narrower (a wide window with the side bar, 900–1230
+  // px), the factors show as cards, as on a phone, instead of a table that scrolls sideways.
+  const [boxW, setBoxW] = useState(0);
+  const asTable = wide && (boxW === 0 || boxW >= minW);
 
   return (
-    <View style={{ gap: space.sm }}>
+    <View style={{ gap: space.sm }} onLayout={(e) => setBoxW(e.nativeEvent.layout.width)}>
       <Text style={text.muted}>
-        Bold with * : p below {level}. λ in % per period. {wide ? 'Tap any number' : 'Tap a line'} for what the test asks
-        {wide ? '' : ' (adjusted p under b)'}.
+        Bold with * : p below {level}. λ in % per period. {asTable ? 'Tap any number' : 'Tap a line'} for what the test asks
+        {asTable ? '' : ' (adjusted p under b)'}.
       </Text>
       {result.lagWarning ? (
         <View style={styles.warn} role="note" aria-label="Lag warning">
           <Text style={styles.warnText}>† {result.lagWarning}</Text>
         </View>
       ) : null}
-      {wide ? (
-        <View onLayout={(e) => setTableW(e.nativeEvent.layout.width)}>
-          {tableW > 0 && tableW < minW ? (
-            <ScrollView horizontal contentContainerStyle={{ minWidth: minW }}>
-              {tableBody}
-            </ScrollView>
-          ) : (
-            tableBody
-          )}
-        </View>
+      {asTable ? (
+        tableBody
       ) : (
         <View role="list" aria-label="Factor ledger" style={{ gap: space.sm }}>
           {result.factors.map((f) => (

@@ -138,6 +138,17 @@ export class QueueClient {
     await this.remove(flow);
   }
 
+  /**
+   * Clears what Redis may still hold under this flow's id from another database or a reset one
+   * (job ids restart at 1 there): its flow, input and cancel mark. Called before a job's first
+   * enqueue, when no flow of this database's can exist yet, so a stale cancel mark or a stale
+   * finished flow is never taken for this job's.
+   */
+  async purge(flow: string): Promise<void> {
+    await this.remove(flow);
+    await this.timed(this.redis.del(cancelKey(flow)));
+  }
+
   /** Removes the flow (parent and chunks) and its input; a chunk still locked by a worker stays until it ends. */
   remove(flow: string): Promise<void> {
     return this.timed(this.removeNow(flow), 3);

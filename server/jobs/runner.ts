@@ -207,7 +207,7 @@ export class JobRunner {
     const key = `job:${jobId}:${job.attempts}`;
     const ranges = chunkRanges(check.total, check.kind);
     // hold-out checks (one estimate per block) stay in this process's pool in queue mode too
-    if (this.queue && check.kind !== 'holdout') return this.followFlow(this.queue, jobId, flowId(jobId, job.attempts), check, ranges, signal, started);
+    if (this.queue && check.kind !== 'holdout') return this.followFlow(this.queue, jobId, flowId(jobId, job.attempts), check, ranges, signal, started, !resume);
     let done = 0;
     const pool = this.getPool();
     // At most threads + 1 chunks in flight per job: jobs started later interleave with a long
@@ -280,6 +280,8 @@ export class JobRunner {
     ranges: [number, number][],
     signal: AbortSignal,
     started: number,
+    /** The job was queued in SQLite, so nothing of this database's is in Redis yet under `flow`. */
+    fresh = false,
   ): Promise<void> {
     const db = this.db;
     const chunkSize = ranges.length > 0 ? ranges[0][1] - ranges[0][0] : 1;
@@ -291,6 +293,7 @@ export class JobRunner {
     while (!signal.aborted) {
       try {
         if (!enqueued) {
+          if (fresh) await q.purge(flow);
           await q.enqueue(flow, check, ranges, check.total);
           enqueued = true;
         }

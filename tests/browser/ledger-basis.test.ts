@@ -6,7 +6,8 @@
  * bootstrap showing a progress bar and then its p-values without a reload, the thin-beta column
  * ("no flag", or a flag in the row and the chip), Holm and BY adjusted p as columns on wide
  * screens and in the detail on phones, readable charts with downloads, and no ledger cell whose
- * text is cut (scrollWidth ≤ clientWidth). Viewports 390×844, 1280×800 and 1600×900; screenshots
+ * text is cut (scrollWidth ≤ clientWidth). Viewports 390×844, 1024×768 (cards: the table does not fit),
+ * 1280×800 and 1600×900; screenshots
  * under test-results/screens/.
  */
 import { mkdirSync } from 'node:fs';
@@ -233,6 +234,36 @@ describe('phone ledger: cards, adjusted p behind the detail', () => {
       await expectReadableChart(chart, null);
     }
     expectSameOrigin(requests);
+    expect(errors).toEqual([]);
+    await context.close();
+  });
+});
+
+describe('mid-width ledger: cards where the table does not fit', () => {
+  // 1024 px with the side bar leaves less room than the table's columns need (≈ 950 px with the
+  // robust group): the factors show as cards (as on a phone), and nothing in the ledger scrolls sideways.
+  it('shows the factor cards with the API’s numbers and no sideways scrolling (1024×768)', async () => {
+    const { context, page, errors } = await openPage(browser, { width: 1024, height: 768 });
+    await signIn(page, 'researcher');
+    await page.goto(`/runs/${firstId}`);
+    const list = page.getByRole('list', { name: 'Factor ledger' });
+    await list.waitFor();
+    await expect(page.getByRole('table', { name: 'Factor ledger' }).count()).resolves.toBe(0);
+    const r = (await getRun(page, firstId)).result!;
+    const level = r.options.level;
+    for (const f of r.factors) {
+      const row = (basis: string, what: string) => list.getByRole('row', { name: `${basis} ${what} of ${f.name}`, exact: true }).getByRole('cell');
+      await expect(bare(row('standard', 'b').nth(1))).resolves.toBe(formatFixed(f.seB, 3));
+      await expect(bare(row('robust', 'b').nth(3))).resolves.toBe(formatP(f.robust!.pB, { level }));
+    }
+    const sideways = await list.evaluate((el) => {
+      const all = [el, ...(Array.from(el.querySelectorAll('*')) as HTMLElement[])] as HTMLElement[];
+      return all.filter((x) => x.clientWidth > 0 && x.scrollWidth > x.clientWidth + 0.5).map((x) => `${(x.textContent ?? '').slice(0, 40)} (${x.scrollWidth} > ${x.clientWidth})`);
+    });
+    expect(sideways).toEqual([]);
+    expect(await page.evaluate(() => document.documentElement.scrollWidth - window.innerWidth)).toBeLessThanOrEqual(1);
+    await list.scrollIntoViewIfNeeded();
+    await shotNow(page, 'ledger-first-stage-1024');
     expect(errors).toEqual([]);
     await context.close();
   });

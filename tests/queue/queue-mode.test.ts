@@ -20,7 +20,7 @@ import { createApp, type KeelsonApp } from '../../server/app';
 import { createMailer, type Mailer } from '../../server/services/mailer';
 import { seedDemoUsers } from '../../server/seed/users';
 import { mailSettled } from '../../server/services/runs';
-import { inputKey, flowId } from '../../server/jobs/queue-shared';
+import { cancelKey, inputKey, flowId } from '../../server/jobs/queue-shared';
 import { jobResponseSchema, type Job } from '../../shared/jobs';
 import { runResponseSchema } from '../../shared/runs';
 import { okOf } from '../gmm/helpers';
@@ -117,6 +117,21 @@ describe('queue mode with two worker processes', () => {
     }
   }, 120_000);
 
+  it('a cancel mark left in Redis under the next flow id (another or a reset database: job ids restart) does not touch the new job', async () => {
+    const next = (db.$client.prepare('SELECT coalesce(max(id), 0) + 1 AS id FROM jobs').get() as { id: number }).id;
+    const probe = new Redis(redis.url);
+    try {
+      await probe.set(cancelKey(flowId(next, 1)), '1', 'EX', 600);
+      const job = await startCheck(researcher, { kind: 'bootstrap', params: { draws: 199, seed: 8 } });
+      expect(job.id).toBe(next);
+      const fin = await waitJob(researcher, job.id, ended);
+      expect(fin.status, fin.error ?? '').toBe('finished');
+      expect(fin.result).toEqual(directBootstrap(199, 8));
+    } finally {
+      probe.disconnect();
+    }
+  }, 120_000);
+
   it('a subset sweep through the queue equals lib/gmm’s sweep', async () => {
     const job = await startCheck(researcher, { kind: 'subset-sweep', params: { candidates: ['MKT', 'ECHO', 'CLIMA'] } });
     const fin = await waitJob(researcher, job.id, ended);
@@ -191,7 +206,9 @@ describe('queue mode with two worker processes', () => {
   it('cancel from a second API client stops the chunks on every worker within a second', async () => {
     const draws = 60_000;
     const job = await startCheck(researcher, { kind: 'bootstrap', params: { draws, seed: 13 } });
-    await waitJob(researcher, job.id, (j) => j.done > 0 || ended(j));
+    const started = await waitJob(researcher, job.id, (j) => j.done > 0 || ended(j));
+    // a job that ended before the cancel would make the 409 below meaningless: say why it ended
+    expect(started.status, `job ended before the cancel: ${started.error ?? ''}`).toBe('running');
     const other = await agentAs(app, 'admin'); // a second client
     const t0 = Date.now();
     const r = await post(other, `/jobs/${job.id}/cancel`).expect(200);
