@@ -22,11 +22,17 @@ import {
   type SignoffDecision,
 } from '../shared/runs';
 
-export async function listRuns(q: Partial<RunListQuery> = {}) {
+/** One page of runs (newest first) with the total and the cursor of the next page. */
+export async function listRunsPage(q: Partial<RunListQuery> = {}) {
   const params = new URLSearchParams();
   for (const [k, v] of Object.entries(q)) if (v !== undefined && v !== null) params.set(k, String(v));
   const qs = params.toString();
-  return (await apiRequest(`/runs${qs ? `?${qs}` : ''}`, { schema: runsResponseSchema })).runs;
+  return apiRequest(`/runs${qs ? `?${qs}` : ''}`, { schema: runsResponseSchema });
+}
+
+/** The first page of runs only (pickers that show a few). */
+export async function listRuns(q: Partial<RunListQuery> = {}) {
+  return (await listRunsPage(q)).runs;
 }
 export async function getRun(id: number) {
   return (await apiRequest(`/runs/${id}`, { schema: runResponseSchema })).run;

@@ -209,7 +209,7 @@ export const REMOTE_USAGE = `Commands that talk to a Keelson server (sign in fir
               [--basis standard|robust|bootstrap] [--bootstrap-draws N] [--bootstrap-scheme iid|block]
               [--block-length N] [--seed S] [--json]
               (--edition takes an edition id, or LIBRARY:N for edition N of library LIBRARY)
-  keelson runs [--status S] [--json]             runs you can read
+  keelson runs [--status S] [--before ID] [--json] runs you can read, newest first, a page at a time
   keelson show RUN [--json]                      a run's factor ledger
   keelson export RUN --format csv|tex|json       a run's tables on stdout
   keelson compare RUN_A RUN_B [--json]           two runs side by side, with the nested drop test
@@ -395,13 +395,21 @@ export async function runRemote(command: string, args: string[], io: Io): Promis
         return run.status === 'finished' ? 0 : 1;
       }
       case 'runs': {
-        const p = parse(args, { status: { type: 'string' }, json: { type: 'boolean' } }, command);
-        const q = p.values.status ? `?status=${encodeURIComponent(p.values.status)}` : '';
-        const r = await client.get<{ runs: { id: number; status: string; libraryName: string; editionNumber: number; authorName: string; factors: string[]; signoff: string; createdAt: string }[] }>(`/runs${q}`);
+        const p = parse(args, { status: { type: 'string' }, before: { type: 'string' }, json: { type: 'boolean' } }, command);
+        const qs = new URLSearchParams();
+        if (p.values.status) qs.set('status', p.values.status);
+        if (p.values.before) qs.set('before', String(posInt(p.values.before, '--before')));
+        const q = qs.size ? `?${qs.toString()}` : '';
+        const r = await client.get<{
+          runs: { id: number; status: string; libraryName: string; editionNumber: number; authorName: string; factors: string[]; signoff: string; createdAt: string }[];
+          total: number;
+          nextCursor: number | null;
+        }>(`/runs${q}`);
         if (p.values.json) return json(r), 0;
         const rows = [['run', 'status', 'library', 'factors', 'author', 'sign-off', 'created']];
         for (const x of r.runs) rows.push([String(x.id), x.status, `${x.libraryName} #${x.editionNumber}`, x.factors.join(','), x.authorName, x.signoff, x.createdAt.slice(0, 16)]);
         io.out(pad(rows));
+        if (r.nextCursor !== null) io.out(`${r.runs.length} of ${r.total} runs shown; the next page: keelson runs --before ${r.nextCursor}\n`);
         return 0;
       }
       case 'show': {

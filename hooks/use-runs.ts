@@ -1,5 +1,5 @@
 /** TanStack Query hooks for runs, compare and review. */
-import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
+import { keepPreviousData, useInfiniteQuery, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type { KeelsonApiError } from '../shared/errors';
 import type { ChangeBasisBody, CreateRunBody, FirstStageCopyResponse, Run, RunListQuery, SignoffDecision } from '../shared/runs';
 import {
@@ -14,6 +14,7 @@ import {
   giveSignoff,
   listReviewers,
   listRuns,
+  listRunsPage,
   requestSignoff,
 } from '../api/runs';
 import { newIdempotencyKey } from '../api/client';
@@ -26,6 +27,7 @@ export const runKeys = {
   all: ['runs'] as const,
   lists: ['runs', 'list'] as const,
   list: (q: Partial<RunListQuery>) => ['runs', 'list', q] as const,
+  pages: (q: Partial<RunListQuery>) => ['runs', 'list', q, 'pages'] as const,
   reviewers: ['reviewers'] as const,
   one: (id: number) => ['runs', 'one', id] as const,
   review: (id: number) => ['runs', 'review', id] as const,
@@ -33,7 +35,17 @@ export const runKeys = {
   queue: ['runs', 'queue'] as const,
 };
 
-export const useRuns = (q: Partial<RunListQuery> = {}) => useQuery({ queryKey: runKeys.list(q), queryFn: () => listRuns(q) });
+export const useRuns = (q: Partial<RunListQuery> = {}) => useQuery({ queryKey: runKeys.list(q), queryFn: () => listRuns(q), placeholderData: keepPreviousData });
+/** The runs list, page by page (`fetchNextPage` for "Show more"); a filter change keeps the old rows until the new ones arrive. */
+export const RUNS_PAGE_SIZE = 50;
+export const useRunPages = (q: Partial<RunListQuery> = {}) =>
+  useInfiniteQuery({
+    queryKey: runKeys.pages(q),
+    queryFn: ({ pageParam }) => listRunsPage({ ...q, limit: RUNS_PAGE_SIZE, ...(pageParam ? { before: pageParam } : {}) }),
+    initialPageParam: 0,
+    getNextPageParam: (last) => last.nextCursor ?? undefined,
+    placeholderData: keepPreviousData,
+  });
 // A finished run never changes: keep it.
 export const useRun = (id: number | undefined) => useQuery({ queryKey: runKeys.one(id ?? 0), queryFn: () => getRun(id!), enabled: !!id, staleTime: Infinity });
 export const useRunReview = (id: number | undefined) => useQuery({ queryKey: runKeys.review(id ?? 0), queryFn: () => getReview(id!), enabled: !!id });

@@ -138,10 +138,16 @@ export const jobSchema = z.discriminatedUnion('kind', [
 ]);
 export type Job = z.infer<typeof jobSchema>;
 export const jobResponseSchema = z.object({ job: jobSchema });
-export const jobsResponseSchema = z.object({ jobs: z.array(jobSchema) });
+/** A page of jobs, newest first, without results; `nextCursor` (null on the last page) goes back as `before`. */
+export const jobsResponseSchema = z.object({ jobs: z.array(jobSchema), total: z.number().int().nonnegative(), nextCursor: z.number().int().positive().nullable() });
+export type JobsResponse = z.infer<typeof jobsResponseSchema>;
 
 export const jobListQuerySchema = z.object({
   runId: z.coerce.number().int().positive().optional(),
   status: jobStatusSchema.optional(),
+  /** Page size (default 200). */
+  limit: z.coerce.number().int().min(1).max(500).optional(),
+  /** Cursor: only jobs with an id below this one (the previous page's `nextCursor`). */
+  before: z.coerce.number().int().positive().optional(),
 });
 export type JobListQuery = z.infer<typeof jobListQuerySchema>;

@@ -98,7 +98,12 @@ export type ChangeBasisBody = z.input<typeof changeBasisBodySchema>;
 /** `POST /runs/:id/first-stage-copy` answers the new run and, when the run came from a saved spec, the new saved spec. */
 export const firstStageCopyResponseSchema = z.object({ run: runSchema, spec: savedSpecSchema.nullable() });
 export type FirstStageCopyResponse = z.infer<typeof firstStageCopyResponseSchema>;
-export const runsResponseSchema = z.object({ runs: z.array(runSummarySchema) });
+/**
+ * A page of runs, newest first: `total` counts every run the filter matches that the caller may read;
+ * `nextCursor` (null on the last page) goes back as `before` for the next page.
+ */
+export const runsResponseSchema = z.object({ runs: z.array(runSummarySchema), total: z.number().int().nonnegative(), nextCursor: z.number().int().positive().nullable() });
+export type RunsResponse = z.infer<typeof runsResponseSchema>;
 
 export const runListQuerySchema = z.object({
   specId: z.coerce.number().int().positive().optional(),
@@ -107,7 +112,14 @@ export const runListQuerySchema = z.object({
   status: runStatusSchema.optional(),
   authorId: z.coerce.number().int().positive().optional(),
   signoff: signoffStateSchema.optional(),
+  /** Runs with exactly this many test assets (N), factors (K) or periods (T). */
+  N: z.coerce.number().int().positive().optional(),
+  K: z.coerce.number().int().positive().optional(),
+  T: z.coerce.number().int().positive().optional(),
+  /** Page size (default 200). */
   limit: z.coerce.number().int().min(1).max(500).optional(),
+  /** Cursor: only runs with an id below this one (the previous page's `nextCursor`). */
+  before: z.coerce.number().int().positive().optional(),
 });
 export type RunListQuery = z.infer<typeof runListQuerySchema>;
 

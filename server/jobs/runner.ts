@@ -25,6 +25,7 @@ import { createJobPool, type JobPool } from './pool';
 import type { ChunkTask, HoldoutBlocks } from './tasks';
 import { QueueClient } from './queue-client';
 import { CANCELLED_REASON, flowId } from './queue-shared';
+import { runResultColumns } from '../services/run-shape';
 import { withBootstrap, type BootstrapBatch, type BootstrapResult, type LedgerResult, type RollingPoint, type SweepRow } from '../../lib/gmm/index';
 
 export interface JobRunnerOptions {
@@ -413,7 +414,7 @@ function mergeIntoRun(tx: Db, runId: number, jobId: number, boot: BootstrapResul
   } catch (e) {
     return { ok: false, error: `The bootstrap could not be added to run #${runId}'s ledger: ${messageOf(e)}` };
   }
-  tx.update(runs).set({ result: JSON.stringify(merged) }).where(and(eq(runs.id, runId), eq(runs.bootstrapJobId, jobId))).run();
+  tx.update(runs).set(runResultColumns(merged)).where(and(eq(runs.id, runId), eq(runs.bootstrapJobId, jobId))).run();
   return { ok: true };
 }
 

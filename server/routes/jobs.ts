@@ -26,7 +26,7 @@ export function registerJobRoutes(api: ApiRouter, deps: AppDeps, runner: JobRunn
 
   api.get('/jobs', 'signed-in', (req: Request, res: Response) => {
     const q = parseOr400(jobListQuerySchema, req.query, 'job filter');
-    res.json({ jobs: listJobs(db, currentUser(req), q) });
+    res.json(listJobs(db, currentUser(req), q));
   });
 
   api.get('/jobs/:id', 'signed-in', (req: Request, res: Response) => {

@@ -34,7 +34,7 @@ export function registerRunRoutes(api: ApiRouter, deps: AppDeps, runner: JobRunn
 
   api.get('/runs', 'signed-in', (req: Request, res: Response) => {
     const q = parseOr400(runListQuerySchema, req.query, 'run filter');
-    res.json({ runs: listRuns(db, currentUser(req), q) });
+    res.json(listRuns(db, currentUser(req), q));
   });
 
   api.post('/runs', WRITERS, (req: Request, res: Response) => {

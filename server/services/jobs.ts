@@ -7,11 +7,11 @@
  * - read: anyone who can read the job's run (its library edition). Listing: admins see all jobs;
  *   researchers their own; reviewers and desk users the jobs of runs they can read.
  */
-import { and, desc, eq, inArray, type SQL } from 'drizzle-orm';
+import { and, count, desc, eq, getTableColumns, inArray, lt, or, type SQL } from 'drizzle-orm';
 import { randomInt } from 'node:crypto';
 import type { Db } from '../db/client';
 import { inTransaction } from '../db/client';
-import { jobs, runs, users } from '../db/schema/index';
+import { jobs, libraries, runs, users } from '../db/schema/index';
 import { KeelsonApiError } from '../../shared/errors';
 import type { User } from '../../shared/auth';
 import {
@@ -20,15 +20,20 @@ import {
   type Job,
   type JobListQuery,
   type JobResult,
+  type JobsResponse,
   type StartCheck,
 } from '../../shared/jobs';
 import { audit } from './audit';
 import { nameOf } from './users';
 import { canReadEdition } from './specs';
+import { libraryAccessSql } from './runs';
 import { assertBootstrapAccepted, buildCheckInput } from './jobs-input';
 import type { JobRunner } from '../jobs/runner';
 
 type JobRow = typeof jobs.$inferSelect;
+/** Every job column but the (large) result: what lists read. */
+const { result: _resultColumn, ...listColumns } = getTableColumns(jobs);
+void _resultColumn;
 
 function etaSeconds(row: JobRow, now = Date.now()): number | null {
   if (row.status !== 'running' || !row.startedAt || row.done <= 0 || row.total <= 0) return null;
@@ -84,27 +89,39 @@ export function getJob(db: Db, user: User, id: number): Job {
   return toJob(row, nameOf(db, row.authorId), true);
 }
 
-/** Jobs the user may see, newest first, without their results (read one job for its result). */
-export function listJobs(db: Db, user: User, q: JobListQuery): Job[] {
+/**
+ * A page of the jobs `user` may see, newest first, without their results (read one job for its
+ * result). Access and paging run in SQL: admins see every job; researchers without a run filter
+ * their own; others the jobs they started or whose run's library they may read (libraryAccessSql).
+ */
+export function listJobs(db: Db, user: User, q: JobListQuery): JobsResponse {
   const conds: SQL[] = [];
   if (q.runId) {
     runOf(db, user, q.runId); // 404 unless the run is readable
     conds.push(eq(jobs.runId, q.runId));
   } else if (user.role === 'researcher') conds.push(eq(jobs.authorId, user.id));
+  else if (user.role !== 'admin') conds.push(or(eq(jobs.authorId, user.id), libraryAccessSql(user)) as SQL);
   if (q.status) conds.push(eq(jobs.status, q.status));
+  const where = conds.length ? and(...conds) : undefined;
+  const limit = q.limit ?? 200;
   const rows = db
-    .select({ j: jobs, authorName: users.name, editionId: runs.editionId })
+    .select({ j: listColumns, authorName: users.name })
     .from(jobs)
     .innerJoin(users, eq(users.id, jobs.authorId))
     .leftJoin(runs, eq(runs.id, jobs.runId))
-    .where(conds.length ? and(...conds) : undefined)
+    .leftJoin(libraries, eq(libraries.id, runs.libraryId))
+    .where(q.before ? and(where, lt(jobs.id, q.before)) : where)
     .orderBy(desc(jobs.id))
-    .limit(500)
+    .limit(limit + 1)
     .all();
-  const cache = new Map<number, boolean>();
-  return rows
-    .filter((x) => user.role === 'admin' || x.j.authorId === user.id || (x.editionId !== null && canReadEdition(db, user, x.editionId, cache)))
-    .map((x) => toJob(x.j, x.authorName, false));
+  const page = rows.slice(0, limit);
+  const total =
+    db.select({ n: count() }).from(jobs).leftJoin(runs, eq(runs.id, jobs.runId)).leftJoin(libraries, eq(libraries.id, runs.libraryId)).where(where).get()?.n ?? 0;
+  return {
+    jobs: page.map((x) => toJob({ ...x.j, result: null }, x.authorName, false)),
+    total,
+    nextCursor: rows.length > limit ? page[page.length - 1].j.id : null,
+  };
 }
 
 function assertMayChange(user: User, row: JobRow): void {

@@ -20,14 +20,14 @@
  * The author is mailed when the run ends only if it took at least `mailAfterMs` (one minute by
  * default, as for deep checks).
  */
-import { and, desc, eq, inArray, isNull, max, type SQL } from 'drizzle-orm';
+import { and, count, desc, eq, getTableColumns, inArray, isNull, lt, max, or, sql, type SQL } from 'drizzle-orm';
 import type { Db } from '../db/client';
 import { inTransaction } from '../db/client';
-import { jobs, runs, signoffRequests, signoffs, users } from '../db/schema/index';
+import { jobs, libraries, runs, signoffRequests, signoffs, users } from '../db/schema/index';
 import { KeelsonApiError } from '../../shared/errors';
 import type { User } from '../../shared/auth';
 import { modelSpecSchema, resolveBasis, specBootstrapSchema, type ModelSpec, type SavedSpec } from '../../shared/specs';
-import type { ChangeBasisBody, FirstStageCopyResponse, LedgerResult, Run, RunListQuery, RunStatus, RunSummary, SignoffState } from '../../shared/runs';
+import type { ChangeBasisBody, FirstStageCopyResponse, LedgerResult, Run, RunListQuery, RunsResponse, RunStatus, RunSummary, SignoffState } from '../../shared/runs';
 import type { LedgerResult as EngineResult } from '../../lib/gmm/index';
 import { estimateLedger, GmmInputError } from '../../lib/gmm/index';
 import { gmmFailureMessage } from '../../shared/gmm-messages';
@@ -41,8 +41,13 @@ import { sendMailInBackground } from './mail';
 import type { Mailer } from './mailer';
 import type { JobRunner } from '../jobs/runner';
 import { KEELSON_VERSION } from '../version';
+import { runResultColumns } from './run-shape';
 
 type RunRow = typeof runs.$inferSelect;
+/** A run row without its (large) result text: what summaries and lists read. */
+type SummaryRow = Omit<RunRow, 'result'>;
+const { result: _resultColumn, ...summaryColumns } = getTableColumns(runs);
+void _resultColumn;
 
 const inflightMail = new Set<Promise<void>>();
 /** Sends in the background (a failure never undoes the action) and remembers the send until it ends. */
@@ -117,8 +122,7 @@ function parseResult(row: RunRow): LedgerResult | null {
   return row.result ? (JSON.parse(row.result) as LedgerResult) : null;
 }
 
-function toSummary(row: RunRow, authorName: string, signoff: SignoffState): RunSummary {
-  const result = parseResult(row);
+function toSummary(row: SummaryRow, authorName: string, signoff: SignoffState): RunSummary {
   const spec = JSON.parse(row.spec) as ModelSpec;
   return {
     id: row.id,
@@ -137,9 +141,9 @@ function toSummary(row: RunRow, authorName: string, signoff: SignoffState): RunS
     startedAt: row.startedAt,
     finishedAt: row.finishedAt,
     signoff,
-    N: result?.N ?? null,
-    K: result?.K ?? null,
-    T: result?.T ?? null,
+    N: row.nAssets,
+    K: row.nFactors,
+    T: row.nPeriods,
     factors: spec.factors,
     bootstrapJobId: row.bootstrapJobId ?? null,
   };
@@ -180,35 +184,67 @@ export function getRunResultText(db: Db, user: User, id: number): string {
   return row.result;
 }
 
-export function listRuns(db: Db, user: User, q: RunListQuery): RunSummary[] {
+/**
+ * Which libraries' runs `user` may read, as SQL on `libraries` (the same rule as canReadLibrary in
+ * edition-data.ts: admins all, shared libraries for everyone, private ones for their researcher
+ * owner); undefined for no restriction.
+ */
+export function libraryAccessSql(user: User): SQL | undefined {
+  if (user.role === 'admin') return undefined;
+  if (user.role === 'researcher') return or(eq(libraries.visibility, 'shared'), eq(libraries.ownerId, user.id));
+  return eq(libraries.visibility, 'shared');
+}
+
+/**
+ * The sign-off state of `runs.id` in SQL, as signoffStates() computes it: 'requested' while a
+ * request is unanswered, else the last decision, else 'none'.
+ */
+const signoffStateSql = sql<SignoffState>`(CASE WHEN EXISTS (SELECT 1 FROM ${signoffRequests} WHERE ${signoffRequests.runId} = ${runs.id} AND ${signoffRequests.answeredAt} IS NULL) THEN 'requested' ELSE coalesce((SELECT ${signoffs.decision} FROM ${signoffs} WHERE ${signoffs.runId} = ${runs.id} ORDER BY ${signoffs.id} DESC LIMIT 1), 'none') END)`;
+
+/**
+ * A page of the runs `user` may read, newest first. Access, every filter (sign-off state and N, K, T
+ * included) and the paging run in SQL on columns; no result JSON is read.
+ */
+export function listRuns(db: Db, user: User, q: RunListQuery): RunsResponse {
   const conds: SQL[] = [];
+  const access = libraryAccessSql(user);
+  if (access) conds.push(access);
   if (q.specId) conds.push(eq(runs.specId, q.specId));
   if (q.libraryId) conds.push(eq(runs.libraryId, q.libraryId));
   if (q.editionId) conds.push(eq(runs.editionId, q.editionId));
   if (q.status) conds.push(eq(runs.status, q.status));
   if (q.authorId) conds.push(eq(runs.authorId, q.authorId));
+  if (q.N) conds.push(eq(runs.nAssets, q.N));
+  if (q.K) conds.push(eq(runs.nFactors, q.K));
+  if (q.T) conds.push(eq(runs.nPeriods, q.T));
+  if (q.signoff) conds.push(sql`${signoffStateSql} = ${q.signoff}`);
+  const where = conds.length ? and(...conds) : undefined;
+  const limit = q.limit ?? 200;
   const rows = db
-    .select({ r: runs, authorName: users.name })
+    .select({ r: summaryColumns, authorName: users.name })
     .from(runs)
     .innerJoin(users, eq(users.id, runs.authorId))
-    .where(conds.length ? and(...conds) : undefined)
+    .innerJoin(libraries, eq(libraries.id, runs.libraryId))
+    .where(q.before ? and(where, lt(runs.id, q.before)) : where)
     .orderBy(desc(runs.id))
-    .limit(2000)
+    .limit(limit + 1)
     .all();
-  const cache = new Map<number, boolean>();
-  const visible = rows.filter((x) => canReadEdition(db, user, x.r.editionId, cache));
+  const page = rows.slice(0, limit);
+  const total = db.select({ n: count() }).from(runs).innerJoin(libraries, eq(libraries.id, runs.libraryId)).where(where).get()?.n ?? 0;
   const states = signoffStates(
     db,
-    visible.map((x) => x.r.id),
+    page.map((x) => x.r.id),
   );
-  let out = visible.map((x) => toSummary(x.r, x.authorName, states.get(x.r.id) ?? 'none'));
-  if (q.signoff) out = out.filter((r) => r.signoff === q.signoff);
-  return out.slice(0, q.limit ?? 200);
+  return {
+    runs: page.map((x) => toSummary(x.r, x.authorName, states.get(x.r.id) ?? 'none')),
+    total,
+    nextCursor: rows.length > limit ? page[page.length - 1].r.id : null,
+  };
 }
 
 export function runSummariesByIds(db: Db, ids: number[]): Map<number, RunSummary> {
   if (ids.length === 0) return new Map();
-  const rows = db.select({ r: runs, authorName: users.name }).from(runs).innerJoin(users, eq(users.id, runs.authorId)).where(inArray(runs.id, ids)).all();
+  const rows = db.select({ r: summaryColumns, authorName: users.name }).from(runs).innerJoin(users, eq(users.id, runs.authorId)).where(inArray(runs.id, ids)).all();
   const states = signoffStates(db, ids);
   return new Map(rows.map((x) => [x.r.id, toSummary(x.r, x.authorName, states.get(x.r.id) ?? 'none')]));
 }
@@ -305,7 +341,7 @@ function insertRun(
       authorId: user.id,
       status,
       error: p.outcome.ok ? null : p.outcome.error,
-      result: p.outcome.ok ? JSON.stringify(p.outcome.result) : null,
+      ...runResultColumns(p.outcome.ok ? p.outcome.result : null),
       startedAt: p.startedAt,
       finishedAt: p.finishedAt,
     })

@@ -1,6 +1,7 @@
 /**
- * Migration 0007 (foreign keys on model_specs.edition_id, runs.edition_id and jobs.run_id). SQLite
+ * Migrations 0007 (foreign keys on model_specs.edition_id, runs.edition_id and jobs.run_id). SQLite
  * adds a foreign key only by rebuilding the table (create new, copy, drop, rename), so this test
+ * (0008 adds the run shape columns N, K, T, filled from each stored result; tested below.) This test
  * builds a database at migration 0006 with rows in every affected table and in the tables that
  * reference them, opens it with `openDb` (which applies 0007) and checks that every row is still
  * there, byte for byte, and that the new keys are enforced.
@@ -64,8 +65,13 @@ function fillOldDatabase(file: string, opts: { orphanJob?: boolean } = {}): void
   c.close();
 }
 
+/** Columns added after 0007 (0008's run shape), left out where a 0007 test compares rows with an older dump. */
+const LATER_COLUMNS = ['n_assets', 'n_factors', 'n_periods'];
+
 function dump(c: Database.Database): Record<string, unknown[]> {
-  return Object.fromEntries(TABLES.map((t) => [t, c.prepare(`select * from ${t} order by rowid`).all()]));
+  return Object.fromEntries(
+    TABLES.map((t) => [t, (c.prepare(`select * from ${t} order by rowid`).all() as Record<string, unknown>[]).map((r) => Object.fromEntries(Object.entries(r).filter(([k]) => !LATER_COLUMNS.includes(k))))]),
+  );
 }
 
 describe('migration 0007 foreign-keys', () => {
@@ -96,7 +102,7 @@ describe('migration 0007 foreign-keys', () => {
       expect(c.pragma('integrity_check', { simple: true })).toBe('ok');
       // Indexes came back with the tables.
       const idx = (c.prepare("select name from sqlite_master where type = 'index' and tbl_name in ('runs', 'jobs', 'model_specs') and name not like 'sqlite_%' order by name").all() as { name: string }[]).map((r) => r.name);
-      expect(idx).toEqual(['jobs_author_idx', 'jobs_run_idx', 'jobs_status_idx', 'model_specs_author_idx', 'runs_author_idx', 'runs_library_idx', 'runs_spec_idx']);
+      expect(idx).toEqual(['jobs_author_idx', 'jobs_run_idx', 'jobs_status_idx', 'model_specs_author_idx', 'runs_author_idx', 'runs_library_idx', 'runs_spec_idx', 'runs_status_idx']);
 
       expect(() => c.prepare("insert into jobs (kind, run_id, author_id, params, status) values ('rolling', 99, 1, '{}', 'queued')").run()).toThrow(/FOREIGN KEY/);
       expect(() =>
@@ -127,5 +133,29 @@ describe('migration 0007 foreign-keys', () => {
     expect(db.$client.pragma('foreign_keys', { simple: true })).toBe(1);
     expect(db.$client.pragma('foreign_key_check')).toEqual([]);
     db.$client.close();
+  });
+});
+
+describe('migration 0008 run-shape', () => {
+  it('fills N, K, T of every run written before it from the stored result; runs without one stay null', () => {
+    const file = databaseAt(7);
+    fillOldDatabase(file);
+    const c0 = new Database(file);
+    // a finished run whose stored ledger has the shape fields estimateLedger writes
+    c0.prepare(
+      "insert into runs (id, edition_id, library_id, library_name, edition_number, spec, keelson_version, author_id, status, result) values (3, 2, 1, 'L', 2, '{}', '0.1.0', 1, 'finished', ?)",
+    ).run(JSON.stringify({ N: 12, K: 3, T: 240, factors: [] }));
+    c0.close();
+    const db = openDb(file);
+    try {
+      const rows = db.$client.prepare('select id, n_assets as N, n_factors as K, n_periods as T from runs order by id').all();
+      expect(rows).toEqual([
+        { id: 1, N: null, K: null, T: null }, // its stored result has no shape fields
+        { id: 2, N: null, K: null, T: null }, // failed: no result
+        { id: 3, N: 12, K: 3, T: 240 },
+      ]);
+    } finally {
+      db.$client.close();
+    }
   });
 });

@@ -3,7 +3,7 @@ import { StyleSheet, Text, View } from 'react-native';
 import { router, useLocalSearchParams } from 'expo-router';
 import type { ColumnDef } from '@tanstack/react-table';
 import { useMe } from '../../../hooks/use-session';
-import { useRuns } from '../../../hooks/use-runs';
+import { useRunPages } from '../../../hooks/use-runs';
 import { useIsWide } from '../../../hooks/use-layout';
 import { Screen } from '../../../components/screen';
 import { Button } from '../../../components/button';
@@ -40,7 +40,9 @@ export default function Runs() {
     ...(params.specId ? { specId: Number(params.specId) } : {}),
     ...(params.libraryId ? { libraryId: Number(params.libraryId) } : {}),
   };
-  const runs = useRuns(q);
+  const runs = useRunPages(q);
+  const rows = runs.data?.pages.flatMap((pg) => pg.runs);
+  const total = runs.data?.pages[0]?.total ?? 0;
   const writer = me?.role === 'researcher' || me?.role === 'admin';
   const wide = useIsWide();
   const [showFilters, setShowFilters] = useState(false);
@@ -143,10 +145,10 @@ export default function Runs() {
         <Text style={text.muted}>Showing runs of spec #{params.specId}. <Text onPress={() => router.replace('/runs')} style={{ textDecorationLine: 'underline' }}>Show all</Text></Text>
       ) : null}
       {runs.isError ? <ErrorView error={runs.error} title="Runs could not be loaded" onRetry={() => void runs.refetch()} /> : null}
-      {runs.data ? (
+      {rows ? (
         <DataTable
           label="Runs"
-          data={runs.data}
+          data={rows}
           columns={columns}
           filterable
           getRowId={(r) => String(r.id)}
@@ -170,6 +172,16 @@ export default function Runs() {
             </Card>
           )}
         />
+      ) : null}
+      {rows && rows.length > 0 ? (
+        <View style={{ flexDirection: 'row', gap: space.md, alignItems: 'center', flexWrap: 'wrap' }}>
+          <Text style={text.muted} role="status" aria-label="Runs shown">
+            {rows.length} of {total} runs
+          </Text>
+          {runs.hasNextPage ? (
+            <Button label={runs.isFetchingNextPage ? 'Loading…' : 'Show more'} compact onPress={() => void runs.fetchNextPage()} disabled={runs.isFetchingNextPage} />
+          ) : null}
+        </View>
       ) : null}
       <CompareBar picked={picked} onClear={() => setPicked([])} />
       <Card title="Compare by run number" subtitle="Or type two run numbers. Ledgers, J and pricing errors side by side; a drop test when one model nests the other on the same data.">

@@ -61,6 +61,14 @@ export const runs = sqliteTable(
     /** estimateLedger's full output (JSON text) for a finished run. */
     result: text('result'),
     /**
+     * N, K, T of the finished run's result, as columns (migration 0008 fills them from `result`):
+     * run lists read them without parsing any result JSON. Written with `result` through
+     * runShapeColumns() (server/services/runs.ts) so they never drift.
+     */
+    nAssets: integer('n_assets'),
+    nFactors: integer('n_factors'),
+    nPeriods: integer('n_periods'),
+    /**
      * The bootstrap deep check (jobs.id, plain integer like the other cross-module references)
      * started with the run when its spec asks for bootstrap p-values; its result is merged into
      * `result` once, in the transaction that marks the job finished.
@@ -74,6 +82,7 @@ export const runs = sqliteTable(
     index('runs_author_idx').on(t.authorId),
     index('runs_spec_idx').on(t.specId),
     index('runs_library_idx').on(t.libraryId),
+    index('runs_status_idx').on(t.status),
   ],
 );
 
