@@ -6,6 +6,7 @@ import { randomBytes } from 'node:crypto';
 import { and, count, desc, eq, inArray, isNull, lt, ne, or, sql } from 'drizzle-orm';
 import { csvLine } from '../../shared/csv';
 import type { Db } from '../db/client';
+import { preparedFor } from '../db/prepared';
 import { inTransaction } from '../db/client';
 import {
   libraries,
@@ -524,11 +525,16 @@ function toSummary(user: User, lib: LibraryRow, editions: EditionRow[]): Library
   };
 }
 
-export function listLibraries(db: Db, user: User, q: LibraryListQuery): LibrarySummary[] {
-  const rows = selectLibraries(db)
+const allLibraries = preparedFor((db) =>
+  selectLibraries(db)
     .orderBy(desc(libraries.visibility), sql`${libraries.name} collate nocase`, libraries.id)
-    .all();
-  const all = selectEditions(db).orderBy(desc(libraryEditions.number)).all();
+    .prepare(),
+);
+const allEditions = preparedFor((db) => selectEditions(db).orderBy(desc(libraryEditions.number)).prepare());
+
+export function listLibraries(db: Db, user: User, q: LibraryListQuery): LibrarySummary[] {
+  const rows = allLibraries(db).all();
+  const all = allEditions(db).all();
   const byLib = new Map<number, EditionRow[]>();
   for (const e of all) {
     const a = byLib.get(e.libraryId) ?? [];

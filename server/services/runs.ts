@@ -33,14 +33,15 @@ import { estimateLedger, GmmInputError } from '../../lib/gmm/index';
 import { gmmFailureMessage } from '../../shared/gmm-messages';
 import type { EditionData } from './edition-data';
 import { bootstrapSettingsOf, buildLedgerInput, RunDataError } from './ledger-input';
-import { canReadEdition, findSpecRow, insertSpec, loadAndCheck, specForRun } from './specs';
+import { findSpecRow, insertSpec, loadAndCheck, specForRun } from './specs';
 import { assertBootstrapAccepted, bootstrapCheckInput } from './jobs-input';
 import { audit } from './audit';
-import { nameOf } from './users';
 import { sendMailInBackground } from './mail';
 import type { Mailer } from './mailer';
 import type { JobRunner } from '../jobs/runner';
 import { KEELSON_VERSION } from '../version';
+import { preparedFor } from '../db/prepared';
+import { canReadLibrary } from './edition-data';
 import { runResultColumns } from './run-shape';
 
 type RunRow = typeof runs.$inferSelect;
@@ -153,17 +154,33 @@ function toRun(row: RunRow, authorName: string, signoff: SignoffState): Run {
   return { ...toSummary(row, authorName, signoff), spec: modelSpecSchema.parse(JSON.parse(row.spec)), result: parseResult(row) };
 }
 
+/** A run with its library's access fields (runs.library_id is the edition's library) and its sign-off state. */
+const runWithAccess = preparedFor((db) =>
+  db
+    .select({ r: runs, visibility: libraries.visibility, ownerId: libraries.ownerId, signoff: signoffStateSql, authorName: users.name })
+    .from(runs)
+    .innerJoin(libraries, eq(libraries.id, runs.libraryId))
+    .innerJoin(users, eq(users.id, runs.authorId))
+    .where(eq(runs.id, sql.placeholder('id')))
+    .prepare(),
+);
+
+/** The run row with its author's name and sign-off state, if it exists and `user` may read its library; else 404. */
+function readableRun(db: Db, user: User, id: number): { r: RunRow; signoff: SignoffState; authorName: string } {
+  const hit = Number.isInteger(id) ? runWithAccess(db).get({ id }) : undefined;
+  if (!hit || !canReadLibrary(user, { id: hit.r.libraryId, visibility: hit.visibility, ownerId: hit.ownerId })) throw new KeelsonApiError('not_found', `No run ${id}`);
+  return hit;
+}
+
 /** The run row, if it exists and `user` may read its library; else 404. */
 export function findRunRow(db: Db, user: User, id: number): RunRow {
-  const row = db.select().from(runs).where(eq(runs.id, id)).get();
-  if (!row || !canReadEdition(db, user, row.editionId)) throw new KeelsonApiError('not_found', `No run ${id}`);
-  return row;
+  return readableRun(db, user, id).r;
 }
 
 
 export function getRun(db: Db, user: User, id: number): Run {
-  const row = findRunRow(db, user, id);
-  return toRun(row, nameOf(db, row.authorId), signoffStates(db, [row.id]).get(row.id) ?? 'none');
+  const { r, authorName, signoff } = readableRun(db, user, id);
+  return toRun(r, authorName, signoff);
 }
 
 /**
@@ -171,8 +188,8 @@ export function getRun(db: Db, user: User, id: number): Run {
  * run's (large) ledger is parsed once for the summary and never re-serialised.
  */
 export function getRunJson(db: Db, user: User, id: number): string {
-  const row = findRunRow(db, user, id);
-  const summary = toSummary(row, nameOf(db, row.authorId), signoffStates(db, [row.id]).get(row.id) ?? 'none');
+  const { r: row, authorName, signoff } = readableRun(db, user, id);
+  const summary = toSummary(row, authorName, signoff);
   const head = JSON.stringify({ ...summary, spec: modelSpecSchema.parse(JSON.parse(row.spec)), result: null });
   return `{"run":${head.slice(0, -'null}'.length)}${row.result ?? 'null'}}}`;
 }

@@ -2,6 +2,7 @@ import session from 'express-session';
 import { and, eq, lt, ne, sql } from 'drizzle-orm';
 import type { Db } from '../db/client';
 import { sessions } from '../db/schema/index';
+import { preparedFor } from '../db/prepared';
 
 const DAY_MS = 24 * 60 * 60 * 1000;
 /** A session's expiry is written at most once in this long by `touch` (rolling sessions touch on every request). */
@@ -23,6 +24,15 @@ export function destroyUserSessions(db: Db, userId: number, keepSid?: string): n
  * express-session store on Keelson's own `sessions` table. Expired rows are ignored on read
  * and swept on a timer that never keeps the process alive.
  */
+const sessionBySid = preparedFor((db) => db.select().from(sessions).where(eq(sessions.sid, sql.placeholder('sid'))).prepare());
+const touchSession = preparedFor((db) =>
+  db
+    .update(sessions)
+    .set({ expiresAt: sql`${sql.placeholder('expiresAt')}` })
+    .where(eq(sessions.sid, sql.placeholder('sid')))
+    .prepare(),
+);
+
 export class SqliteSessionStore extends session.Store {
   private readonly timer: ReturnType<typeof setInterval>;
   /** When this process last wrote each session's expiry (touch or set). */
@@ -51,7 +61,7 @@ export class SqliteSessionStore extends session.Store {
 
   override get(sid: string, cb: (err: unknown, session?: session.SessionData | null) => void): void {
     try {
-      const row = this.db.select().from(sessions).where(eq(sessions.sid, sid)).get();
+      const row = sessionBySid(this.db).get({ sid });
       if (!row || row.expiresAt <= this.now()) return cb(null, null);
       cb(null, JSON.parse(row.data) as session.SessionData);
     } catch (e) {
@@ -98,7 +108,7 @@ export class SqliteSessionStore extends session.Store {
     const last = this.touched.get(sid);
     if (last !== undefined && this.now() - last < SESSION_TOUCH_MS) return cb?.();
     try {
-      this.db.update(sessions).set({ expiresAt: this.expiry(sess) }).where(eq(sessions.sid, sid)).run();
+      touchSession(this.db).run({ sid, expiresAt: this.expiry(sess) });
       this.remember(sid);
       cb?.();
     } catch (e) {

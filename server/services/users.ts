@@ -4,6 +4,7 @@ import { and, desc, eq, isNull, ne, sql } from 'drizzle-orm';
 import type { Db } from '../db/client';
 import { inTransaction } from '../db/client';
 import { invitations, users } from '../db/schema/index';
+import { preparedFor } from '../db/prepared';
 import { KeelsonApiError } from '../../shared/errors';
 import { normaliseEmail, type AdminUser, type InviteBody, type Invitation, type User } from '../../shared/auth';
 import type { Role } from '../../shared/roles';
@@ -20,7 +21,7 @@ type UserRow = typeof users.$inferSelect;
 
 /** The display name of user `id` ("user 12" when the account is gone): the one lookup every service uses. */
 export function nameOf(db: Db, id: number): string {
-  return db.select({ name: users.name }).from(users).where(eq(users.id, id)).get()?.name ?? `user ${id}`;
+  return userNameById(db).get({ id })?.name ?? `user ${id}`;
 }
 
 export function toUser(row: UserRow): User {
@@ -43,8 +44,23 @@ export async function verifyCredentials(db: Db, email: string, password: string)
   return toUser(row);
 }
 
+const activeUserById = preparedFor((db) =>
+  db
+    .select()
+    .from(users)
+    .where(and(eq(users.id, sql.placeholder('id')), eq(users.active, true)))
+    .prepare(),
+);
+const userNameById = preparedFor((db) =>
+  db
+    .select({ name: users.name })
+    .from(users)
+    .where(eq(users.id, sql.placeholder('id')))
+    .prepare(),
+);
+
 export function findActiveUser(db: Db, id: number): User | null {
-  const row = db.select().from(users).where(and(eq(users.id, id), eq(users.active, true))).get();
+  const row = activeUserById(db).get({ id });
   return row ? toUser(row) : null;
 }
 
