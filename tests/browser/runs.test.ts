@@ -134,37 +134,6 @@ describe('researcher: spec → run → ledger → export', () => {
   });
 });
 
-describe('the runs list pages', () => {
-  it('shows a page of 50 with the total, and "Show more" adds the next page (the API’s newest-first order)', async () => {
-    const { context, page, errors } = await openPage(browser, WIDE);
-    await signIn(page, 'researcher');
-    const libs = (await api<{ libraries: { id: number; name: string; latestEdition: number }[] }>(page, '/libraries')).libraries;
-    const lib = libs.find((l) => l.name.startsWith('Harbour market'))!;
-    const ed = (await api<{ edition: { id: number; series: { name: string; kind: string }[] } }>(page, `/libraries/${lib.id}/editions/${lib.latestEdition}`)).edition;
-    const assets = ed.series.filter((x) => x.kind === 'asset').map((x) => x.name).slice(0, 3);
-    // enough runs for a second page (small, fast runs through the API)
-    let total = (await api<{ total: number }>(page, '/runs?limit=1')).total;
-    while (total <= 55) {
-      const r = await apiPost(page, '/runs', { editionId: ed.id, spec: { assets, factors: ['TIDE'], nonTraded: [], rf: 'RF' } });
-      expect(r.status(), await r.text()).toBe(201);
-      total += 1;
-    }
-    const all = (await api<{ runs: { id: number }[]; total: number }>(page, '/runs?limit=500'));
-    expect(all.total).toBe(total);
-    await page.goto('/runs');
-    const shown = page.getByRole('status', { name: 'Runs shown' });
-    await expect.poll(() => shown.textContent()).toBe(`50 of ${total} runs`);
-    await page.getByRole('button', { name: 'Show more' }).click();
-    await expect.poll(() => shown.textContent()).toBe(`${Math.min(100, total)} of ${total} runs`);
-    // the table's first rows are the API's newest runs, in its order
-    const firstRow = page.getByRole('table', { name: 'Runs' }).getByRole('row').nth(1);
-    await expect.poll(async () => (await firstRow.textContent()) ?? '').toContain(String(all.runs[0].id));
-    await shot(page, 'runs-list-show-more-wide');
-    expect(errors).toEqual([]);
-    await context.close();
-  });
-});
-
 describe('reviewer: comment and approve', () => {
   it('finds the run awaiting sign-off, comments and approves; the author’s outbox has the e-mails', async () => {
     const { context, page, errors } = await openPage(browser, WIDE);
@@ -261,6 +230,38 @@ describe('desk: compare, and no editing', () => {
     expect(post.status()).toBe(403);
     const comment = await apiPost(page, `/runs/${runId}/comments`, { text: 'hi' });
     expect(comment.status()).toBe(403);
+    await context.close();
+  });
+});
+
+// Last in this file: it adds 50-odd runs, which would push the runs the tests above look for off the table's first page.
+describe('the runs list pages', () => {
+  it('shows a page of 50 with the total, and "Show more" adds the next page (the API’s newest-first order)', async () => {
+    const { context, page, errors } = await openPage(browser, WIDE);
+    await signIn(page, 'researcher');
+    const libs = (await api<{ libraries: { id: number; name: string; latestEdition: number }[] }>(page, '/libraries')).libraries;
+    const lib = libs.find((l) => l.name.startsWith('Harbour market'))!;
+    const ed = (await api<{ edition: { id: number; series: { name: string; kind: string }[] } }>(page, `/libraries/${lib.id}/editions/${lib.latestEdition}`)).edition;
+    const assets = ed.series.filter((x) => x.kind === 'asset').map((x) => x.name).slice(0, 3);
+    // enough runs for a second page (small, fast runs through the API)
+    let total = (await api<{ total: number }>(page, '/runs?limit=1')).total;
+    while (total <= 55) {
+      const r = await apiPost(page, '/runs', { editionId: ed.id, spec: { assets, factors: ['TIDE'], nonTraded: [], rf: 'RF' } });
+      expect(r.status(), await r.text()).toBe(201);
+      total += 1;
+    }
+    const all = (await api<{ runs: { id: number }[]; total: number }>(page, '/runs?limit=500'));
+    expect(all.total).toBe(total);
+    await page.goto('/runs');
+    const shown = page.getByRole('status', { name: 'Runs shown' });
+    await expect.poll(() => shown.textContent()).toBe(`50 of ${total} runs`);
+    await page.getByRole('button', { name: 'Show more' }).click();
+    await expect.poll(() => shown.textContent()).toBe(`${Math.min(100, total)} of ${total} runs`);
+    // the table's first rows are the API's newest runs, in its order
+    const firstRow = page.getByRole('table', { name: 'Runs' }).getByRole('row').nth(1);
+    await expect.poll(async () => (await firstRow.textContent()) ?? '').toContain(String(all.runs[0].id));
+    await shot(page, 'runs-list-show-more-wide');
+    expect(errors).toEqual([]);
     await context.close();
   });
 });
