@@ -8,7 +8,7 @@ import { ChunkFailedError, createJobPool, defaultThreadCount } from '../../serve
 import { gmmFailureMessage } from '../../shared/gmm-messages';
 import { runChunk, type ChunkTask } from '../../server/jobs/tasks';
 import { chunkRanges } from '../../server/jobs/runner';
-import { simulateEconomy } from '../gmm/helpers';
+import { simulateEconomy, zeroCovarianceEconomy } from '../gmm/helpers';
 import type { BootstrapBatch, SweepRow } from '../../lib/gmm/index';
 
 const pool = createJobPool({ threads: 1 });
@@ -74,9 +74,7 @@ describe('job pool', () => {
 
   it('a typed numerical failure in a worker rejects with ChunkFailedError carrying code singular and the mapped message', async () => {
     // Cov(R, f₂) = 0 exactly (returns repeat in pairs, f₂ alternates ±0.01): X'WX is singular
-    const z = simulateEconomy({ T: 20, N: 3, K: 1, seed: 5 });
-    const returns = z.returns.flatMap((r) => [r, r]);
-    const factors = z.factors.flatMap((f) => [[f[0], 0.01], [f[0], -0.01]]);
+    const { returns, factors } = zeroCovarianceEconomy();
     const task: ChunkTask = {
       op: 'bootstrap',
       key: 'pool-test-singular',

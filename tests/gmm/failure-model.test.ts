@@ -31,7 +31,7 @@ import {
 import { runChunk } from '../../server/jobs/tasks';
 import { isChunkFailure } from '../../server/jobs/pool';
 import { gmmFailureMessage } from '../../shared/gmm-messages';
-import { simulateEconomy } from './helpers';
+import { simulateEconomy, zeroCovarianceEconomy } from './helpers';
 
 const LIB = join(__dirname, '../../lib/gmm');
 
@@ -88,14 +88,7 @@ describe('the public surface (TypeScript checker on lib/gmm/index.ts)', () => {
 describe('typed failures on an exactly singular model', () => {
   // f₂ alternates ±0.01 around its mean while the returns repeat in pairs of periods, so
   // Cov(R, f₂) = 0 exactly: X'WX is singular although every series passes validation.
-  const T = 40;
-  const returns: number[][] = [];
-  const factors: number[][] = [];
-  const z = simulateEconomy({ T: T / 2, N: 3, K: 1, seed: 5 });
-  for (let t = 0; t < T / 2; t++) {
-    returns.push(z.returns[t], z.returns[t]);
-    factors.push([z.factors[t][0], 0.01], [z.factors[t][0], -0.01]);
-  }
+  const { returns, factors } = zeroCovarianceEconomy();
   const factorNames = ['M', 'Z'];
   const boot: BootstrapInput = {
     returns,

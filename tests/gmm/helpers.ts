@@ -43,6 +43,22 @@ export interface Economy {
  * means `mu`; N assets with loadings in [0.2, 1.6], expected excess return β'λ (λ = mu) plus a
  * pricing error `alphaScale`·N(0,1), idiosyncratic noise `noise`.
  */
+/**
+ * T = 40 periods, N = 3 assets, K = 2 factors where f₂ has exactly zero covariance with every asset:
+ * the returns repeat in pairs of periods while f₂ alternates ±0.01 around its mean. Every series
+ * passes validation, but C'WC (X'WX) is singular: the data for typed 'singular' failures.
+ */
+export function zeroCovarianceEconomy(): { returns: number[][]; factors: number[][] } {
+  const z = simulateEconomy({ T: 20, N: 3, K: 1, seed: 5 });
+  const returns: number[][] = [];
+  const factors: number[][] = [];
+  for (let t = 0; t < 20; t++) {
+    returns.push(z.returns[t], z.returns[t]);
+    factors.push([z.factors[t][0], 0.01], [z.factors[t][0], -0.01]);
+  }
+  return { returns, factors };
+}
+
 export function simulateEconomy(opts: {
   T: number;
   N: number;

@@ -4,7 +4,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { estimateSdfGmm, fitSdfGmm, GmmInputError, grsTest, longRunCovariance, prepareMoments, spanningTest, waldSingle, type LedgerInput, estimateLedger as estimateLedgerOutcome } from '../../lib/gmm/index';
-import { estimateLedger, simulateEconomy } from './helpers';
+import { estimateLedger, simulateEconomy, zeroCovarianceEconomy } from './helpers';
 
 const eco = simulateEconomy({ T: 120, N: 4, K: 2, seed: 77 });
 const good: LedgerInput = {
@@ -159,14 +159,7 @@ describe('singular systems give typed results, never NaN', () => {
   // A factor with exactly zero covariance with every asset: returns repeat in pairs of periods
   // while the factor alternates +1/−1 around its mean, so Cov(R, f₂) = 0 exactly and C'WC is
   // singular.
-  const T = 40;
-  const returns: number[][] = [];
-  const factors: number[][] = [];
-  const z = simulateEconomy({ T: T / 2, N: 3, K: 1, seed: 5 });
-  for (let t = 0; t < T / 2; t++) {
-    returns.push(z.returns[t], z.returns[t]);
-    factors.push([z.factors[t][0], 0.01], [z.factors[t][0], -0.01]);
-  }
+  const { returns, factors } = zeroCovarianceEconomy();
 
   it('fitSdfGmm returns { ok: false, reason: "singular" }', () => {
     const fit = fitSdfGmm(prepareMoments(returns, factors), { stage: 'second', lags: 1 });
