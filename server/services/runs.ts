@@ -20,7 +20,7 @@
  * The author is mailed when the run ends only if it took at least `mailAfterMs` (one minute by
  * default, as for deep checks).
  */
-import { and, count, desc, eq, getTableColumns, inArray, isNull, lt, max, or, sql, type SQL } from 'drizzle-orm';
+import { and, count, desc, eq, getTableColumns, inArray, lt, or, sql, type SQL } from 'drizzle-orm';
 import type { Db } from '../db/client';
 import { inTransaction } from '../db/client';
 import { jobs, libraries, runs, signoffRequests, signoffs, users } from '../db/schema/index';
@@ -89,35 +89,6 @@ export function estimate(spec: ModelSpec, data: EditionData, dropSetOverride?: s
 }
 
 // ---- reading ----
-
-function signoffStates(db: Db, runIds: number[]): Map<number, SignoffState> {
-  const out = new Map<number, SignoffState>();
-  if (runIds.length === 0) return out;
-  const decided = db
-    .select({ runId: signoffs.runId, decision: signoffs.decision, id: signoffs.id })
-    .from(signoffs)
-    .where(inArray(signoffs.runId, runIds))
-    .orderBy(signoffs.id)
-    .all();
-  const lastDecision = new Map<number, { id: number; decision: 'approved' | 'changes-requested' }>();
-  for (const d of decided) lastDecision.set(d.runId, d);
-  const open = db
-    .select({ runId: signoffRequests.runId, id: max(signoffRequests.id) })
-    .from(signoffRequests)
-    .where(and(isNull(signoffRequests.answeredAt), inArray(signoffRequests.runId, runIds)))
-    .groupBy(signoffRequests.runId)
-    .all();
-  const openBy = new Map(open.map((o) => [o.runId, o.id]));
-  for (const id of runIds) {
-    const d = lastDecision.get(id);
-    const o = openBy.get(id);
-    // A request newer than the last decision means a sign-off is awaited again.
-    if (o !== undefined) out.set(id, 'requested');
-    else if (d) out.set(id, d.decision);
-    else out.set(id, 'none');
-  }
-  return out;
-}
 
 function parseResult(row: RunRow): LedgerResult | null {
   return row.result ? (JSON.parse(row.result) as LedgerResult) : null;
@@ -213,8 +184,8 @@ export function libraryAccessSql(user: User): SQL | undefined {
 }
 
 /**
- * The sign-off state of `runs.id` in SQL, as signoffStates() computes it: 'requested' while a
- * request is unanswered, else the last decision, else 'none'.
+ * The sign-off state of `runs.id`, in SQL (the one rule for single reads, lists and the list
+ * filter): 'requested' while a request is unanswered, else the last decision, else 'none'.
  */
 const signoffStateSql = sql<SignoffState>`(CASE WHEN EXISTS (SELECT 1 FROM ${signoffRequests} WHERE ${signoffRequests.runId} = ${runs.id} AND ${signoffRequests.answeredAt} IS NULL) THEN 'requested' ELSE coalesce((SELECT ${signoffs.decision} FROM ${signoffs} WHERE ${signoffs.runId} = ${runs.id} ORDER BY ${signoffs.id} DESC LIMIT 1), 'none') END)`;
 
@@ -238,7 +209,7 @@ export function listRuns(db: Db, user: User, q: RunListQuery): RunsResponse {
   const where = conds.length ? and(...conds) : undefined;
   const limit = q.limit ?? 200;
   const rows = db
-    .select({ r: summaryColumns, authorName: users.name })
+    .select({ r: summaryColumns, authorName: users.name, signoff: signoffStateSql })
     .from(runs)
     .innerJoin(users, eq(users.id, runs.authorId))
     .innerJoin(libraries, eq(libraries.id, runs.libraryId))
@@ -248,12 +219,8 @@ export function listRuns(db: Db, user: User, q: RunListQuery): RunsResponse {
     .all();
   const page = rows.slice(0, limit);
   const total = db.select({ n: count() }).from(runs).innerJoin(libraries, eq(libraries.id, runs.libraryId)).where(where).get()?.n ?? 0;
-  const states = signoffStates(
-    db,
-    page.map((x) => x.r.id),
-  );
   return {
-    runs: page.map((x) => toSummary(x.r, x.authorName, states.get(x.r.id) ?? 'none')),
+    runs: page.map((x) => toSummary(x.r, x.authorName, x.signoff)),
     total,
     nextCursor: rows.length > limit ? page[page.length - 1].r.id : null,
   };
@@ -261,9 +228,13 @@ export function listRuns(db: Db, user: User, q: RunListQuery): RunsResponse {
 
 export function runSummariesByIds(db: Db, ids: number[]): Map<number, RunSummary> {
   if (ids.length === 0) return new Map();
-  const rows = db.select({ r: summaryColumns, authorName: users.name }).from(runs).innerJoin(users, eq(users.id, runs.authorId)).where(inArray(runs.id, ids)).all();
-  const states = signoffStates(db, ids);
-  return new Map(rows.map((x) => [x.r.id, toSummary(x.r, x.authorName, states.get(x.r.id) ?? 'none')]));
+  const rows = db
+    .select({ r: summaryColumns, authorName: users.name, signoff: signoffStateSql })
+    .from(runs)
+    .innerJoin(users, eq(users.id, runs.authorId))
+    .where(inArray(runs.id, ids))
+    .all();
+  return new Map(rows.map((x) => [x.r.id, toSummary(x.r, x.authorName, x.signoff)]));
 }
 
 // ---- creating ----
