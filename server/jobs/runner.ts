@@ -20,7 +20,7 @@ import { jobs, runs, users } from '../db/schema/index';
 import type { Mailer } from '../services/mailer';
 import { mailInBackground } from '../services/runs';
 import { buildCheckInput, type CheckInput } from '../services/jobs-input';
-import { JOB_KIND_LABELS } from '../../shared/jobs';
+import { JOB_KIND_LABELS, type JobMode } from '../../shared/jobs';
 import { createJobPool, type JobPool } from './pool';
 import type { ChunkTask, HoldoutBlocks } from './tasks';
 import { QueueClient } from './queue-client';
@@ -98,6 +98,8 @@ export class JobRunner {
   private closed = false;
   /** Queue mode's client (null: embedded pool). */
   readonly queue: QueueClient | null;
+  /** 'queue' with KEELSON_REDIS_URL, else 'embedded': decides the per-mode limits (shared/jobs.ts JOB_LIMITS). */
+  readonly mode: JobMode;
   private readonly pollMs: number;
 
   constructor(opts: JobRunnerOptions) {
@@ -108,6 +110,7 @@ export class JobRunner {
     this.pool = opts.pool ?? null;
     this.ownsPool = !opts.pool;
     this.queue = opts.redisUrl ? new QueueClient(opts.redisUrl) : null;
+    this.mode = this.queue ? 'queue' : 'embedded';
     this.pollMs = opts.pollMs ?? 250;
   }
 
@@ -203,7 +206,8 @@ export class JobRunner {
     try {
       const runRow = db.select({ id: runs.id, editionId: runs.editionId, spec: runs.spec }).from(runs).where(eq(runs.id, job.runId)).get();
       if (!runRow) throw new Error(`Run ${job.runId} no longer exists.`);
-      check = buildCheckInput(db, runRow, job.kind, JSON.parse(job.params));
+      // the mode's limits again: a job restarted after the server left queue mode fails with the reason
+      check = buildCheckInput(db, runRow, job.kind, JSON.parse(job.params), this.mode);
     } catch (e) {
       this.finish(jobId, 'failed', null, messageOf(e), started);
       return;
