@@ -1,6 +1,6 @@
 /** Fetchers for deep-check jobs. */
 import { apiRequest } from './client';
-import { jobResponseSchema, jobsResponseSchema, type Job, type JobListQuery, type StartCheckBody } from '../shared/jobs';
+import { jobLimitsResponseSchema, jobResponseSchema, jobsResponseSchema, type Job, type JobLimits, type JobListQuery, type StartCheckBody } from '../shared/jobs';
 
 export async function listJobs(q: Partial<JobListQuery> = {}): Promise<Job[]> {
   const params = new URLSearchParams();
@@ -19,4 +19,8 @@ export async function cancelJob(id: number): Promise<Job> {
 }
 export async function restartJob(id: number): Promise<Job> {
   return (await apiRequest(`/jobs/${id}/restart`, { method: 'POST', body: {}, schema: jobResponseSchema })).job;
+}
+/** This server's deep-check limits (its mode: embedded or queue workers). */
+export async function getJobLimits(): Promise<JobLimits> {
+  return (await apiRequest('/jobs/limits', { schema: jobLimitsResponseSchema })).limits;
 }

@@ -20,16 +20,16 @@ import { performance } from 'node:perf_hooks';
 import { availableParallelism } from 'node:os';
 import type { AddressInfo } from 'node:net';
 import {
-  evaluateSubsets,
   prepareBootstrap,
   prepareSubsetSweep,
   runBootstrapDraws,
   summariseBootstrap,
   summariseSubsetSweep,
+  sweepChunk,
   type BootstrapBatch,
   type BootstrapInput,
   type SubsetSweepInput,
-  type SweepRow,
+  type SweepPartial,
 } from '../lib/gmm/index';
 import { createJobPool, defaultThreadCount, type JobPool } from '../server/jobs/pool';
 import { openDb } from '../server/db/client';
@@ -78,8 +78,8 @@ function ranges(total: number, chunks: number, offset = 0): [number, number][] {
 }
 
 async function sweepOnPool(pool: JobPool, input: SubsetSweepInput, key: string) {
-  const parts = await Promise.all(ranges(4095, 32, 1).map(([from, to]) => pool.run<SweepRow[]>({ op: 'subset-sweep', key, input, from, to })));
-  return pool.run({ op: 'subset-sweep-summary', key, input, rows: parts.flat() });
+  const parts = await Promise.all(ranges(4095, 32, 1).map(([from, to]) => pool.run<SweepPartial>({ op: 'subset-sweep', key, input, from, to })));
+  return pool.run({ op: 'subset-sweep-summary', key, input, parts });
 }
 async function bootstrapOnPool(pool: JobPool, input: BootstrapInput, key: string, draws: number) {
   const batches = await Promise.all(ranges(draws, 40).map(([from, to]) => pool.run<BootstrapBatch>({ op: 'bootstrap', key, input, from, to })));
@@ -120,7 +120,7 @@ console.log(`load average at start: ${loadAvg()}`);
 
 const sweepInProcess = await time(() => {
   const plan = okOf(prepareSubsetSweep(sweepInput)).plan;
-  return summariseSubsetSweep(plan, evaluateSubsets(plan, 1, 4096), sweepInput.options);
+  return summariseSubsetSweep(plan, sweepChunk(plan, 1, 4096));
 });
 const bootInProcess = await time(() => {
   const plan = okOf(prepareBootstrap(bootInput)).plan;
@@ -128,7 +128,7 @@ const bootInProcess = await time(() => {
 }, 3);
 const sweepCpu = await cpuTime(() => {
   const plan = okOf(prepareSubsetSweep(sweepInput)).plan;
-  return summariseSubsetSweep(plan, evaluateSubsets(plan, 1, 4096), sweepInput.options);
+  return summariseSubsetSweep(plan, sweepChunk(plan, 1, 4096));
 });
 const bootCpu = await cpuTime(() => {
   const plan = okOf(prepareBootstrap(bootInput)).plan;

@@ -9,6 +9,12 @@
  *    Targets: queue overhead ≤ 10 % at 1 worker, speed-up ≥ 1.7× from 1 to 2 workers (needs 2 free cores).
  * 2. Chunk latency through Redis: enqueue → summary done for a 19-draw bootstrap on T = 120, N = 5
  *    (two tiny chunks and a summary), median of 9 after a warm-up.
+ * 3. Subset sweep of 20 candidates (1,048,575 models; T = 600, N = 25): embedded pool vs queue mode
+ *    with 1 and 2 workers, 200 mask-range chunks (chunkRanges) answered as bounded partials (lib/gmm
+ *    sweepChunk) and merged exactly in the summary; time and peak RSS (VmHWM of this process for the
+ *    embedded pool, of each worker process in queue mode). Smaller with BENCH_QUEUE_SWEEP_K, _T, _N.
+ * BENCH_QUEUE_ONLY=bootstrap|sweep runs one part (peak RSS of this process is monotone: run the sweep
+ * alone to read its own).
  * The load average is printed beside the figures: on a shared machine they move with it.
  */
 import { performance } from 'node:perf_hooks';
@@ -17,9 +23,10 @@ import { createJobPool, defaultThreadCount } from '../server/jobs/pool';
 import { chunkRanges } from '../server/jobs/runner';
 import { QueueClient } from '../server/jobs/queue-client';
 import type { CheckInput } from '../server/services/jobs-input';
-import type { BootstrapBatch, BootstrapInput } from '../lib/gmm/index';
+import type { BootstrapBatch, BootstrapInput, SweepPartial } from '../lib/gmm/index';
 import { mulberry32 } from '../lib/gmm/random';
-import { startWorkerProcess, testRedis } from '../tests/queue/redis';
+import { readFileSync } from 'node:fs';
+import { startWorkerProcess, testRedis, type WorkerProcess } from '../tests/queue/redis';
 
 const envInt = (name: string, d: number) => (process.env[name] ? Number(process.env[name]) : d);
 const T = envInt('BENCH_QUEUE_T', 12_000);
@@ -69,9 +76,9 @@ async function embedded(check: Extract<CheckInput, { kind: 'bootstrap' }>): Prom
   return { ms, result };
 }
 
-async function viaQueue(q: QueueClient, flow: string, check: Extract<CheckInput, { kind: 'bootstrap' }>): Promise<{ ms: number; result: unknown }> {
+async function viaQueue(q: QueueClient, flow: string, check: Extract<CheckInput, { kind: 'bootstrap' | 'subset-sweep' }>): Promise<{ ms: number; result: unknown }> {
   const t0 = performance.now();
-  await q.enqueue(flow, check, chunkRanges(check.total, 'bootstrap'), check.total);
+  await q.enqueue(flow, check, chunkRanges(check.total, check.kind), check.total);
   for (;;) {
     const s = await q.state(flow);
     if (s.state === 'completed') {
@@ -84,39 +91,123 @@ async function viaQueue(q: QueueClient, flow: string, check: Extract<CheckInput,
   }
 }
 
+async function bootstrapSection(q: QueueClient, redis: { url: string }): Promise<void> {
+  const check = makeInput(T, N, K, DRAWS, 42);
+  console.log(`machine: ${availableParallelism()} threads; embedded pool ${defaultThreadCount()} thread(s); load average ${load()}`);
+  console.log(`bootstrap ${DRAWS} draws, T = ${T}, N = ${N}, K = ${K}, ${chunkRanges(DRAWS, 'bootstrap').length} chunks`);
+
+  const emb = await embedded(check);
+  console.log(`  embedded pool           ${(emb.ms / 1000).toFixed(2)} s   (load ${load()})`);
+
+  const w1 = [await startWorkerProcess(redis.url, { lockMs: 30_000 })];
+  await viaQueue(q, 'bench-warm', makeInput(120, 5, 2, 19, 1)); // worker threads up
+  const one = await viaQueue(q, 'bench-1w', check);
+  console.log(`  queue, 1 worker         ${(one.ms / 1000).toFixed(2)} s   overhead ${((one.ms / emb.ms - 1) * 100).toFixed(1)} % vs embedded (target ≤ 10 %)   (load ${load()})`);
+  const w2 = [...w1, await startWorkerProcess(redis.url, { lockMs: 30_000 })];
+  await viaQueue(q, 'bench-warm2', makeInput(120, 5, 2, 40, 1));
+  const two = await viaQueue(q, 'bench-2w', check);
+  console.log(`  queue, 2 workers        ${(two.ms / 1000).toFixed(2)} s   speed-up ${(one.ms / two.ms).toFixed(2)}× from 1 to 2 workers (target ≥ 1.7×)   (load ${load()})`);
+  const same = JSON.stringify(emb.result) === JSON.stringify(one.result) && JSON.stringify(one.result) === JSON.stringify(two.result);
+  console.log(`  results identical in the three modes: ${same ? 'yes' : 'NO'}`);
+
+  const lat: number[] = [];
+  const tiny = makeInput(120, 5, 2, 19, 3);
+  for (let i = 0; i < 10; i++) {
+    const r = await viaQueue(q, `bench-lat-${i}`, tiny);
+    if (i > 0) lat.push(r.ms);
+  }
+  lat.sort((a, b) => a - b);
+  console.log(`chunk latency through Redis (19-draw flow: 2 chunks + summary, enqueue → done): median ${lat[Math.floor(lat.length / 2)].toFixed(1)} ms, max ${lat[lat.length - 1].toFixed(1)} ms   (load ${load()})`);
+
+  for (const w of w2) {
+    w.proc.kill('SIGTERM');
+    await w.exited;
+  }
+  if (!same) process.exitCode = 1;
+}
+
+const SWEEP_K = envInt('BENCH_QUEUE_SWEEP_K', 20);
+const SWEEP_T = envInt('BENCH_QUEUE_SWEEP_T', 600);
+const SWEEP_N = envInt('BENCH_QUEUE_SWEEP_N', 25);
+
+function makeSweep(T: number, N: number, K: number, seed: number): Extract<CheckInput, { kind: 'subset-sweep' }> {
+  const u = mulberry32(seed);
+  const z = () => Math.sqrt(-2 * Math.log(u() + 1e-300)) * Math.cos(2 * Math.PI * u());
+  const beta = Array.from({ length: N }, () => Array.from({ length: K }, () => 0.2 + 0.6 * Math.abs(z())));
+  const factors: number[][] = [];
+  const returns: number[][] = [];
+  for (let t = 0; t < T; t++) {
+    const c = z();
+    const f = Array.from({ length: K }, (_, k) => 0.003 + 0.001 * (k % 4) + (0.03 + 0.004 * (k % 5)) * (0.8 * z() + 0.2 * c));
+    factors.push(f);
+    returns.push(beta.map((b) => b.reduce((s, bk, k) => s + bk * f[k], 0) + 0.02 * z()));
+  }
+  const names = Array.from({ length: K }, (_, k) => `C${k + 1}`);
+  return {
+    kind: 'subset-sweep',
+    total: 2 ** K - 1,
+    input: { returns, factors, factorNames: names, traded: names.map(() => true), options: { lags: 'auto', form: 'centred', factorMeansKnown: false, weighting: 'identity', stage: 'second', level: 0.05, topPerSize: 5 } },
+  };
+}
+
+/** Peak resident set (VmHWM) of a process, in MB; null where /proc is missing. */
+function peakRssMb(pid: number | 'self'): number | null {
+  try {
+    const m = /VmHWM:\s+(\d+) kB/.exec(readFileSync(`/proc/${pid}/status`, 'utf8'));
+    return m ? Number(m[1]) / 1024 : null;
+  } catch {
+    return null;
+  }
+}
+const mb = (v: number | null) => (v === null ? 'n/a' : `${v.toFixed(0)} MB`);
+
+async function sweepEmbedded(check: Extract<CheckInput, { kind: 'subset-sweep' }>): Promise<{ ms: number; result: unknown }> {
+  const pool = createJobPool();
+  const ranges = chunkRanges(check.total, 'subset-sweep');
+  const key = 'bench-sweep-embedded';
+  const t0 = performance.now();
+  const parts: SweepPartial[] = new Array(ranges.length);
+  let next = 0;
+  const lane = async () => {
+    while (next < ranges.length) {
+      const i = next++;
+      parts[i] = await pool.run<SweepPartial>({ op: 'subset-sweep', key, input: check.input, from: ranges[i][0] + 1, to: ranges[i][1] + 1 });
+    }
+  };
+  await Promise.all(Array.from({ length: pool.threads + 1 }, lane));
+  const result = await pool.run({ op: 'subset-sweep-summary', key, input: check.input, parts });
+  const ms = performance.now() - t0;
+  await pool.destroy();
+  return { ms, result };
+}
+
+async function sweepSection(q: QueueClient, redis: { url: string }): Promise<void> {
+  const check = makeSweep(SWEEP_T, SWEEP_N, SWEEP_K, 77);
+  const rssBefore = peakRssMb('self');
+  console.log(`subset sweep, ${SWEEP_K} candidates (${check.total.toLocaleString('en-US')} models), T = ${SWEEP_T}, N = ${SWEEP_N}, ${chunkRanges(check.total, 'subset-sweep').length} chunks; load average ${load()}`);
+  const emb = await sweepEmbedded(check);
+  console.log(`  embedded pool           ${(emb.ms / 1000).toFixed(2)} s   ${((emb.ms * 1000) / check.total).toFixed(2)} µs/model wall   peak RSS of this process ${mb(peakRssMb('self'))} (before: ${mb(rssBefore)})   (load ${load()})`);
+  const workers: WorkerProcess[] = [await startWorkerProcess(redis.url, { lockMs: 30_000 })];
+  await viaQueue(q, 'bench-sweep-warm', makeSweep(120, 6, 3, 1));
+  const one = await viaQueue(q, 'bench-sweep-1w', check);
+  console.log(`  queue, 1 worker         ${(one.ms / 1000).toFixed(2)} s   overhead ${((one.ms / emb.ms - 1) * 100).toFixed(1)} % vs embedded   worker peak RSS ${mb(peakRssMb(workers[0].proc.pid!))}   (load ${load()})`);
+  workers.push(await startWorkerProcess(redis.url, { lockMs: 30_000 }));
+  await viaQueue(q, 'bench-sweep-warm2', makeSweep(120, 6, 3, 2));
+  const two = await viaQueue(q, 'bench-sweep-2w', check);
+  console.log(`  queue, 2 workers        ${(two.ms / 1000).toFixed(2)} s   speed-up ${(one.ms / two.ms).toFixed(2)}× from 1 to 2 workers   worker peak RSS ${workers.map((w) => mb(peakRssMb(w.proc.pid!))).join(', ')}   (load ${load()})`);
+  const same = JSON.stringify(emb.result) === JSON.stringify(one.result) && JSON.stringify(one.result) === JSON.stringify(two.result);
+  console.log(`  results identical in the three modes: ${same ? 'yes' : 'NO'}`);
+  for (const w of workers) {
+    w.proc.kill('SIGTERM');
+    await w.exited;
+  }
+  if (!same) process.exitCode = 1;
+}
+
+const ONLY = process.env.BENCH_QUEUE_ONLY;
 const redis = await testRedis();
 const q = new QueueClient(redis.url, { timeoutMs: 60_000 });
-const check = makeInput(T, N, K, DRAWS, 42);
-console.log(`machine: ${availableParallelism()} threads; embedded pool ${defaultThreadCount()} thread(s); load average ${load()}`);
-console.log(`bootstrap ${DRAWS} draws, T = ${T}, N = ${N}, K = ${K}, ${chunkRanges(DRAWS, 'bootstrap').length} chunks`);
-
-const emb = await embedded(check);
-console.log(`  embedded pool           ${(emb.ms / 1000).toFixed(2)} s   (load ${load()})`);
-
-const w1 = [await startWorkerProcess(redis.url, { lockMs: 30_000 })];
-await viaQueue(q, 'bench-warm', makeInput(120, 5, 2, 19, 1)); // worker threads up
-const one = await viaQueue(q, 'bench-1w', check);
-console.log(`  queue, 1 worker         ${(one.ms / 1000).toFixed(2)} s   overhead ${((one.ms / emb.ms - 1) * 100).toFixed(1)} % vs embedded (target ≤ 10 %)   (load ${load()})`);
-const w2 = [...w1, await startWorkerProcess(redis.url, { lockMs: 30_000 })];
-await viaQueue(q, 'bench-warm2', makeInput(120, 5, 2, 40, 1));
-const two = await viaQueue(q, 'bench-2w', check);
-console.log(`  queue, 2 workers        ${(two.ms / 1000).toFixed(2)} s   speed-up ${(one.ms / two.ms).toFixed(2)}× from 1 to 2 workers (target ≥ 1.7×)   (load ${load()})`);
-const same = JSON.stringify(emb.result) === JSON.stringify(one.result) && JSON.stringify(one.result) === JSON.stringify(two.result);
-console.log(`  results identical in the three modes: ${same ? 'yes' : 'NO'}`);
-
-const lat: number[] = [];
-const tiny = makeInput(120, 5, 2, 19, 3);
-for (let i = 0; i < 10; i++) {
-  const r = await viaQueue(q, `bench-lat-${i}`, tiny);
-  if (i > 0) lat.push(r.ms);
-}
-lat.sort((a, b) => a - b);
-console.log(`chunk latency through Redis (19-draw flow: 2 chunks + summary, enqueue → done): median ${lat[Math.floor(lat.length / 2)].toFixed(1)} ms, max ${lat[lat.length - 1].toFixed(1)} ms   (load ${load()})`);
-
-for (const w of w2) {
-  w.proc.kill('SIGTERM');
-  await w.exited;
-}
+if (ONLY !== 'sweep') await bootstrapSection(q, redis);
+if (ONLY !== 'bootstrap') await sweepSection(q, redis);
 await q.close();
 await redis.stop();
-if (!same) process.exitCode = 1;

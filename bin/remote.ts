@@ -11,7 +11,7 @@ import { homedir } from 'node:os';
 import { basename, join } from 'node:path';
 import { parseArgs } from 'node:util';
 import { readErrorEnvelope, sendApiRequest } from '../shared/http-core';
-import { jobResponseSchema, type Job } from '../shared/jobs';
+import { jobLimitsResponseSchema, jobResponseSchema, sweepLimitText, drawsLimitText, type Job } from '../shared/jobs';
 import type { LedgerResult } from '../shared/runs';
 import type { LedgerResult as GmmLedgerResult } from '../lib/gmm/ledger';
 import { renderLedgerText } from './ledger-text';
@@ -214,6 +214,8 @@ export const REMOTE_USAGE = `Commands that talk to a Keelson server (sign in fir
   keelson export RUN --format csv|tex|json       a run's tables on stdout
   keelson compare RUN_A RUN_B [--json]           two runs side by side, with the nested drop test
   keelson check RUN --kind bootstrap|subset-sweep|rolling [--params JSON] [--wait] [--json]
+              (subset-sweep: ${sweepLimitText()}; bootstrap: ${drawsLimitText()})
+  keelson limits [--json]                        this server's mode (embedded or queue) and its deep-check limits
   keelson job ID [--wait] [--json] | keelson cancel JOB
   keelson comment RUN --text TEXT | keelson sign-off RUN --decision approved|changes-requested [--text NOTE]`;
 
@@ -225,7 +227,7 @@ async function readAll(stream: NodeJS.ReadableStream): Promise<string> {
 
 const REMOTE_COMMANDS = new Set([
   'sign-in', 'sign-out', 'whoami', 'libraries', 'library', 'upload', 'edition-csv', 'run', 'runs', 'show',
-  'export', 'compare', 'check', 'job', 'cancel', 'comment', 'sign-off',
+  'export', 'compare', 'check', 'job', 'cancel', 'comment', 'sign-off', 'limits',
 ]);
 
 export function isRemoteCommand(command: string): boolean {
@@ -455,6 +457,18 @@ export async function runRemote(command: string, args: string[], io: Io): Promis
         }
         const { job } = jobResponseSchema.parse(await client.post<unknown>(`/runs/${runId}/checks`, { kind: p.values.kind, params }));
         return await followJob(client, job, Boolean(p.values.wait), Boolean(p.values.json), io);
+      }
+      case 'limits': {
+        const p = parse(args, { json: { type: 'boolean' } }, command);
+        const { limits } = jobLimitsResponseSchema.parse(await client.get<unknown>('/jobs/limits'));
+        if (p.values.json) return json(limits), 0;
+        const n = (v: number) => v.toLocaleString('en-US');
+        io.out(
+          `Deep checks on this server run ${limits.mode === 'queue' ? 'on queue workers' : 'without workers (embedded pool)'}.\n` +
+            `Subset sweep: at most ${limits.sweepCandidates} candidate factors (${n(2 ** limits.sweepCandidates - 1)} models); ${sweepLimitText()}.\n` +
+            `Bootstrap: at most ${n(limits.bootstrapDraws)} draws.\n`,
+        );
+        return 0;
       }
       case 'job': {
         const p = parse(args, { wait: { type: 'boolean' }, json: { type: 'boolean' } }, command);

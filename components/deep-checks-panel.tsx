@@ -6,11 +6,11 @@
 import { useRef, useState } from 'react';
 import { Text, View } from 'react-native';
 import { useMutation, useQueryClient } from '@tanstack/react-query';
-import { JOB_KIND_LABELS, jobResponseSchema, type Job, type JobKind, type StartCheckBody } from '../shared/jobs';
+import { JOB_KIND_LABELS, jobResponseSchema, sweepLimitText, type Job, type JobKind, type JobLimits, type StartCheckBody } from '../shared/jobs';
 import type { KeelsonApiError } from '../shared/errors';
 import { apiRequest, newIdempotencyKey } from '../api/client';
 import { useMe } from '../hooks/use-session';
-import { jobKeys, useJob, useJobs } from '../hooks/use-jobs';
+import { jobKeys, useJob, useJobLimits, useJobs } from '../hooks/use-jobs';
 import { Button } from './button';
 import { Card } from './card';
 import { DeepCheckResult } from './deep-check-results';
@@ -20,10 +20,21 @@ import { Select } from './select';
 import { TextField } from './text-field';
 import { space, text } from './theme';
 
+const count = (n: number) => n.toLocaleString('en-US');
+
+/** The hint under the candidates field: this server's limit, and both modes'. */
+export function sweepLimitHint(limits: JobLimits | undefined): string {
+  const base = 'Factor series of this run’s edition, separated by commas; empty: the run’s own factors.';
+  if (!limits) return `${base} The sweep takes ${sweepLimitText()}.`;
+  const n = limits.sweepCandidates;
+  const where = limits.mode === 'queue' ? 'this server runs deep checks on queue workers' : 'this server runs deep checks without workers';
+  return `${base} At most ${n} here (${count(2 ** n - 1)} models): ${where}. The sweep takes ${sweepLimitText()}.`;
+}
+
 const KIND_HELP: Readonly<Record<JobKind, string>> = {
   bootstrap:
     'Resamples the run’s periods under the null (recentred moments) to get p-values for J, each b and each drop test that do not lean on large-sample theory — useful with many test assets or a short sample.',
-  'subset-sweep': 'Estimates every combination of up to 15 candidate factors on the same assets and ranks them by HJ distance and by the drop test against the full model.',
+  'subset-sweep': 'Estimates every combination of the candidate factors on the same assets and ranks them by HJ distance and by the drop test against the full model.',
   rolling: 'Re-estimates b and λ with their standard errors on rolling or expanding windows, to see whether they drift.',
   holdout:
     'Estimates b with this run’s settings on the periods before a split and prices the periods after it: pricing errors α₂ per asset, mean |α₂| and the out-of-sample R² (1 − α₂′α₂ / m₂′m₂). The rolling version re-estimates on each window and prices the next block.',
@@ -74,6 +85,7 @@ function useStartCheckOnce(runId: number) {
 
 function StartForm({ runId }: { runId: number }) {
   const start = useStartCheckOnce(runId);
+  const limits = useJobLimits();
   const [kind, setKind] = useState<JobKind>('bootstrap');
   const [draws, setDraws] = useState('999');
   const [scheme, setScheme] = useState<'iid' | 'block'>('iid');
@@ -129,7 +141,7 @@ function StartForm({ runId }: { runId: number }) {
       {kind === 'bootstrap' ? (
         <View style={{ gap: space.sm }}>
           <View style={NUMBER_BOX}>
-            <TextField label="Draws" value={draws} onChangeText={setDraws} numeric inputMode="numeric" hint="B bootstrap samples; 999 is the default." />
+            <TextField label="Draws" value={draws} onChangeText={setDraws} numeric inputMode="numeric" hint={`B bootstrap samples; 999 is the default${limits.data ? `, at most ${count(limits.data.bootstrapDraws)} on this server` : ''}.`} />
           </View>
           <Select
             label="Resampling"
@@ -155,7 +167,7 @@ function StartForm({ runId }: { runId: number }) {
           label="Candidate factors"
           value={candidates}
           onChangeText={setCandidates}
-          hint="Factor series of this run’s edition, separated by commas; empty: the run’s own factors. At most 15 (32,767 models)."
+          hint={sweepLimitHint(limits.data)}
         />
       ) : null}
       {kind === 'rolling' ? (

@@ -5,7 +5,7 @@
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type { KeelsonApiError } from '../shared/errors';
 import { ACTIVE_JOB_STATUSES, type Job, type JobListQuery, type StartCheckBody } from '../shared/jobs';
-import { cancelJob, getJob, listJobs, restartJob, startCheck } from '../api/jobs';
+import { cancelJob, getJob, getJobLimits, listJobs, restartJob, startCheck } from '../api/jobs';
 
 export const POLL_MS = 1000;
 
@@ -14,7 +14,13 @@ export const jobKeys = {
   lists: ['jobs', 'list'] as const,
   list: (q: Partial<JobListQuery>) => ['jobs', 'list', q] as const,
   one: (id: number) => ['jobs', 'one', id] as const,
+  limits: ['jobs', 'limits'] as const,
 };
+
+/** The server's per-mode limits (they change only with a restart: never refetched as stale). */
+export function useJobLimits() {
+  return useQuery({ queryKey: jobKeys.limits, queryFn: getJobLimits, staleTime: Infinity });
+}
 
 export const isActiveJob = (j: Pick<Job, 'status'>) => ACTIVE_JOB_STATUSES.includes(j.status);
 

@@ -34,8 +34,56 @@ export type JobStatus = z.infer<typeof jobStatusSchema>;
 export const ACTIVE_JOB_STATUSES: readonly JobStatus[] = ['queued', 'running'];
 export const RESTARTABLE_JOB_STATUSES: readonly JobStatus[] = ['interrupted', 'failed', 'cancelled'];
 
-/** Most bootstrap draws one job may ask for. */
+/** Most bootstrap draws one job may ask for (the largest of the per-mode limits below). */
 export const MAX_BOOTSTRAP_DRAWS = 100_000;
+/** Most candidate factors a subset sweep may name (the largest of the per-mode limits; lib/gmm's own cap). */
+export const MAX_SWEEP_CANDIDATES = 25;
+
+/**
+ * Where deep checks run: 'embedded' (the API's own worker-thread pool, the default) or 'queue'
+ * (BullMQ workers over Redis, KEELSON_REDIS_URL set).
+ */
+export const JOB_MODES = ['embedded', 'queue'] as const;
+export type JobMode = (typeof JOB_MODES)[number];
+
+/**
+ * Per-mode limits of one deep check. The request schema allows the largest; the service checks
+ * the mode's own (422 naming the limit and the mode). Without workers a 15-candidate sweep (32,767
+ * models) is the most one box runs in reasonable time; queue workers take 25 (33.5 million models,
+ * about four minutes of one core at 7.75 µs a model, spread over the workers).
+ */
+export const JOB_LIMITS: Readonly<Record<JobMode, { readonly sweepCandidates: number; readonly bootstrapDraws: number }>> = {
+  embedded: { sweepCandidates: 15, bootstrapDraws: 100_000 },
+  queue: { sweepCandidates: MAX_SWEEP_CANDIDATES, bootstrapDraws: MAX_BOOTSTRAP_DRAWS },
+};
+
+/** GET /jobs/limits: this server's mode and its limits, with the other mode's for comparison. */
+export const jobLimitsSchema = z.object({
+  mode: z.enum(JOB_MODES),
+  sweepCandidates: z.number().int(),
+  bootstrapDraws: z.number().int(),
+  byMode: z.object({
+    embedded: z.object({ sweepCandidates: z.number().int(), bootstrapDraws: z.number().int() }),
+    queue: z.object({ sweepCandidates: z.number().int(), bootstrapDraws: z.number().int() }),
+  }),
+});
+export type JobLimits = z.infer<typeof jobLimitsSchema>;
+export const jobLimitsResponseSchema = z.object({ limits: jobLimitsSchema });
+
+/** The limits as GET /jobs/limits answers them for `mode`. */
+export function jobLimitsFor(mode: JobMode): JobLimits {
+  return { mode, ...JOB_LIMITS[mode], byMode: { embedded: { ...JOB_LIMITS.embedded }, queue: { ...JOB_LIMITS.queue } } };
+}
+
+/** "at most 15 candidate factors without workers; 25 with queue workers" (messages of the client, CLI and server). */
+export function sweepLimitText(): string {
+  return `at most ${JOB_LIMITS.embedded.sweepCandidates} candidate factors without workers; ${JOB_LIMITS.queue.sweepCandidates} with queue workers`;
+}
+export function drawsLimitText(): string {
+  const e = JOB_LIMITS.embedded.bootstrapDraws;
+  const q = JOB_LIMITS.queue.bootstrapDraws;
+  return e === q ? `at most ${e.toLocaleString('en-US')} draws in either mode` : `at most ${e.toLocaleString('en-US')} draws without workers; ${q.toLocaleString('en-US')} with queue workers`;
+}
 
 export const bootstrapParamsSchema = z
   .object({
@@ -51,8 +99,15 @@ export type BootstrapParams = z.output<typeof bootstrapParamsSchema>;
 
 export const subsetSweepParamsSchema = z
   .object({
-    /** Candidate factors (factor series of the run's edition); default: the run's factors. At most 15. */
-    candidates: z.array(z.string().trim().min(1)).min(1, 'Name at least one candidate factor').max(15, 'The sweep takes at most 15 candidate factors').optional(),
+    /**
+     * Candidate factors (factor series of the run's edition); default: the run's factors. At most
+     * 25 here; the server's mode may allow fewer (JOB_LIMITS: 15 without queue workers).
+     */
+    candidates: z
+      .array(z.string().trim().min(1))
+      .min(1, 'Name at least one candidate factor')
+      .max(MAX_SWEEP_CANDIDATES, `The sweep takes ${sweepLimitText()}`)
+      .optional(),
     /** Models listed per size (and counted in the factor frequencies). */
     topPerSize: z.number().int().min(1).max(20).default(5),
   })

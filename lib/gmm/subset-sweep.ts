@@ -1,5 +1,5 @@
 /**
- * Subset sweep: every non-empty subset of up to 15 candidate factors estimated on the same test
+ * Subset sweep: every non-empty subset of up to 25 candidate factors estimated on the same test
  * assets and data, ranked by the HJ distance and by the χ² drop test against the full model.
  *
  * Formula (plain text). X = C (centred) or D (uncentred), N×K for all K candidates; a subset s
@@ -31,6 +31,14 @@
  * se(θ̂_best) (the one-standard-error rule, common practice), and the smallest such subsets are the
  * parsimonious choices. The difference of two listed models is tested with compareModels.
  *
+ * Chunks and exact merge: a sweep over 2^K − 1 masks is cut into mask ranges [from, to); each
+ * range gives a SweepPartial (sweepChunk) that holds only counts and bounded top lists (per size
+ * the best \`topPerSize\` by HJ and by D, the first 10 adequate models, the best \`thetaTop\` by θ̂
+ * and the best θ̂ per size), each under a strict total order ending in the mask, so partials merge
+ * exactly in any order (mergeSweepPartials) and memory never grows with 2^K. The one-SE cut
+ * θ̂_best − se(θ̂_best) depends on the whole sweep, so the subsets within it are counted by a second
+ * pass with the cut known (sweepWithinOneSe, θ̂ only, also chunked and merged exactly).
+ *
  * Papers: Hansen, L. P. and Jagannathan, R. (1997), "Assessing Specification Errors in Stochastic
  * Discount Factor Models", Journal of Finance 52(2), 557–590. Newey, W. K. and West, K. D.
  * (1987), "Hypothesis Testing with Efficient Method of Moments Estimation", International
@@ -52,8 +60,12 @@ import { momentsFromPacked, secondMomentMatrix } from './moments';
 import { fitSdfGmm, type FirstStageWeighting, type SdfForm } from './sdf-gmm';
 import { validateMatrices } from './validate';
 
-/** Largest number of candidate factors (2^15 − 1 = 32,767 models). */
-export const MAX_SWEEP_FACTORS = 15;
+/**
+ * Largest number of candidate factors lib/gmm takes (2^25 − 1 ≈ 33.5 million models; masks stay
+ * below 2^31, so the bit operations on them are exact). The server allows fewer without queue
+ * workers (shared/jobs.ts).
+ */
+export const MAX_SWEEP_FACTORS = 25;
 
 export interface SubsetSweepOptions {
   readonly lags: number | 'auto';
@@ -104,6 +116,10 @@ export interface SweepPlan {
   /** Traded flags (null when not given) and the bit mask of the non-traded candidates. */
   readonly traded: readonly boolean[] | null;
   readonly nonTradedMask: number;
+  /** Level, models kept per size, models listed by θ̂ (resolved options). */
+  readonly level: number;
+  readonly topPerSize: number;
+  readonly thetaTop: number;
   /** Whether evaluateSubsets computes θ̂. */
   readonly theta: boolean;
   /** Factor moments for θ̂: F (T×K row-major), μ, Σ_f (divisor T). */
@@ -234,7 +250,8 @@ function objective(A: Float64Array, c: Float64Array, q0: number, K: number, idx:
  * Validate and precompute everything the subsets share.
  * @returns `{ ok: true, plan }`, or a typed failure when the full model cannot be estimated
  *   (singular or not converged: the same on every try).
- * @throws GmmInputError on malformed input, more than 15 candidates, or collinear test assets.
+ * @throws GmmInputError on malformed input, more than 25 candidates, bad level / topPerSize / thetaTop,
+ *   or collinear test assets.
  */
 export function prepareSubsetSweep(input: SubsetSweepInput): GmmResult<{ plan: SweepPlan }> {
   const { T, N, K } = validateMatrices(input.returns, input.factors, { factorNames: input.factorNames });
@@ -242,6 +259,11 @@ export function prepareSubsetSweep(input: SubsetSweepInput): GmmResult<{ plan: S
     throw new GmmInputError('invalid-option', `The subset sweep takes at most ${MAX_SWEEP_FACTORS} candidate factors; got ${K}.`);
   const o = input.options;
   const lags = resolveLag(o.lags, T);
+  if (o.level !== undefined && !(o.level > 0 && o.level < 1)) throw new GmmInputError('invalid-option', `level must be between 0 and 1; got ${o.level}.`);
+  if (o.topPerSize !== undefined && !(Number.isInteger(o.topPerSize) && o.topPerSize >= 1))
+    throw new GmmInputError('invalid-option', `topPerSize must be a whole number of at least 1; got ${o.topPerSize}.`);
+  if (o.thetaTop !== undefined && !(Number.isInteger(o.thetaTop) && o.thetaTop >= 0))
+    throw new GmmInputError('invalid-option', `thetaTop must be a whole number of at least 0; got ${o.thetaTop}.`);
   const m = momentsFromPacked(fromNested(input.returns, N), fromNested(input.factors, K), T, N, K);
   const second = secondMomentMatrix(m.R, T, N, m.Rcols);
   const Le = cholesky(second, N);
@@ -269,7 +291,8 @@ export function prepareSubsetSweep(input: SubsetSweepInput): GmmResult<{ plan: S
   const fullSeB = Float64Array.from({ length: K }, (_, k) => Math.sqrt(Math.max(0, full.covB[k * K + k])));
   const plan: SweepPlan = {
     T, N, K, lags, factorNames: [...input.factorNames], hjA: hj.A, hjC: hj.c, hjQ0: hj.q0, wA: w.A, wC: w.c, wQ0: w.q0, wQFull: qFull,
-    fullB: Float64Array.from(full.b), fullSeB, traded, nonTradedMask, theta, F: m.F, meanF: m.meanF, sigmaF: m.sigmaF,
+    fullB: Float64Array.from(full.b), fullSeB, traded, nonTradedMask, theta,
+    level: o.level ?? 0.05, topPerSize: o.topPerSize ?? 5, thetaTop: o.thetaTop ?? 20, F: m.F, meanF: m.meanF, sigmaF: m.sigmaF,
   };
   return { ok: true, plan };
 }
@@ -348,10 +371,9 @@ class ThetaStack {
 /** Relative Cholesky pivot below which a subset's Σ_s counts as singular (linalg's SINGULAR_TOL). */
 const SINGULAR_PIVOT = 1e-13;
 
-/** Evaluate the subsets with masks in [fromMask, toMask) (masks 1..2^K − 1). */
-export function evaluateSubsets(plan: SweepPlan, fromMask: number, toMask: number): SweepRow[] {
+/** Calls `visit` with each subset's row for the masks in [fromMask, toMask), in mask order. */
+function visitSubsets(plan: SweepPlan, fromMask: number, toMask: number, visit: (row: SweepRow) => void): void {
   const { K, T } = plan;
-  const rows: SweepRow[] = [];
   const idx = new Int32Array(K);
   const As = new Float64Array(K * K);
   const cs = new Float64Array(K);
@@ -366,42 +388,272 @@ export function evaluateSubsets(plan: SweepPlan, fromMask: number, toMask: numbe
     const df = K - k;
     const theta = stack && (mask & plan.nonTradedMask) === 0 ? stack.theta(mask) : null;
     if (qh === null || qw === null) {
-      rows.push({ mask, size: k, hj: null, drop: null, df, p: null, theta });
+      visit({ mask, size: k, hj: null, drop: null, df, p: null, theta });
       continue;
     }
     const drop = df === 0 ? 0 : Math.max(0, T * (qw - plan.wQFull));
-    rows.push({ mask, size: k, hj: Math.sqrt(Math.max(0, qh)), drop, df, p: chiSquareSf(drop, df), theta });
+    visit({ mask, size: k, hj: Math.sqrt(Math.max(0, qh)), drop, df, p: chiSquareSf(drop, df), theta });
   }
+}
+
+/**
+ * Every row of the subsets with masks in [fromMask, toMask) (masks 1..2^K − 1). For inspecting a
+ * few subsets; the sweep itself keeps only a mergeable partial (sweepChunk), never all rows.
+ */
+export function evaluateSubsets(plan: SweepPlan, fromMask: number, toMask: number): SweepRow[] {
+  const rows: SweepRow[] = [];
+  visitSubsets(plan, fromMask, toMask, (r) => rows.push(r));
   return rows;
 }
 
-/** Rank the rows (from any number of chunks) and summarise. */
-export function summariseSubsetSweep(plan: SweepPlan, rows: readonly SweepRow[], options: Pick<SubsetSweepOptions, 'level' | 'topPerSize' | 'thetaTop'> = {}): SubsetSweepResult {
-  const level = options.level ?? 0.05;
-  const top = options.topPerSize ?? 5;
+/**
+ * What the summary needs from a set of subsets, in memory that does not grow with 2^K: counts and
+ * bounded "top" lists under strict total orders (every order ends with the mask, which is unique),
+ * so the top k of a union is the top k of the union of the parts' top k — partials of disjoint
+ * mask ranges merge exactly, in any order, into the partial of the whole range (mergeSweepPartials).
+ */
+export interface SweepPartial {
+  /** The mask ranges [from, to) covered, sorted and joined. */
+  readonly ranges: readonly (readonly [number, number])[];
+  /** Subsets evaluated, and how many of them are singular. */
+  readonly models: number;
+  readonly singular: number;
+  /** Index size − 1: the best `topPerSize` subsets by (HJ, mask), and by (D, mask). */
+  readonly bestByHj: readonly (readonly SweepRow[])[];
+  readonly bestByDrop: readonly (readonly SweepRow[])[];
+  /** The first 10 subsets with p > level by (size, HJ, mask). */
+  readonly adequate: readonly SweepRow[];
+  /** Subsets with a θ̂; the best `thetaTop` by (θ̂ descending, size, mask); the best per size (index size − 1). */
+  readonly thetaCount: number;
+  readonly thetaTop: readonly SweepRow[];
+  readonly thetaBySize: readonly (SweepRow | null)[];
+}
+
+/** The θ̂ pass that needs the cut θ̂_best − se(θ̂_best) of the whole sweep (sweepWithinOneSe). */
+export interface SweepWithinPartial {
+  readonly ranges: readonly (readonly [number, number])[];
+  /** Subsets with θ̂ ≥ cut. */
+  readonly count: number;
+  /** The smallest size among them (K + 1 when none), and its first 10 by (θ̂ descending, mask). */
+  readonly minSize: number;
+  readonly smallest: readonly SweepRow[];
+}
+
+type Ok = SweepRow & { hj: number; drop: number; p: number };
+type Ranked = SweepRow & { theta: number };
+const byHj = (a: Ok, b: Ok) => a.hj < b.hj || (a.hj === b.hj && a.mask < b.mask);
+const byDrop = (a: Ok, b: Ok) => a.drop < b.drop || (a.drop === b.drop && a.mask < b.mask);
+const byAdequate = (a: Ok, b: Ok) => a.size < b.size || (a.size === b.size && byHj(a, b));
+/** θ̂ descending, then size, then mask. */
+const byTheta = (x: Ranked, y: Ranked) => x.theta > y.theta || (x.theta === y.theta && (x.size < y.size || (x.size === y.size && x.mask < y.mask)));
+
+/** Inserts r into the list sorted by `before`, keeping at most `keep` entries. */
+function keepTop<R>(list: R[], r: R, keep: number, before: (a: R, b: R) => boolean): void {
+  if (list.length >= keep && !before(r, list[list.length - 1])) return;
+  let i = list.length;
+  while (i > 0 && before(r, list[i - 1])) i--;
+  list.splice(i, 0, r);
+  if (list.length > keep) list.pop();
+}
+
+function joinRanges(parts: readonly (readonly (readonly [number, number])[])[]): [number, number][] {
+  const all = parts.flat().map(([a, b]) => [a, b] as [number, number]).sort((x, y) => x[0] - y[0]);
+  const out: [number, number][] = [];
+  for (const [a, b] of all) {
+    const last = out[out.length - 1];
+    if (last && a < last[1]) throw new GmmInputError('invalid-option', `Sweep chunks overlap: masks [${a}, ${b}) and [${last[0]}, ${last[1]}).`);
+    if (last && a === last[1]) last[1] = b;
+    else out.push([a, b]);
+  }
+  return out;
+}
+
+function clampRange(plan: SweepPlan, fromMask: number, toMask: number): [number, number] {
+  if (!Number.isInteger(fromMask) || !Number.isInteger(toMask)) throw new GmmInputError('invalid-option', 'Sweep mask bounds must be whole numbers.');
+  const lo = Math.max(1, fromMask);
+  return [lo, Math.max(lo, Math.min(2 ** plan.K, toMask))];
+}
+
+/** A partial under construction (mutable; handed out as the readonly SweepPartial). */
+interface PartialAcc {
+  ranges: [number, number][];
+  models: number;
+  singular: number;
+  bestByHj: SweepRow[][];
+  bestByDrop: SweepRow[][];
+  adequate: SweepRow[];
+  thetaCount: number;
+  thetaTop: SweepRow[];
+  thetaBySize: (SweepRow | null)[];
+}
+
+/** An empty partial (the identity of the merge). */
+function emptyPartial(plan: SweepPlan): PartialAcc {
+  return {
+    ranges: [],
+    models: 0,
+    singular: 0,
+    bestByHj: Array.from({ length: plan.K }, () => []),
+    bestByDrop: Array.from({ length: plan.K }, () => []),
+    adequate: [],
+    thetaCount: 0,
+    thetaTop: [],
+    thetaBySize: new Array<SweepRow | null>(plan.K).fill(null),
+  };
+}
+
+/** Folds one row into a partial under construction. */
+function addRow(plan: SweepPlan, acc: PartialAcc, row: SweepRow): void {
+  acc.models += 1;
+  if (row.theta !== null) {
+    const r = row as Ranked;
+    acc.thetaCount += 1;
+    const cur = acc.thetaBySize[r.size - 1] as Ranked | null;
+    if (!cur || byTheta(r, cur)) acc.thetaBySize[r.size - 1] = r;
+    keepTop(acc.thetaTop as Ranked[], r, Math.max(1, plan.thetaTop), byTheta);
+  }
+  if (row.hj === null) {
+    acc.singular += 1;
+    return;
+  }
+  const r = row as Ok;
+  keepTop(acc.bestByHj[r.size - 1] as Ok[], r, plan.topPerSize, byHj);
+  keepTop(acc.bestByDrop[r.size - 1] as Ok[], r, plan.topPerSize, byDrop);
+  if (r.p > plan.level) keepTop(acc.adequate as Ok[], r, 10, byAdequate);
+}
+
+/**
+ * One chunk of the sweep: the subsets with masks in [fromMask, toMask), summarised as a
+ * mergeable partial (memory O(K · topPerSize + thetaTop), whatever the range).
+ */
+export function sweepChunk(plan: SweepPlan, fromMask: number, toMask: number): SweepPartial {
+  const [lo, hi] = clampRange(plan, fromMask, toMask);
+  const acc = emptyPartial(plan);
+  if (hi > lo) acc.ranges.push([lo, hi]);
+  visitSubsets(plan, lo, hi, (row) => addRow(plan, acc, row));
+  return acc;
+}
+
+/**
+ * Merges partials of disjoint mask ranges (any number, any order) into the partial of their
+ * union: counts add, each top list is the top of the parts' lists. Exact: the result equals the
+ * partial that one sweepChunk over the union gives, bit for bit.
+ * @throws GmmInputError when two parts cover the same masks.
+ */
+export function mergeSweepPartials(plan: SweepPlan, parts: readonly SweepPartial[]): SweepPartial {
+  const acc = emptyPartial(plan);
+  acc.ranges = joinRanges(parts.map((p) => p.ranges));
+  for (const p of parts) {
+    acc.models += p.models;
+    acc.singular += p.singular;
+    acc.thetaCount += p.thetaCount;
+    for (let s = 0; s < plan.K; s++) {
+      for (const r of p.bestByHj[s] ?? []) keepTop(acc.bestByHj[s] as Ok[], r as Ok, plan.topPerSize, byHj);
+      for (const r of p.bestByDrop[s] ?? []) keepTop(acc.bestByDrop[s] as Ok[], r as Ok, plan.topPerSize, byDrop);
+      const b = p.thetaBySize[s] as Ranked | null | undefined;
+      const cur = acc.thetaBySize[s] as Ranked | null;
+      if (b && (!cur || byTheta(b, cur))) acc.thetaBySize[s] = b;
+    }
+    for (const r of p.adequate) keepTop(acc.adequate as Ok[], r as Ok, 10, byAdequate);
+    for (const r of p.thetaTop) keepTop(acc.thetaTop as Ranked[], r as Ranked, Math.max(1, plan.thetaTop), byTheta);
+  }
+  return acc;
+}
+
+/** se(θ̂) of one subset: sqrt(LRV(ψ)/T), one pass over the T periods (0 when singular). */
+function thetaSe(plan: SweepPlan, mask: number): number {
+  const idx: number[] = [];
+  for (let k = 0; k < plan.K; k++) if ((mask >> k) & 1) idx.push(k);
+  const core = squaredSharpeCore(plan.F, plan.T, plan.K, plan.meanF, plan.sigmaF, idx);
+  return core.ok ? Math.sqrt(seriesVarianceOfMean(core.psi, plan.T, plan.lags)) : 0;
+}
+
+/**
+ * The one-SE cut θ̂_best − se(θ̂_best) of a whole sweep's partial (null without a θ̂ ranking). The
+ * cut depends on every subset (through the best), so the subsets within it are found by a second
+ * pass with the cut known (sweepWithinOneSe), not approximated from the first pass's lists.
+ */
+export function thetaCut(plan: SweepPlan, whole: SweepPartial): number | null {
+  const best = whole.thetaTop[0] as Ranked | undefined;
+  if (!plan.theta || !best) return null;
+  return best.theta - thetaSe(plan, best.mask);
+}
+
+/**
+ * Second pass over [fromMask, toMask) with the cut known: how many subsets of traded candidates
+ * have θ̂ ≥ cut, the smallest size among them and its first 10 by (θ̂ descending, mask). Only θ̂
+ * is recomputed (one Cholesky row per subset); it is a function of the mask alone, so it is the
+ * first pass's value bit for bit.
+ */
+export function sweepWithinOneSe(plan: SweepPlan, cut: number, fromMask: number, toMask: number): SweepWithinPartial {
+  const [lo, hi] = clampRange(plan, fromMask, toMask);
+  const { K } = plan;
+  let count = 0;
+  let minSize = K + 1;
+  const smallest: Ranked[] = [];
+  if (plan.theta) {
+    const stack = new ThetaStack(K, plan.meanF, plan.sigmaF);
+    for (let mask = lo; mask < hi; mask++) {
+      if ((mask & plan.nonTradedMask) !== 0) continue;
+      const theta = stack.theta(mask);
+      if (theta === null || !(theta >= cut)) continue;
+      count += 1;
+      let size = 0;
+      for (let m = mask; m; m &= m - 1) size++;
+      if (size > minSize) continue;
+      if (size < minSize) {
+        minSize = size;
+        smallest.length = 0;
+      }
+      keepTop(smallest, { mask, size, hj: null, drop: null, df: K - size, p: null, theta }, 10, byTheta);
+    }
+  }
+  return { ranges: hi > lo ? [[lo, hi]] : [], count, minSize, smallest };
+}
+
+/** Merges second-pass partials of disjoint ranges (any order), exactly. */
+export function mergeWithinPartials(plan: SweepPlan, parts: readonly SweepWithinPartial[]): SweepWithinPartial {
+  const ranges = joinRanges(parts.map((p) => p.ranges));
+  let count = 0;
+  let minSize = plan.K + 1;
+  for (const p of parts) {
+    count += p.count;
+    if (p.count > 0 && p.minSize < minSize) minSize = p.minSize;
+  }
+  const smallest: Ranked[] = [];
+  for (const p of parts) if (p.minSize === minSize) for (const r of p.smallest) keepTop(smallest, r as Ranked, 10, byTheta);
+  return { ranges, count, minSize, smallest };
+}
+
+function assertWhole(plan: SweepPlan, ranges: readonly (readonly [number, number])[], what: string): void {
+  const all = 2 ** plan.K;
+  if (ranges.length !== 1 || ranges[0][0] !== 1 || ranges[0][1] !== all)
+    throw new GmmInputError('invalid-option', `The ${what} covers masks ${ranges.map(([a, b]) => `[${a}, ${b})`).join(' ') || 'none'}, not all of [1, ${all}).`);
+}
+
+/**
+ * Summarises the merged partial of the whole sweep (masks 1..2^K − 1). The within-one-SE figures
+ * come from `within` (the merged second pass over all masks) or, when it is not given, from one
+ * second pass here.
+ * @throws GmmInputError when a partial does not cover every mask exactly once.
+ */
+export function summariseSubsetSweep(plan: SweepPlan, whole: SweepPartial, within?: SweepWithinPartial): SubsetSweepResult {
+  assertWhole(plan, whole.ranges, 'sweep');
   const names = plan.factorNames;
-  const ok = rows.filter((r) => r.hj !== null) as (SweepRow & { hj: number; drop: number; p: number })[];
-  const model = (r: (typeof ok)[number]): SweepModel => ({ factors: subsetFactors(r.mask, names), size: r.size, hj: r.hj, drop: r.drop, df: r.df, p: r.p });
+  const model = (r: SweepRow): SweepModel => ({ factors: subsetFactors(r.mask, names), size: r.size, hj: r.hj!, drop: r.drop!, df: r.df, p: r.p! });
   const bestByHj: { size: number; models: SweepModel[] }[] = [];
   const bestByDrop: { size: number; models: SweepModel[] }[] = [];
   const counts = new Array<number>(plan.K).fill(0);
   let listed = 0;
   for (let size = 1; size <= plan.K; size++) {
-    const same = ok.filter((r) => r.size === size);
-    const byHj = [...same].sort((a, b) => a.hj - b.hj || a.mask - b.mask).slice(0, top);
-    const byDrop = [...same].sort((a, b) => a.drop - b.drop || a.mask - b.mask).slice(0, top);
-    bestByHj.push({ size, models: byHj.map(model) });
-    bestByDrop.push({ size, models: byDrop.map(model) });
-    for (const r of byHj) {
+    const hj = whole.bestByHj[size - 1];
+    bestByHj.push({ size, models: hj.map(model) });
+    bestByDrop.push({ size, models: whole.bestByDrop[size - 1].map(model) });
+    for (const r of hj) {
       listed += 1;
       for (let k = 0; k < plan.K; k++) if ((r.mask >> k) & 1) counts[k] += 1;
     }
   }
-  const adequate = ok
-    .filter((r) => r.p > level)
-    .sort((a, b) => a.size - b.size || a.hj - b.hj || a.mask - b.mask)
-    .slice(0, 10)
-    .map(model);
   const tests = names.map((_, k) => waldSingle(plan.fullB[k], plan.fullSeB[k]));
   const pHolm = holmAdjust(tests.map((t) => t.p));
   const pBY = benjaminiYekutieliAdjust(tests.map((t) => t.p));
@@ -415,18 +667,18 @@ export function summariseSubsetSweep(plan: SweepPlan, rows: readonly SweepRow[],
     pHolm: pHolm[k],
     pBY: pBY[k],
   }));
-  const { ranking, note } = thetaRanking(plan, rows, options.thetaTop ?? 20);
+  const { ranking, note } = thetaRanking(plan, whole, within);
   return {
     T: plan.T,
     N: plan.N,
     K: plan.K,
     lags: plan.lags,
-    level,
-    models: rows.length,
-    singular: rows.length - ok.length,
+    level: plan.level,
+    models: whole.models,
+    singular: whole.singular,
     bestByHj,
     bestByDrop,
-    adequate,
+    adequate: whole.adequate.map(model),
     factorFrequency: names.map((name, k) => ({ name, count: counts[k], share: listed > 0 ? counts[k] / listed : 0 })),
     candidates,
     thetaRanking: ranking,
@@ -434,90 +686,55 @@ export function summariseSubsetSweep(plan: SweepPlan, rows: readonly SweepRow[],
   };
 }
 
-function thetaRanking(plan: SweepPlan, rows: readonly SweepRow[], top: number): { ranking: SweepThetaRanking | null; note: string | null } {
+function thetaRanking(plan: SweepPlan, whole: SweepPartial, given?: SweepWithinPartial): { ranking: SweepThetaRanking | null; note: string | null } {
   if (!plan.traded) return { ranking: null, note: 'The candidates’ traded flags were not given, so the squared-Sharpe ranking was not computed.' };
   if (!plan.traded.some(Boolean)) return { ranking: null, note: 'No candidate is traded: the squared-Sharpe ranking needs traded factors.' };
   if (!plan.theta) return { ranking: null, note: 'The squared-Sharpe ranking was not asked for.' };
-  // Linear passes, no sort of all rows (the sweep is benchmarked): the order is θ̂ descending, then
-  // size, then mask.
-  type Ranked = SweepRow & { theta: number };
-  const before = (x: Ranked, y: Ranked) => x.theta > y.theta || (x.theta === y.theta && (x.size < y.size || (x.size === y.size && x.mask < y.mask)));
+  const best = whole.thetaTop[0] as Ranked | undefined;
+  if (!best) return { ranking: null, note: 'Every subset of traded candidates is singular.' };
   const names = plan.factorNames;
-  let count = 0;
-  let bestRow: Ranked | null = null;
-  const bySize: (Ranked | null)[] = new Array<Ranked | null>(plan.K + 1).fill(null);
-  const keep = Math.max(1, top);
-  const topRows: Ranked[] = [];
-  for (const row of rows) {
-    if (row.theta === null) continue;
-    const r = row as Ranked;
-    count += 1;
-    if (!bestRow || before(r, bestRow)) bestRow = r;
-    const cur = bySize[r.size];
-    if (!cur || before(r, cur)) bySize[r.size] = r;
-    if (topRows.length < keep || before(r, topRows[topRows.length - 1])) {
-      let i = topRows.length;
-      while (i > 0 && before(r, topRows[i - 1])) i--;
-      topRows.splice(i, 0, r);
-      if (topRows.length > keep) topRows.pop();
-    }
-  }
-  if (!bestRow) return { ranking: null, note: 'Every subset of traded candidates is singular.' };
   const ses = new Map<number, number>();
   const seOf = (mask: number): number => {
-    const hit = ses.get(mask);
-    if (hit !== undefined) return hit;
-    const idx = names.map((_, k) => k).filter((k) => (mask >> k) & 1);
-    const core = squaredSharpeCore(plan.F, plan.T, plan.K, plan.meanF, plan.sigmaF, idx);
-    const se = core.ok ? Math.sqrt(seriesVarianceOfMean(core.psi, plan.T, plan.lags)) : 0;
-    ses.set(mask, se);
+    let se = ses.get(mask);
+    if (se === undefined) ses.set(mask, (se = thetaSe(plan, mask)));
     return se;
   };
-  const best = bestRow;
   const cut = best.theta - seOf(best.mask);
-  const model = (r: Ranked): SweepThetaModel => ({
+  const within = given ?? sweepWithinOneSe(plan, cut, 1, 2 ** plan.K);
+  assertWhole(plan, within.ranges, 'second (within one SE) pass');
+  const model = (r: SweepRow): SweepThetaModel => ({
     factors: subsetFactors(r.mask, names),
     size: r.size,
-    theta: r.theta,
+    theta: r.theta!,
     se: seOf(r.mask),
-    withinOneSe: r.theta >= cut,
+    withinOneSe: r.theta! >= cut,
   });
-  let within = 0;
-  let minSize = plan.K + 1;
-  for (const row of rows)
-    if (row.theta !== null && row.theta >= cut) {
-      within += 1;
-      if (row.size < minSize) minSize = row.size;
-    }
-  const smallest = (rows.filter((r) => r.theta !== null && r.size === minSize && r.theta >= cut) as Ranked[]).sort((x, y) => (before(x, y) ? -1 : before(y, x) ? 1 : 0));
-  const bestBySize = bySize.filter((r): r is Ranked => r !== null).map(model);
   return {
     ranking: {
       candidates: names.filter((_, k) => plan.traded![k]),
-      models: count,
+      models: whole.thetaCount,
       best: model(best),
-      withinOneSe: within,
-      top: topRows.map(model),
-      bestBySize,
-      smallestWithinOneSe: smallest.slice(0, 10).map(model),
+      withinOneSe: within.count,
+      top: whole.thetaTop.map(model),
+      bestBySize: whole.thetaBySize.filter((r): r is SweepRow => r !== null).map(model),
+      smallestWithinOneSe: within.smallest.map(model),
     },
     note: null,
   };
 }
 
 /**
- * The whole sweep in one call.
- * @param input returns T×N, factors T×K (K ≤ 15), names, traded flags (optional: needed for the θ̂
+ * The whole sweep in one call: one chunk over every mask, then the summary.
+ * @param input returns T×N, factors T×K (K ≤ 25), names, traded flags (optional: needed for the θ̂
  *   ranking), options (lags, form, weighting, level, topPerSize, thetaRanking, thetaTop).
  * @returns rankings by HJ distance and by the drop test against the full model, per size, factor
  *   frequencies, the full model's b test per candidate with Holm / BY adjusted p, and the θ̂ ranking
  *   of the subsets of traded candidates (null with `thetaNote` saying why).
  *   As `{ ok: true, sweep }`, or the typed failure of {@link prepareSubsetSweep}.
- * @throws GmmInputError on malformed input or more than 15 candidates.
+ * @throws GmmInputError on malformed input or more than 25 candidates.
  */
 export function subsetSweep(input: SubsetSweepInput): GmmResult<{ sweep: SubsetSweepResult }> {
   const prepared = prepareSubsetSweep(input);
   if (!prepared.ok) return prepared;
-  const { plan } = prepared;
-  return { ok: true, sweep: summariseSubsetSweep(plan, evaluateSubsets(plan, 1, 2 ** plan.K), input.options) };
+  return { ok: true, sweep: summariseSubsetSweep(prepared.plan, sweepChunk(prepared.plan, 1, 2 ** prepared.plan.K)) };
 }

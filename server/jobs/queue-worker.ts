@@ -19,7 +19,7 @@ import { UnrecoverableError, Worker, type Job } from 'bullmq';
 import { setMaxListeners } from 'node:events';
 import { ChunkFailedError, createJobPool, type JobPool } from './pool';
 import type { ChunkTask } from './tasks';
-import type { BootstrapBatch, RollingPoint, SweepRow } from '../../lib/gmm/index';
+import type { BootstrapBatch, RollingPoint, SweepPartial } from '../../lib/gmm/index';
 import {
   CANCELLED_REASON,
   CANCEL_CHANNEL,
@@ -130,7 +130,7 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
       let out: unknown;
       if (stored.kind === 'bootstrap') out = await runInPool<BootstrapBatch>(c.flow, { op: 'bootstrap', key: c.flow, input: stored.input, from: c.from, to: c.to });
       else if (stored.kind === 'subset-sweep')
-        out = await runInPool<SweepRow[]>(c.flow, { op: 'subset-sweep', key: c.flow, input: stored.input, from: c.from + 1, to: c.to + 1 });
+        out = await runInPool<SweepPartial>(c.flow, { op: 'subset-sweep', key: c.flow, input: stored.input, from: c.from + 1, to: c.to + 1 });
       else if (stored.kind === 'rolling') out = await runInPool<RollingPoint[]>(c.flow, { op: 'rolling', key: c.flow, input: stored.input, from: c.from, to: c.to });
       // hold-out checks are cheap (one estimate per block) and stay in the API's own pool (runner.ts)
       else throw new UnrecoverableError(`${stored.kind} checks are not run by queue workers`);
@@ -145,7 +145,7 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
     if (stored.kind === 'bootstrap')
       result = await runInPool(d.flow, { op: 'bootstrap-summary', key: d.flow, input: stored.input, batches: values.map((v) => v.value as BootstrapBatch) });
     else if (stored.kind === 'subset-sweep')
-      result = await runInPool(d.flow, { op: 'subset-sweep-summary', key: d.flow, input: stored.input, rows: values.flatMap((v) => v.value as SweepRow[]) });
+      result = await runInPool(d.flow, { op: 'subset-sweep-summary', key: d.flow, input: stored.input, parts: values.map((v) => v.value as SweepPartial) });
     else if (stored.kind === 'rolling') result = await runInPool(d.flow, { op: 'rolling-summary', key: d.flow, input: stored.input, points: values.flatMap((v) => v.value as RollingPoint[]) });
     else throw new UnrecoverableError(`${stored.kind} checks are not run by queue workers`);
     inputs.delete(d.flow);

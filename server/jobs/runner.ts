@@ -20,13 +20,13 @@ import { jobs, runs, users } from '../db/schema/index';
 import type { Mailer } from '../services/mailer';
 import { mailInBackground } from '../services/runs';
 import { buildCheckInput, type CheckInput } from '../services/jobs-input';
-import { JOB_KIND_LABELS } from '../../shared/jobs';
+import { JOB_KIND_LABELS, type JobMode } from '../../shared/jobs';
 import { createJobPool, type JobPool } from './pool';
 import type { ChunkTask, HoldoutBlocks } from './tasks';
 import { QueueClient } from './queue-client';
 import { CANCELLED_REASON, flowId } from './queue-shared';
 import { runResultColumns } from '../services/run-shape';
-import { withBootstrap, type BootstrapBatch, type BootstrapResult, type LedgerResult, type RollingPoint, type SweepRow } from '../../lib/gmm/index';
+import { withBootstrap, type BootstrapBatch, type BootstrapResult, type LedgerResult, type RollingPoint, type SweepPartial } from '../../lib/gmm/index';
 
 export interface JobRunnerOptions {
   db: Db;
@@ -49,15 +49,20 @@ const SHUTDOWN = 'keelson-shutdown';
  * How a job is cut into chunks: small enough that progress moves and a cancel bites within a
  * fraction of a second, and that another job's chunks never wait long behind this one's; large
  * enough that sending the data to a worker stays cheap. Bootstrap: 10–100 draws per chunk;
- * sweep: at least 512 subsets per chunk (a whole small sweep is one chunk); rolling: ~20 chunks.
+ * sweep: about 200 chunks by mask range, at least 512 subsets each (a whole small sweep is one
+ * chunk; 25 candidates give 200 chunks of 167,773 subsets), each answered as a bounded partial
+ * that merges exactly (lib/gmm sweepChunk / mergeSweepPartials); rolling: ~20 chunks.
  */
 export function chunkRanges(total: number, kind: CheckInput['kind']): [number, number][] {
   const even = Math.ceil(total / (kind === 'rolling' || kind === 'holdout' ? 20 : 40));
-  const size = Math.max(1, kind === 'bootstrap' ? Math.min(100, Math.max(10, even)) : kind === 'subset-sweep' ? Math.max(512, even) : even);
+  const size = Math.max(1, kind === 'bootstrap' ? Math.min(100, Math.max(10, even)) : kind === 'subset-sweep' ? Math.max(512, Math.ceil(total / SWEEP_CHUNKS)) : even);
   const out: [number, number][] = [];
   for (let a = 0; a < total; a += size) out.push([a, Math.min(total, a + size)]);
   return out;
 }
+
+/** How many mask ranges a big subset sweep is cut into (both modes). */
+export const SWEEP_CHUNKS = 200;
 
 const nowIso = () => new Date().toISOString();
 
@@ -94,6 +99,8 @@ export class JobRunner {
   private closed = false;
   /** Queue mode's client (null: embedded pool). */
   readonly queue: QueueClient | null;
+  /** 'queue' with KEELSON_REDIS_URL, else 'embedded': decides the per-mode limits (shared/jobs.ts JOB_LIMITS). */
+  readonly mode: JobMode;
   private readonly pollMs: number;
 
   constructor(opts: JobRunnerOptions) {
@@ -104,6 +111,7 @@ export class JobRunner {
     this.pool = opts.pool ?? null;
     this.ownsPool = !opts.pool;
     this.queue = opts.redisUrl ? new QueueClient(opts.redisUrl) : null;
+    this.mode = this.queue ? 'queue' : 'embedded';
     this.pollMs = opts.pollMs ?? 250;
   }
 
@@ -199,7 +207,8 @@ export class JobRunner {
     try {
       const runRow = db.select({ id: runs.id, editionId: runs.editionId, spec: runs.spec }).from(runs).where(eq(runs.id, job.runId)).get();
       if (!runRow) throw new Error(`Run ${job.runId} no longer exists.`);
-      check = buildCheckInput(db, runRow, job.kind, JSON.parse(job.params));
+      // the mode's limits again: a job restarted after the server left queue mode fails with the reason
+      check = buildCheckInput(db, runRow, job.kind, JSON.parse(job.params), this.mode);
     } catch (e) {
       this.finish(jobId, 'failed', null, messageOf(e), started);
       return;
@@ -231,11 +240,11 @@ export class JobRunner {
       } else if (check.kind === 'subset-sweep') {
         const input = check.input;
         const parts = await mapLimited(ranges, limit, async ([from, to]) => {
-          const r = await pool.run<SweepRow[]>({ op: 'subset-sweep', key, input, from: from + 1, to: to + 1 }, signal);
+          const r = await pool.run<SweepPartial>({ op: 'subset-sweep', key, input, from: from + 1, to: to + 1 }, signal);
           record(to - from);
           return r;
         });
-        result = await pool.run({ op: 'subset-sweep-summary', key, input, rows: parts.flat() } satisfies ChunkTask, signal);
+        result = await pool.run({ op: 'subset-sweep-summary', key, input, parts } satisfies ChunkTask, signal);
       } else if (check.kind === 'holdout' && check.mode === 'split') {
         result = await pool.run({ op: 'holdout-split', key, input: check.input } satisfies ChunkTask, signal);
         record(1);

@@ -1,13 +1,12 @@
 /**
  * What a worker thread does with one chunk of a deep check. Pure computation on lib/gmm; no
- * database, no I/O. A chunk is small (a few dozen bootstrap draws, a few hundred subsets, a few
- * windows) so that progress moves and a cancel takes effect between chunks.
+ * database, no I/O. A chunk is small (a few dozen bootstrap draws, about 1/200 of a sweep's subsets
+ * summarised as a bounded partial, a few windows) so that progress moves and a cancel takes effect between chunks.
  *
  * Each chunk carries the job's input; the worker keeps the last few prepared plans (keyed by job
  * and attempt) so the shared work (the original fit, the N×N products) is done once per thread.
  */
 import {
-  evaluateSubsets,
   estimateWindows,
   prepareBootstrap,
   holdoutPricing,
@@ -16,7 +15,9 @@ import {
   runBootstrapDraws,
   summariseBootstrap,
   summariseRolling,
+  mergeSweepPartials,
   summariseSubsetSweep,
+  sweepChunk,
   type BootstrapBatch,
   type BootstrapInput,
   type BootstrapPlan,
@@ -28,7 +29,7 @@ import {
   type RollingPoint,
   type SubsetSweepInput,
   type SweepPlan,
-  type SweepRow,
+  type SweepPartial,
   type GmmFailure,
   type GmmResult,
 } from '../../lib/gmm/index';
@@ -39,7 +40,7 @@ export type ChunkTask =
   | { op: 'bootstrap'; key: string; input: BootstrapInput; from: number; to: number }
   | { op: 'bootstrap-summary'; key: string; input: BootstrapInput; batches: BootstrapBatch[] }
   | { op: 'subset-sweep'; key: string; input: SubsetSweepInput; from: number; to: number }
-  | { op: 'subset-sweep-summary'; key: string; input: SubsetSweepInput; rows: SweepRow[] }
+  | { op: 'subset-sweep-summary'; key: string; input: SubsetSweepInput; parts: SweepPartial[] }
   | { op: 'rolling'; key: string; input: RollingInput; from: number; to: number }
   | { op: 'rolling-summary'; key: string; input: RollingInput; points: RollingPoint[] }
   | { op: 'holdout-split'; key: string; input: HoldoutInput }
@@ -136,12 +137,13 @@ export function runChunk(task: ChunkTask): unknown {
     }
     case 'subset-sweep': {
       const p = cached(task.key, () => prepareSubsetSweep(task.input));
-      return p.ok ? evaluateSubsets(p.plan, task.from, task.to) : failed(p);
+      return p.ok ? sweepChunk(p.plan, task.from, task.to) : failed(p);
     }
     case 'subset-sweep-summary': {
       const p = cached(task.key, () => prepareSubsetSweep(task.input));
       plans.delete(task.key);
-      return p.ok ? summariseSubsetSweep(p.plan, task.rows, task.input.options) : failed(p);
+      // exact merge of the chunks' partials; the one-SE figures are one θ̂-only pass inside the summary
+      return p.ok ? summariseSubsetSweep(p.plan, mergeSweepPartials(p.plan, task.parts)) : failed(p);
     }
     case 'rolling':
       return estimateWindows(task.input, task.from, task.to);

@@ -4,7 +4,7 @@ import { currentUser } from '../middlewares/access';
 import { parseOr400 } from '../middlewares/errors';
 import { idParam } from '../middlewares/params';
 import { jobListQuerySchema, startCheckBodySchema } from '../../shared/jobs';
-import { cancelJob, getJob, listJobs, restartJob, startCheck } from '../services/jobs';
+import { cancelJob, getJob, jobLimits, listJobs, restartJob, startCheck } from '../services/jobs';
 import type { JobRunner } from '../jobs/runner';
 import type { AppDeps } from '../app-deps';
 
@@ -13,7 +13,8 @@ const WRITERS = ['researcher', 'admin'] as const;
 
 /**
  * Deep checks as background jobs: start on a finished run (researcher, admin), read and list
- * (every role, runs they can read), cancel and restart (researcher: own jobs; admin: any).
+ * (every role, runs they can read), cancel and restart (researcher: own jobs; admin: any); the
+ * server's per-mode limits (every signed-in role).
  */
 export function registerJobRoutes(api: ApiRouter, deps: AppDeps, runner: JobRunner): void {
   const { db } = deps;
@@ -27,6 +28,11 @@ export function registerJobRoutes(api: ApiRouter, deps: AppDeps, runner: JobRunn
   api.get('/jobs', 'signed-in', (req: Request, res: Response) => {
     const q = parseOr400(jobListQuerySchema, req.query, 'job filter');
     res.json(listJobs(db, currentUser(req), q));
+  });
+
+  // before /jobs/:id: 'limits' is not a job id
+  api.get('/jobs/limits', 'signed-in', (_req: Request, res: Response) => {
+    res.json({ limits: jobLimits(runner) });
   });
 
   api.get('/jobs/:id', 'signed-in', (req: Request, res: Response) => {

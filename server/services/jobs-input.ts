@@ -12,7 +12,11 @@ import {
   holdoutParamsSchema,
   rollingParamsSchema,
   subsetSweepParamsSchema,
+  JOB_LIMITS,
+  drawsLimitText,
+  sweepLimitText,
   type JobKind,
+  type JobMode,
 } from '../../shared/jobs';
 import {
   defaultBlockLength,
@@ -106,11 +110,36 @@ export function assertBootstrapAccepted(check: Extract<CheckInput, { kind: 'boot
   }
 }
 
+const MODE_NAMES: Record<JobMode, string> = { embedded: 'this server runs deep checks without workers', queue: 'this server runs deep checks on queue workers' };
+
+/**
+ * The mode's limits (shared/jobs.ts JOB_LIMITS): the request schema allows the largest, this
+ * refuses what the server's own mode does not take, naming the limit and the mode.
+ * @throws KeelsonApiError 422.
+ */
+export function assertWithinModeLimits(check: CheckInput, mode: JobMode): void {
+  const lim = JOB_LIMITS[mode];
+  if (check.kind === 'subset-sweep' && check.input.factorNames.length > lim.sweepCandidates)
+    unprocessable(
+      `The sweep takes ${sweepLimitText()}; ${MODE_NAMES[mode]}, so name up to ${lim.sweepCandidates} candidates (this request has ${check.input.factorNames.length}).`,
+      ['params', 'candidates'],
+    );
+  if (check.kind === 'bootstrap' && check.total > lim.bootstrapDraws)
+    unprocessable(`The bootstrap takes ${drawsLimitText()}; ${MODE_NAMES[mode]}, so ask for up to ${lim.bootstrapDraws} draws (this request has ${check.total}).`, ['params', 'draws']);
+}
+
 /**
  * Builds the check input. `params` must already be parsed by the kind's schema (shared/jobs.ts).
- * @throws KeelsonApiError 422 when the check does not fit the run's data.
+ * With `mode`, the mode's limits are checked too (assertWithinModeLimits).
+ * @throws KeelsonApiError 422 when the check does not fit the run's data or the mode's limits.
  */
-export function buildCheckInput(db: Db, run: RunForCheck, kind: JobKind, rawParams: unknown): CheckInput {
+export function buildCheckInput(db: Db, run: RunForCheck, kind: JobKind, rawParams: unknown, mode?: JobMode): CheckInput {
+  const check = buildCheckInputAnyMode(db, run, kind, rawParams);
+  if (mode) assertWithinModeLimits(check, mode);
+  return check;
+}
+
+function buildCheckInputAnyMode(db: Db, run: RunForCheck, kind: JobKind, rawParams: unknown): CheckInput {
   const spec: ModelSpec = modelSpecSchema.parse(JSON.parse(run.spec));
   const data = loadEditionData(db, run.editionId);
   const build = (s: ModelSpec) => {
@@ -125,7 +154,8 @@ export function buildCheckInput(db: Db, run: RunForCheck, kind: JobKind, rawPara
   if (kind === 'subset-sweep') {
     const p = subsetSweepParamsSchema.parse(rawParams);
     const candidates = p.candidates ?? spec.factors;
-    if (candidates.length > 15) unprocessable(`The sweep takes at most 15 candidate factors; the run has ${candidates.length}. Name up to 15 candidates.`, ['params', 'candidates']);
+    if (candidates.length > JOB_LIMITS.queue.sweepCandidates)
+      unprocessable(`The sweep takes ${sweepLimitText()}; the run has ${candidates.length} factors. Name the candidates.`, ['params', 'candidates']);
     if (new Set(candidates).size !== candidates.length) unprocessable('A candidate factor is named twice.', ['params', 'candidates']);
     const kindOf = new Map(data.series.map((s) => [s.name, s]));
     for (const c of candidates) {

@@ -22,6 +22,8 @@ import {
   type JobResult,
   type JobsResponse,
   type StartCheck,
+  jobLimitsFor,
+  type JobLimits,
 } from '../../shared/jobs';
 import { audit } from './audit';
 import { nameOf } from './users';
@@ -141,7 +143,7 @@ export function startCheck(db: Db, runner: JobRunner, user: User, runId: number,
     const p = bootstrapParamsSchema.parse(body.params);
     params = { ...p, seed: p.seed ?? randomInt(0, 2 ** 31) };
   }
-  const check = buildCheckInput(db, run, body.kind, params);
+  const check = buildCheckInput(db, run, body.kind, params, runner.mode);
   if (check.kind === 'bootstrap') assertBootstrapAccepted(check);
   const row = inTransaction(db, (tx) => {
     const r = tx
@@ -197,4 +199,9 @@ export function restartJob(db: Db, runner: JobRunner, user: User, id: number): J
   });
   runner.start(id);
   return toJob(updated, nameOf(db, updated.authorId), false);
+}
+
+/** This server's deep-check limits (its mode's, shared/jobs.ts JOB_LIMITS); every signed-in role may read them. */
+export function jobLimits(runner: JobRunner): JobLimits {
+  return jobLimitsFor(runner.mode);
 }

@@ -9,7 +9,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { AddressInfo } from 'node:net';
 import type { Server } from 'node:http';
-import { envelopeLine, runRemote } from '../../bin/remote';
+import { envelopeLine, REMOTE_USAGE, runRemote } from '../../bin/remote';
 import { mulberry32 } from '../../lib/gmm/random';
 import { main } from '../../bin/keelson-cli';
 import { agentAs, makeTestApp, type TestApp } from './helpers';
@@ -212,6 +212,25 @@ describe('keelson command line against the server', () => {
     expect(bad.code).toBe(2);
     expect(bad.err.trim().split('\n')).toHaveLength(1);
     expect(bad.err.split('The level is at most 0.5').length - 1).toBe(1);
+  });
+
+  it('limits prints this server’s mode and deep-check limits; help and a refused sweep name both modes’ limits', async () => {
+    const home = tempDir();
+    expect((await cli(home, ['sign-in', '--server', base, '--email', 'researcher@keelson.test'], 'keelson-demo')).code).toBe(0);
+    const text = await cli(home, ['limits']);
+    expect(text.code).toBe(0);
+    expect(text.out).toContain('Deep checks on this server run without workers (embedded pool).');
+    expect(text.out).toContain('Subset sweep: at most 15 candidate factors (32,767 models); at most 15 candidate factors without workers; 25 with queue workers.');
+    expect(text.out).toContain('Bootstrap: at most 100,000 draws.');
+    const asJson = await cli(home, ['limits', '--json']);
+    expect(JSON.parse(asJson.out)).toMatchObject({ mode: 'embedded', sweepCandidates: 15, bootstrapDraws: 100_000 });
+    expect(REMOTE_USAGE).toContain('subset-sweep: at most 15 candidate factors without workers; 25 with queue workers');
+    expect(REMOTE_USAGE).toMatch(/keelson limits \[--json\]/);
+    const names = Array.from({ length: 26 }, (_, i) => `F${i}`);
+    const refused = await cli(home, ['check', '999999', '--kind', 'subset-sweep', '--params', JSON.stringify({ candidates: names })]);
+    expect(refused.code).toBe(2);
+    expect(refused.err).toMatch(/at most 15 candidate factors without workers; 25 with queue workers/);
+    expect(refused.err.trim().split('\n')).toHaveLength(1);
   });
 
   it('envelopeLine keeps issues the message does not already say, each once', () => {

@@ -9,7 +9,7 @@ import { gmmFailureMessage } from '../../shared/gmm-messages';
 import { runChunk, type ChunkTask } from '../../server/jobs/tasks';
 import { chunkRanges } from '../../server/jobs/runner';
 import { simulateEconomy, zeroCovarianceEconomy } from '../gmm/helpers';
-import type { BootstrapBatch, SweepRow } from '../../lib/gmm/index';
+import type { BootstrapBatch, SweepPartial } from '../../lib/gmm/index';
 
 const pool = createJobPool({ threads: 1 });
 afterAll(() => pool.destroy());
@@ -41,9 +41,10 @@ describe('job pool', () => {
       from: 1,
       to: 8,
     };
-    const rows = await pool.run<SweepRow[]>(sweep);
-    expect(rows.map((r) => r.mask)).toEqual([1, 2, 3, 4, 5, 6, 7]);
-    expect(rows).toEqual(runChunk(sweep));
+    const part = await pool.run<SweepPartial>(sweep);
+    expect(part.ranges).toEqual([[1, 8]]);
+    expect(part.models).toBe(7);
+    expect(part).toEqual(runChunk(sweep));
   });
 
   it('an aborted signal stops a running chunk with an AbortError and the pool keeps working', async () => {

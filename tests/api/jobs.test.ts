@@ -185,8 +185,9 @@ describe('validation (nothing written on refusal)', () => {
     expectEnvelope((await post(researcher, `/runs/${runId}/checks`, { kind: 'rolling', params: { length: 10 } }).expect(422)).body, 'unprocessable');
     expectEnvelope((await post(researcher, `/runs/${runId}/checks`, { kind: 'subset-sweep', params: { candidates: ['MKT', 'A01'] } }).expect(422)).body, 'unprocessable');
     expectEnvelope((await post(researcher, `/runs/${runId}/checks`, { kind: 'subset-sweep', params: { candidates: ['MKT', 'NOPE'] } }).expect(422)).body, 'unprocessable');
-    const sixteen = Array.from({ length: 16 }, (_, i) => `F${i}`);
-    expectEnvelope((await post(researcher, `/runs/${runId}/checks`, { kind: 'subset-sweep', params: { candidates: sixteen } }).expect(400)).body, 'validation_failed');
+    // above the largest limit of any mode (25): the schema refuses; 16–25: the mode's check (jobs-limits.test.ts)
+    const twentySix = Array.from({ length: 26 }, (_, i) => `F${i}`);
+    expectEnvelope((await post(researcher, `/runs/${runId}/checks`, { kind: 'subset-sweep', params: { candidates: twentySix } }).expect(400)).body, 'validation_failed');
     expectEnvelope((await post(researcher, `/runs/${runId}/checks`, { kind: 'bootstrap', params: { scheme: 'block', blockLength: 200 } }).expect(422)).body, 'unprocessable');
     expectEnvelope((await post(researcher, '/runs/999999/checks', { kind: 'bootstrap' }).expect(404)).body, 'not_found');
     expectEnvelope((await post(researcher, '/runs/abc/checks', { kind: 'bootstrap' }).expect(404)).body, 'not_found');

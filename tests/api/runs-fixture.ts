@@ -70,13 +70,44 @@ export const FIX_KINDS: Record<string, { kind: 'asset' | 'factor' | 'rf'; traded
 };
 
 /** Uploads the fixture as a library (admin: shared; researcher: private). Returns the edition id. */
-export async function uploadFixture(agent: Agent, fx: Fixture, opts: { name: string; visibility: 'private' | 'shared' }): Promise<{ libraryId: number; editionId: number }> {
+export async function uploadFixture(
+  agent: Agent,
+  fx: Fixture,
+  opts: { name: string; visibility: 'private' | 'shared' },
+  kinds: Record<string, { kind: 'asset' | 'factor' | 'rf'; traded?: boolean }> = FIX_KINDS,
+): Promise<{ libraryId: number; editionId: number }> {
   const up = await uploadCsv(agent, fx.csv, 'invented-economy.csv');
   if (up.status !== 201) throw new Error(`upload failed ${up.status} ${JSON.stringify(up.body)}`);
-  const series = (up.body.upload.columns as string[]).map((name) => ({ name, kind: FIX_KINDS[name]?.kind ?? 'asset', traded: FIX_KINDS[name]?.traded ?? false }));
+  const series = (up.body.upload.columns as string[]).map((name) => ({ name, kind: kinds[name]?.kind ?? 'asset', traded: kinds[name]?.traded ?? false }));
   const r = await confirm(agent, up.body.upload.id, { name: opts.name, visibility: opts.visibility, units: 'decimal', series });
   if (r.status !== 201) throw new Error(`confirm failed ${r.status} ${JSON.stringify(r.body)}`);
   return { libraryId: r.body.library.id, editionId: r.body.edition.id };
+}
+
+/**
+ * A wide invented economy for sweeps of more than 15 candidates: `assets` test assets W-A01…
+ * priced by the first factor W01 (b ≠ 0), the other factors independent noise series (true b = 0),
+ * every third of them non-traded; T = 240 months, no risk-free series (returns are excess).
+ */
+export function makeWideFixture(factors = 17, assets = 20, seed = 41): { fx: Fixture; kinds: Record<string, { kind: 'asset' | 'factor' | 'rf'; traded?: boolean }>; assets: string[]; factors: string[] } {
+  const g = gaussian(prng(seed));
+  const T = FIX_T;
+  const dates = monthLabels(2001, T);
+  const fNames = Array.from({ length: factors }, (_, k) => `W${String(k + 1).padStart(2, '0')}`);
+  const aNames = Array.from({ length: assets }, (_, i) => `WA${String(i + 1).padStart(2, '0')}`);
+  const cols: Record<string, number[]> = {};
+  fNames.forEach((n, k) => (cols[n] = Array.from({ length: T }, () => (k === 0 ? 0.008 : 0.001) + 0.03 * g())));
+  aNames.forEach((n, i) => {
+    const beta = 0.4 + (1.2 * i) / assets;
+    const noiseLoad = fNames.map((_, k) => (k === 0 ? 0 : 0.2 * g()));
+    cols[n] = cols[fNames[0]].map((m, t) => beta * m + noiseLoad.reduce((s, c, k) => s + c * (cols[fNames[k]][t] - 0.001), 0) + 0.02 * g());
+  });
+  const names = [...aNames, ...fNames];
+  const lines = [['date', ...names].join(',')];
+  dates.forEach((d, t) => lines.push([d, ...names.map((n) => String(cols[n][t]))].join(',')));
+  const kinds: Record<string, { kind: 'asset' | 'factor' | 'rf'; traded?: boolean }> = {};
+  fNames.forEach((n, k) => (kinds[n] = { kind: 'factor', traded: k % 3 !== 2 }));
+  return { fx: { dates, cols, csv: `${lines.join('\n')}\n` }, kinds, assets: aNames, factors: fNames };
 }
 
 /** A complete spec with the defaults spelled out. */

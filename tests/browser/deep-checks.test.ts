@@ -76,6 +76,8 @@ describe('deep checks in the browser', () => {
 
     // 1. a long bootstrap: the progress bar moves, then we cancel it
     await panel.getByRole('radio', { name: 'Bootstrap' }).click();
+    // the form shows this server's limits (GET /jobs/limits; the test server has no queue workers)
+    await panel.getByText(/at most 100,000 on this server/).waitFor();
     await panel.getByLabel('Draws', { exact: true }).fill('30000');
     await panel.getByLabel('Seed', { exact: true }).fill('11');
     await panel.getByRole('button', { name: 'Start deep check' }).click();
@@ -103,6 +105,7 @@ describe('deep checks in the browser', () => {
 
     // 2. a subset sweep over the run's factors, started with a double click: one job, and it reads
     await panel.getByRole('radio', { name: 'Subset sweep' }).click();
+    await panel.getByText('At most 15 here (32,767 models): this server runs deep checks without workers. The sweep takes at most 15 candidate factors without workers; 25 with queue workers.', { exact: false }).waitFor();
     const before = await jobCount(page, runId);
     await panel.getByRole('button', { name: 'Start deep check' }).dblclick();
     const showSweep = panel.getByRole('button', { name: /^Show result of Subset sweep #\d+$/ });

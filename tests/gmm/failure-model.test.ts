@@ -40,6 +40,7 @@ const NULL_IS_A_VALUE = new Set([
   'okValue', // the value of a typed result for embedding in a ledger, null where the ledger shows "not available"
   'lagWarningText', // no warning to give
   'cautionText', // no caution to give
+  'thetaCut', // no squared-Sharpe ranking in this sweep (not asked for, or no traded candidate), so no cut
 ]);
 
 describe('the public surface (TypeScript checker on lib/gmm/index.ts)', () => {

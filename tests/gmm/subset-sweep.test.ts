@@ -9,7 +9,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { estimateLedger, okOf } from './helpers';
-import { evaluateSubsets, prepareSubsetSweep, subsetFactors, subsetSweep, summariseSubsetSweep, type SubsetSweepInput } from '../../lib/gmm/subset-sweep';
+import { evaluateSubsets, mergeSweepPartials, prepareSubsetSweep, subsetFactors, subsetSweep, summariseSubsetSweep, sweepChunk, type SubsetSweepInput } from '../../lib/gmm/subset-sweep';
 import { GmmInputError } from '../../lib/gmm/errors';
 import { normalSampler, simulateEconomy } from './helpers';
 
@@ -88,7 +88,7 @@ describe('subset sweep against brute force (identity)', () => {
 
   it('chunked evaluation summarises to the same result as one pass', () => {
     const one = okOf(subsetSweep(input)).sweep;
-    const chunked = summariseSubsetSweep(plan, [...evaluateSubsets(plan, 9, 16), ...evaluateSubsets(plan, 1, 9)], input.options);
+    const chunked = summariseSubsetSweep(plan, mergeSweepPartials(plan, [sweepChunk(plan, 9, 16), sweepChunk(plan, 1, 9)]));
     expect(chunked).toEqual(one);
     expect(one.models).toBe(15);
     // HJ weakly falls as factors are added (nested models, same weighting): best of size 4 ≤ best of size 1
@@ -129,10 +129,13 @@ describe('subset sweep with known truth', () => {
 });
 
 describe('subset sweep input errors', () => {
-  it('refuses more than 15 candidates with a named error', () => {
-    const e = simulateEconomy({ T: 200, N: 5, K: 16, seed: 2 });
+  it('refuses more than 25 candidates with a named error', () => {
+    const e = simulateEconomy({ T: 200, N: 30, K: 26, seed: 2 });
     expect(() =>
       okOf(subsetSweep({ returns: e.returns, factors: e.factors, factorNames: e.factors[0].map((_, k) => `F${k}`), options: { lags: 0, form: 'centred', factorMeansKnown: false, weighting: 'identity' } })).sweep,
     ).toThrow(GmmInputError);
+    expect(() =>
+      subsetSweep({ returns: e.returns, factors: e.factors, factorNames: e.factors[0].map((_, k) => `F${k}`), options: { lags: 0, form: 'centred', factorMeansKnown: false, weighting: 'identity' } }),
+    ).toThrow(/at most 25 candidate factors; got 26/);
   });
 });

@@ -1,0 +1,108 @@
+/**
+ * Queue mode's bigger sweeps: with KEELSON_REDIS_URL set the API allows 25 sweep candidates
+ * (GET /jobs/limits says so), and a 17-candidate sweep (131,071 models) on the wide invented
+ * economy (tests/api/runs-fixture.ts makeWideFixture) runs as a BullMQ flow of 200 mask-range
+ * chunks on two real `keelson worker` processes over a real redis-server, each chunk answering a
+ * bounded partial. Check (identity): the result equals lib/gmm's subsetSweep called directly,
+ * uninterrupted and unchunked, on the same matrices, as the JSON the API serves.
+ */
+import { okOf } from '../gmm/helpers';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { agentAs, expectEnvelope, type Agent } from '../api/helpers';
+import { getJob, jobEnded, makeWideFixture, spec, uploadFixture, waitJob } from '../api/runs-fixture';
+import { subsetSweep } from '../../lib/gmm/index';
+import { openDb, type Db } from '../../server/db/client';
+import { createApp, type KeelsonApp } from '../../server/app';
+import { createMailer, type Mailer } from '../../server/services/mailer';
+import { seedDemoUsers } from '../../server/seed/users';
+import { mailSettled } from '../../server/services/runs';
+import { chunkRanges } from '../../server/jobs/runner';
+import { jobLimitsResponseSchema, jobResponseSchema } from '../../shared/jobs';
+import { runResponseSchema } from '../../shared/runs';
+import { startWorkerProcess, testRedis, type TestRedis, type WorkerProcess } from './redis';
+
+let redis: TestRedis;
+let dir: string;
+let db: Db;
+let mailer: Mailer;
+let app: KeelsonApp;
+let researcher: Agent;
+let runId: number;
+const workers: WorkerProcess[] = [];
+const wide = makeWideFixture(17, 20);
+
+beforeAll(async () => {
+  redis = await testRedis();
+  dir = mkdtempSync(join(tmpdir(), 'keelson-sweep25-'));
+  db = openDb(join(dir, 'keelson.db'));
+  // job ids (hence flow ids job-<id>-<attempt>) far from the other queue tests', which may share CI's Redis
+  db.$client.prepare("INSERT INTO sqlite_sequence (name, seq) VALUES ('jobs', ?)").run(250_000 + Math.floor(Math.random() * 1_000_000));
+  await seedDemoUsers(db);
+  mailer = await createMailer();
+  app = createApp({ db, mailer, sessionSecret: 'test-secret-test-secret', redisUrl: redis.url, jobMailAfterMs: 3_600_000 });
+  const admin = await agentAs(app, 'admin');
+  researcher = await agentAs(app, 'researcher');
+  const lib = await uploadFixture(admin, wide.fx, { name: 'Wide invented economy', visibility: 'shared' }, wide.kinds);
+  const r = await post(researcher, '/runs', { editionId: lib.editionId, spec: spec({ assets: wide.assets, factors: ['W01'] }) });
+  if (r.status !== 201) throw new Error(`run not started: ${r.status} ${JSON.stringify(r.body)}`);
+  runId = runResponseSchema.parse(r.body).run.id;
+  workers.push(await startWorkerProcess(redis.url), await startWorkerProcess(redis.url));
+}, 60_000);
+
+afterAll(async () => {
+  for (const w of workers) if (w.proc.exitCode === null) w.proc.kill('SIGKILL');
+  await mailSettled();
+  await app?.jobRunner.close();
+  app?.close();
+  await mailer?.close();
+  db?.$client.close();
+  await redis?.stop();
+  if (dir) rmSync(dir, { recursive: true, force: true });
+});
+
+function post(agent: Agent, url: string, body: unknown = {}) {
+  return agent.post(`/api/v1${url}`).set('x-csrf-token', agent.csrf).send(body as object);
+}
+
+describe('sweep limits with queue workers', () => {
+  it('GET /jobs/limits: queue mode, 25 candidates, 100,000 draws', async () => {
+    const { limits } = jobLimitsResponseSchema.parse((await researcher.get('/api/v1/jobs/limits').expect(200)).body);
+    expect(limits).toMatchObject({ mode: 'queue', sweepCandidates: 25, bootstrapDraws: 100_000 });
+  });
+
+  it('26 candidates are refused (400), naming both modes’ limits', async () => {
+    const names = [...wide.factors, ...Array.from({ length: 9 }, (_, i) => `X${i}`)];
+    const res = await post(researcher, `/runs/${runId}/checks`, { kind: 'subset-sweep', params: { candidates: names } }).expect(400);
+    expectEnvelope(res.body, 'validation_failed');
+    expect(JSON.stringify(res.body)).toMatch(/at most 15 candidate factors without workers; 25 with queue workers/);
+  });
+
+  it('17 candidates (131,071 models, 200 chunks) on two workers equal lib/gmm’s one-pass sweep', async () => {
+    const cands = wide.factors;
+    expect(chunkRanges(2 ** 17 - 1, 'subset-sweep')).toHaveLength(200);
+    const r = await post(researcher, `/runs/${runId}/checks`, { kind: 'subset-sweep', params: { candidates: cands } });
+    expect(r.status, JSON.stringify(r.body)).toBe(201);
+    const job = jobResponseSchema.parse(r.body).job;
+    expect(job.total).toBe(131_071);
+    const fin = await waitJob(researcher, job.id, jobEnded, 40_000, 200);
+    expect(fin.status, fin.error ?? '').toBe('finished');
+    const returns = wide.fx.dates.map((_, t) => wide.assets.map((a) => wide.fx.cols[a][t]));
+    const factors = wide.fx.dates.map((_, t) => cands.map((f) => wide.fx.cols[f][t]));
+    const direct = okOf(subsetSweep({
+      returns,
+      factors,
+      factorNames: cands,
+      traded: cands.map((c) => wide.kinds[c].traded === true),
+      options: { lags: 'auto', form: 'centred', factorMeansKnown: false, weighting: 'identity', level: 0.05, topPerSize: 5 },
+    })).sweep;
+    const served = (await getJob(researcher, job.id)).result;
+    // toEqual compares numbers with Object.is: every double as lib/gmm gave it
+    expect(served).toEqual(JSON.parse(JSON.stringify(direct)));
+    expect(direct.models).toBe(131_071);
+    expect(direct.bestByHj[0].models[0].factors).toEqual(['W01']);
+    expect(direct.thetaRanking).not.toBeNull();
+  }, 45_000);
+});
