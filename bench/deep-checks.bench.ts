@@ -37,26 +37,9 @@ import { createApp } from '../server/app';
 import { createMailer } from '../server/services/mailer';
 import { DEMO_PASSWORD, seedDemoUsers } from '../server/seed/users';
 import { seedDemoLibraries } from '../server/seed/demo-libraries';
-import { mulberry32 } from '../lib/gmm/random';
+import { benchEconomy } from './economy';
 
-function normals(seed: number) {
-  const u = mulberry32(seed);
-  return () => Math.sqrt(-2 * Math.log(u() + 1e-300)) * Math.cos(2 * Math.PI * u());
-}
-
-function makeData(T: number, N: number, K: number, seed: number) {
-  const z = normals(seed);
-  const beta = Array.from({ length: N }, () => Array.from({ length: K }, () => 0.2 + 0.6 * Math.abs(z())));
-  const factors: number[][] = [];
-  const returns: number[][] = [];
-  for (let t = 0; t < T; t++) {
-    const c = z();
-    const f = Array.from({ length: K }, (_, k) => 0.003 + 0.001 * (k % 4) + (0.03 + 0.004 * (k % 5)) * (0.8 * z() + 0.2 * c));
-    factors.push(f);
-    returns.push(beta.map((b) => b.reduce((s, bk, k) => s + bk * f[k], 0) + 0.02 * z()));
-  }
-  return { returns, factors };
-}
+const makeData = benchEconomy;
 
 const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
 async function time(fn: () => unknown | Promise<unknown>, reps = 5): Promise<number> {

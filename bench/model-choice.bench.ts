@@ -17,6 +17,7 @@
  *   median process CPU time of 9 (12 candidates) or 5 (15) interleaved repetitions after a warm-up.
  */
 import { okOf } from './ok-of';
+import { benchEconomy } from './economy';
 import { cpus, loadavg } from 'node:os';
 import { compareModels, prepareSubsetSweep, summariseSubsetSweep, sweepChunk, type SubsetSweepInput } from '../lib/gmm/index';
 import { boxMuller, mulberry32 } from '../lib/gmm/random';
@@ -101,21 +102,7 @@ console.log(
 );
 
 // ---------------------------------------------------------------- table 2
-function makeData(T: number, N: number, K: number, seed: number) {
-  // the generator of bench/deep-checks.bench.ts
-  const u = mulberry32(seed);
-  const zz = () => Math.sqrt(-2 * Math.log(u() + 1e-300)) * Math.cos(2 * Math.PI * u());
-  const beta = Array.from({ length: N }, () => Array.from({ length: K }, () => 0.2 + 0.6 * Math.abs(zz())));
-  const factors: number[][] = [];
-  const returns: number[][] = [];
-  for (let t = 0; t < T; t++) {
-    const c = zz();
-    const f = Array.from({ length: K }, (_, k) => 0.003 + 0.001 * (k % 4) + (0.03 + 0.004 * (k % 5)) * (0.8 * zz() + 0.2 * c));
-    factors.push(f);
-    returns.push(beta.map((b) => b.reduce((s, bk, k) => s + bk * f[k], 0) + 0.02 * zz()));
-  }
-  return { returns, factors };
-}
+const makeData = benchEconomy;
 const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
 /** Process CPU time (user + system, ms) of one call: less sensitive to other helpers' load than wall time. */
 function cpuOnce(fn: () => unknown): number {

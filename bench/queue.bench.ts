@@ -19,12 +19,13 @@
  */
 import { performance } from 'node:perf_hooks';
 import { availableParallelism, loadavg } from 'node:os';
-import { createJobPool, defaultThreadCount } from '../server/jobs/pool';
+import { createJobPool, defaultThreadCount, type JobPool } from '../server/jobs/pool';
+import type { ChunkTask } from '../server/jobs/tasks';
 import { chunkRanges } from '../server/jobs/runner';
 import { QueueClient } from '../server/jobs/queue-client';
 import type { CheckInput } from '../server/services/jobs-input';
 import type { BootstrapBatch, BootstrapInput, SweepPartial } from '../lib/gmm/index';
-import { mulberry32 } from '../lib/gmm/random';
+import { benchEconomy, normals } from './economy';
 import { readFileSync } from 'node:fs';
 import { startWorkerProcess, testRedis, type WorkerProcess } from '../tests/queue/redis';
 
@@ -35,8 +36,7 @@ const K = envInt('BENCH_QUEUE_K', 5);
 const DRAWS = envInt('BENCH_QUEUE_DRAWS', 2000);
 
 function makeInput(T: number, N: number, K: number, draws: number, seed: number): Extract<CheckInput, { kind: 'bootstrap' }> {
-  const u = mulberry32(seed);
-  const z = () => Math.sqrt(-2 * Math.log(u() + 1e-300)) * Math.cos(2 * Math.PI * u());
+  const z = normals(seed);
   const beta = Array.from({ length: N }, () => Array.from({ length: K }, () => 0.2 + 0.6 * Math.abs(z())));
   const factors: number[][] = [];
   const returns: number[][] = [];
@@ -56,20 +56,26 @@ function makeInput(T: number, N: number, K: number, draws: number, seed: number)
 
 const load = () => loadavg().map((x) => x.toFixed(2)).join(' ');
 
+/** Runs one task per range on the pool, threads + 1 in flight (as the embedded runner does), answers in range order. */
+async function chunksOnPool<P>(pool: JobPool, ranges: readonly (readonly [number, number])[], task: (range: readonly [number, number]) => ChunkTask): Promise<P[]> {
+  const out: P[] = new Array<P>(ranges.length);
+  let next = 0;
+  const lane = async () => {
+    while (next < ranges.length) {
+      const i = next++;
+      out[i] = await pool.run<P>(task(ranges[i]));
+    }
+  };
+  await Promise.all(Array.from({ length: pool.threads + 1 }, lane));
+  return out;
+}
+
 async function embedded(check: Extract<CheckInput, { kind: 'bootstrap' }>): Promise<{ ms: number; result: unknown }> {
   const pool = createJobPool();
   const ranges = chunkRanges(check.total, 'bootstrap');
   const key = 'bench-embedded';
   const t0 = performance.now();
-  const batches: BootstrapBatch[] = new Array(ranges.length);
-  let next = 0;
-  const lane = async () => {
-    while (next < ranges.length) {
-      const i = next++;
-      batches[i] = await pool.run<BootstrapBatch>({ op: 'bootstrap', key, input: check.input, from: ranges[i][0], to: ranges[i][1] });
-    }
-  };
-  await Promise.all(Array.from({ length: pool.threads + 1 }, lane));
+  const batches = await chunksOnPool<BootstrapBatch>(pool, ranges, ([from, to]) => ({ op: 'bootstrap', key, input: check.input, from, to }));
   const result = await pool.run({ op: 'bootstrap-summary', key, input: check.input, batches });
   const ms = performance.now() - t0;
   await pool.destroy();
@@ -131,17 +137,7 @@ const SWEEP_T = envInt('BENCH_QUEUE_SWEEP_T', 600);
 const SWEEP_N = envInt('BENCH_QUEUE_SWEEP_N', 25);
 
 function makeSweep(T: number, N: number, K: number, seed: number): Extract<CheckInput, { kind: 'subset-sweep' }> {
-  const u = mulberry32(seed);
-  const z = () => Math.sqrt(-2 * Math.log(u() + 1e-300)) * Math.cos(2 * Math.PI * u());
-  const beta = Array.from({ length: N }, () => Array.from({ length: K }, () => 0.2 + 0.6 * Math.abs(z())));
-  const factors: number[][] = [];
-  const returns: number[][] = [];
-  for (let t = 0; t < T; t++) {
-    const c = z();
-    const f = Array.from({ length: K }, (_, k) => 0.003 + 0.001 * (k % 4) + (0.03 + 0.004 * (k % 5)) * (0.8 * z() + 0.2 * c));
-    factors.push(f);
-    returns.push(beta.map((b) => b.reduce((s, bk, k) => s + bk * f[k], 0) + 0.02 * z()));
-  }
+  const { returns, factors } = benchEconomy(T, N, K, seed);
   const names = Array.from({ length: K }, (_, k) => `C${k + 1}`);
   return {
     kind: 'subset-sweep',
@@ -166,15 +162,7 @@ async function sweepEmbedded(check: Extract<CheckInput, { kind: 'subset-sweep' }
   const ranges = chunkRanges(check.total, 'subset-sweep');
   const key = 'bench-sweep-embedded';
   const t0 = performance.now();
-  const parts: SweepPartial[] = new Array(ranges.length);
-  let next = 0;
-  const lane = async () => {
-    while (next < ranges.length) {
-      const i = next++;
-      parts[i] = await pool.run<SweepPartial>({ op: 'subset-sweep', key, input: check.input, from: ranges[i][0] + 1, to: ranges[i][1] + 1 });
-    }
-  };
-  await Promise.all(Array.from({ length: pool.threads + 1 }, lane));
+  const parts = await chunksOnPool<SweepPartial>(pool, ranges, ([from, to]) => ({ op: 'subset-sweep', key, input: check.input, from: from + 1, to: to + 1 }));
   const result = await pool.run({ op: 'subset-sweep-summary', key, input: check.input, parts });
   const ms = performance.now() - t0;
   await pool.destroy();

@@ -6,7 +6,7 @@
  * a difference), and malformed results are refused.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { agentAs, makeTestApp, type Agent, type TestApp } from './helpers';
+import { agentAs, makeTestApp, type Agent, type TestApp, post } from './helpers';
 import { makeFixture, spec, uploadFixture } from './runs-fixture';
 import { mailSettled } from '../../server/services/runs';
 import { jobResponseSchema, type JobKind } from '../../shared/jobs';
@@ -23,9 +23,6 @@ let t: TestApp;
 let researcher: Agent;
 let runId: number;
 
-function post(agent: Agent, url: string, body: unknown = {}) {
-  return agent.post(`/api/v1${url}`).set('x-csrf-token', agent.csrf).send(body as object);
-}
 
 beforeAll(async () => {
   t = await makeTestApp();

@@ -44,6 +44,11 @@ export async function anonymousAgent(app: KeelsonApp): Promise<Agent> {
   return agent;
 }
 
+/** POST /api/v1<url> as `agent`, with its CSRF token and a JSON body. */
+export function post(agent: Agent, url: string, body: unknown = {}) {
+  return agent.post(`/api/v1${url}`).set('x-csrf-token', agent.csrf).send(body as object);
+}
+
 /** An agent signed in as the demo account of `role`. */
 export async function agentAs(app: KeelsonApp, role: Role): Promise<Agent> {
   const agent = await anonymousAgent(app);

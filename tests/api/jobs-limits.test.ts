@@ -5,11 +5,9 @@
  * (runs-fixture.ts makeWideFixture, 32,767 models) runs in ~200-chunk ranges and equals lib/gmm's
  * subsetSweep called directly (identity). The queue mode's 25 is checked in tests/queue/sweep-25.test.ts.
  */
-import { okOf } from '../gmm/helpers';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { agentAs, anonymousAgent, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp } from './helpers';
-import { getJob, jobEnded, makeWideFixture, spec, uploadFixture, waitJob } from './runs-fixture';
-import { subsetSweep } from '../../lib/gmm/index';
+import { agentAs, anonymousAgent, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp, post } from './helpers';
+import { directWideSweep, getJob, jobEnded, makeWideFixture, spec, uploadFixture, waitJob } from './runs-fixture';
 import { mailSettled } from '../../server/services/runs';
 import { chunkRanges } from '../../server/jobs/runner';
 import { JOB_LIMITS, jobLimitsResponseSchema, jobResponseSchema } from '../../shared/jobs';
@@ -36,9 +34,6 @@ afterAll(async () => {
   await t.close();
 });
 
-function post(agent: Agent, url: string, body: unknown = {}) {
-  return agent.post(`/api/v1${url}`).set('x-csrf-token', agent.csrf).send(body as object);
-}
 
 describe('GET /jobs/limits (embedded)', () => {
   it('every signed-in role reads the embedded limits; signed out is 401', async () => {
@@ -83,15 +78,7 @@ describe('sweep candidates without workers', () => {
     expect(chunkRanges(32_767, 'subset-sweep')).toHaveLength(64);
     const fin = await waitJob(researcher, job.id, jobEnded, 60_000, 100);
     expect(fin.status, fin.error ?? '').toBe('finished');
-    const returns = wide.fx.dates.map((_, t) => wide.assets.map((a) => wide.fx.cols[a][t]));
-    const factors = wide.fx.dates.map((_, t) => cands.map((f) => wide.fx.cols[f][t]));
-    const direct = okOf(subsetSweep({
-      returns,
-      factors,
-      factorNames: cands,
-      traded: cands.map((c) => wide.kinds[c].traded === true),
-      options: { lags: 'auto', form: 'centred', factorMeansKnown: false, weighting: 'identity', level: 0.05, topPerSize: 5 },
-    })).sweep;
+    const direct = directWideSweep(wide, cands);
     expect((await getJob(researcher, job.id)).result).toEqual(JSON.parse(JSON.stringify(direct)));
     // known truth of the wide economy: W01 alone prices the assets
     expect(direct.bestByHj[0].models[0].factors).toEqual(['W01']);

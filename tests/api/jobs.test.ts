@@ -6,7 +6,7 @@
  * directly on the same matrices (identity: the job must not change the numbers).
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { agentAs, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp } from './helpers';
+import { agentAs, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp, post } from './helpers';
 import { okOf } from '../gmm/helpers';
 import { FIX_ASSETS, fixtureMatrices, getJob, jobEnded, makeFixture, spec, uploadFixture, waitForMail, waitJob as waitJobVia, type Fixture } from './runs-fixture';
 import { bootstrapSdfTests, rollingEstimates, subsetSweep } from '../../lib/gmm/index';
@@ -42,9 +42,6 @@ afterAll(async () => {
   await t.close();
 });
 
-function post(agent: Agent, url: string, body: unknown = {}) {
-  return agent.post(`/api/v1${url}`).set('x-csrf-token', agent.csrf).send(body as object);
-}
 
 async function startRun(agent: Agent, body: unknown) {
   const r = await post(agent, '/runs', body);

@@ -12,7 +12,7 @@
  */
 import Papa from 'papaparse';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { agentAs, anonymousAgent, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp } from './helpers';
+import { agentAs, anonymousAgent, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp, post } from './helpers';
 import { FIX_ASSETS, makeFixture, spec, type Fixture } from './runs-fixture';
 import { confirm, prng, uploadCsv } from './libraries-helpers';
 import { runReference } from '../gmm/helpers';
@@ -75,9 +75,6 @@ afterAll(async () => {
   await t.close();
 });
 
-function post(agent: Agent, url: string, body: unknown = {}) {
-  return agent.post(`/api/v1${url}`).set('x-csrf-token', agent.csrf).send(body as object);
-}
 async function startRun(over: Record<string, unknown>, edition = ed): Promise<Run> {
   const r = await post(researcher, '/runs', { editionId: edition, spec: spec({ rf: 'RF', ...over }) });
   if (r.status !== 201 || r.body.run.status !== 'finished') throw new Error(`run not finished: ${r.status} ${JSON.stringify(r.body).slice(0, 400)}`);

@@ -12,7 +12,7 @@
  * same first-stage spec).
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { agentAs, anonymousAgent, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp } from './helpers';
+import { agentAs, anonymousAgent, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp, post } from './helpers';
 import { FIX_ASSETS, makeFixture, spec, uploadFixture, waitForMail, type Fixture } from './runs-fixture';
 import { bootstrapSdfTests, prepareBootstrap, withBootstrap, type LedgerResult as EngineLedger } from '../../lib/gmm/index';
 import { estimateLedger, okOf } from '../gmm/helpers';
@@ -54,9 +54,6 @@ afterAll(async () => {
   await t.close();
 });
 
-function post(agent: Agent, url: string, body: unknown = {}) {
-  return agent.post(`/api/v1${url}`).set('x-csrf-token', agent.csrf).send(body as object);
-}
 
 async function startRun(agent: Agent, body: unknown): Promise<Run> {
   const r = await post(agent, '/runs', body);

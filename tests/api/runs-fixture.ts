@@ -10,6 +10,8 @@
 import { prng, monthLabels, uploadCsv, confirm } from './libraries-helpers';
 import type { Agent } from './helpers';
 import { jobResponseSchema, type Job } from '../../shared/jobs';
+import { subsetSweep, type SubsetSweepResult } from '../../lib/gmm/index';
+import { okOf } from '../gmm/helpers';
 
 export const FIX_T = 240;
 export const FIX_ASSETS = ['A01', 'A02', 'A03', 'A04', 'A05', 'A06', 'A07', 'A08', 'A09', 'A10'];
@@ -108,6 +110,24 @@ export function makeWideFixture(factors = 17, assets = 20, seed = 41): { fx: Fix
   const kinds: Record<string, { kind: 'asset' | 'factor' | 'rf'; traded?: boolean }> = {};
   fNames.forEach((n, k) => (kinds[n] = { kind: 'factor', traded: k % 3 !== 2 }));
   return { fx: { dates, cols, csv: `${lines.join('\n')}\n` }, kinds, assets: aNames, factors: fNames };
+}
+
+export type WideFixture = ReturnType<typeof makeWideFixture>;
+
+/**
+ * lib/gmm's subsetSweep called directly on the wide economy's matrices, in one pass (no chunks),
+ * with the options a default sweep job uses: the reference a sweep job's result must equal.
+ */
+export function directWideSweep(wide: WideFixture, cands: readonly string[]): SubsetSweepResult {
+  return okOf(
+    subsetSweep({
+      returns: wide.fx.dates.map((_, t) => wide.assets.map((a) => wide.fx.cols[a][t])),
+      factors: wide.fx.dates.map((_, t) => cands.map((f) => wide.fx.cols[f][t])),
+      factorNames: [...cands],
+      traded: cands.map((c) => wide.kinds[c].traded === true),
+      options: { lags: 'auto', form: 'centred', factorMeansKnown: false, weighting: 'identity', level: 0.05, topPerSize: 5 },
+    }),
+  ).sweep;
 }
 
 /** A complete spec with the defaults spelled out. */

@@ -11,7 +11,7 @@
  * Data: the seeded invented economy of runs-fixture.ts, a shared and a private library.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { agentAs, anonymousAgent, makeTestApp, type Agent, type TestApp } from './helpers';
+import { agentAs, anonymousAgent, makeTestApp, type Agent, type TestApp, post } from './helpers';
 import { makeFixture, spec, uploadFixture } from './runs-fixture';
 import { mailSettled } from '../../server/services/runs';
 import { runResponseSchema, runsResponseSchema, type RunSummary } from '../../shared/runs';
@@ -26,9 +26,6 @@ let reviewerId: number;
 const created: number[] = [];
 let privateRuns: number[] = [];
 
-function post(agent: Agent, url: string, body: unknown) {
-  return agent.post(`/api/v1${url}`).set('x-csrf-token', agent.csrf).send(body as object);
-}
 async function startRun(agent: Agent, body: unknown): Promise<number> {
   const r = await post(agent, '/runs', body);
   if (r.status !== 201) throw new Error(`run not started: ${r.status} ${JSON.stringify(r.body)}`);

@@ -6,7 +6,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import Papa from 'papaparse';
 import type { Test } from 'supertest';
-import { agentAs, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp } from './helpers';
+import { agentAs, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp, post } from './helpers';
 import { FIX_ASSETS, GAP_INDEX, makeFixture, spec, uploadFixture, type Fixture } from './runs-fixture';
 
 import { estimateLedger } from '../gmm/helpers';
@@ -38,9 +38,6 @@ afterAll(async () => {
   await t.close();
 });
 
-function post(agent: Agent, url: string, body: unknown) {
-  return agent.post(`/api/v1${url}`).set('x-csrf-token', agent.csrf).send(body as object);
-}
 
 async function startRun(agent: Agent, body: unknown): Promise<Run> {
   const r = await post(agent, '/runs', body);

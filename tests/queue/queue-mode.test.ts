@@ -8,23 +8,22 @@
  * Data: the seeded invented economy of tests/api/runs-fixture.ts.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { mkdtempSync, rmSync } from 'node:fs';
+import { mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { Redis } from 'ioredis';
-import { agentAs, type Agent } from '../api/helpers';
+import { agentAs, type Agent, post } from '../api/helpers';
 import { fixtureMatrices, getJob, jobEnded, makeFixture, spec, uploadFixture, waitJob as waitJobVia, type Fixture } from '../api/runs-fixture';
 import { bootstrapSdfTests, subsetSweep, type BootstrapOptions } from '../../lib/gmm/index';
 import { openDb, type Db } from '../../server/db/client';
 import { createApp, type KeelsonApp } from '../../server/app';
 import { createMailer, type Mailer } from '../../server/services/mailer';
 import { seedDemoUsers } from '../../server/seed/users';
-import { mailSettled } from '../../server/services/runs';
 import { cancelKey, inputKey, flowId } from '../../server/jobs/queue-shared';
 import { jobResponseSchema, type Job } from '../../shared/jobs';
 import { runResponseSchema } from '../../shared/runs';
 import { okOf } from '../gmm/helpers';
-import { startWorkerProcess, testRedis, type TestRedis, type WorkerProcess } from './redis';
+import { startWorkerProcess, testRedis, type TestRedis, type WorkerProcess, stopQueueTest } from './redis';
 
 let redis: TestRedis;
 let dir: string;
@@ -58,20 +57,8 @@ beforeAll(async () => {
   workers.push(await startWorkerProcess(redis.url), await startWorkerProcess(redis.url));
 }, 60_000);
 
-afterAll(async () => {
-  for (const w of workers) if (w.proc.exitCode === null) w.proc.kill('SIGKILL');
-  await mailSettled();
-  await app?.jobRunner.close();
-  app?.close();
-  await mailer?.close();
-  db?.$client.close();
-  await redis?.stop();
-  if (dir) rmSync(dir, { recursive: true, force: true });
-});
+afterAll(() => stopQueueTest({ workers, app, mailer, db, redis, dir }));
 
-function post(agent: Agent, url: string, body: unknown = {}) {
-  return agent.post(`/api/v1${url}`).set('x-csrf-token', agent.csrf).send(body as object);
-}
 
 async function startCheck(agent: Agent, body: unknown): Promise<Job> {
   const r = await post(agent, `/runs/${runId}/checks`, body);

@@ -12,6 +12,10 @@ import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { Redis } from 'ioredis';
+import type { KeelsonApp } from '../../server/app';
+import type { Db } from '../../server/db/client';
+import type { Mailer } from '../../server/services/mailer';
+import { mailSettled } from '../../server/services/runs';
 
 export const REDIS_SERVER = '/usr/bin/redis-server';
 export const REDIS_INSTALL = 'apt-get install -y redis-server';
@@ -135,4 +139,21 @@ export async function startWorkerProcess(url: string, opts: { concurrency?: numb
     await new Promise((r) => setTimeout(r, 50));
   }
   return { proc, output: () => out, exited };
+}
+
+/**
+ * Teardown of a queue test that built its own app on a file database: kills the worker processes
+ * still running, lets mail settle, closes the job runner, the app, the mailer and the database,
+ * stops the Redis this helper started and removes the directory. Every part is optional (a
+ * beforeAll that failed half-way leaves some undefined).
+ */
+export async function stopQueueTest(parts: { workers?: readonly WorkerProcess[]; app?: KeelsonApp; mailer?: Mailer; db?: Db; redis?: TestRedis; dir?: string }): Promise<void> {
+  for (const w of parts.workers ?? []) if (w.proc.exitCode === null) w.proc.kill('SIGKILL');
+  await mailSettled();
+  await parts.app?.jobRunner.close();
+  parts.app?.close();
+  await parts.mailer?.close();
+  parts.db?.$client.close();
+  await parts.redis?.stop();
+  if (parts.dir) rmSync(parts.dir, { recursive: true, force: true });
 }

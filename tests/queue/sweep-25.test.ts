@@ -6,23 +6,20 @@
  * bounded partial. Check (identity): the result equals lib/gmm's subsetSweep called directly,
  * uninterrupted and unchunked, on the same matrices, as the JSON the API serves.
  */
-import { okOf } from '../gmm/helpers';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { mkdtempSync, rmSync } from 'node:fs';
+import { mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { agentAs, expectEnvelope, type Agent } from '../api/helpers';
-import { getJob, jobEnded, makeWideFixture, spec, uploadFixture, waitJob } from '../api/runs-fixture';
-import { subsetSweep } from '../../lib/gmm/index';
+import { agentAs, expectEnvelope, type Agent, post } from '../api/helpers';
+import { directWideSweep, getJob, jobEnded, makeWideFixture, spec, uploadFixture, waitJob } from '../api/runs-fixture';
 import { openDb, type Db } from '../../server/db/client';
 import { createApp, type KeelsonApp } from '../../server/app';
 import { createMailer, type Mailer } from '../../server/services/mailer';
 import { seedDemoUsers } from '../../server/seed/users';
-import { mailSettled } from '../../server/services/runs';
 import { chunkRanges } from '../../server/jobs/runner';
 import { jobLimitsResponseSchema, jobResponseSchema } from '../../shared/jobs';
 import { runResponseSchema } from '../../shared/runs';
-import { startWorkerProcess, testRedis, type TestRedis, type WorkerProcess } from './redis';
+import { startWorkerProcess, testRedis, type TestRedis, type WorkerProcess, stopQueueTest } from './redis';
 
 let redis: TestRedis;
 let dir: string;
@@ -52,20 +49,8 @@ beforeAll(async () => {
   workers.push(await startWorkerProcess(redis.url), await startWorkerProcess(redis.url));
 }, 60_000);
 
-afterAll(async () => {
-  for (const w of workers) if (w.proc.exitCode === null) w.proc.kill('SIGKILL');
-  await mailSettled();
-  await app?.jobRunner.close();
-  app?.close();
-  await mailer?.close();
-  db?.$client.close();
-  await redis?.stop();
-  if (dir) rmSync(dir, { recursive: true, force: true });
-});
+afterAll(() => stopQueueTest({ workers, app, mailer, db, redis, dir }));
 
-function post(agent: Agent, url: string, body: unknown = {}) {
-  return agent.post(`/api/v1${url}`).set('x-csrf-token', agent.csrf).send(body as object);
-}
 
 describe('sweep limits with queue workers', () => {
   it('GET /jobs/limits: queue mode, 25 candidates, 100,000 draws', async () => {
@@ -89,15 +74,7 @@ describe('sweep limits with queue workers', () => {
     expect(job.total).toBe(131_071);
     const fin = await waitJob(researcher, job.id, jobEnded, 40_000, 200);
     expect(fin.status, fin.error ?? '').toBe('finished');
-    const returns = wide.fx.dates.map((_, t) => wide.assets.map((a) => wide.fx.cols[a][t]));
-    const factors = wide.fx.dates.map((_, t) => cands.map((f) => wide.fx.cols[f][t]));
-    const direct = okOf(subsetSweep({
-      returns,
-      factors,
-      factorNames: cands,
-      traded: cands.map((c) => wide.kinds[c].traded === true),
-      options: { lags: 'auto', form: 'centred', factorMeansKnown: false, weighting: 'identity', level: 0.05, topPerSize: 5 },
-    })).sweep;
+    const direct = directWideSweep(wide, cands);
     const served = (await getJob(researcher, job.id)).result;
     // toEqual compares numbers with Object.is: every double as lib/gmm gave it
     expect(served).toEqual(JSON.parse(JSON.stringify(direct)));
