@@ -3,6 +3,9 @@
  * database, no I/O. A chunk is small (a few dozen bootstrap draws, a few hundred subsets, a few
  * windows) so that progress moves and a cancel takes effect between chunks.
  *
+ * A heavy run (server/jobs/run-estimator.ts) is one task 'estimate': estimateRun, the same pure
+ * function the synchronous POST /runs calls.
+ *
  * Each chunk carries the job's input; the worker keeps the last few prepared plans (keyed by job
  * and attempt) so the shared work (the original fit, the N×N products) is done once per thread.
  */
@@ -30,9 +33,12 @@ import {
   type SweepPlan,
   type SweepRow,
 } from '../../lib/gmm/index';
+import { estimateRun, type RunEstimateInput } from '../services/run-estimate';
 
 export type ChunkTask =
   | { op: 'ping' }
+  /** A heavy run's whole estimation (one task: the ledger is one lib/gmm call). */
+  | { op: 'estimate'; task: RunEstimateInput }
   | { op: 'bootstrap'; key: string; input: BootstrapInput; from: number; to: number }
   | { op: 'bootstrap-summary'; key: string; input: BootstrapInput; batches: BootstrapBatch[] }
   | { op: 'subset-sweep'; key: string; input: SubsetSweepInput; from: number; to: number }
@@ -119,6 +125,8 @@ export function runChunk(task: ChunkTask): unknown {
   switch (task.op) {
     case 'ping':
       return { pong: true, threadId: 0 };
+    case 'estimate':
+      return estimateRun(task.task);
     case 'bootstrap': {
       const plan = cached(task.key, () => prepareBootstrap(task.input));
       return runBootstrapDraws(plan, task.input.options, task.from, task.to);
