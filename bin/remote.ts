@@ -172,6 +172,7 @@ export function renderLedger(run: { id: number; status: string; error: string | 
 }
 
 const RUN_OPTIONS = {
+  'no-wait': { type: 'boolean' },
   edition: { type: 'string' },
   spec: { type: 'string' },
   name: { type: 'string' },
@@ -207,7 +208,8 @@ export const REMOTE_USAGE = `Commands that talk to a Keelson server (sign in fir
               [--stage first|second|iterated] [--weighting identity|second-moment|covariance] [--lags N|auto]
               [--form centred|uncentred] [--means-known] [--level A] [--start D] [--end D] [--drop-set F,…]
               [--basis standard|robust|bootstrap] [--bootstrap-draws N] [--bootstrap-scheme iid|block]
-              [--block-length N] [--seed S] [--json]
+              [--block-length N] [--seed S] [--no-wait] [--json]
+              (a large run is queued: run waits for it, printing progress to stderr; --no-wait prints it and exits 0)
               (--edition takes an edition id, or LIBRARY:N for edition N of library LIBRARY)
   keelson runs [--status S] [--before ID] [--json] runs you can read, newest first, a page at a time
   keelson show RUN [--json]                      a run's factor ledger
@@ -391,7 +393,24 @@ export async function runRemote(command: string, args: string[], io: Io): Promis
             },
           };
         }
-        const { run } = await client.post<{ run: Parameters<typeof renderLedger>[0] }>('/runs', body);
+        let { run } = await client.post<{ run: Parameters<typeof renderLedger>[0] }>('/runs', body);
+        // a heavy run is answered 202 queued: wait for it (progress on stderr) unless --no-wait
+        if (run.status === 'queued' || run.status === 'running') {
+          if (v['no-wait']) {
+            if (v.json) return json({ run }), 0;
+            io.out(`Run #${run.id} is ${run.status} (a large run, estimated by a worker). Follow it with: keelson show ${run.id}\n`);
+            return 0;
+          }
+          const t0 = Date.now();
+          let last = '';
+          while (run.status === 'queued' || run.status === 'running') {
+            const line = `run #${run.id}: ${run.status} (${Math.round((Date.now() - t0) / 1000)} s)`;
+            if (line !== last) io.err(`${line}\n`);
+            last = line;
+            await new Promise((r) => setTimeout(r, 1000));
+            ({ run } = await client.get<{ run: Parameters<typeof renderLedger>[0] }>(`/runs/${run.id}`));
+          }
+        }
         if (v.json) return json({ run }), 0;
         io.out(renderLedger(run));
         return run.status === 'finished' ? 0 : 1;

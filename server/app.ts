@@ -24,6 +24,7 @@ import { registerAdminRoutes } from './routes/admin';
 import { registerJobRoutes } from './routes/jobs';
 import { JobRunner } from './jobs/runner';
 import type { JobPool } from './jobs/pool';
+import { RunEstimator } from './jobs/run-estimator';
 import { registerSpecRoutes } from './routes/specs';
 import { registerRunRoutes } from './routes/runs';
 import { registerReviewRoutes } from './routes/review';
@@ -56,11 +57,22 @@ export interface AppOptions {
   jobMailAfterMs?: number;
   /** Queue mode (KEELSON_REDIS_URL): deep checks go to BullMQ workers over this Redis. */
   redisUrl?: string;
+  /** Runs costing more than this (T·N²·K) are queued and answered 202 (KEELSON_HEAVY_RUN_COST; default 2·10⁷). */
+  heavyRunCost?: number;
+  /** Queue mode: how often a heavy run's job is polled (default 200 ms). */
+  runPollMs?: number;
 }
 
 export type { AppDeps };
 
-export type KeelsonApp = express.Express & { routeTable: readonly RouteSpec[]; close: () => void; jobRunner: JobRunner };
+export type KeelsonApp = express.Express & {
+  routeTable: readonly RouteSpec[];
+  close: () => void;
+  /** Resolves when heavy runs and deep checks of this process have stopped (after close). */
+  closed: () => Promise<void>;
+  jobRunner: JobRunner;
+  runEstimator: RunEstimator;
+};
 
 /** Deny by default: refuse to start if any API route was mounted without going through ApiRouter. */
 function assertEveryRouteDeclaresAccess(api: ApiRouter): void {
@@ -186,7 +198,8 @@ export function createApp(opts: AppOptions): KeelsonApp {
   const jobRunner = new JobRunner({ db, mailer, publicUrl: opts.publicUrl, pool: opts.jobPool, mailAfterMs: opts.jobMailAfterMs, redisUrl: opts.redisUrl });
   registerJobRoutes(api, deps, jobRunner);
   registerSpecRoutes(api, deps);
-  registerRunRoutes(api, deps, jobRunner);
+  const runEstimator = new RunEstimator({ db, mailer, jobs: jobRunner, publicUrl: opts.publicUrl, mailAfterMs: jobRunner.mailAfterMs, pollMs: opts.runPollMs });
+  registerRunRoutes(api, deps, jobRunner, { launcher: runEstimator, heavyRunCost: opts.heavyRunCost });
   registerReviewRoutes(api, deps);
   registerLibraryRoutes(api, deps);
   registerEditionMetaRoutes(api, deps);
@@ -207,10 +220,17 @@ export function createApp(opts: AppOptions): KeelsonApp {
 
   app.routeTable = api.routes;
   app.jobRunner = jobRunner;
+  app.runEstimator = runEstimator;
+  // heavy runs stop first (their tasks use the job runner's pool or queue client), then the jobs
+  let stopping: Promise<void> | null = null;
   app.close = () => {
+    if (stopping) return;
     store.close();
     for (const l of limiters) l.store.shutdown();
-    void jobRunner.close();
+    stopping = runEstimator.close().then(() => jobRunner.close());
+  };
+  app.closed = async () => {
+    await stopping;
   };
   return app;
 }

@@ -93,7 +93,11 @@ export async function boot(env: NodeJS.ProcessEnv = process.env): Promise<{ app:
     trustProxy: config.TRUST_PROXY,
     jobPool: config.KEELSON_REDIS_URL ? undefined : createJobPool(),
     redisUrl: config.KEELSON_REDIS_URL,
+    heavyRunCost: config.KEELSON_HEAVY_RUN_COST,
   });
+  // Heavy runs left queued or running by the last process are estimated again (both modes).
+  const relaunched = app.runEstimator.relaunch();
+  if (relaunched > 0) console.log(`Keelson started ${relaunched} heavy run(s) left queued or running by the last shutdown again`);
   if (config.KEELSON_REDIS_URL) {
     const followed = app.jobRunner.reattach();
     console.log(`Keelson queue mode: deep checks go to the workers on ${app.jobRunner.queue?.where}` + (followed > 0 ? `; following ${followed} job(s) in flight` : ''));

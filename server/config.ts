@@ -29,6 +29,12 @@ export const configSchema = z.object({
   COOKIE_SECURE: booleanText.default(false),
   TRUST_PROXY: trustProxy.default('loopback'),
   /**
+   * Runs whose cost T·N²·K (test assets N, factors K, periods T) is above this are answered 202
+   * `queued` and estimated by the worker pool or the queue; smaller runs are estimated in the
+   * request (201). The default, 2·10⁷, is ten times the largest demo run.
+   */
+  KEELSON_HEAVY_RUN_COST: z.coerce.number().positive().default(20_000_000),
+  /**
    * Queue mode: deep checks (and heavy runs) go to BullMQ workers over this Redis
    * (`redis://[user:password@]host:port[/db]` or `rediss://…`). Unset: the embedded worker-thread
    * pool inside the API process, as a newcomer gets it.

@@ -76,8 +76,13 @@ const SENTENCES: Record<string, (who: string, d: Detail, person: (id: number) =>
   'spec.update': (who, d) => (int(d.specId) ? `${who} edited model spec #${d.specId}.` : null),
   'spec.archive': (who, d) => (int(d.specId) ? `${who} archived model spec #${d.specId}.` : null),
   'spec.restore': (who, d) => (int(d.specId) ? `${who} restored model spec #${d.specId}.` : null),
-  'run.finished': (who, d) => runSentence(who, d, 'it finished'),
-  'run.failed': (who, d) => runSentence(who, d, 'the data refused the model, so it is stored as failed'),
+  'run.queued': (who, d) => runSentence(who, d, 'it is large, so it was queued for a worker'),
+  'run.finished': (who, d) =>
+    d.queued === true && int(d.runId) ? `Run #${d.runId} of ${who} finished on a worker.` : runSentence(who, d, 'it finished'),
+  'run.failed': (who, d) =>
+    d.queued === true && int(d.runId)
+      ? `Run #${d.runId} of ${who} failed on a worker and is stored as failed.`
+      : runSentence(who, d, 'the data refused the model, so it is stored as failed'),
   'run.comment': (who, d) => (int(d.runId) ? `${who} commented on run #${d.runId}.` : null),
   'run.signoff_requested': (who, d, person) =>
     int(d.runId) && int(d.reviewerId) ? `${who} asked ${person(d.reviewerId as number)} to sign off run #${d.runId}.` : null,

@@ -20,7 +20,9 @@ import {
   encode,
   inputKey,
   type ChunkJobData,
+  type EstimateJobData,
   type StoredInput,
+  type StoredRunInput,
   type SummaryJobData,
 } from './queue-shared';
 
@@ -95,7 +97,22 @@ export class QueueClient {
     });
   }
 
-  /** The flow's state and how many of its chunks are done. */
+  /**
+   * A heavy run: stores its input once (with a TTL) and adds one job 'estimate' with id `id`
+   * (run-<id>); adding a job that already exists leaves it as it is.
+   */
+  enqueueEstimate(id: string, stored: StoredRunInput): Promise<void> {
+    return this.timed(this.enqueueEstimateNow(id, stored), 10);
+  }
+
+  private async enqueueEstimateNow(id: string, stored: StoredRunInput): Promise<void> {
+    const existing = await Job.fromId(this.queue, id);
+    await this.redis.set(inputKey(id), encode(stored), 'EX', INPUT_TTL_SECONDS);
+    if (existing) return;
+    await this.queue.add('estimate', { flow: id, kind: 'estimate' } satisfies EstimateJobData, { jobId: id, attempts: 3, backoff: { type: 'fixed', delay: 500 } });
+  }
+
+  /** The flow's state and how many of its chunks are done (also a heavy run's job: no chunks). */
   state(flow: string): Promise<FlowState> {
     return this.timed(this.stateNow(flow));
   }

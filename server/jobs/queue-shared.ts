@@ -8,6 +8,7 @@
  * (`keelson:input:<flow>`, with a TTL) and every chunk names that key; no chunk carries a copy.
  */
 import type { CheckInput } from '../services/jobs-input';
+import type { RunEstimateInput } from '../services/run-estimate';
 
 /** Redis key prefix of the BullMQ queue. */
 export const QUEUE_PREFIX = 'keelson';
@@ -23,6 +24,11 @@ export const cancelKey = (flow: string) => `keelson:cancelled:${flow}`;
 /** A deep check's flow id: one per job attempt, so a restarted job never meets the old one's chunks. */
 export const flowId = (jobId: number, attempt: number) => `job-${jobId}-${attempt}`;
 export const chunkId = (flow: string, index: number) => `${flow}-c${index}`;
+/**
+ * A heavy run's BullMQ job id: one plain job named 'estimate' (no flow: the ledger is one lib/gmm
+ * call), its input stored once under inputKey(`run-<id>`) like a deep check's.
+ */
+export const runJobId = (runId: number) => `run-${runId}`;
 
 export interface ChunkJobData {
   flow: string;
@@ -30,6 +36,11 @@ export interface ChunkJobData {
   /** Range in the check's own units (draw indices, subset masks − 1, window indices), half-open. */
   from: number;
   to: number;
+}
+/** A heavy run's job: its stored input is under inputKey(flow). */
+export interface EstimateJobData {
+  flow: string;
+  kind: 'estimate';
 }
 export interface SummaryJobData {
   flow: string;
@@ -39,6 +50,11 @@ export interface SummaryJobData {
 
 /** The stored input: what the chunks and the summary compute on. */
 export type StoredInput = { [K in CheckInput['kind']]: Pick<Extract<CheckInput, { kind: K }>, 'kind' | 'input'> }[CheckInput['kind']];
+/** A heavy run's stored input: estimateRun's argument. */
+export interface StoredRunInput {
+  kind: 'estimate';
+  input: RunEstimateInput;
+}
 
 /** Worker's reason when it stops a chunk of a cancelled flow (the API records 'cancelled'). */
 export const CANCELLED_REASON = 'cancelled';

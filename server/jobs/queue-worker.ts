@@ -1,6 +1,6 @@
 /**
  * A queue worker (`npx keelson worker --redis redis://host:6379`): takes deep-check chunks and
- * summaries from the BullMQ queue and computes them with lib/gmm in the existing worker-thread pool
+ * summaries, and heavy runs' 'estimate' jobs (run-<id>), from the BullMQ queue and computes them with lib/gmm in the existing worker-thread pool
  * (server/jobs/pool.ts, one thread per unit of concurrency). It needs no database and no session:
  * everything it computes on is the flow's stored input in Redis.
  *
@@ -31,7 +31,9 @@ import {
   encode,
   inputKey,
   type ChunkJobData,
+  type EstimateJobData,
   type StoredInput,
+  type StoredRunInput,
   type SummaryJobData,
 } from './queue-shared';
 
@@ -57,7 +59,7 @@ export interface QueueWorker {
   close(): Promise<void>;
 }
 
-type Payload = ChunkJobData | SummaryJobData;
+type Payload = ChunkJobData | SummaryJobData | EstimateJobData;
 
 export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
   const log = opts.log ?? ((l: string) => console.log(l));
@@ -73,15 +75,15 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
   /** Running chunks' abort controllers, by flow. */
   const running = new Map<string, Set<AbortController>>();
   /** Inputs fetched from Redis, by flow (the last few; a summary drops its flow's). */
-  const inputs = new Map<string, Promise<StoredInput>>();
+  const inputs = new Map<string, Promise<StoredInput | StoredRunInput>>();
   let completed = 0;
 
-  const loadInput = (flow: string): Promise<StoredInput> => {
+  const loadInput = (flow: string): Promise<StoredInput | StoredRunInput> => {
     let p = inputs.get(flow);
     if (!p) {
       p = redis.get(inputKey(flow)).then((text) => {
         if (text === null) throw new UnrecoverableError(`The input of ${flow} is no longer in Redis (expired or removed); restart the job.`);
-        return decode<StoredInput>(text);
+        return decode<StoredInput | StoredRunInput>(text);
       });
       p.catch(() => inputs.delete(flow));
       inputs.set(flow, p);
@@ -125,6 +127,13 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
     const d = job.data;
     if ((await redis.exists(cancelKey(d.flow))) === 1) throw new UnrecoverableError(CANCELLED_REASON);
     const stored = await loadInput(d.flow);
+    if (stored.kind === 'estimate') {
+      // a heavy run: the whole estimation in one task (estimateRun, as the API's synchronous path)
+      inputs.delete(d.flow);
+      const out = await runInPool(d.flow, { op: 'estimate', task: stored.input });
+      completed++;
+      return encode(out);
+    }
     if (job.name === 'chunk') {
       const c = d as ChunkJobData;
       let out: unknown;

@@ -120,6 +120,11 @@ export class JobRunner {
     return this.pool;
   }
 
+  /** Runs one task in this process's worker pool (created on first use): heavy runs' 'estimate'. */
+  runTask<T>(task: ChunkTask, signal?: AbortSignal): Promise<T> {
+    return this.getPool().run<T>(task, signal);
+  }
+
   /** Starts a queued job in the background. */
   start(jobId: number): void {
     this.launch(jobId, false);

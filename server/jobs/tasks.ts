@@ -3,6 +3,9 @@
  * database, no I/O. A chunk is small (a few dozen bootstrap draws, about 1/200 of a sweep's subsets
  * summarised as a bounded partial, a few windows) so that progress moves and a cancel takes effect between chunks.
  *
+ * A heavy run (server/jobs/run-estimator.ts) is one task 'estimate': estimateRun, the same pure
+ * function the synchronous POST /runs calls.
+ *
  * Each chunk carries the job's input; the worker keeps the last few prepared plans (keyed by job
  * and attempt) so the shared work (the original fit, the N×N products) is done once per thread.
  */
@@ -34,9 +37,12 @@ import {
   type GmmResult,
 } from '../../lib/gmm/index';
 import type { ChunkFailure } from './pool';
+import { estimateRun, type RunEstimateInput } from '../services/run-estimate';
 
 export type ChunkTask =
   | { op: 'ping' }
+  /** A heavy run's whole estimation (one task: the ledger is one lib/gmm call). */
+  | { op: 'estimate'; task: RunEstimateInput }
   | { op: 'bootstrap'; key: string; input: BootstrapInput; from: number; to: number }
   | { op: 'bootstrap-summary'; key: string; input: BootstrapInput; batches: BootstrapBatch[] }
   | { op: 'subset-sweep'; key: string; input: SubsetSweepInput; from: number; to: number }
@@ -126,6 +132,8 @@ export function runChunk(task: ChunkTask): unknown {
   switch (task.op) {
     case 'ping':
       return { pong: true, threadId: 0 };
+    case 'estimate':
+      return estimateRun(task.task);
     case 'bootstrap': {
       const p = cached(task.key, () => prepareBootstrap(task.input));
       return p.ok ? runBootstrapDraws(p.plan, task.input.options, task.from, task.to) : failed(p);

@@ -5,6 +5,7 @@ import { parseOr400 } from '../middlewares/errors';
 import { changeBasisBodySchema, compareQuerySchema, createRunBodySchema, runListQuerySchema } from '../../shared/runs';
 import { changeRunBasis, createRun, firstStageCopy, getRun, getRunJson, getRunResultText, listRuns, type RunDeps } from '../services/runs';
 import type { JobRunner } from '../jobs/runner';
+import type { Run } from '../../shared/runs';
 import { compareRuns } from '../services/runs-compare';
 import { exportContextFor, runCsv, runTex } from '../services/exports';
 import { compareCsv, compareTex } from '../services/compare-exports';
@@ -27,10 +28,18 @@ function finishedRun(req: Request, deps: AppDeps) {
  * another basis or a first-stage copy is a new run (researcher: of their own runs; admin: any).
  * The runner starts the bootstrap deep check of a spec that asks for bootstrap p-values; its
  * mail threshold (one minute by default) also decides whether a run's end is mailed.
+ * A run whose cost T·N²·K is above `heavy.heavyRunCost` is answered 202 `queued` with a Location
+ * header and estimated by `heavy.launcher` (server/jobs/run-estimator.ts); smaller ones keep 201.
  */
-export function registerRunRoutes(api: ApiRouter, deps: AppDeps, runner: JobRunner): void {
+export function registerRunRoutes(api: ApiRouter, deps: AppDeps, runner: JobRunner, heavy: Pick<RunDeps, 'launcher' | 'heavyRunCost'> = {}): void {
   const { db } = deps;
-  const runDeps: RunDeps = { db, mailer: deps.mailer, runner, publicUrl: deps.publicUrl, mailAfterMs: runner.mailAfterMs };
+  const runDeps: RunDeps = { db, mailer: deps.mailer, runner, publicUrl: deps.publicUrl, mailAfterMs: runner.mailAfterMs, ...heavy };
+  /** 201 with the run estimated; 202 with a Location to poll when it was queued (heavy). */
+  const created = (res: Response, run: Run, body: object) => {
+    if (run.status === 'queued') res.status(202).location(`/api/v1/runs/${run.id}`);
+    else res.status(201);
+    res.json(body);
+  };
 
   api.get('/runs', 'signed-in', (req: Request, res: Response) => {
     const q = parseOr400(runListQuerySchema, req.query, 'run filter');
@@ -40,17 +49,19 @@ export function registerRunRoutes(api: ApiRouter, deps: AppDeps, runner: JobRunn
   api.post('/runs', WRITERS, (req: Request, res: Response) => {
     const body = parseOr400(createRunBodySchema, req.body, 'run request');
     const run = createRun(runDeps, currentUser(req), body);
-    res.status(201).json({ run });
+    created(res, run, { run });
   });
 
   api.post('/runs/:id/basis', WRITERS, (req: Request, res: Response) => {
     const id = idParam(req, 'run id');
     const body = parseOr400(changeBasisBodySchema, req.body, 'basis change');
-    res.status(201).json({ run: changeRunBasis(runDeps, currentUser(req), id, body) });
+    const run = changeRunBasis(runDeps, currentUser(req), id, body);
+    created(res, run, { run });
   });
 
   api.post('/runs/:id/first-stage-copy', WRITERS, (req: Request, res: Response) => {
-    res.status(201).json(firstStageCopy(runDeps, currentUser(req), idParam(req, 'run id')));
+    const out = firstStageCopy(runDeps, currentUser(req), idParam(req, 'run id'));
+    created(res, out.run, out);
   });
 
   // Registered before /runs/:id so that "compare" is not read as an id.

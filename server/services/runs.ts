@@ -29,12 +29,11 @@ import type { User } from '../../shared/auth';
 import { modelSpecSchema, resolveBasis, specBootstrapSchema, type ModelSpec, type SavedSpec } from '../../shared/specs';
 import type { ChangeBasisBody, FirstStageCopyResponse, LedgerResult, Run, RunListQuery, RunsResponse, RunStatus, RunSummary, SignoffState } from '../../shared/runs';
 import type { LedgerResult as EngineResult } from '../../lib/gmm/index';
-import { estimateLedger, GmmInputError } from '../../lib/gmm/index';
-import { gmmFailureMessage } from '../../shared/gmm-messages';
-import type { EditionData } from './edition-data';
+import { loadEditionData, type EditionData } from './edition-data';
 import { bootstrapSettingsOf, buildLedgerInput, RunDataError } from './ledger-input';
+import { estimateRun, runCost, type RunEstimate, type RunEstimateInput } from './run-estimate';
 import { findSpecRow, insertSpec, loadAndCheck, specForRun } from './specs';
-import { assertBootstrapAccepted, bootstrapCheckInput } from './jobs-input';
+import { bootstrapCheckInput } from './jobs-input';
 import { audit } from './audit';
 import { sendMailInBackground } from './mail';
 import type { Mailer } from './mailer';
@@ -61,31 +60,23 @@ export async function mailSettled(): Promise<void> {
   while (inflightMail.size > 0) await Promise.all([...inflightMail]);
 }
 
-/** Input mistakes of lib/gmm that mean the request (not the data) is wrong. */
-const REQUEST_ERROR_CODES = new Set(['invalid-option', 'invalid-lags', 'too-few-assets', 'unknown-factor', 'duplicate-name', 'length-mismatch', 'empty-input']);
-
 export { buildLedgerInput, RunDataError } from './ledger-input';
 
 /**
- * Runs the estimator; data refusals come back as `{ ok: false, error }`, request mistakes throw a
- * 422, anything else propagates.
+ * Runs the estimator (estimateRun, the function heavy runs run on a worker too); data refusals come
+ * back as `{ ok: false, error }`, request mistakes throw a 422, anything else propagates.
  */
 export function estimate(spec: ModelSpec, data: EditionData, dropSetOverride?: string[]): { ok: true; result: EngineResult } | { ok: false; error: string } {
-  let dates: string[] = [];
+  let built: ReturnType<typeof buildLedgerInput>;
   try {
-    const built = buildLedgerInput(spec, data, dropSetOverride);
-    dates = built.dates;
-    const out = estimateLedger(built.input);
-    return out.ok ? { ok: true, result: out.ledger } : { ok: false, error: gmmFailureMessage(out) };
+    built = buildLedgerInput(spec, data, dropSetOverride);
   } catch (e) {
     if (e instanceof RunDataError) return { ok: false, error: e.message };
-    if (e instanceof GmmInputError) {
-      if (REQUEST_ERROR_CODES.has(e.code)) throw new KeelsonApiError('unprocessable', e.message);
-      const when = e.row !== undefined && dates[e.row] ? ` (date ${dates[e.row]})` : '';
-      return { ok: false, error: `${e.message}${when}` };
-    }
     throw e;
   }
+  const out = estimateRun({ input: built.input, dates: built.dates });
+  if (!out.ok && out.kind === 'request') throw new KeelsonApiError('unprocessable', out.error);
+  return out.ok ? { ok: true, result: out.result } : { ok: false, error: out.error };
 }
 
 // ---- reading ----
@@ -239,6 +230,11 @@ export function runSummariesByIds(db: Db, ids: number[]): Map<number, RunSummary
 
 // ---- creating ----
 
+/** Starts a queued (heavy) run in the background: the embedded pool or the queue (server/jobs/run-estimator.ts). */
+export interface RunLauncher {
+  start(runId: number): void;
+}
+
 /** What creating a run needs besides the database. */
 export interface RunDeps {
   db: Db;
@@ -250,9 +246,17 @@ export interface RunDeps {
   mailAfterMs?: number;
   /** Milliseconds clock used to measure how long the estimation took (tests inject a fake one). */
   clock?: () => number;
+  /**
+   * Runs whose cost T·N²·K (runCost) is above this are queued (202) and estimated by `launcher`;
+   * at or below it, or without a launcher, they are estimated in the request (201).
+   */
+  heavyRunCost?: number;
+  launcher?: RunLauncher;
 }
 
 export const RUN_MAIL_AFTER_MS = 60_000;
+/** Default KEELSON_HEAVY_RUN_COST: ten times the largest demo run (T = 600, N = 25, K = 5 costs 1.9·10⁶). */
+export const DEFAULT_HEAVY_RUN_COST = 20_000_000;
 
 export interface CreateRunArgs {
   specId?: number;
@@ -261,16 +265,26 @@ export interface CreateRunArgs {
   name?: string;
 }
 
-/** A run estimated and checked, not yet written. */
-interface PreparedRun {
+/** The bootstrap job a run starts once its ledger finished. */
+type RunBootstrap = { params: Record<string, unknown>; total: number } | null;
+
+/** A run checked against its edition with its estimation input built; not yet estimated nor written. */
+interface CheckedRun {
   spec: ModelSpec;
   data: EditionData;
-  outcome: ReturnType<typeof estimate>;
+  /** The estimation input, or the data's refusal (missing values in the window): the run fails at once. */
+  task: { ok: true; value: RunEstimateInput; cost: number; bootstrap: RunBootstrap } | { ok: false; error: string };
+}
+
+/** A run's outcome as stored: the ledger, or why the data refused the model. */
+type StoredOutcome = { ok: true; result: EngineResult } | { ok: false; error: string };
+
+/** An estimated run, not yet written. */
+interface EstimatedRun {
+  outcome: StoredOutcome;
   startedAt: string;
   finishedAt: string;
   tookMs: number;
-  /** The bootstrap job to start with the run (only when the ledger finished). */
-  bootstrap: { params: Record<string, unknown>; total: number } | null;
 }
 
 /** The spec as frozen into a run: the basis resolved (standard / robust / bootstrap) and spelled out. */
@@ -284,88 +298,137 @@ export function freezeSpec(spec: ModelSpec): ModelSpec {
 }
 
 /**
- * Checks the spec against the edition, estimates, and — when the spec asks for bootstrap
- * p-values and the ledger finished — checks that lib/gmm accepts the bootstrap. Throws 4xx
- * (nothing written yet) for a request mistake.
+ * The estimation input of a frozen spec on its edition (the same for a run estimated in the
+ * request and one estimated by a worker): lib/gmm's ledger input, and the bootstrap it must accept
+ * when the spec asks for bootstrap p-values. Throws RunDataError when the data refuse the model,
+ * 422 when the bootstrap settings do not fit the data (block length above T/2).
  */
-function prepareRun(deps: RunDeps, user: User, rawSpec: ModelSpec, editionId: number): PreparedRun {
-  const clock = deps.clock ?? Date.now;
-  const spec = freezeSpec(rawSpec);
-  const { data } = loadAndCheck(deps.db, user, editionId, spec);
-  const t0 = clock();
-  const startedAt = new Date().toISOString();
-  const outcome = estimate(spec, data);
-  const finishedAt = new Date().toISOString();
-  const tookMs = clock() - t0;
-  let bootstrap: PreparedRun['bootstrap'] = null;
-  if (outcome.ok && spec.bootstrap) {
+export function runTaskOf(spec: ModelSpec, data: EditionData): { value: RunEstimateInput; cost: number; bootstrap: RunBootstrap } {
+  const built = buildLedgerInput(spec, data);
+  let bootstrap: RunBootstrap = null;
+  let bootstrapInput: RunEstimateInput['bootstrap'];
+  if (spec.bootstrap) {
     const params: Record<string, unknown> = { ...bootstrapSettingsOf(spec.bootstrap) };
-    const check = bootstrapCheckInput(spec, buildLedgerInput(spec, data).input, params);
-    assertBootstrapAccepted(check);
+    const check = bootstrapCheckInput(spec, built.input, params);
     bootstrap = { params, total: check.total };
+    bootstrapInput = check.input;
   }
-  return { spec, data, outcome, startedAt, finishedAt, tookMs, bootstrap };
+  const value: RunEstimateInput = { input: built.input, dates: built.dates, ...(bootstrapInput ? { bootstrap: bootstrapInput } : {}) };
+  return { value, cost: runCost(built.input), bootstrap };
 }
 
-/** Writes a prepared run (and its bootstrap job) inside the caller's transaction. */
+/** Checks the spec against the edition and builds its input. Throws 4xx (nothing written yet) for a request mistake. */
+function checkRun(deps: RunDeps, user: User, rawSpec: ModelSpec, editionId: number): CheckedRun {
+  const spec = freezeSpec(rawSpec);
+  const { data } = loadAndCheck(deps.db, user, editionId, spec);
+  try {
+    return { spec, data, task: { ok: true, ...runTaskOf(spec, data) } };
+  } catch (e) {
+    if (e instanceof RunDataError) return { spec, data, task: { ok: false, error: e.message } };
+    throw e;
+  }
+}
+
+/** Whether the run goes to the background (a launcher exists and its cost is above the threshold). */
+function isHeavy(deps: RunDeps, c: CheckedRun): boolean {
+  return !!deps.launcher && c.task.ok && c.task.cost > (deps.heavyRunCost ?? DEFAULT_HEAVY_RUN_COST);
+}
+
+/**
+ * A request mistake that lib/gmm found (its option checks, or a bootstrap it refuses) as the 422
+ * the synchronous path answers.
+ */
+function requestError(out: Extract<RunEstimate, { ok: false }>): KeelsonApiError {
+  return out.from === 'bootstrap' ? new KeelsonApiError('unprocessable', out.error, [{ path: ['params'], message: out.error }]) : new KeelsonApiError('unprocessable', out.error);
+}
+
+/** Estimates in the request. Throws 422 (nothing written) when lib/gmm finds the request wrong. */
+function estimateNow(deps: RunDeps, c: CheckedRun): EstimatedRun {
+  const clock = deps.clock ?? Date.now;
+  const t0 = clock();
+  const startedAt = new Date().toISOString();
+  let outcome: StoredOutcome;
+  if (!c.task.ok) outcome = c.task;
+  else {
+    const out = estimateRun(c.task.value);
+    if (!out.ok && out.kind === 'request') throw requestError(out);
+    outcome = out.ok ? { ok: true, result: out.result } : { ok: false, error: out.error };
+  }
+  const finishedAt = new Date().toISOString();
+  return { outcome, startedAt, finishedAt, tookMs: clock() - t0 };
+}
+
+/** Inserts the bootstrap job of a run whose ledger finished (inside the caller's transaction). */
+function insertBootstrapJob(tx: Db, userId: number, runId: number, boot: NonNullable<RunBootstrap>): { row: RunRow; jobId: number } {
+  const job = tx
+    .insert(jobs)
+    .values({ kind: 'bootstrap', runId, authorId: userId, params: JSON.stringify(boot.params), status: 'queued', done: 0, total: boot.total, attempts: 1 })
+    .returning()
+    .get();
+  const row = tx.update(runs).set({ bootstrapJobId: job.id }).where(eq(runs.id, runId)).returning().get();
+  audit(tx, userId, 'job.started', { jobId: job.id, runId, kind: 'bootstrap', withRun: true });
+  return { row, jobId: job.id };
+}
+
+/**
+ * Writes a run inside the caller's transaction: estimated (finished or failed, with its bootstrap
+ * job when the ledger finished and the spec asks for one), or `est` null: queued for a worker.
+ */
 function insertRun(
   tx: Db,
   user: User,
-  p: PreparedRun,
+  c: CheckedRun,
+  est: EstimatedRun | null,
   ref: { specId: number | null; specName: string | null; basedOnRunId?: number },
 ): { row: RunRow; jobId: number | null } {
-  const status: RunStatus = p.outcome.ok ? 'finished' : 'failed';
+  const status: RunStatus = est === null ? 'queued' : est.outcome.ok ? 'finished' : 'failed';
   let row = tx
     .insert(runs)
     .values({
       specId: ref.specId,
       specName: ref.specName,
-      editionId: p.data.editionId,
-      libraryId: p.data.libraryId,
-      libraryName: p.data.libraryName,
-      editionNumber: p.data.number,
-      spec: JSON.stringify(p.spec),
+      editionId: c.data.editionId,
+      libraryId: c.data.libraryId,
+      libraryName: c.data.libraryName,
+      editionNumber: c.data.number,
+      spec: JSON.stringify(c.spec),
       keelsonVersion: KEELSON_VERSION,
       authorId: user.id,
       status,
-      error: p.outcome.ok ? null : p.outcome.error,
-      ...runResultColumns(p.outcome.ok ? p.outcome.result : null),
-      startedAt: p.startedAt,
-      finishedAt: p.finishedAt,
+      error: est && !est.outcome.ok ? est.outcome.error : null,
+      ...runResultColumns(est?.outcome.ok ? est.outcome.result : null),
+      startedAt: est?.startedAt ?? null,
+      finishedAt: est?.finishedAt ?? null,
     })
     .returning()
     .get();
   audit(tx, user.id, `run.${status}`, {
     runId: row.id,
     specId: ref.specId,
-    editionId: p.data.editionId,
-    basis: p.spec.basis,
+    editionId: c.data.editionId,
+    basis: c.spec.basis,
     ...(ref.basedOnRunId !== undefined ? { basedOnRunId: ref.basedOnRunId } : {}),
+    ...(est === null && c.task.ok ? { cost: c.task.cost } : {}),
   });
   let jobId: number | null = null;
-  if (p.bootstrap) {
-    const job = tx
-      .insert(jobs)
-      .values({ kind: 'bootstrap', runId: row.id, authorId: user.id, params: JSON.stringify(p.bootstrap.params), status: 'queued', done: 0, total: p.bootstrap.total, attempts: 1 })
-      .returning()
-      .get();
-    jobId = job.id;
-    row = tx.update(runs).set({ bootstrapJobId: job.id }).where(eq(runs.id, row.id)).returning().get();
-    audit(tx, user.id, 'job.started', { jobId: job.id, runId: row.id, kind: 'bootstrap', withRun: true });
-  }
+  if (est?.outcome.ok && c.task.ok && c.task.bootstrap) ({ row, jobId } = insertBootstrapJob(tx, user.id, row.id, c.task.bootstrap));
   return { row, jobId };
 }
 
-/** After the write: start the bootstrap job, and mail the author if the run took long enough. */
-function afterInsert(deps: RunDeps, user: User, p: PreparedRun, row: RunRow, jobId: number | null): void {
-  if (jobId !== null) deps.runner.start(jobId);
-  if (p.tookMs < (deps.mailAfterMs ?? RUN_MAIL_AFTER_MS)) return;
-  const { outcome, data } = p;
+/** Mails the author that a run ended, if it took at least the mail threshold. */
+function mailRunEnd(
+  deps: Pick<RunDeps, 'db' | 'mailer' | 'publicUrl' | 'mailAfterMs'>,
+  to: string,
+  row: Pick<RunRow, 'id' | 'specName' | 'libraryName' | 'editionNumber'>,
+  outcome: StoredOutcome,
+  tookMs: number,
+): void {
+  if (tookMs < (deps.mailAfterMs ?? RUN_MAIL_AFTER_MS)) return;
   const link = deps.publicUrl ? `\n${deps.publicUrl.replace(/\/$/, '')}/runs/${row.id}\n` : '';
-  const title = row.specName ? `“${row.specName}”` : `on ${data.libraryName} edition ${data.number}`;
-  const took = `after ${Math.round(p.tookMs / 1000)} s`;
+  const title = row.specName ? `“${row.specName}”` : `on ${row.libraryName} edition ${row.editionNumber}`;
+  const took = `after ${Math.round(tookMs / 1000)} s`;
   mailInBackground(deps.db, deps.mailer, {
-    to: user.email,
+    to,
     subject: outcome.ok ? `Run #${row.id} finished` : `Run #${row.id} failed`,
     text: outcome.ok
       ? `Your run #${row.id} ${title} finished ${took}: N = ${outcome.result.N} test assets, K = ${outcome.result.K} factors, T = ${outcome.result.T} periods.\n` +
@@ -375,10 +438,30 @@ function afterInsert(deps: RunDeps, user: User, p: PreparedRun, row: RunRow, job
   });
 }
 
+/** After the write: start the bootstrap job (or the queued run), and mail the author if the run took long enough. */
+function afterInsert(deps: RunDeps, user: User, est: EstimatedRun | null, row: RunRow, jobId: number | null): void {
+  if (est === null) {
+    deps.launcher?.start(row.id);
+    return;
+  }
+  if (jobId !== null) deps.runner.start(jobId);
+  mailRunEnd(deps, user.email, row, est.outcome, est.tookMs);
+}
+
 /**
- * Estimates and stores a run (finished or failed) in one transaction with its audit line (and
- * its bootstrap job when the spec asks for one), then mails the author after a long run. Throws
- * 4xx (nothing written) when the request is invalid; 409 for an archived saved spec.
+ * Checks a run, then either estimates it here (cost at or below the heavy-run threshold) or leaves
+ * it for the launcher (null).
+ */
+function estimateUnlessHeavy(deps: RunDeps, c: CheckedRun): EstimatedRun | null {
+  return isHeavy(deps, c) ? null : estimateNow(deps, c);
+}
+
+/**
+ * Creates a run. A small run is estimated here and stored (finished or failed) in one transaction
+ * with its audit line (and its bootstrap job when the spec asks for one), then the author is mailed
+ * after a long run. A heavy run (cost above `heavyRunCost`) is stored as `queued` with its audit
+ * line and handed to the launcher; the caller answers 202. Throws 4xx (nothing written) when the
+ * request is invalid; 409 for an archived saved spec.
  */
 export function createRun(deps: RunDeps, user: User, args: CreateRunArgs): Run {
   let spec: ModelSpec;
@@ -396,10 +479,92 @@ export function createRun(deps: RunDeps, user: User, args: CreateRunArgs): Run {
     spec = args.spec;
     editionId = args.editionId;
   }
-  const p = prepareRun(deps, user, spec, editionId);
-  const { row, jobId } = inTransaction(deps.db, (tx) => insertRun(tx, user, p, { specId, specName }));
-  afterInsert(deps, user, p, row, jobId);
+  const c = checkRun(deps, user, spec, editionId);
+  const est = estimateUnlessHeavy(deps, c);
+  const { row, jobId } = inTransaction(deps.db, (tx) => insertRun(tx, user, c, est, { specId, specName }));
+  afterInsert(deps, user, est, row, jobId);
   return toRun(row, user.name, 'none');
+}
+
+// ---- finishing a queued run (called by server/jobs/run-estimator.ts) ----
+
+/** A queued run's estimation input, rebuilt from its frozen spec and its edition (editions never change). */
+export function queuedRunTask(db: Db, runId: number): { value: RunEstimateInput; cost: number; bootstrap: RunBootstrap } {
+  const row = db.select({ spec: runs.spec, editionId: runs.editionId }).from(runs).where(eq(runs.id, runId)).get();
+  if (!row) throw new Error(`Run ${runId} no longer exists.`);
+  return runTaskOf(modelSpecSchema.parse(JSON.parse(row.spec)), loadEditionData(db, row.editionId));
+}
+
+/** Marks a queued run running (a run already running, re-launched at boot, keeps its start). @returns false when it is neither. */
+export function markRunRunning(db: Db, runId: number): boolean {
+  return inTransaction(db, (tx) => {
+    const row = tx.select({ status: runs.status }).from(runs).where(eq(runs.id, runId)).get();
+    if (!row || (row.status !== 'queued' && row.status !== 'running')) return false;
+    if (row.status === 'queued') tx.update(runs).set({ status: 'running', startedAt: new Date().toISOString(), error: null }).where(eq(runs.id, runId)).run();
+    return true;
+  });
+}
+
+/** A running run's passing message (a queue outage), or null to clear it; the run stays running. */
+export function setRunNotice(db: Db, runId: number, notice: string | null): void {
+  db.update(runs).set({ error: notice }).where(and(eq(runs.id, runId), eq(runs.status, 'running'))).run();
+}
+
+/**
+ * Writes a queued run's outcome in one transaction: status finished (with the ledger, and its
+ * bootstrap job when the spec asks for one) or failed (with the reason; a request mistake lib/gmm
+ * found is a failure too, since the request was answered long ago), its audit line, and the end
+ * time. Then starts the bootstrap job and mails the author after a long run.
+ * @returns the written row, or null when the run was no longer queued or running.
+ */
+export function completeQueuedRun(
+  deps: Pick<RunDeps, 'db' | 'mailer' | 'publicUrl' | 'mailAfterMs' | 'runner'>,
+  runId: number,
+  out: RunEstimate | { ok: false; error: string },
+  bootstrap: RunBootstrap,
+): RunRow | null {
+  const outcome: StoredOutcome = out.ok ? { ok: true, result: out.result } : { ok: false, error: out.error };
+  const finishedAt = new Date().toISOString();
+  const written = inTransaction(deps.db, (tx) => {
+    const cur = tx.select().from(runs).where(eq(runs.id, runId)).get();
+    if (!cur || (cur.status !== 'queued' && cur.status !== 'running')) return null;
+    const status: RunStatus = outcome.ok ? 'finished' : 'failed';
+    let row = tx
+      .update(runs)
+      .set({
+        status,
+        ...runResultColumns(outcome.ok ? outcome.result : null),
+        error: outcome.ok ? null : outcome.error,
+        startedAt: cur.startedAt ?? finishedAt,
+        finishedAt,
+      })
+      .where(eq(runs.id, runId))
+      .returning()
+      .get();
+    const spec = JSON.parse(cur.spec) as ModelSpec;
+    audit(tx, cur.authorId, `run.${status}`, { runId, specId: cur.specId, editionId: cur.editionId, basis: spec.basis, queued: true });
+    let jobId: number | null = null;
+    if (outcome.ok && bootstrap) ({ row, jobId } = insertBootstrapJob(tx, cur.authorId, runId, bootstrap));
+    return { row, jobId };
+  });
+  if (!written) return null;
+  const { row, jobId } = written;
+  if (jobId !== null) deps.runner.start(jobId);
+  const author = deps.db.select({ email: users.email }).from(users).where(eq(users.id, row.authorId)).get();
+  const took = Date.parse(row.finishedAt ?? finishedAt) - Date.parse(row.startedAt ?? finishedAt);
+  if (author) mailRunEnd(deps, author.email, row, outcome, took);
+  return row;
+}
+
+/** Runs left queued or running (by a stopped process): the launcher starts them again at boot. */
+export function openRunIds(db: Db): number[] {
+  return db
+    .select({ id: runs.id })
+    .from(runs)
+    .where(inArray(runs.status, ['queued', 'running']))
+    .orderBy(runs.id)
+    .all()
+    .map((r) => r.id);
 }
 
 /** The run row for a change that makes a new run from it: readable, and the caller's own (or an admin). */
@@ -440,9 +605,10 @@ export function changeRunBasis(deps: RunDeps, user: User, runId: number, body: C
     const message = `Run #${runId} already rests on the ${body.basis} basis with these settings; nothing would change`;
     throw new KeelsonApiError('unprocessable', message, [{ path: ['basis'], message }]);
   }
-  const p = prepareRun(deps, user, next, row.editionId);
-  const { row: created, jobId } = inTransaction(deps.db, (tx) => insertRun(tx, user, p, { specId: row.specId, specName: row.specName, basedOnRunId: runId }));
-  afterInsert(deps, user, p, created, jobId);
+  const c = checkRun(deps, user, next, row.editionId);
+  const est = estimateUnlessHeavy(deps, c);
+  const { row: created, jobId } = inTransaction(deps.db, (tx) => insertRun(tx, user, c, est, { specId: row.specId, specName: row.specName, basedOnRunId: runId }));
+  afterInsert(deps, user, est, created, jobId);
   return toRun(created, user.name, 'none');
 }
 
@@ -466,19 +632,20 @@ export function firstStageCopy(deps: RunDeps, user: User, runId: number): FirstS
     throw new KeelsonApiError('unprocessable', message, [{ path: ['stage'], message }]);
   }
   const next: ModelSpec = { ...spec, stage: 'first', basis: 'robust' };
-  const p = prepareRun(deps, user, next, row.editionId);
+  const c = checkRun(deps, user, next, row.editionId);
+  const est = estimateUnlessHeavy(deps, c);
   const savedFrom = row.specId !== null ? findSpecRow(deps.db, user, row.specId) : null;
   const baseName = row.specName ?? savedFrom?.name ?? null;
   const out = inTransaction(deps.db, (tx) => {
     let saved: SavedSpec | null = null;
-    if (savedFrom) saved = insertSpec(tx, user, p.data, firstStageName(baseName ?? savedFrom.name), p.spec, savedFrom.id);
-    const written = insertRun(tx, user, p, {
+    if (savedFrom) saved = insertSpec(tx, user, c.data, firstStageName(baseName ?? savedFrom.name), c.spec, savedFrom.id);
+    const written = insertRun(tx, user, c, est, {
       specId: saved?.id ?? null,
       specName: saved?.name ?? (baseName ? firstStageName(baseName) : null),
       basedOnRunId: runId,
     });
     return { ...written, saved };
   });
-  afterInsert(deps, user, p, out.row, out.jobId);
+  afterInsert(deps, user, est, out.row, out.jobId);
   return { run: toRun(out.row, user.name, 'none'), spec: out.saved };
 }

@@ -1,0 +1,105 @@
+/**
+ * Heavy runs in queue mode: with KEELSON_REDIS_URL set, a run above the cost threshold is answered
+ * 202 and estimated by a `keelson worker` process as one BullMQ job run-<id> on a real Debian
+ * redis-server. Check (an identity): the stored result is byte for byte the synchronous path's on
+ * the same spec and edition. Data: the invented economy of tests/api/runs-fixture.ts.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { Redis } from 'ioredis';
+import { eq } from 'drizzle-orm';
+import { agentAs, type Agent } from '../api/helpers';
+import { makeFixture, spec, uploadFixture } from '../api/runs-fixture';
+import { openDb, type Db } from '../../server/db/client';
+import { createApp, type KeelsonApp } from '../../server/app';
+import { createMailer, type Mailer } from '../../server/services/mailer';
+import { seedDemoUsers } from '../../server/seed/users';
+import { createRun, mailSettled } from '../../server/services/runs';
+import { runs } from '../../server/db/schema/index';
+import { inputKey, runJobId } from '../../server/jobs/queue-shared';
+import { modelSpecSchema } from '../../shared/specs';
+import { runResponseSchema, type Run } from '../../shared/runs';
+import { startWorkerProcess, testRedis, type TestRedis, type WorkerProcess } from './redis';
+
+let redis: TestRedis;
+let dir: string;
+let db: Db;
+let mailer: Mailer;
+let app: KeelsonApp;
+let researcher: Agent;
+let editionId: number;
+let worker: WorkerProcess;
+
+beforeAll(async () => {
+  redis = await testRedis();
+  dir = mkdtempSync(join(tmpdir(), 'keelson-heavy-'));
+  db = openDb(join(dir, 'keelson.db'));
+  await seedDemoUsers(db);
+  mailer = await createMailer();
+  // T = 240, N = 10, K = 2 costs 48,000: above this threshold
+  app = createApp({ db, mailer, sessionSecret: 'test-secret-test-secret', redisUrl: redis.url, heavyRunCost: 30_000, runPollMs: 50 });
+  const admin = await agentAs(app, 'admin');
+  researcher = await agentAs(app, 'researcher');
+  editionId = (await uploadFixture(admin, makeFixture(), { name: 'Invented economy', visibility: 'shared' })).editionId;
+  worker = await startWorkerProcess(redis.url);
+}, 60_000);
+
+afterAll(async () => {
+  if (worker?.proc.exitCode === null) worker.proc.kill('SIGKILL');
+  await mailSettled();
+  app?.close();
+  await app?.closed();
+  await mailer?.close();
+  db?.$client.close();
+  await redis?.stop();
+  if (dir) rmSync(dir, { recursive: true, force: true });
+});
+
+async function waitRun(id: number, ms = 60_000): Promise<Run> {
+  const until = Date.now() + ms;
+  for (;;) {
+    const run = runResponseSchema.parse((await researcher.get(`/api/v1/runs/${id}`).expect(200)).body).run;
+    if (run.status !== 'queued' && run.status !== 'running') return run;
+    if (Date.now() > until) throw new Error(`run ${id} still ${run.status}`);
+    await new Promise((r) => setTimeout(r, 50));
+  }
+}
+
+describe('heavy runs in queue mode', () => {
+  it('a heavy run goes to a worker as job run-<id> and comes back with the synchronous numbers bit for bit', async () => {
+    const body = { editionId, spec: spec({ rf: 'RF' }) };
+    const r = await researcher.post('/api/v1/runs').set('x-csrf-token', researcher.csrf).send(body).expect(202);
+    const id = r.body.run.id as number;
+    expect(r.headers.location).toBe(`/api/v1/runs/${id}`);
+    const done = await waitRun(id);
+    expect(done.status).toBe('finished');
+    const heavyText = db.select({ result: runs.result }).from(runs).where(eq(runs.id, id)).get()!.result;
+
+    const user = { id: done.authorId, name: done.authorName, email: 'researcher@keelson.test', role: 'researcher' as const };
+    const sync = createRun({ db, mailer, runner: app.jobRunner }, user as never, { editionId, spec: modelSpecSchema.parse(body.spec) });
+    const syncText = db.select({ result: runs.result }).from(runs).where(eq(runs.id, sync.id)).get()!.result;
+    expect(heavyText).toBe(syncText);
+
+    // the job and its stored input are removed from Redis once the result is in SQLite
+    const r2 = new Redis(redis.url);
+    try {
+      expect(await r2.exists(inputKey(runJobId(id)))).toBe(0);
+      expect(await r2.exists(`keelson:deep-checks:${runJobId(id)}`)).toBe(0);
+    } finally {
+      r2.disconnect();
+    }
+  }, 90_000);
+
+  it('a heavy run the data refuse ends failed with the worker’s reason', async () => {
+    const r = await researcher
+      .post('/api/v1/runs')
+      .set('x-csrf-token', researcher.csrf)
+      .send({ editionId, spec: spec({ factors: ['MKT', 'ECHO', 'COMBO'] }) })
+      .expect(202);
+    const run = await waitRun(r.body.run.id as number);
+    expect(run.status).toBe('failed');
+    expect(run.error).toMatch(/COMBO/);
+  }, 90_000);
+});
