@@ -10,12 +10,12 @@
  * runs.test.ts); the collinear model (COMBO = MKT + ECHO by construction) must fail.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { agentAs, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp } from './helpers';
+import { agentAs, expectEnvelope, makeTestApp, post, tableCounts, type Agent, type TestApp } from './helpers';
 import { FIX_ASSETS, makeFixture, spec, uploadFixture, type Fixture } from './runs-fixture';
 import { createApp } from '../../server/app';
 import { createRun, mailSettled } from '../../server/services/runs';
 import { modelSpecSchema, type ModelSpec } from '../../shared/specs';
-import { runResponseSchema, type Run } from '../../shared/runs';
+import { runResponseSchema, runsResponseSchema, type Run } from '../../shared/runs';
 import { estimateLedger } from '../gmm/helpers';
 import { runs, auditLog } from '../../server/db/schema/index';
 import { eq } from 'drizzle-orm';
@@ -43,9 +43,6 @@ afterAll(async () => {
   await t.close();
 });
 
-function post(agent: Agent, url: string, body: unknown) {
-  return agent.post(`/api/v1${url}`).set('x-csrf-token', agent.csrf).send(body as object);
-}
 
 async function waitRun(agent: Agent, id: number, ms = 30_000): Promise<Run> {
   const until = Date.now() + ms;
@@ -76,6 +73,9 @@ describe('heavy runs', () => {
     expect(done.status).toBe('finished');
     expect(done.startedAt && done.finishedAt && done.startedAt <= done.finishedAt).toBe(true);
     const heavyText = (await researcher.get(`/api/v1/runs/${queued.id}/result.json`).expect(200)).text;
+    // the list's N, K, T columns are written with the worker's result (identity with the result)
+    const listed = runsResponseSchema.parse((await researcher.get('/api/v1/runs').expect(200)).body).runs.find((x) => x.id === queued.id)!;
+    expect([listed.N, listed.K, listed.T]).toEqual([done.result!.N, done.result!.K, done.result!.T]);
 
     // the synchronous path (no launcher) on the same spec and edition
     const user = { id: queued.authorId, name: queued.authorName, email: 'researcher@keelson.test', role: 'researcher' as const };
