@@ -1,5 +1,6 @@
 /** Run header pieces: status chip, the frozen spec in words, export links, the run caution. */
-import { Platform, StyleSheet, Text, View } from 'react-native';
+import { useEffect, useState } from 'react';
+import { ActivityIndicator, Platform, StyleSheet, Text, View } from 'react-native';
 import type { Run, RunStatus } from '../shared/runs';
 import { RUN_CAUTION } from '../shared/runs';
 import { exportHref } from '../api/runs';
@@ -17,6 +18,37 @@ const STATUS: Record<RunStatus, { shape: ChipShape; tone: ChipTone }> = {
 
 export function RunStatusChip({ status }: { status: RunStatus }) {
   return <Chip label={status} {...STATUS[status]} accessibilityLabel={`Run ${status}`} />;
+}
+
+/**
+ * A heavy run before its ledger exists: queued (waiting for the pool or a queue worker) or running
+ * (with the time it has taken and the server's notice, e.g. a lost Redis connection). The page
+ * polls the run and replaces this with the ledger when it finishes.
+ */
+export function RunPending({ run }: { run: Pick<Run, 'status' | 'startedAt' | 'createdAt' | 'error'> }) {
+  const [now, setNow] = useState(() => Date.now());
+  useEffect(() => {
+    const t = setInterval(() => setNow(Date.now()), 1000);
+    return () => clearInterval(t);
+  }, []);
+  const since = Date.parse(run.status === 'running' && run.startedAt ? run.startedAt : run.createdAt);
+  const seconds = Number.isFinite(since) ? Math.max(0, Math.round((now - since) / 1000)) : null;
+  const what =
+    run.status === 'queued'
+      ? 'Queued: this run is large enough to be estimated in the background, and waits for a free worker.'
+      : 'Estimating on a worker: GMM fit, drop tests and spanning checks of every factor.';
+  return (
+    <View style={styles.pending} accessibilityRole="progressbar" accessibilityLabel={`Run ${run.status}`}>
+      <ActivityIndicator color={colors.brass} />
+      <View style={{ flex: 1, gap: space.xs }}>
+        <Text style={text.body}>{what}</Text>
+        <Text style={text.muted}>
+          {seconds === null ? '' : `${run.status === 'queued' ? 'Waiting' : 'Running'} for ${seconds} s. `}This page updates by itself; you may leave it and come back.
+        </Text>
+        {run.status === 'running' && run.error ? <Text style={text.body}>{run.error}</Text> : null}
+      </View>
+    </View>
+  );
 }
 
 function Pair({ k, v }: { k: string; v: string }) {
@@ -77,6 +109,7 @@ export function RunCaution() {
 const styles = StyleSheet.create({
   grid: { flexDirection: 'row', flexWrap: 'wrap', gap: space.md },
   pair: { flexGrow: 1, flexBasis: 220, gap: 2 },
+  pending: { flexDirection: 'row', gap: space.md, alignItems: 'flex-start', padding: space.md, borderRadius: radius.md, backgroundColor: colors.brassTint },
   link: {
     fontFamily: fonts.textStrong,
     fontSize: 15,

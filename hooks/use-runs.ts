@@ -20,7 +20,7 @@ import {
 import { newIdempotencyKey } from '../api/client';
 import { useEffect } from 'react';
 import type { Job } from '../shared/jobs';
-import { isActiveJob, useJob } from './use-jobs';
+import { isActiveJob, POLL_MS, useJob } from './use-jobs';
 import { specKeys } from './use-specs';
 
 export const runKeys = {
@@ -47,7 +47,15 @@ export const useRunPages = (q: Partial<RunListQuery> = {}) =>
     placeholderData: keepPreviousData,
   });
 // A finished run never changes: keep it.
-export const useRun = (id: number | undefined) => useQuery({ queryKey: runKeys.one(id ?? 0), queryFn: () => getRun(id!), enabled: !!id, staleTime: Infinity });
+/** One run; polled while it is queued or running (a heavy run estimated by the pool or a queue worker). */
+export const useRun = (id: number | undefined) =>
+  useQuery({
+    queryKey: runKeys.one(id ?? 0),
+    queryFn: () => getRun(id!),
+    enabled: !!id,
+    staleTime: Infinity,
+    refetchInterval: (query) => (query.state.data && (query.state.data.status === 'queued' || query.state.data.status === 'running') ? POLL_MS : false),
+  });
 export const useRunReview = (id: number | undefined) => useQuery({ queryKey: runKeys.review(id ?? 0), queryFn: () => getReview(id!), enabled: !!id });
 export const useCompare = (a: number | undefined, b: number | undefined) =>
   useQuery({ queryKey: runKeys.compare(a ?? 0, b ?? 0), queryFn: () => compareRuns(a!, b!), enabled: !!a && !!b && a !== b, staleTime: Infinity });

@@ -14,7 +14,7 @@ import { JointDropCard, LedgerTable, LedgerTestsTable } from '../../../component
 import { BasisSwitcher, LedgerBasisBar } from '../../../components/ledger-basis';
 import { LedgerFit } from '../../../components/ledger-fit';
 import { LedgerCharts } from '../../../components/ledger-charts';
-import { RunCaution, RunExports, RunSpecSummary, RunStatusChip } from '../../../components/run-summary';
+import { RunCaution, RunExports, RunPending, RunSpecSummary, RunStatusChip } from '../../../components/run-summary';
 import { RunReview, SignoffChip } from '../../../components/run-review';
 import { space, text } from '../../../components/theme';
 import { DeepChecksPanel } from '../../../components/deep-checks-panel';
@@ -52,6 +52,7 @@ export default function RunPage() {
         <SignoffChip state={run.signoff} />
         {r ? <Text style={text.muted}>N {r.N} · K {r.K} · T {r.T} · df {r.N - r.K}</Text> : null}
       </View>
+      {run.status === 'queued' || run.status === 'running' ? <RunPending run={run} /> : null}
       {run.status === 'failed' ? (
         <ErrorView error={new Error(run.error ?? 'The run failed.')} title="The estimator refused this model on these data" />
       ) : null}
