@@ -87,3 +87,17 @@ export function connectionFor(url: string, role: 'worker' | 'api'): { url: strin
     retryStrategy: (n: number) => Math.min(2000, 100 * n),
   };
 }
+
+/** Waits `ms`, or less when `signal` aborts (resolves either way, never rejects: a poll loop's pause). */
+export function sleep(ms: number, signal: AbortSignal): Promise<void> {
+  return new Promise((resolve) => {
+    if (signal.aborted) return resolve();
+    const t = setTimeout(done, ms);
+    function done() {
+      clearTimeout(t);
+      signal.removeEventListener('abort', done);
+      resolve();
+    }
+    signal.addEventListener('abort', done, { once: true });
+  });
+}

@@ -20,7 +20,7 @@ import { completeQueuedRun, markRunRunning, openRunIds, queuedRunTask, setRunNot
 import type { RunEstimate } from '../services/run-estimate';
 import type { JobRunner } from './runner';
 import type { QueueClient } from './queue-client';
-import { CANCELLED_REASON, runJobId } from './queue-shared';
+import { CANCELLED_REASON, runJobId, sleep } from './queue-shared';
 
 export interface RunEstimatorOptions {
   db: Db;
@@ -153,19 +153,6 @@ export class RunEstimator implements RunLauncher {
     }
     return null;
   }
-}
-
-function sleep(ms: number, signal: AbortSignal): Promise<void> {
-  return new Promise((resolve) => {
-    if (signal.aborted) return resolve();
-    const t = setTimeout(done, ms);
-    function done() {
-      clearTimeout(t);
-      signal.removeEventListener('abort', done);
-      resolve();
-    }
-    signal.addEventListener('abort', done, { once: true });
-  });
 }
 
 function messageOf(e: unknown): string {

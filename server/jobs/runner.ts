@@ -24,7 +24,7 @@ import { JOB_KIND_LABELS, type JobMode } from '../../shared/jobs';
 import { createJobPool, type JobPool } from './pool';
 import type { ChunkTask, HoldoutBlocks } from './tasks';
 import { QueueClient } from './queue-client';
-import { CANCELLED_REASON, flowId } from './queue-shared';
+import { CANCELLED_REASON, flowId, sleep } from './queue-shared';
 import { runResultColumns } from '../services/run-shape';
 import { withBootstrap, type BootstrapBatch, type BootstrapResult, type LedgerResult, type RollingPoint, type SweepPartial } from '../../lib/gmm/index';
 
@@ -430,19 +430,6 @@ function mergeIntoRun(tx: Db, runId: number, jobId: number, boot: BootstrapResul
   }
   tx.update(runs).set(runResultColumns(merged)).where(and(eq(runs.id, runId), eq(runs.bootstrapJobId, jobId))).run();
   return { ok: true };
-}
-
-function sleep(ms: number, signal: AbortSignal): Promise<void> {
-  return new Promise((resolve) => {
-    if (signal.aborted) return resolve();
-    const t = setTimeout(done, ms);
-    function done() {
-      clearTimeout(t);
-      signal.removeEventListener('abort', done);
-      resolve();
-    }
-    signal.addEventListener('abort', done, { once: true });
-  });
 }
 
 function abortError(): Error {
