@@ -10,9 +10,8 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { AddressInfo } from 'node:net';
 import type { Server } from 'node:http';
-import { agentAs, makeTestApp, type TestApp } from './helpers';
+import { agentAs, makeTestApp, runCli, type TestApp } from './helpers';
 import { FIX_ASSETS, makeFixture, uploadFixture } from './runs-fixture';
-import { runRemote } from '../../bin/remote';
 
 let t: TestApp;
 let server: Server;
@@ -20,15 +19,8 @@ let base: string;
 let home: string;
 let editionId: number;
 
-async function cli(args: string[], password?: string) {
-  let out = '';
-  let err = '';
-  const code = await runRemote(args[0], args.slice(1), {
-    out: (s) => (out += s),
-    err: (s) => (err += s),
-    env: { NODE_ENV: 'test', KEELSON_HOME: home, ...(password ? { KEELSON_PASSWORD: password } : {}) },
-  });
-  return { code, out, err };
+function cli(args: string[], password?: string) {
+  return runCli(home, args, password);
 }
 
 beforeAll(async () => {

@@ -9,10 +9,10 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { AddressInfo } from 'node:net';
 import type { Server } from 'node:http';
-import { envelopeLine, REMOTE_USAGE, runRemote } from '../../bin/remote';
+import { envelopeLine, REMOTE_USAGE } from '../../bin/remote';
 import { mulberry32 } from '../../lib/gmm/random';
 import { main } from '../../bin/keelson-cli';
-import { agentAs, makeTestApp, type TestApp } from './helpers';
+import { agentAs, makeTestApp, runCli, type TestApp } from './helpers';
 
 let t: TestApp;
 let server: Server;
@@ -26,15 +26,8 @@ function tempDir(): string {
 }
 
 /** Runs one command; returns exit code and what it printed. */
-async function cli(home: string, args: string[], password?: string) {
-  let out = '';
-  let err = '';
-  const code = await runRemote(args[0], args.slice(1), {
-    out: (s) => (out += s),
-    err: (s) => (err += s),
-    env: { NODE_ENV: 'test', KEELSON_HOME: home, ...(password ? { KEELSON_PASSWORD: password } : {}) },
-  });
-  return { code, out, err };
+function cli(home: string, args: string[], password?: string) {
+  return runCli(home, args, password);
 }
 
 /** A small seeded monthly library: 8 test assets priced by two traded factors (mulberry32 PRNG). */

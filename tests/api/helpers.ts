@@ -2,6 +2,7 @@
  * Shared helpers for API tests: an app on a private in-memory database with the demo accounts,
  * and supertest agents that are signed in and carry the CSRF token.
  */
+import { runRemote } from '../../bin/remote';
 import request from 'supertest';
 import { openDb, type Db } from '../../server/db/client';
 import { createApp, type AppOptions, type KeelsonApp } from '../../server/app';
@@ -42,6 +43,18 @@ export async function anonymousAgent(app: KeelsonApp): Promise<Agent> {
   const r = await agent.get('/api/v1/auth/csrf').expect(200);
   agent.csrf = (r.body as { token: string }).token;
   return agent;
+}
+
+/** Runs one `keelson` remote command with its home in `home`; returns exit code and what it printed. */
+export async function runCli(home: string, args: string[], password?: string): Promise<{ code: number; out: string; err: string }> {
+  let out = '';
+  let err = '';
+  const code = await runRemote(args[0], args.slice(1), {
+    out: (s) => (out += s),
+    err: (s) => (err += s),
+    env: { NODE_ENV: 'test', KEELSON_HOME: home, ...(password ? { KEELSON_PASSWORD: password } : {}) },
+  });
+  return { code, out, err };
 }
 
 /** POST /api/v1<url> as `agent`, with its CSRF token and a JSON body. */

@@ -11,7 +11,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { agentAs, expectEnvelope, makeTestApp, post, tableCounts, type Agent, type TestApp } from './helpers';
-import { FIX_ASSETS, makeFixture, spec, uploadFixture, type Fixture } from './runs-fixture';
+import { FIX_ASSETS, fixtureMatrices, makeFixture, spec, uploadFixture, type Fixture } from './runs-fixture';
 import { createApp } from '../../server/app';
 import { createRun, mailSettled } from '../../server/services/runs';
 import { modelSpecSchema, type ModelSpec } from '../../shared/specs';
@@ -85,8 +85,7 @@ describe('heavy runs', () => {
     expect(heavyText).toBe(syncText);
 
     // independent reference: estimateLedger on excess returns built here from the fixture
-    const returns = fx.cols.MKT.map((_, i) => FIX_ASSETS.map((a) => fx.cols[a][i] - fx.cols.RF[i]));
-    const F = fx.cols.MKT.map((m, i) => [m, fx.cols.ECHO[i]]);
+    const { returns, F } = fixtureMatrices(fx, ['MKT', 'ECHO']);
     const ref = estimateLedger({
       assetNames: FIX_ASSETS,
       returns,

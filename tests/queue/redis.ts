@@ -143,15 +143,15 @@ export async function startWorkerProcess(url: string, opts: { concurrency?: numb
 
 /**
  * Teardown of a queue test that built its own app on a file database: kills the worker processes
- * still running, lets mail settle, closes the job runner, the app, the mailer and the database,
- * stops the Redis this helper started and removes the directory. Every part is optional (a
+ * still running, lets mail settle, closes the app (heavy runs, then the job runner), the mailer
+ * and the database, stops the Redis this helper started and removes the directory. Every part is optional (a
  * beforeAll that failed half-way leaves some undefined).
  */
 export async function stopQueueTest(parts: { workers?: readonly WorkerProcess[]; app?: KeelsonApp; mailer?: Mailer; db?: Db; redis?: TestRedis; dir?: string }): Promise<void> {
   for (const w of parts.workers ?? []) if (w.proc.exitCode === null) w.proc.kill('SIGKILL');
   await mailSettled();
-  await parts.app?.jobRunner.close();
-  parts.app?.close();
+  parts.app?.close(); // stops heavy runs, then the job runner
+  await parts.app?.closed();
   await parts.mailer?.close();
   parts.db?.$client.close();
   await parts.redis?.stop();

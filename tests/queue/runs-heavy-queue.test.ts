@@ -5,7 +5,7 @@
  * the same spec and edition. Data: the invented economy of tests/api/runs-fixture.ts.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { mkdtempSync, rmSync } from 'node:fs';
+import { mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { Redis } from 'ioredis';
@@ -16,12 +16,12 @@ import { openDb, type Db } from '../../server/db/client';
 import { createApp, type KeelsonApp } from '../../server/app';
 import { createMailer, type Mailer } from '../../server/services/mailer';
 import { seedDemoUsers } from '../../server/seed/users';
-import { createRun, mailSettled } from '../../server/services/runs';
+import { createRun } from '../../server/services/runs';
 import { runs } from '../../server/db/schema/index';
 import { inputKey, runJobId } from '../../server/jobs/queue-shared';
 import { modelSpecSchema } from '../../shared/specs';
 import { runResponseSchema, type Run } from '../../shared/runs';
-import { startWorkerProcess, testRedis, type TestRedis, type WorkerProcess } from './redis';
+import { startWorkerProcess, stopQueueTest, testRedis, type TestRedis, type WorkerProcess } from './redis';
 
 let redis: TestRedis;
 let dir: string;
@@ -46,16 +46,7 @@ beforeAll(async () => {
   worker = await startWorkerProcess(redis.url);
 }, 60_000);
 
-afterAll(async () => {
-  if (worker?.proc.exitCode === null) worker.proc.kill('SIGKILL');
-  await mailSettled();
-  app?.close();
-  await app?.closed();
-  await mailer?.close();
-  db?.$client.close();
-  await redis?.stop();
-  if (dir) rmSync(dir, { recursive: true, force: true });
-});
+afterAll(() => stopQueueTest({ workers: worker ? [worker] : [], app, mailer, db, redis, dir }));
 
 async function waitRun(id: number, ms = 60_000): Promise<Run> {
   const until = Date.now() + ms;
