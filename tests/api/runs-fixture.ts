@@ -11,7 +11,8 @@ import { prng, monthLabels, uploadCsv, confirm } from './libraries-helpers';
 import type { Agent } from './helpers';
 import { jobResponseSchema, type Job } from '../../shared/jobs';
 import { subsetSweep, type SubsetSweepResult } from '../../lib/gmm/index';
-import { okOf } from '../gmm/helpers';
+import { estimateLedger, okOf } from '../gmm/helpers';
+import type { LedgerResult } from '../../lib/gmm/index';
 
 export const FIX_T = 240;
 export const FIX_ASSETS = ['A01', 'A02', 'A03', 'A04', 'A05', 'A06', 'A07', 'A08', 'A09', 'A10'];
@@ -185,4 +186,20 @@ export function fixtureMatrices(fx: Fixture, factors: string[]): { returns: numb
     F.push(factors.map((f) => fx.cols[f][i]));
   }
   return { returns, F };
+}
+
+/**
+ * lib/gmm's ledger of the fixture's test assets (excess returns over RF, the whole sample) on
+ * `factors`, all traded, with spec()'s default options: the reference a default run must equal.
+ */
+export function fixtureLedger(fx: Fixture, factors: string[]): LedgerResult {
+  const { returns, F } = fixtureMatrices(fx, factors);
+  return estimateLedger({
+    assetNames: FIX_ASSETS,
+    returns,
+    factorNames: factors,
+    factors: F,
+    traded: factors.map(() => true),
+    options: { stage: 'second', weighting: 'identity', lags: 'auto', form: 'centred', factorMeansKnown: false, level: 0.05 },
+  });
 }

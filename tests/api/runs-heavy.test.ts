@@ -6,17 +6,16 @@
  *
  * Checks against outside sources: the heavy run's stored result is compared byte for byte with the
  * synchronous path's (the same estimateRun on the same input, identity of the two paths), and its
- * b with an independent least-squares reference (estimateLedger fed matrices built here, as in
+ * b with lib/gmm's estimateLedger on the fixture's matrices (runs-fixture.ts fixtureLedger, as in
  * runs.test.ts); the collinear model (COMBO = MKT + ECHO by construction) must fail.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { agentAs, expectEnvelope, makeTestApp, post, tableCounts, type Agent, type TestApp } from './helpers';
-import { FIX_ASSETS, fixtureMatrices, makeFixture, spec, uploadFixture, type Fixture } from './runs-fixture';
+import { fixtureLedger, makeFixture, spec, uploadFixture, type Fixture } from './runs-fixture';
 import { createApp } from '../../server/app';
 import { createRun, mailSettled } from '../../server/services/runs';
 import { modelSpecSchema, type ModelSpec } from '../../shared/specs';
 import { runResponseSchema, runsResponseSchema, type Run } from '../../shared/runs';
-import { estimateLedger } from '../gmm/helpers';
 import { runs, auditLog } from '../../server/db/schema/index';
 import { eq } from 'drizzle-orm';
 
@@ -84,16 +83,8 @@ describe('heavy runs', () => {
     const syncText = t.db.select({ result: runs.result }).from(runs).where(eq(runs.id, sync.id)).get()!.result;
     expect(heavyText).toBe(syncText);
 
-    // independent reference: estimateLedger on excess returns built here from the fixture
-    const { returns, F } = fixtureMatrices(fx, ['MKT', 'ECHO']);
-    const ref = estimateLedger({
-      assetNames: FIX_ASSETS,
-      returns,
-      factorNames: ['MKT', 'ECHO'],
-      factors: F,
-      traded: [true, true],
-      options: { stage: 'second', weighting: 'identity', lags: 'auto', form: 'centred', factorMeansKnown: false, level: 0.05 },
-    });
+    // independent reference: estimateLedger on the fixture's excess returns (runs-fixture.ts fixtureLedger)
+    const ref = fixtureLedger(fx, ['MKT', 'ECHO']);
     expect(done.result!.factors.map((f) => f.b)).toEqual(ref.factors.map((f) => f.b));
 
     // audit: queued at the request, finished on the worker

@@ -7,9 +7,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import Papa from 'papaparse';
 import type { Test } from 'supertest';
 import { agentAs, expectEnvelope, makeTestApp, tableCounts, type Agent, type TestApp, post } from './helpers';
-import { FIX_ASSETS, GAP_INDEX, makeFixture, spec, uploadFixture, type Fixture } from './runs-fixture';
+import { FIX_ASSETS, fixtureLedger, GAP_INDEX, makeFixture, spec, uploadFixture, type Fixture } from './runs-fixture';
 
-import { estimateLedger } from '../gmm/helpers';
 import { mailSettled } from '../../server/services/runs';
 import { runResponseSchema, runsResponseSchema, compareResponseSchema, type Run } from '../../shared/runs';
 import { CSV_FACTOR_COLUMNS } from '../../server/services/exports';
@@ -46,15 +45,6 @@ async function startRun(agent: Agent, body: unknown): Promise<Run> {
 }
 
 /** Excess returns of the fixture over a window, built here independently of the server. */
-function matrices(names: string[], factors: string[], from: number, to: number, rf = true) {
-  const returns: number[][] = [];
-  const F: number[][] = [];
-  for (let i = from; i < to; i++) {
-    returns.push(names.map((n) => fx.cols[n][i] - (rf ? fx.cols.RF[i] : 0)));
-    F.push(factors.map((f) => fx.cols[f][i]));
-  }
-  return { returns, F };
-}
 
 describe('POST /runs', () => {
   it('estimates synchronously and answers 201 with exactly estimateLedger’s output', async () => {
@@ -64,15 +54,7 @@ describe('POST /runs', () => {
     expect(run.keelsonVersion).toMatch(/^\d+\.\d+\.\d+/);
     expect(run.startedAt && run.finishedAt && run.startedAt <= run.finishedAt).toBe(true);
     // The same estimate, computed here from the generated values (raw returns minus RF), must equal the stored result.
-    const { returns, F } = matrices(FIX_ASSETS, ['MKT', 'ECHO'], 0, fx.dates.length);
-    const direct = estimateLedger({
-      assetNames: FIX_ASSETS,
-      returns,
-      factorNames: ['MKT', 'ECHO'],
-      factors: F,
-      traded: [true, true],
-      options: { stage: 'second', weighting: 'identity', lags: 'auto', form: 'centred', factorMeansKnown: false, level: 0.05 },
-    });
+    const direct = fixtureLedger(fx, ['MKT', 'ECHO']);
     expect(run.result).toEqual(JSON.parse(JSON.stringify(direct)));
   });
 
