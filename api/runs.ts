@@ -41,6 +41,10 @@ export async function getRun(id: number) {
 export async function createRun(body: CreateRunBody, idempotencyKey = newIdempotencyKey()) {
   return (await apiRequest('/runs', { method: 'POST', body, schema: runResponseSchema, idempotencyKey })).run;
 }
+/** Cancels a queued or running (large) run: its author or an admin. */
+export async function cancelRun(id: number) {
+  return (await apiRequest(`/runs/${id}/cancel`, { method: 'POST', body: {}, schema: runResponseSchema })).run;
+}
 export async function compareRuns(a: number, b: number) {
   return apiRequest(`/runs/compare?a=${a}&b=${b}`, { schema: compareResponseSchema });
 }

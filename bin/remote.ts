@@ -12,7 +12,7 @@ import { basename, join } from 'node:path';
 import { parseArgs } from 'node:util';
 import { readErrorEnvelope, sendApiRequest } from '../shared/http-core';
 import { jobLimitsResponseSchema, jobResponseSchema, sweepLimitText, drawsLimitText, type Job } from '../shared/jobs';
-import type { LedgerResult } from '../shared/runs';
+import { runResponseSchema, type LedgerResult } from '../shared/runs';
 import type { LedgerResult as GmmLedgerResult } from '../lib/gmm/ledger';
 import { renderLedgerText } from './ledger-text';
 
@@ -219,6 +219,7 @@ export const REMOTE_USAGE = `Commands that talk to a Keelson server (sign in fir
               (subset-sweep: ${sweepLimitText()}; bootstrap: ${drawsLimitText()})
   keelson limits [--json]                        this server's mode (embedded or queue) and its deep-check limits
   keelson job ID [--wait] [--json] | keelson cancel JOB
+  keelson cancel-run RUN                         stop a queued or running (large) run; it is kept as cancelled
   keelson comment RUN --text TEXT | keelson sign-off RUN --decision approved|changes-requested [--text NOTE]`;
 
 async function readAll(stream: NodeJS.ReadableStream): Promise<string> {
@@ -229,7 +230,7 @@ async function readAll(stream: NodeJS.ReadableStream): Promise<string> {
 
 const REMOTE_COMMANDS = new Set([
   'sign-in', 'sign-out', 'whoami', 'libraries', 'library', 'upload', 'edition-csv', 'run', 'runs', 'show',
-  'export', 'compare', 'check', 'job', 'cancel', 'comment', 'sign-off', 'limits',
+  'export', 'compare', 'check', 'job', 'cancel', 'cancel-run', 'comment', 'sign-off', 'limits',
 ]);
 
 export function isRemoteCommand(command: string): boolean {
@@ -498,6 +499,12 @@ export async function runRemote(command: string, args: string[], io: Io): Promis
         const p = parse(args, {}, command);
         const { job } = jobResponseSchema.parse(await client.post<unknown>(`/jobs/${posInt(p.positionals[0], 'job id')}/cancel`));
         io.out(`Job ${job.id}: ${job.status}\n`);
+        return 0;
+      }
+      case 'cancel-run': {
+        const p = parse(args, {}, command);
+        const { run } = runResponseSchema.parse(await client.post<unknown>(`/runs/${posInt(p.positionals[0], 'run id')}/cancel`));
+        io.out(`Run ${run.id}: ${run.status}${run.error ? ` (${run.error})` : ''}\n`);
         return 0;
       }
       case 'comment': {

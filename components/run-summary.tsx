@@ -2,6 +2,10 @@
 import { useEffect, useState } from 'react';
 import { ActivityIndicator, Platform, StyleSheet, Text, View } from 'react-native';
 import type { Run, RunStatus } from '../shared/runs';
+import type { User } from '../shared/auth';
+import { useCancelRun } from '../hooks/use-runs';
+import { Button } from './button';
+import { ErrorView } from './error-view';
 import { RUN_CAUTION } from '../shared/runs';
 import { exportHref } from '../api/runs';
 import { Chip, type ChipShape, type ChipTone } from './chip';
@@ -23,10 +27,14 @@ export function RunStatusChip({ status }: { status: RunStatus }) {
 /**
  * A heavy run before its ledger exists: queued (waiting for the pool or a queue worker) or running
  * (with the time it has taken and the server's notice, e.g. a lost Redis connection). The page
- * polls the run and replaces this with the ledger when it finishes.
+ * polls the run and replaces this with the ledger when it finishes. Its author or an admin may
+ * cancel it (asked to confirm first).
  */
-export function RunPending({ run }: { run: Pick<Run, 'status' | 'startedAt' | 'createdAt' | 'error'> }) {
+export function RunPending({ run, me }: { run: Pick<Run, 'id' | 'authorId' | 'status' | 'startedAt' | 'createdAt' | 'error'>; me: User | null | undefined }) {
   const [now, setNow] = useState(() => Date.now());
+  const [asking, setAsking] = useState(false);
+  const cancel = useCancelRun();
+  const mayCancel = !!me && (me.role === 'admin' || (me.role === 'researcher' && me.id === run.authorId));
   useEffect(() => {
     const t = setInterval(() => setNow(Date.now()), 1000);
     return () => clearInterval(t);
@@ -46,6 +54,28 @@ export function RunPending({ run }: { run: Pick<Run, 'status' | 'startedAt' | 'c
           {seconds === null ? '' : `${run.status === 'queued' ? 'Waiting' : 'Running'} for ${seconds} s. `}This page updates by itself; you may leave it and come back.
         </Text>
         {run.status === 'running' && run.error ? <Text style={text.body}>{run.error}</Text> : null}
+        {mayCancel && !asking ? (
+          <View style={{ flexDirection: 'row' }}>
+            <Button compact variant="quiet" label="Cancel this run" accessibilityLabel={`Cancel run #${run.id}`} onPress={() => setAsking(true)} />
+          </View>
+        ) : null}
+        {asking ? (
+          <View role="alert" aria-label={`Confirm cancelling run #${run.id}`} style={styles.confirm}>
+            <Text style={text.body}>Cancel run #{run.id}? Nothing has been estimated yet; the run is kept as cancelled and you can start its spec again.</Text>
+            <View style={{ flexDirection: 'row', flexWrap: 'wrap', gap: space.sm }}>
+              <Button
+                compact
+                variant="danger"
+                label="Yes, cancel it"
+                accessibilityLabel={`Yes, cancel run #${run.id}`}
+                busy={cancel.isPending}
+                onPress={() => cancel.mutate(run.id, { onSettled: () => setAsking(false) })}
+              />
+              <Button compact variant="quiet" label="Keep it" accessibilityLabel={`Keep run #${run.id}`} onPress={() => setAsking(false)} />
+            </View>
+          </View>
+        ) : null}
+        {cancel.error ? <ErrorView error={cancel.error} title="Could not cancel the run" /> : null}
       </View>
     </View>
   );
@@ -109,6 +139,7 @@ export function RunCaution() {
 const styles = StyleSheet.create({
   grid: { flexDirection: 'row', flexWrap: 'wrap', gap: space.md },
   pair: { flexGrow: 1, flexBasis: 220, gap: 2 },
+  confirm: { gap: space.sm, padding: space.sm, backgroundColor: colors.card, borderRadius: radius.sm },
   pending: { flexDirection: 'row', gap: space.md, alignItems: 'flex-start', padding: space.md, borderRadius: radius.md, backgroundColor: colors.brassTint },
   link: {
     fontFamily: fonts.textStrong,

@@ -4,6 +4,7 @@ import type { KeelsonApiError } from '../shared/errors';
 import type { ChangeBasisBody, CreateRunBody, FirstStageCopyResponse, Run, RunListQuery, SignoffDecision } from '../shared/runs';
 import {
   addComment,
+  cancelRun,
   changeRunBasis,
   compareRuns,
   createRun,
@@ -67,6 +68,18 @@ export function useCreateRun() {
   // idempotencyKey: one per user action (createRun makes one when it is left out).
   return useMutation<Run, KeelsonApiError, CreateRunBody & { idempotencyKey?: string }>({
     mutationFn: ({ idempotencyKey, ...body }) => createRun(body, idempotencyKey),
+    onSuccess: (run) => {
+      qc.setQueryData(runKeys.one(run.id), run);
+      void qc.invalidateQueries({ queryKey: runKeys.lists });
+    },
+  });
+}
+
+/** Cancels a queued or running run; the page shows it as cancelled at once. */
+export function useCancelRun() {
+  const qc = useQueryClient();
+  return useMutation<Run, KeelsonApiError, number>({
+    mutationFn: (id) => cancelRun(id),
     onSuccess: (run) => {
       qc.setQueryData(runKeys.one(run.id), run);
       void qc.invalidateQueries({ queryKey: runKeys.lists });

@@ -83,6 +83,7 @@ const SENTENCES: Record<string, (who: string, d: Detail, person: (id: number) =>
     d.queued === true && int(d.runId)
       ? `Run #${d.runId} of ${who} failed on a worker and is stored as failed.`
       : runSentence(who, d, 'the data refused the model, so it is stored as failed'),
+  'run.cancelled': (who, d) => (int(d.runId) ? `${who} cancelled run #${d.runId} before it was estimated.` : null),
   'run.comment': (who, d) => (int(d.runId) ? `${who} commented on run #${d.runId}.` : null),
   'run.signoff_requested': (who, d, person) =>
     int(d.runId) && int(d.reviewerId) ? `${who} asked ${person(d.reviewerId as number)} to sign off run #${d.runId}.` : null,

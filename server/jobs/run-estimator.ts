@@ -11,7 +11,8 @@
  * transaction with its audit line and the run's bootstrap job (services/runs.ts completeQueuedRun).
  * A process that stops leaves the run queued or running; `relaunch()` at boot starts it again
  * (queue mode: follows the job still in Redis, or enqueues it again — the estimation is
- * deterministic, so the numbers are the same).
+ * deterministic, so the numbers are the same). `cancel()` (after services/runs.ts cancelRun wrote
+ * the run cancelled) aborts the pool task, or cancels the job on every worker in queue mode.
  */
 import { setMaxListeners } from 'node:events';
 import type { Db } from '../db/client';
@@ -35,6 +36,8 @@ export interface RunEstimatorOptions {
 
 /** The abort reason when this process stops (the run stays open for the next boot). */
 const SHUTDOWN = 'keelson-shutdown';
+/** The abort reason when the run was cancelled (already written as such: nothing more is written). */
+const CANCEL = 'keelson-run-cancelled';
 
 export class RunEstimator implements RunLauncher {
   private readonly opts: RunEstimatorOptions;
@@ -73,6 +76,17 @@ export class RunEstimator implements RunLauncher {
     await this.active.get(runId)?.done;
   }
 
+  /**
+   * Stops a cancelled run's estimation: the local task or follow loop ends without writing, and in
+   * queue mode the job is cancelled on every worker (marked, published, removed) even when this
+   * process was not following it.
+   */
+  cancel(runId: number): void {
+    this.active.get(runId)?.ac.abort(CANCEL);
+    const q = this.opts.jobs.queue;
+    if (q) void q.cancel(runJobId(runId)).catch((e: unknown) => console.error('[keelson] could not cancel the queued run on the workers', runId, e));
+  }
+
   /** Stops: running estimations are abandoned, the runs stay queued/running for `relaunch()`. */
   async close(): Promise<void> {
     this.closed = true;
@@ -82,7 +96,8 @@ export class RunEstimator implements RunLauncher {
 
   private async execute(runId: number, signal: AbortSignal): Promise<void> {
     const { db } = this.opts;
-    if (!markRunRunning(db, runId)) return;
+    const mark = markRunRunning(db, runId);
+    if (!mark) return;
     let prepared: ReturnType<typeof queuedRunTask>;
     try {
       prepared = queuedRunTask(db, runId);
@@ -93,9 +108,9 @@ export class RunEstimator implements RunLauncher {
     let out: RunEstimate | { ok: false; error: string } | null;
     try {
       const q = this.opts.jobs.queue;
-      out = q ? await this.follow(q, runId, prepared.value, signal) : await this.opts.jobs.runTask<RunEstimate>({ op: 'estimate', task: prepared.value }, signal);
+      out = q ? await this.follow(q, runId, prepared.value, mark === 'started', signal) : await this.opts.jobs.runTask<RunEstimate>({ op: 'estimate', task: prepared.value }, signal);
     } catch (e) {
-      if (signal.aborted) return; // shutting down: the next boot starts the run again
+      if (signal.aborted) return; // shutting down (the next boot starts the run again) or cancelled
       out = { ok: false, error: `The estimation stopped: ${messageOf(e)}` };
     }
     if (out === null || signal.aborted) return;
@@ -110,9 +125,12 @@ export class RunEstimator implements RunLauncher {
   /**
    * Queue mode: enqueues the run's job (unless Redis has it) and follows it to its end. A Redis
    * outage is written as the run's passing message (status stays running) and cleared when Redis
-   * answers; a job Redis lost is enqueued again. @returns null when this process stops following.
+   * answers; a job Redis lost is enqueued again. A run started for the first time (`fresh`) first
+   * clears what Redis may hold under its job id from another or a reset database (job ids restart
+   * there), so a stale cancel mark or finished job is never taken for this run's.
+   * @returns null when this process stops following.
    */
-  private async follow(q: QueueClient, runId: number, task: ReturnType<typeof queuedRunTask>['value'], signal: AbortSignal): Promise<RunEstimate | { ok: false; error: string } | null> {
+  private async follow(q: QueueClient, runId: number, task: ReturnType<typeof queuedRunTask>['value'], fresh: boolean, signal: AbortSignal): Promise<RunEstimate | { ok: false; error: string } | null> {
     const { db } = this.opts;
     const id = runJobId(runId);
     const pollMs = this.opts.pollMs ?? 200;
@@ -121,6 +139,10 @@ export class RunEstimator implements RunLauncher {
     let requeues = 0;
     while (!signal.aborted) {
       try {
+        if (fresh) {
+          await q.purge(id);
+          fresh = false;
+        }
         if (!enqueued) {
           await q.enqueueEstimate(id, { kind: 'estimate', input: task });
           enqueued = true;

@@ -3,7 +3,7 @@ import type { ApiRouter } from '../middlewares/access';
 import { currentUser } from '../middlewares/access';
 import { parseOr400 } from '../middlewares/errors';
 import { changeBasisBodySchema, compareQuerySchema, createRunBodySchema, runListQuerySchema } from '../../shared/runs';
-import { changeRunBasis, createRun, firstStageCopy, getRun, getRunJson, getRunResultText, listRuns, type RunDeps } from '../services/runs';
+import { cancelRun, changeRunBasis, createRun, firstStageCopy, getRun, getRunJson, getRunResultText, listRuns, type RunDeps } from '../services/runs';
 import type { JobRunner } from '../jobs/runner';
 import type { Run } from '../../shared/runs';
 import { compareRuns } from '../services/runs-compare';
@@ -24,8 +24,9 @@ function finishedRun(req: Request, deps: AppDeps) {
 
 /**
  * Runs: start (researcher, admin), read, list, compare and export (every role; runs on private
- * libraries only for those who can read the library). No route changes a run once it exists:
- * another basis or a first-stage copy is a new run (researcher: of their own runs; admin: any).
+ * libraries only for those who can read the library). No route changes a run's result once it
+ * exists: another basis or a first-stage copy is a new run (researcher: of their own runs; admin:
+ * any). A queued or running (heavy) run may be cancelled by its author or an admin.
  * The runner starts the bootstrap deep check of a spec that asks for bootstrap p-values; its
  * mail threshold (one minute by default) also decides whether a run's end is mailed.
  * A run whose cost T·N²·K is above `heavy.heavyRunCost` is answered 202 `queued` with a Location
@@ -62,6 +63,10 @@ export function registerRunRoutes(api: ApiRouter, deps: AppDeps, runner: JobRunn
   api.post('/runs/:id/first-stage-copy', WRITERS, (req: Request, res: Response) => {
     const out = firstStageCopy(runDeps, currentUser(req), idParam(req, 'run id'));
     created(res, out.run, out);
+  });
+
+  api.post('/runs/:id/cancel', WRITERS, (req: Request, res: Response) => {
+    res.json({ run: cancelRun(runDeps, currentUser(req), idParam(req, 'run id')) });
   });
 
   // Registered before /runs/:id so that "compare" is not read as an id.

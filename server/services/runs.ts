@@ -233,6 +233,8 @@ export function runSummariesByIds(db: Db, ids: number[]): Map<number, RunSummary
 /** Starts a queued (heavy) run in the background: the embedded pool or the queue (server/jobs/run-estimator.ts). */
 export interface RunLauncher {
   start(runId: number): void;
+  /** Stops the run's estimation wherever it runs (pool task, or the BullMQ job on every worker). */
+  cancel(runId: number): void;
 }
 
 /** What creating a run needs besides the database. */
@@ -495,13 +497,17 @@ export function queuedRunTask(db: Db, runId: number): { value: RunEstimateInput;
   return runTaskOf(modelSpecSchema.parse(JSON.parse(row.spec)), loadEditionData(db, row.editionId));
 }
 
-/** Marks a queued run running (a run already running, re-launched at boot, keeps its start). @returns false when it is neither. */
-export function markRunRunning(db: Db, runId: number): boolean {
+/**
+ * Marks a queued run running. @returns 'started' (it was queued), 'resumed' (already running: a run
+ * re-launched at boot keeps its start) or null when it is neither (finished, failed or cancelled).
+ */
+export function markRunRunning(db: Db, runId: number): 'started' | 'resumed' | null {
   return inTransaction(db, (tx) => {
     const row = tx.select({ status: runs.status }).from(runs).where(eq(runs.id, runId)).get();
-    if (!row || (row.status !== 'queued' && row.status !== 'running')) return false;
-    if (row.status === 'queued') tx.update(runs).set({ status: 'running', startedAt: new Date().toISOString(), error: null }).where(eq(runs.id, runId)).run();
-    return true;
+    if (!row || (row.status !== 'queued' && row.status !== 'running')) return null;
+    if (row.status === 'running') return 'resumed';
+    tx.update(runs).set({ status: 'running', startedAt: new Date().toISOString(), error: null }).where(eq(runs.id, runId)).run();
+    return 'started';
   });
 }
 
@@ -573,6 +579,34 @@ function ownRunRow(db: Db, user: User, id: number, doing: string): RunRow {
   if (user.role !== 'admin' && row.authorId !== user.id)
     throw new KeelsonApiError('forbidden', `Run ${id} was started by someone else; only its author or an admin may ${doing}`);
   return row;
+}
+
+/**
+ * Cancels a queued or running (heavy) run: status `cancelled`, who cancelled it as its message, the
+ * end time (when) and an audit line, in one transaction; then the launcher stops its estimation (the pool task,
+ * or the BullMQ job on every worker). A run has no result before it ends, so nothing computed is
+ * lost; an estimate that arrives afterwards is not written (completeQueuedRun only ends open runs).
+ * @throws 403 unless the author or an admin; 409 unless the run is queued or running.
+ */
+export function cancelRun(deps: Pick<RunDeps, 'db' | 'launcher'>, user: User, id: number): Run {
+  const { db } = deps;
+  const row = ownRunRow(db, user, id, 'cancel it');
+  const refuse = (status: string) => new KeelsonApiError('conflict', `Run ${id} is ${status}; only a queued or running run can be cancelled`);
+  if (row.status !== 'queued' && row.status !== 'running') throw refuse(row.status);
+  const now = new Date().toISOString();
+  const updated = inTransaction(db, (tx) => {
+    const r = tx
+      .update(runs)
+      .set({ status: 'cancelled', error: `Cancelled by ${user.name}.`, finishedAt: now })
+      .where(and(eq(runs.id, id), inArray(runs.status, ['queued', 'running'])))
+      .returning({ id: runs.id })
+      .get();
+    if (r) audit(tx, user.id, 'run.cancelled', { runId: id, was: row.status });
+    return r;
+  });
+  if (!updated) throw refuse(findRunRow(db, user, id).status); // it ended between the read and the write
+  deps.launcher?.cancel(id);
+  return getRun(db, user, id);
 }
 
 const sameBootstrap = (a: ModelSpec['bootstrap'], b: ModelSpec['bootstrap']) => JSON.stringify(a ?? null) === JSON.stringify(b ?? null);

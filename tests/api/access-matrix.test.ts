@@ -86,6 +86,7 @@ describe('declared access of specs, runs and review routes', () => {
     'get /runs/:id/result.json': 'signed-in',
     'get /runs/:id/export.csv': 'signed-in',
     'get /runs/:id/export.tex': 'signed-in',
+    'post /runs/:id/cancel': 'researcher,admin',
     'get /review': 'signed-in',
     'get /review/reviewers': 'researcher,admin',
     'get /runs/:id/review': 'signed-in',

@@ -10,6 +10,8 @@ import { createMailer, type Mailer } from '../../server/services/mailer';
 import { DEMO_PASSWORD, seedDemoUsers } from '../../server/seed/users';
 import type { Role } from '../../shared/roles';
 import { ROLES } from '../../shared/roles';
+import type { JobPool } from '../../server/jobs/pool';
+import type { ChunkTask } from '../../server/jobs/tasks';
 
 export interface TestApp {
   app: KeelsonApp;
@@ -101,4 +103,39 @@ export function expectEnvelope(body: unknown, code?: string): { code: string; me
   }
   if (code && e.code !== code) throw new Error(`Expected error code ${code}, got ${e.code}: ${e.message}`);
   return e;
+}
+
+/** One task a holdingPool holds: aborted when its signal fired; `release` answers it (a test's own computation). */
+export interface HeldTask {
+  task: ChunkTask;
+  aborted: boolean;
+  release(value: unknown): void;
+}
+
+/**
+ * A stand-in for a machine whose threads are all busy: a JobPool whose tasks never end by
+ * themselves, each waiting for its abort signal or for the test to `release` it. `held` lists the
+ * tasks it was given (tests of cancelling and of the pending run page; the numbers themselves are
+ * tested on the real pool).
+ */
+export function holdingPool(threads = 1) {
+  const held: HeldTask[] = [];
+  const pool: JobPool = {
+    threads,
+    get queued() {
+      return 0;
+    },
+    run<T>(task: ChunkTask, signal?: AbortSignal): Promise<T> {
+      return new Promise<T>((resolve, reject) => {
+        const entry: HeldTask = { task, aborted: false, release: (v) => resolve(v as T) };
+        held.push(entry);
+        signal?.addEventListener('abort', () => {
+          entry.aborted = true;
+          reject(Object.assign(new Error('aborted'), { name: 'AbortError' }));
+        });
+      });
+    },
+    destroy: async () => undefined,
+  };
+  return { pool, held };
 }

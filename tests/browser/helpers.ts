@@ -54,9 +54,12 @@ export interface OpenedPage {
   errors: string[];
 }
 
-/** A fresh context (own cookies) and page at the given viewport, recording requests and errors. */
-export async function openPage(browser: Browser, viewport: Viewport = PHONE): Promise<OpenedPage> {
-  const context = await browser.newContext({ viewport, baseURL: baseUrl() });
+/**
+ * A fresh context (own cookies) and page at the given viewport, recording requests and errors, on
+ * the suite's server or on `baseURL` (a test file's own server).
+ */
+export async function openPage(browser: Browser, viewport: Viewport = PHONE, baseURL = baseUrl()): Promise<OpenedPage> {
+  const context = await browser.newContext({ viewport, baseURL });
   const page = await context.newPage();
   const requests: string[] = [];
   const errors: string[] = [];

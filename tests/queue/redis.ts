@@ -12,10 +12,11 @@ import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { Redis } from 'ioredis';
-import type { KeelsonApp } from '../../server/app';
-import type { Db } from '../../server/db/client';
-import type { Mailer } from '../../server/services/mailer';
+import { createApp, type AppOptions, type KeelsonApp } from '../../server/app';
+import { openDb, type Db } from '../../server/db/client';
+import { createMailer, type Mailer } from '../../server/services/mailer';
 import { mailSettled } from '../../server/services/runs';
+import { seedDemoUsers } from '../../server/seed/users';
 
 export const REDIS_SERVER = '/usr/bin/redis-server';
 export const REDIS_INSTALL = 'apt-get install -y redis-server';
@@ -139,6 +140,41 @@ export async function startWorkerProcess(url: string, opts: { concurrency?: numb
     await new Promise((r) => setTimeout(r, 50));
   }
   return { proc, output: () => out, exited };
+}
+
+/** A queue-mode app on a file database of its own, with the parts stopQueueTest takes down. */
+export interface QueueTestApp {
+  redis: TestRedis;
+  /** The URL the app uses: the test Redis, on logical database `db` when one was asked for. */
+  url: string;
+  dir: string;
+  db: Db;
+  mailer: Mailer;
+  app: KeelsonApp;
+}
+
+/**
+ * Builds a queue-mode app (KEELSON_REDIS_URL = the test Redis) on a file database in a fresh
+ * directory `prefix`…, with the demo users. `offsetIds` moves the ids of that table far from the
+ * other queue test files', which run in parallel and may share CI's Redis (flow ids job-<id>-<n>
+ * and run-<id> name keys there). `redisDb` puts this app's queue on its own logical Redis
+ * database, so that only this file's workers take its jobs (the other files' workers use 0).
+ */
+export async function startQueueTestApp(
+  prefix: string,
+  opts: Partial<Omit<AppOptions, 'db' | 'mailer' | 'redisUrl'>> = {},
+  place: { offsetIds?: 'jobs' | 'runs'; redisDb?: number } = {},
+): Promise<QueueTestApp> {
+  const redis = await testRedis();
+  const url = place.redisDb === undefined ? redis.url : `${redis.url.replace(/\/\d*$/, '')}/${place.redisDb}`;
+  const dir = mkdtempSync(join(tmpdir(), prefix));
+  const db = openDb(join(dir, 'keelson.db'));
+  if (place.offsetIds)
+    db.$client.prepare('INSERT INTO sqlite_sequence (name, seq) VALUES (?, ?)').run(place.offsetIds, 250_000 + Math.floor(Math.random() * 1_000_000));
+  await seedDemoUsers(db);
+  const mailer = await createMailer();
+  const app = createApp({ db, mailer, sessionSecret: 'test-secret-test-secret', redisUrl: url, ...opts });
+  return { redis, url, dir, db, mailer, app };
 }
 
 /**

@@ -5,23 +5,19 @@
  * the same spec and edition. Data: the invented economy of tests/api/runs-fixture.ts.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { mkdtempSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join } from 'node:path';
 import { Redis } from 'ioredis';
 import { eq } from 'drizzle-orm';
 import { agentAs, type Agent } from '../api/helpers';
 import { makeFixture, spec, uploadFixture } from '../api/runs-fixture';
-import { openDb, type Db } from '../../server/db/client';
-import { createApp, type KeelsonApp } from '../../server/app';
-import { createMailer, type Mailer } from '../../server/services/mailer';
-import { seedDemoUsers } from '../../server/seed/users';
+import type { Db } from '../../server/db/client';
+import type { KeelsonApp } from '../../server/app';
+import type { Mailer } from '../../server/services/mailer';
 import { createRun } from '../../server/services/runs';
 import { runs } from '../../server/db/schema/index';
 import { inputKey, runJobId } from '../../server/jobs/queue-shared';
 import { modelSpecSchema } from '../../shared/specs';
 import { runResponseSchema, type Run } from '../../shared/runs';
-import { startWorkerProcess, stopQueueTest, testRedis, type TestRedis, type WorkerProcess } from './redis';
+import { startQueueTestApp, startWorkerProcess, stopQueueTest, type TestRedis, type WorkerProcess } from './redis';
 
 let redis: TestRedis;
 let dir: string;
@@ -33,13 +29,8 @@ let editionId: number;
 let worker: WorkerProcess;
 
 beforeAll(async () => {
-  redis = await testRedis();
-  dir = mkdtempSync(join(tmpdir(), 'keelson-heavy-'));
-  db = openDb(join(dir, 'keelson.db'));
-  await seedDemoUsers(db);
-  mailer = await createMailer();
   // T = 240, N = 10, K = 2 costs 48,000: above this threshold
-  app = createApp({ db, mailer, sessionSecret: 'test-secret-test-secret', redisUrl: redis.url, heavyRunCost: 30_000, runPollMs: 50 });
+  ({ redis, dir, db, mailer, app } = await startQueueTestApp('keelson-heavy-', { heavyRunCost: 30_000, runPollMs: 50 }, { offsetIds: 'runs' }));
   const admin = await agentAs(app, 'admin');
   researcher = await agentAs(app, 'researcher');
   editionId = (await uploadFixture(admin, makeFixture(), { name: 'Invented economy', visibility: 'shared' })).editionId;

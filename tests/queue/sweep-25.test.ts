@@ -7,19 +7,15 @@
  * uninterrupted and unchunked, on the same matrices, as the JSON the API serves.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { mkdtempSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join } from 'node:path';
 import { agentAs, expectEnvelope, type Agent, post } from '../api/helpers';
 import { directWideSweep, getJob, jobEnded, makeWideFixture, spec, uploadFixture, waitJob } from '../api/runs-fixture';
-import { openDb, type Db } from '../../server/db/client';
-import { createApp, type KeelsonApp } from '../../server/app';
-import { createMailer, type Mailer } from '../../server/services/mailer';
-import { seedDemoUsers } from '../../server/seed/users';
+import type { Db } from '../../server/db/client';
+import type { KeelsonApp } from '../../server/app';
+import type { Mailer } from '../../server/services/mailer';
 import { chunkRanges } from '../../server/jobs/runner';
 import { jobLimitsResponseSchema, jobResponseSchema } from '../../shared/jobs';
 import { runResponseSchema } from '../../shared/runs';
-import { startWorkerProcess, testRedis, type TestRedis, type WorkerProcess, stopQueueTest } from './redis';
+import { startQueueTestApp, startWorkerProcess, stopQueueTest, type TestRedis, type WorkerProcess } from './redis';
 
 let redis: TestRedis;
 let dir: string;
@@ -32,14 +28,8 @@ const workers: WorkerProcess[] = [];
 const wide = makeWideFixture(17, 20);
 
 beforeAll(async () => {
-  redis = await testRedis();
-  dir = mkdtempSync(join(tmpdir(), 'keelson-sweep25-'));
-  db = openDb(join(dir, 'keelson.db'));
-  // job ids (hence flow ids job-<id>-<attempt>) far from the other queue tests', which may share CI's Redis
-  db.$client.prepare("INSERT INTO sqlite_sequence (name, seq) VALUES ('jobs', ?)").run(250_000 + Math.floor(Math.random() * 1_000_000));
-  await seedDemoUsers(db);
-  mailer = await createMailer();
-  app = createApp({ db, mailer, sessionSecret: 'test-secret-test-secret', redisUrl: redis.url, jobMailAfterMs: 3_600_000 });
+  // job ids (hence flow ids job-<id>-<attempt>) far from the other queue tests'
+  ({ redis, dir, db, mailer, app } = await startQueueTestApp('keelson-sweep25-', { jobMailAfterMs: 3_600_000 }, { offsetIds: 'jobs' }));
   const admin = await agentAs(app, 'admin');
   researcher = await agentAs(app, 'researcher');
   const lib = await uploadFixture(admin, wide.fx, { name: 'Wide invented economy', visibility: 'shared' }, wide.kinds);

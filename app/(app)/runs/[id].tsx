@@ -52,7 +52,12 @@ export default function RunPage() {
         <SignoffChip state={run.signoff} />
         {r ? <Text style={text.muted}>N {r.N} · K {r.K} · T {r.T} · df {r.N - r.K}</Text> : null}
       </View>
-      {run.status === 'queued' || run.status === 'running' ? <RunPending run={run} /> : null}
+      {run.status === 'queued' || run.status === 'running' ? <RunPending run={run} me={me} /> : null}
+      {run.status === 'cancelled' ? (
+        <Text style={text.body} accessibilityLabel="Run cancelled notice">
+          {run.error ?? 'This run was cancelled.'} It was stopped {run.finishedAt ? `${formatWhen(run.finishedAt)}, ` : ''}before it was estimated, so it has no ledger; start its spec again to estimate it.
+        </Text>
+      ) : null}
       {run.status === 'failed' ? (
         <ErrorView error={new Error(run.error ?? 'The run failed.')} title="The estimator refused this model on these data" />
       ) : null}
