@@ -88,6 +88,9 @@ export function createApp(opts: AppOptions): KeelsonApp {
   const app = express() as unknown as KeelsonApp;
   app.set('trust proxy', opts.trustProxy ?? 'loopback');
   app.disable('x-powered-by');
+  // API answers are no-store, so no client revalidates them: skip hashing every body for an ETag
+  // (static files keep serve-static's own ETags).
+  app.set('etag', false);
 
   app.use(
     helmet({

@@ -17,7 +17,7 @@
 import { setMaxListeners } from 'node:events';
 import type { Db } from '../db/client';
 import type { Mailer } from '../services/mailer';
-import { completeQueuedRun, markRunRunning, openRunIds, queuedRunTask, setRunNotice, type RunLauncher } from '../services/runs';
+import { completeQueuedRun, markRunRunning, openRunIds, queuedRunTask, setRunNotice, type PreparedRunTask, type RunLauncher } from '../services/runs';
 import type { RunEstimate } from '../services/run-estimate';
 import type { JobRunner } from './runner';
 import type { QueueClient } from './queue-client';
@@ -48,12 +48,17 @@ export class RunEstimator implements RunLauncher {
     this.opts = opts;
   }
 
-  /** Starts estimating a queued run in the background. */
-  start(runId: number): void {
+  /**
+   * Starts estimating a queued run in the background, from the next turn of the event loop (the
+   * request that queued it is answered first). `prepared`: the input the request already built
+   * from the frozen spec and the edition; without it (boot) it is built again from the run's row.
+   */
+  start(runId: number, prepared?: PreparedRunTask): void {
     if (this.closed || this.active.has(runId)) return;
     const ac = new AbortController();
     setMaxListeners(0, ac.signal);
-    const done = this.execute(runId, ac.signal)
+    const done = new Promise<void>((resolve) => setImmediate(resolve))
+      .then(() => this.execute(runId, ac.signal, prepared))
       .catch((e: unknown) => console.error('[keelson] run estimator error', runId, e))
       .finally(() => this.active.delete(runId));
     this.active.set(runId, { ac, done });
@@ -94,13 +99,14 @@ export class RunEstimator implements RunLauncher {
     await Promise.allSettled([...this.active.values()].map((a) => a.done));
   }
 
-  private async execute(runId: number, signal: AbortSignal): Promise<void> {
+  private async execute(runId: number, signal: AbortSignal, given?: PreparedRunTask): Promise<void> {
     const { db } = this.opts;
+    if (signal.aborted) return; // cancelled or shut down before it began
     const mark = markRunRunning(db, runId);
     if (!mark) return;
-    let prepared: ReturnType<typeof queuedRunTask>;
+    let prepared: PreparedRunTask;
     try {
-      prepared = queuedRunTask(db, runId);
+      prepared = given ?? queuedRunTask(db, runId);
     } catch (e) {
       this.complete(runId, { ok: false, error: messageOf(e) }, null);
       return;

@@ -96,9 +96,69 @@ export function loadEditionArrays(db: Db, editionId: number): { head: EditionHea
   };
 }
 
+/**
+ * Converted series of recently read editions, per database. Editions never change once written (a
+ * new upload is a new edition; nothing updates library_series), and a POST /runs reads its edition
+ * twice (the check, then the estimate) while a team runs many models on the same few editions, so
+ * the conversion from the stored blobs is kept for the last editions read, up to
+ * EDITION_CACHE_VALUES numbers in all (about 50 MB of JS arrays; a daily library of 12,000 days and
+ * 110 series holds 1.3 million). The head row (library name and access fields) is read fresh on
+ * every call, so a deleted edition is not found before the cache is asked. Callers treat the
+ * arrays as read-only (they slice).
+ */
+export const EDITION_CACHE_VALUES = 2_000_000;
+let cacheLimit = EDITION_CACHE_VALUES;
+
+/** Tests: sets the cache's bound (numbers held per database); returns the previous one. */
+export function setEditionCacheLimit(values: number): number {
+  const prev = cacheLimit;
+  cacheLimit = values;
+  return prev;
+}
+
+/** What the cache holds for `db`: edition ids, least recently used first, and how many numbers. */
+export function editionCacheContents(db: Db): { editionIds: number[]; values: number } {
+  const cache = seriesCaches.get(db);
+  return { editionIds: cache ? [...cache.byId.keys()] : [], values: cache?.values ?? 0 };
+}
+interface CachedSeries {
+  dates: string[];
+  series: EditionSeries[];
+  values: number;
+}
+const seriesCaches = new WeakMap<object, { byId: Map<number, CachedSeries>; values: number }>();
+
+function cachedSeries(db: Db, head: EditionHead): CachedSeries {
+  let cache = seriesCaches.get(db);
+  if (!cache) seriesCaches.set(db, (cache = { byId: new Map(), values: 0 }));
+  const hit = cache.byId.get(head.editionId);
+  if (hit) {
+    cache.byId.delete(head.editionId); // most recently used last
+    cache.byId.set(head.editionId, hit);
+    return hit;
+  }
+  const { dates, series } = loadEditionArrays(db, head.editionId);
+  const entry: CachedSeries = {
+    dates,
+    series: series.map((x) => ({ name: x.name, kind: x.kind, traded: x.traded, values: Array.from(x.values, (v) => (Number.isNaN(v) ? null : v)) })),
+    values: series.reduce((n, x) => n + x.values.length, 0),
+  };
+  if (entry.values > cacheLimit) return entry; // too large to keep
+  cache.byId.set(head.editionId, entry);
+  cache.values += entry.values;
+  for (const [id, e] of cache.byId) {
+    if (cache.values <= cacheLimit) break;
+    cache.byId.delete(id);
+    cache.values -= e.values;
+  }
+  return entry;
+}
+
 /** Full values of an edition (no access check: call `assertEditionReadable` first). */
 export function loadEditionData(db: Db, editionId: number): EditionData {
-  const { head, dates, series } = loadEditionArrays(db, editionId);
+  const head = editionHead(db, editionId);
+  if (!head) throw new KeelsonApiError('not_found', `No library edition ${editionId}`);
+  const { dates, series } = cachedSeries(db, head);
   return {
     editionId: head.editionId,
     libraryId: head.libraryId,
@@ -106,12 +166,7 @@ export function loadEditionData(db: Db, editionId: number): EditionData {
     number: head.number,
     frequency: head.frequency,
     dates,
-    series: series.map((s) => ({
-      name: s.name,
-      kind: s.kind,
-      traded: s.traded,
-      values: Array.from(s.values, (x) => (Number.isNaN(x) ? null : x)),
-    })),
+    series,
   };
 }
 

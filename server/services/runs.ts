@@ -231,8 +231,11 @@ export function runSummariesByIds(db: Db, ids: number[]): Map<number, RunSummary
 // ---- creating ----
 
 /** Starts a queued (heavy) run in the background: the embedded pool or the queue (server/jobs/run-estimator.ts). */
+/** A queued run's estimation input as the request built it (so the launcher need not build it again). */
+export type PreparedRunTask = { value: RunEstimateInput; cost: number; bootstrap: RunBootstrap };
+
 export interface RunLauncher {
-  start(runId: number): void;
+  start(runId: number, prepared?: PreparedRunTask): void;
   /** Stops the run's estimation wherever it runs (pool task, or the BullMQ job on every worker). */
   cancel(runId: number): void;
 }
@@ -441,9 +444,9 @@ function mailRunEnd(
 }
 
 /** After the write: start the bootstrap job (or the queued run), and mail the author if the run took long enough. */
-function afterInsert(deps: RunDeps, user: User, est: EstimatedRun | null, row: RunRow, jobId: number | null): void {
+function afterInsert(deps: RunDeps, user: User, c: CheckedRun, est: EstimatedRun | null, row: RunRow, jobId: number | null): void {
   if (est === null) {
-    deps.launcher?.start(row.id);
+    deps.launcher?.start(row.id, c.task.ok ? c.task : undefined);
     return;
   }
   if (jobId !== null) deps.runner.start(jobId);
@@ -484,7 +487,7 @@ export function createRun(deps: RunDeps, user: User, args: CreateRunArgs): Run {
   const c = checkRun(deps, user, spec, editionId);
   const est = estimateUnlessHeavy(deps, c);
   const { row, jobId } = inTransaction(deps.db, (tx) => insertRun(tx, user, c, est, { specId, specName }));
-  afterInsert(deps, user, est, row, jobId);
+  afterInsert(deps, user, c, est, row, jobId);
   return toRun(row, user.name, 'none');
 }
 
@@ -642,7 +645,7 @@ export function changeRunBasis(deps: RunDeps, user: User, runId: number, body: C
   const c = checkRun(deps, user, next, row.editionId);
   const est = estimateUnlessHeavy(deps, c);
   const { row: created, jobId } = inTransaction(deps.db, (tx) => insertRun(tx, user, c, est, { specId: row.specId, specName: row.specName, basedOnRunId: runId }));
-  afterInsert(deps, user, est, created, jobId);
+  afterInsert(deps, user, c, est, created, jobId);
   return toRun(created, user.name, 'none');
 }
 
@@ -680,6 +683,6 @@ export function firstStageCopy(deps: RunDeps, user: User, runId: number): FirstS
     });
     return { ...written, saved };
   });
-  afterInsert(deps, user, est, out.row, out.jobId);
+  afterInsert(deps, user, c, est, out.row, out.jobId);
   return { run: toRun(out.row, user.name, 'none'), spec: out.saved };
 }

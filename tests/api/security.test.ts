@@ -174,13 +174,14 @@ describe('cookies, proxy and CSRF (item 12)', () => {
     }
   });
 
-  it('sends Cache-Control: no-store on API answers, errors included', async () => {
+  it('sends Cache-Control: no-store on API answers, errors included (and no ETag: no client revalidates them)', async () => {
     const t = await makeTestApp();
     try {
       const a = await agentAs(t.app, 'desk');
       for (const path of ['/api/v1/health', '/api/v1/auth/me', '/api/v1/specs', '/api/v1/no/such/route', '/api/elsewhere']) {
         const r = await a.get(path);
         expect(r.headers['cache-control'], path).toBe('no-store');
+        expect(r.headers.etag, path).toBeUndefined();
       }
       const anon = await request(t.app).get('/api/v1/specs').expect(401);
       expect(anon.headers['cache-control']).toBe('no-store');
