@@ -52,7 +52,15 @@ export function defaultThreadCount(): number {
   return Math.max(1, availableParallelism() - 1);
 }
 
-export function createJobPool(opts: { threads?: number } = {}): JobPool {
+/** The embedded pool's threads run at this nice value, below the API's thread (Linux). */
+export const API_POOL_NICE = 10;
+
+/**
+ * @param opts.threads worker threads (default: the machine's threads less one, at least 1)
+ * @param opts.nice scheduling niceness of each thread (default API_POOL_NICE, for the API's own
+ *   pool; a queue worker, with no API beside it, passes 0)
+ */
+export function createJobPool(opts: { threads?: number; nice?: number } = {}): JobPool {
   const threads = Math.max(1, opts.threads ?? defaultThreadCount());
   const piscina = new Piscina({
     filename: new URL('./worker.mjs', import.meta.url).href,
@@ -60,6 +68,7 @@ export function createJobPool(opts: { threads?: number } = {}): JobPool {
     maxThreads: threads,
     idleTimeout: 60_000,
     execArgv: [],
+    env: { ...process.env, KEELSON_THREAD_NICE: String(opts.nice ?? API_POOL_NICE) },
   });
   let destroyed = false;
   return {

@@ -63,7 +63,8 @@ type Payload = ChunkJobData | SummaryJobData | EstimateJobData;
 
 export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
   const log = opts.log ?? ((l: string) => console.log(l));
-  const pool: JobPool = opts.pool ?? createJobPool(opts.concurrency ? { threads: opts.concurrency } : {});
+  // no API shares this process: the threads run at normal priority (nice 0)
+  const pool: JobPool = opts.pool ?? createJobPool({ ...(opts.concurrency ? { threads: opts.concurrency } : {}), nice: 0 });
   const concurrency = pool.threads;
   const lockMs = opts.lockMs ?? 15_000;
   const conn = connectionFor(opts.redisUrl, 'worker');

@@ -36,6 +36,8 @@ import {
   type GmmFailure,
   type GmmResult,
 } from '../../lib/gmm/index';
+import { readlinkSync } from 'node:fs';
+import { getPriority } from 'node:os';
 import type { ChunkFailure } from './pool';
 import { estimateRun, type RunEstimateInput } from '../services/run-estimate';
 
@@ -169,8 +171,18 @@ export function runChunk(task: ChunkTask): unknown {
   }
 }
 
+/** This thread's scheduling niceness (Linux; null elsewhere), which ping reports. */
+function threadNice(): number | null {
+  try {
+    const tid = Number(readlinkSync('/proc/thread-self').split('/').pop());
+    return Number.isInteger(tid) && tid > 0 ? getPriority(tid) : null;
+  } catch {
+    return null;
+  }
+}
+
 /** Piscina's entry point. Errors keep their name and message across the thread boundary. */
 export default function handler(task: ChunkTask): unknown {
-  if (task.op === 'ping') return { pong: true };
+  if (task.op === 'ping') return { pong: true, nice: threadNice() };
   return runChunk(task);
 }

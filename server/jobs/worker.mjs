@@ -5,13 +5,15 @@ import { readlinkSync } from 'node:fs';
 import { setPriority } from 'node:os';
 import { register } from 'tsx/esm/api';
 
-// Lower this thread's scheduling priority (nice 10) so that, when cores are scarce, the API's own
-// thread wins the CPU and keeps answering while checks run. Linux treats a thread id as a
-// process id for setpriority, so only this worker thread is affected; elsewhere this is skipped.
-export const WORKER_NICE = 10;
+// Lower this thread's scheduling priority by KEELSON_THREAD_NICE (set by server/jobs/pool.ts: 10 in
+// the API's embedded pool, so that when cores are scarce the API's own thread wins the CPU and keeps
+// answering while checks run; 0 in a queue worker, which has no API to protect and measured
+// 20–30 % slower draws at nice 10). Linux treats a thread id as a process id for setpriority, so
+// only this worker thread is affected; elsewhere this is skipped.
+const nice = Number(process.env.KEELSON_THREAD_NICE ?? 0);
 try {
   const tid = Number(readlinkSync('/proc/thread-self').split('/').pop());
-  if (Number.isInteger(tid) && tid > 0) setPriority(tid, WORKER_NICE);
+  if (nice > 0 && Number.isInteger(tid) && tid > 0) setPriority(tid, nice);
 } catch {
   /* not Linux, or not permitted: run at normal priority */
 }

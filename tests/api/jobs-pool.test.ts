@@ -4,7 +4,7 @@
  * same chunk computed in process (identity), and an AbortSignal stops a running chunk.
  */
 import { afterAll, describe, expect, it } from 'vitest';
-import { ChunkFailedError, createJobPool, defaultThreadCount } from '../../server/jobs/pool';
+import { API_POOL_NICE, ChunkFailedError, createJobPool, defaultThreadCount } from '../../server/jobs/pool';
 import { gmmFailureMessage } from '../../shared/gmm-messages';
 import { runChunk, type ChunkTask } from '../../server/jobs/tasks';
 import { chunkRanges } from '../../server/jobs/runner';
@@ -21,6 +21,18 @@ describe('job pool', () => {
   it('sizes itself to the machine, at least one thread', () => {
     expect(defaultThreadCount()).toBeGreaterThanOrEqual(1);
     expect(pool.threads).toBe(1);
+  });
+
+  it('the API’s pool runs its threads below the API’s priority (nice 10); a queue worker’s pool at nice 0', async () => {
+    // Linux (/proc/thread-self): the thread reports its own niceness through ping
+    expect(await pool.run({ op: 'ping' })).toEqual({ pong: true, nice: API_POOL_NICE });
+    expect(API_POOL_NICE).toBe(10);
+    const workerPool = createJobPool({ threads: 1, nice: 0 });
+    try {
+      expect(await workerPool.run({ op: 'ping' })).toEqual({ pong: true, nice: 0 });
+    } finally {
+      await workerPool.destroy();
+    }
   });
 
   it('runs TypeScript tasks in a worker thread with the same numbers as in process', async () => {
@@ -59,7 +71,7 @@ describe('job pool', () => {
     const p = pool.run(long, ac.signal);
     setTimeout(() => ac.abort(), 300);
     await expect(p).rejects.toMatchObject({ name: 'AbortError' });
-    expect(await pool.run({ op: 'ping' })).toEqual({ pong: true });
+    expect(await pool.run({ op: 'ping' })).toMatchObject({ pong: true });
   });
 
   it('a caller mistake in a worker comes back as a rejected task with the library’s message', async () => {
@@ -89,7 +101,7 @@ describe('job pool', () => {
     expect(err.failure.code).toBe('singular');
     expect(err.message).toBe(gmmFailureMessage(err.failure));
     // the pool keeps working
-    expect(await pool.run({ op: 'ping' })).toEqual({ pong: true });
+    expect(await pool.run({ op: 'ping' })).toMatchObject({ pong: true });
   });
 });
 

@@ -27,7 +27,7 @@ import { mailSettled } from '../../server/services/runs';
 import { estimateRun } from '../../server/services/run-estimate';
 import { holdingPool, type HeldTask } from '../api/helpers';
 import type { Run } from '../../shared/runs';
-import { PHONE, WIDE, launchBrowser, openPage, signIn } from './helpers';
+import { PHONE, WIDE, apiPost, harbourFiveFactors, launchBrowser, openPage, signIn } from './helpers';
 
 const SCREENS = join(ROOT, 'test-results', 'screens');
 const { pool, held } = holdingPool(1);
@@ -66,24 +66,10 @@ async function shot(page: Page, name: string): Promise<void> {
   await page.screenshot({ path: join(SCREENS, `${name}.png`), fullPage: true });
 }
 
-async function apiPost(page: Page, path: string, body: unknown) {
-  const csrf = ((await (await page.request.get('/api/v1/auth/csrf')).json()) as { token: string }).token;
-  return page.request.post(`/api/v1${path}`, { data: body, headers: { 'x-csrf-token': csrf } });
-}
-
 /** A saved spec of the demo library's five-factor model, through the API. @returns its id. */
 async function fiveFactorSpec(page: Page): Promise<number> {
-  const libs = ((await (await page.request.get('/api/v1/libraries')).json()) as { libraries: { id: number; name: string; latestEdition: number }[] }).libraries;
-  const lib = libs.find((l) => l.name.startsWith('Harbour market'))!;
-  const ed = ((await (await page.request.get(`/api/v1/libraries/${lib.id}/editions/${lib.latestEdition}`)).json()) as {
-    edition: { id: number; series: { name: string; kind: string }[] };
-  }).edition;
-  const assets = ed.series.filter((s) => s.kind === 'asset').map((s) => s.name);
-  const r = await apiPost(page, '/specs', {
-    name: 'Five factors, all assets',
-    editionId: ed.id,
-    spec: { assets, factors: ['TIDE', 'SWELL', 'DRIFT', 'GALE', 'BALLAST'], nonTraded: ['GALE'], rf: 'RF' },
-  });
+  const { editionId, spec } = await harbourFiveFactors(page);
+  const r = await apiPost(page, '/specs', { name: 'Five factors, all assets', editionId, spec });
   expect(r.status(), await r.text()).toBe(201);
   return ((await r.json()) as { spec: { id: number } }).spec.id;
 }

@@ -161,3 +161,23 @@ export async function goNav(page: Page, label: string): Promise<void> {
 export async function goTeamPage(page: Page, label: 'Users' | 'Invitations' | 'Outbox' | 'Audit log'): Promise<void> {
   await page.getByRole('navigation', { name: 'Team pages' }).getByRole('link', { name: label, exact: true }).click();
 }
+
+/** A POST (or PUT) to /api/v1<path> with the page's session and a fresh CSRF token. */
+export async function apiPost(page: Page, path: string, body: unknown, method: 'post' | 'put' = 'post') {
+  const csrf = ((await (await page.request.get('/api/v1/auth/csrf')).json()) as { token: string }).token;
+  return page.request[method](`/api/v1${path}`, { data: body, headers: { 'x-csrf-token': csrf } });
+}
+
+/**
+ * The demo library Harbour market's latest edition and the spec of its five-factor model (every
+ * test asset, GALE not traded, less RF), read through the API as the signed-in page.
+ */
+export async function harbourFiveFactors(page: Page): Promise<{ editionId: number; spec: { assets: string[]; factors: string[]; nonTraded: string[]; rf: string } }> {
+  const libs = ((await (await page.request.get('/api/v1/libraries')).json()) as { libraries: { id: number; name: string; latestEdition: number }[] }).libraries;
+  const lib = libs.find((l) => l.name.startsWith('Harbour market'))!;
+  const ed = ((await (await page.request.get(`/api/v1/libraries/${lib.id}/editions/${lib.latestEdition}`)).json()) as {
+    edition: { id: number; series: { name: string; kind: string }[] };
+  }).edition;
+  const assets = ed.series.filter((x) => x.kind === 'asset').map((x) => x.name);
+  return { editionId: ed.id, spec: { assets, factors: ['TIDE', 'SWELL', 'DRIFT', 'GALE', 'BALLAST'], nonTraded: ['GALE'], rf: 'RF' } };
+}

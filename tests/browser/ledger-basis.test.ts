@@ -17,7 +17,7 @@ import type { Browser, Locator, Page } from 'playwright-core';
 import { ROOT } from '../../scripts/web-build';
 import { formatFixed, formatP } from '../../shared/format';
 import type { Run } from '../../shared/runs';
-import { PHONE, SCREENSHOT_DIR, WIDE, expectSameOrigin, launchBrowser, openPage, scrollShots, signIn, type Viewport } from './helpers';
+import { PHONE, SCREENSHOT_DIR, WIDE, apiPost, expectSameOrigin, harbourFiveFactors, launchBrowser, openPage, scrollShots, signIn, type Viewport } from './helpers';
 import { expectChartDownloads, expectReadableChart, expectTablesFit } from './chart-checks';
 
 const SCREENS = join(ROOT, 'test-results', 'screens');
@@ -47,21 +47,10 @@ async function getRun(page: Page, id: number): Promise<Run> {
   return ((await r.json()) as { run: Run }).run;
 }
 
-async function apiPost(page: Page, path: string, body: unknown) {
-  const csrf = ((await (await page.request.get('/api/v1/auth/csrf')).json()) as { token: string }).token;
-  return page.request.post(`/api/v1${path}`, { data: body, headers: { 'x-csrf-token': csrf } });
-}
-
 /** A finished run of the demo library's five-factor model with `extra` spec options, through the API. */
 async function demoRun(page: Page, extra: Record<string, unknown>): Promise<Run> {
-  const libs = ((await (await page.request.get('/api/v1/libraries')).json()) as { libraries: { id: number; name: string; latestEdition: number }[] }).libraries;
-  const lib = libs.find((l) => l.name.startsWith('Harbour market'))!;
-  const ed = ((await (await page.request.get(`/api/v1/libraries/${lib.id}/editions/${lib.latestEdition}`)).json()) as {
-    edition: { id: number; series: { name: string; kind: string }[] };
-  }).edition;
-  const assets = ed.series.filter((s) => s.kind === 'asset').map((s) => s.name);
-  const spec = { assets, factors: ['TIDE', 'SWELL', 'DRIFT', 'GALE', 'BALLAST'], nonTraded: ['GALE'], rf: 'RF', ...extra };
-  const r = await apiPost(page, '/runs', { editionId: ed.id, spec });
+  const five = await harbourFiveFactors(page);
+  const r = await apiPost(page, '/runs', { editionId: five.editionId, spec: { ...five.spec, ...extra } });
   expect(r.status(), await r.text()).toBe(201);
   const run = ((await r.json()) as { run: Run }).run;
   expect(run.status, run.error ?? '').toBe('finished');

@@ -8,7 +8,7 @@ import { readFileSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import Papa from 'papaparse';
-import { PHONE, WIDE, expectSameOrigin, launchBrowser, openPage, scrollShots, shot, signIn, type Viewport } from './helpers';
+import { PHONE, WIDE, expectSameOrigin, launchBrowser, openPage, scrollShots, shot, signIn, apiPost, type Viewport } from './helpers';
 
 let browser: Browser;
 let runId = 0;
@@ -29,11 +29,6 @@ async function api<T = Record<string, unknown>>(page: Page, path: string): Promi
   const r = await page.request.get(`/api/v1${path}`);
   expect(r.status(), path).toBe(200);
   return (await r.json()) as T;
-}
-
-async function apiPost(page: Page, path: string, body: unknown, method: 'post' | 'put' = 'post') {
-  const csrf = ((await (await page.request.get('/api/v1/auth/csrf')).json()) as { token: string }).token;
-  return page.request[method](`/api/v1${path}`, { data: body, headers: { 'x-csrf-token': csrf } });
 }
 
 async function fillSpec(page: Page, factors: string[], name: string) {

@@ -11,7 +11,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import { ROOT } from '../../scripts/web-build';
 import { FEWER_ASSETS_THAN_FACTORS } from '../../shared/specs';
-import { PHONE, WIDE, expectSameOrigin, launchBrowser, openPage, scrollShots, signIn, type Viewport } from './helpers';
+import { PHONE, WIDE, expectSameOrigin, launchBrowser, openPage, scrollShots, signIn, apiPost, type Viewport } from './helpers';
 
 const SCREENS = join(ROOT, 'test-results', 'screens');
 const SIZES: [string, Viewport][] = [
@@ -34,10 +34,6 @@ async function apiGet<T>(page: Page, path: string): Promise<T> {
   const r = await page.request.get(`/api/v1${path}`);
   expect(r.status(), path).toBe(200);
   return (await r.json()) as T;
-}
-async function apiPost(page: Page, path: string, body: unknown) {
-  const csrf = ((await (await page.request.get('/api/v1/auth/csrf')).json()) as { token: string }).token;
-  return page.request.post(`/api/v1${path}`, { data: body, headers: { 'x-csrf-token': csrf } });
 }
 /** Edition id of the demo Harbour market's latest edition. */
 async function harbourEdition(page: Page): Promise<number> {
