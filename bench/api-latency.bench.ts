@@ -14,7 +14,8 @@ import { openDb } from '../server/db/client';
 import { createApp } from '../server/app';
 import { createMailer } from '../server/services/mailer';
 import { createJobPool } from '../server/jobs/pool';
-import { DEMO_PASSWORD, seedDemoUsers } from '../server/seed/users';
+import { signInOverHttp } from './http-sign-in';
+import { seedDemoUsers } from '../server/seed/users';
 import { seedDemoLibraries } from '../server/seed/demo-libraries';
 
 const SECONDS = Number(process.env.BENCH_API_SECONDS ?? 6);
@@ -29,16 +30,7 @@ const server = app.listen(0, '127.0.0.1');
 await new Promise((r) => server.once('listening', r));
 const base = `http://127.0.0.1:${(server.address() as AddressInfo).port}/api/v1`;
 
-const r1 = await fetch(`${base}/auth/csrf`);
-let cookie = (r1.headers.get('set-cookie') ?? '').split(';')[0];
-const csrf0 = ((await r1.json()) as { token: string }).token;
-const r2 = await fetch(`${base}/auth/login`, {
-  method: 'POST',
-  headers: { 'content-type': 'application/json', cookie, 'x-csrf-token': csrf0 },
-  body: JSON.stringify({ email: 'researcher@keelson.test', password: DEMO_PASSWORD }),
-});
-cookie = (r2.headers.get('set-cookie') ?? cookie).split(';')[0];
-const csrf = ((await r2.json()) as { csrfToken: string }).csrfToken;
+const { cookie, csrf } = await signInOverHttp(base);
 async function call(path: string, body?: unknown): Promise<Record<string, any>> { // eslint-disable-line @typescript-eslint/no-explicit-any
   const r = await fetch(`${base}${path}`, { method: body ? 'POST' : 'GET', headers: { 'content-type': 'application/json', cookie, 'x-csrf-token': csrf }, body: body ? JSON.stringify(body) : undefined });
   const json = (await r.json()) as Record<string, any>; // eslint-disable-line @typescript-eslint/no-explicit-any

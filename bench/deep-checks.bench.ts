@@ -35,7 +35,8 @@ import { createJobPool, defaultThreadCount, type JobPool } from '../server/jobs/
 import { openDb } from '../server/db/client';
 import { createApp } from '../server/app';
 import { createMailer } from '../server/services/mailer';
-import { DEMO_PASSWORD, seedDemoUsers } from '../server/seed/users';
+import { seedDemoUsers } from '../server/seed/users';
+import { signInOverHttp } from './http-sign-in';
 import { seedDemoLibraries } from '../server/seed/demo-libraries';
 import { benchEconomy } from './economy';
 
@@ -148,20 +149,7 @@ const server = app.listen(0, '127.0.0.1');
 await new Promise((r) => server.once('listening', r));
 const base = `http://127.0.0.1:${(server.address() as AddressInfo).port}/api/v1`;
 
-async function signIn(): Promise<{ cookie: string; csrf: string }> {
-  const r1 = await fetch(`${base}/auth/csrf`);
-  let cookie = (r1.headers.get('set-cookie') ?? '').split(';')[0];
-  const csrf = ((await r1.json()) as { token: string }).token;
-  const r2 = await fetch(`${base}/auth/login`, {
-    method: 'POST',
-    headers: { 'content-type': 'application/json', cookie, 'x-csrf-token': csrf },
-    body: JSON.stringify({ email: 'researcher@keelson.test', password: DEMO_PASSWORD }),
-  });
-  if (r2.status !== 200) throw new Error(`sign-in failed ${r2.status}`);
-  cookie = (r2.headers.get('set-cookie') ?? cookie).split(';')[0];
-  return { cookie, csrf: ((await r2.json()) as { csrfToken: string }).csrfToken };
-}
-const s = await signIn();
+const s = await signInOverHttp(base);
 const call = async (path: string, body?: unknown) => {
   const r = await fetch(`${base}${path}`, {
     method: body ? 'POST' : 'GET',

@@ -22,7 +22,7 @@ import { openDb } from '../server/db/client';
 import { createApp } from '../server/app';
 import { createMailer } from '../server/services/mailer';
 import { createJobPool } from '../server/jobs/pool';
-import { DEMO_PASSWORD, seedDemoUsers } from '../server/seed/users';
+import { seedDemoUsers } from '../server/seed/users';
 import { seedDemoLibraries } from '../server/seed/demo-libraries';
 import { mailSettled } from '../server/services/runs';
 import { createUpload, confirmUpload } from '../server/services/libraries';
@@ -31,6 +31,7 @@ import { eq } from 'drizzle-orm';
 import type { Db } from '../server/db/client';
 import type { User } from '../shared/auth';
 import { benchEconomy } from './economy';
+import { signInOverHttp } from './http-sign-in';
 
 const CLIENTS = Number(process.env.BENCH_RUNS_CLIENTS ?? 50);
 const PER_CLIENT = Number(process.env.BENCH_RUNS_PER_CLIENT ?? 5);
@@ -73,19 +74,7 @@ async function scenario(threshold: number | null): Promise<void> {
   await new Promise((r) => server.once('listening', r));
   const base = `http://127.0.0.1:${(server.address() as AddressInfo).port}/api/v1`;
 
-  const signIn = async (): Promise<Client> => {
-    const r1 = await fetch(`${base}/auth/csrf`);
-    let cookie = (r1.headers.get('set-cookie') ?? '').split(';')[0];
-    const token = ((await r1.json()) as { token: string }).token;
-    const r2 = await fetch(`${base}/auth/login`, {
-      method: 'POST',
-      headers: { 'content-type': 'application/json', cookie, 'x-csrf-token': token },
-      body: JSON.stringify({ email: 'researcher@keelson.test', password: DEMO_PASSWORD }),
-    });
-    if (r2.status !== 200) throw new Error(`sign-in: ${r2.status}`);
-    cookie = (r2.headers.get('set-cookie') ?? cookie).split(';')[0];
-    return { cookie, csrf: ((await r2.json()) as { csrfToken: string }).csrfToken };
-  };
+  const signIn = (): Promise<Client> => signInOverHttp(base);
   const postRun = async (c: Client, body: unknown) => {
     const r = await fetch(`${base}/runs`, { method: 'POST', headers: { 'content-type': 'application/json', cookie: c.cookie, 'x-csrf-token': c.csrf }, body: JSON.stringify(body) });
     const json = (await r.json()) as { run: { id: number; status: string } };
