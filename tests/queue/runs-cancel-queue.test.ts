@@ -14,20 +14,12 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { Redis } from 'ioredis';
 import { agentAs, holdingPool, post, type Agent } from '../api/helpers';
 import { makeFixture, spec, uploadFixture } from '../api/runs-fixture';
-import type { Db } from '../../server/db/client';
-import type { KeelsonApp } from '../../server/app';
-import type { Mailer } from '../../server/services/mailer';
 import { startQueueWorker, type QueueWorker } from '../../server/jobs/queue-worker';
 import { cancelKey, inputKey, runJobId } from '../../server/jobs/queue-shared';
 import { runResponseSchema, type Run } from '../../shared/runs';
-import { startQueueTestApp, stopQueueTest, type TestRedis } from './redis';
+import { startQueueTestApp, type QueueTestApp, stopQueueTest } from './redis';
 
-let redis: TestRedis;
-let url: string;
-let dir: string;
-let db: Db;
-let mailer: Mailer;
-let app: KeelsonApp;
+let q: QueueTestApp;
 let researcher: Agent;
 let admin: Agent;
 let editionId: number;
@@ -38,19 +30,19 @@ const { pool, held } = holdingPool(1);
 beforeAll(async () => {
   // K = 2 costs 48,000, above 30,000. Its own Redis database: the holding worker below must be the
   // only one that can take these runs' jobs (other files' real workers run meanwhile in CI).
-  ({ redis, url, dir, db, mailer, app } = await startQueueTestApp('keelson-cancel-run-', { heavyRunCost: 30_000, runPollMs: 50 }, { offsetIds: 'runs', redisDb: 3 }));
-  admin = await agentAs(app, 'admin');
-  researcher = await agentAs(app, 'researcher');
+  q = await startQueueTestApp('keelson-cancel-run-', { heavyRunCost: 30_000, runPollMs: 50 }, { offsetIds: 'runs', redisDb: 3 });
+  admin = await agentAs(q.app, 'admin');
+  researcher = await agentAs(q.app, 'researcher');
   editionId = (await uploadFixture(admin, makeFixture(), { name: 'Invented economy', visibility: 'shared' })).editionId;
-  worker = startQueueWorker({ redisUrl: url, pool, lockMs: 2000, graceMs: 1000, log: () => undefined });
+  worker = startQueueWorker({ redisUrl: q.url, pool, lockMs: 2000, graceMs: 1000, log: () => undefined });
   await worker.ready();
-  r = new Redis(url);
+  r = new Redis(q.url);
 }, 60_000);
 
 afterAll(async () => {
   r?.disconnect();
   await worker?.close();
-  await stopQueueTest({ app, mailer, db, redis, dir });
+  await stopQueueTest({ ...q });
 });
 
 const getRun = async (id: number): Promise<Run> => runResponseSchema.parse((await researcher.get(`/api/v1/runs/${id}`).expect(200)).body).run;
@@ -84,7 +76,7 @@ describe('cancelling a heavy run on queue workers', () => {
     const ms = await until('the worker’s task is aborted', () => entry.aborted, 5_000);
     expect(ms).toBeLessThan(1000);
 
-    await app.runEstimator.waitFor(id);
+    await q.app.runEstimator.waitFor(id);
     await until('the stored input is removed from Redis', async () => (await r.exists(inputKey(runJobId(id)))) === 0, 5_000);
     expect(await r.exists(cancelKey(runJobId(id)))).toBe(1);
     await new Promise((res2) => setTimeout(res2, 300)); // a late answer would have arrived by now

@@ -9,35 +9,28 @@ import { Redis } from 'ioredis';
 import { eq } from 'drizzle-orm';
 import { agentAs, type Agent } from '../api/helpers';
 import { makeFixture, spec, uploadFixture } from '../api/runs-fixture';
-import type { Db } from '../../server/db/client';
-import type { KeelsonApp } from '../../server/app';
-import type { Mailer } from '../../server/services/mailer';
 import { createRun } from '../../server/services/runs';
 import { runs } from '../../server/db/schema/index';
 import { inputKey, runJobId } from '../../server/jobs/queue-shared';
 import { modelSpecSchema } from '../../shared/specs';
 import { runResponseSchema, type Run } from '../../shared/runs';
-import { startQueueTestApp, startWorkerProcess, stopQueueTest, type TestRedis, type WorkerProcess } from './redis';
+import { startQueueTestApp, type QueueTestApp, startWorkerProcess, stopQueueTest, type WorkerProcess } from './redis';
 
-let redis: TestRedis;
-let dir: string;
-let db: Db;
-let mailer: Mailer;
-let app: KeelsonApp;
+let q: QueueTestApp;
 let researcher: Agent;
 let editionId: number;
 let worker: WorkerProcess;
 
 beforeAll(async () => {
   // T = 240, N = 10, K = 2 costs 48,000: above this threshold
-  ({ redis, dir, db, mailer, app } = await startQueueTestApp('keelson-heavy-', { heavyRunCost: 30_000, runPollMs: 50 }, { offsetIds: 'runs' }));
-  const admin = await agentAs(app, 'admin');
-  researcher = await agentAs(app, 'researcher');
+  q = await startQueueTestApp('keelson-heavy-', { heavyRunCost: 30_000, runPollMs: 50 }, { offsetIds: 'runs' });
+  const admin = await agentAs(q.app, 'admin');
+  researcher = await agentAs(q.app, 'researcher');
   editionId = (await uploadFixture(admin, makeFixture(), { name: 'Invented economy', visibility: 'shared' })).editionId;
-  worker = await startWorkerProcess(redis.url);
+  worker = await startWorkerProcess(q.url);
 }, 60_000);
 
-afterAll(() => stopQueueTest({ workers: worker ? [worker] : [], app, mailer, db, redis, dir }));
+afterAll(() => stopQueueTest({ workers: worker ? [worker] : [], ...q }));
 
 async function waitRun(id: number, ms = 60_000): Promise<Run> {
   const until = Date.now() + ms;
@@ -57,15 +50,15 @@ describe('heavy runs in queue mode', () => {
     expect(r.headers.location).toBe(`/api/v1/runs/${id}`);
     const done = await waitRun(id);
     expect(done.status).toBe('finished');
-    const heavyText = db.select({ result: runs.result }).from(runs).where(eq(runs.id, id)).get()!.result;
+    const heavyText = q.db.select({ result: runs.result }).from(runs).where(eq(runs.id, id)).get()!.result;
 
     const user = { id: done.authorId, name: done.authorName, email: 'researcher@keelson.test', role: 'researcher' as const };
-    const sync = createRun({ db, mailer, runner: app.jobRunner }, user as never, { editionId, spec: modelSpecSchema.parse(body.spec) });
-    const syncText = db.select({ result: runs.result }).from(runs).where(eq(runs.id, sync.id)).get()!.result;
+    const sync = createRun({ db: q.db, mailer: q.mailer, runner: q.app.jobRunner }, user as never, { editionId, spec: modelSpecSchema.parse(body.spec) });
+    const syncText = q.db.select({ result: runs.result }).from(runs).where(eq(runs.id, sync.id)).get()!.result;
     expect(heavyText).toBe(syncText);
 
     // the job and its stored input are removed from Redis once the result is in SQLite
-    const r2 = new Redis(redis.url);
+    const r2 = new Redis(q.url);
     try {
       expect(await r2.exists(inputKey(runJobId(id)))).toBe(0);
       expect(await r2.exists(`keelson:deep-checks:${runJobId(id)}`)).toBe(0);

@@ -9,19 +9,12 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { agentAs, expectEnvelope, type Agent, post } from '../api/helpers';
 import { directWideSweep, getJob, jobEnded, makeWideFixture, spec, uploadFixture, waitJob } from '../api/runs-fixture';
-import type { Db } from '../../server/db/client';
-import type { KeelsonApp } from '../../server/app';
-import type { Mailer } from '../../server/services/mailer';
 import { chunkRanges } from '../../server/jobs/runner';
 import { jobLimitsResponseSchema, jobResponseSchema } from '../../shared/jobs';
 import { runResponseSchema } from '../../shared/runs';
-import { startQueueTestApp, startWorkerProcess, stopQueueTest, type TestRedis, type WorkerProcess } from './redis';
+import { startQueueTestApp, type QueueTestApp, startWorkerProcess, stopQueueTest, type WorkerProcess } from './redis';
 
-let redis: TestRedis;
-let dir: string;
-let db: Db;
-let mailer: Mailer;
-let app: KeelsonApp;
+let q: QueueTestApp;
 let researcher: Agent;
 let runId: number;
 const workers: WorkerProcess[] = [];
@@ -29,17 +22,17 @@ const wide = makeWideFixture(17, 20);
 
 beforeAll(async () => {
   // job ids (hence flow ids job-<id>-<attempt>) far from the other queue tests'
-  ({ redis, dir, db, mailer, app } = await startQueueTestApp('keelson-sweep25-', { jobMailAfterMs: 3_600_000 }, { offsetIds: 'jobs' }));
-  const admin = await agentAs(app, 'admin');
-  researcher = await agentAs(app, 'researcher');
+  q = await startQueueTestApp('keelson-sweep25-', { jobMailAfterMs: 3_600_000 }, { offsetIds: 'jobs' });
+  const admin = await agentAs(q.app, 'admin');
+  researcher = await agentAs(q.app, 'researcher');
   const lib = await uploadFixture(admin, wide.fx, { name: 'Wide invented economy', visibility: 'shared' }, wide.kinds);
   const r = await post(researcher, '/runs', { editionId: lib.editionId, spec: spec({ assets: wide.assets, factors: ['W01'] }) });
   if (r.status !== 201) throw new Error(`run not started: ${r.status} ${JSON.stringify(r.body)}`);
   runId = runResponseSchema.parse(r.body).run.id;
-  workers.push(await startWorkerProcess(redis.url), await startWorkerProcess(redis.url));
+  workers.push(await startWorkerProcess(q.url), await startWorkerProcess(q.url));
 }, 60_000);
 
-afterAll(() => stopQueueTest({ workers, app, mailer, db, redis, dir }));
+afterAll(() => stopQueueTest({ workers, ...q }));
 
 
 describe('sweep limits with queue workers', () => {
