@@ -82,12 +82,12 @@
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { chiSquareSf, normalTwoSidedP } from './distributions';
 import { GmmInputError, gmmFailure, type GmmResult } from './errors';
-import { defaultLag, hacCovariance } from './hac';
+import { defaultLag, hacCovariance, hacFromColumns } from './hac';
 import { dropTester } from './drop-test';
 import { cholesky, choleskyInverse, choleskySolve, fromNested, matMul, matTMul, pinvSymmetricRank, quadForm, spdInverse, toNested } from './linalg';
-import { covarianceFromSecondMoment, crossMoment, momentsFromPacked, secondMomentMatrix, type MomentData } from './moments';
+import { covarianceFromSecondMoment, crossMoment, momentsFromColumns, momentsFromPacked, secondMomentFromColumns, type ColumnMoments, type MomentData } from './moments';
 import { fitPremia } from './premia';
-import { fitSdfGmm, sdfLongRunCovariance, sdfMomentSeries, type FirstStageWeighting, type GmmStage, type SdfForm, type SdfGmmFit } from './sdf-gmm';
+import { fitSdfGmm, sdfIndex, sdfLongRunCovariance, sdfMomentColumns, sdfMomentSeries, type FirstStageWeighting, type GmmStage, type SdfForm, type SdfGmmFit } from './sdf-gmm';
 import { validateMatrices } from './validate';
 import { waldJoint } from './wald';
 import { mulberry32 } from './random';
@@ -394,34 +394,72 @@ function objective(X: Float64Array, W: Float64Array, m: Float64Array, N: number,
   return r ? quadForm(W, N, r.g) : null;
 }
 
-/** The recentred moment series h_t(b) − c (T×N row-major). */
-function recentredSeries(m: MomentData, b: ArrayLike<number>, form: SdfForm, fmk: boolean, c: Float64Array | null): Float64Array {
-  const h = sdfMomentSeries(m, b, form, fmk);
-  if (c) {
-    const { T, N } = m;
-    for (let t = 0; t < T; t++) for (let i = 0; i < N; i++) h[t * N + i] -= c[i];
-  }
-  return h;
+/**
+ * withinBlockHac of the recentred moment series h_t(b) − c, built column by column from the
+ * column-major returns (no T×N row-major series, no transposed copy): the zero rows between blocks
+ * are left in place in each padded column. The same numbers, to the last bit, as withinBlockHac of
+ * the row-major series (tests/gmm/bootstrap-hh.test.ts).
+ */
+export function recentredLongRun(m: ColumnMoments, b: ArrayLike<number>, form: SdfForm, fmk: boolean, c: Float64Array | null, lags: number, blockLength: number | null): Float64Array {
+  const { T, N } = m;
+  const column = sdfMomentColumns(m, sdfIndex(m, b, form), form, fmk, c);
+  if (blockLength === null || lags === 0 || blockLength >= T) return hacFromColumns(T, N, lags, column);
+  const n = Math.ceil(T / blockLength);
+  const Tp = T + (n - 1) * lags;
+  const h = new Float64Array(T);
+  const S = hacFromColumns(Tp, N, lags, (i, buf) => {
+    column(i, h);
+    for (let t = 0; t < T; t++) buf[t + Math.floor(t / blockLength) * lags] = h[t];
+  });
+  const scale = Tp / T;
+  for (let i = 0; i < S.length; i++) S[i] *= scale;
+  return S;
 }
 
 /**
  * Influence series of λ̂ = Σ_f b̂ (centred form, premia.ts): ψ_λ,t = Σ_f H h_t + f̃_t (f̃_t'b) − λ,
- * with h_t the (recentred) moment series. T×K row-major.
+ * with h_t the (recentred) moment series, read one column at a time through `column(i, buf)`.
+ * The sum over assets runs in asset order for every t, as a row-by-row loop would. T×K row-major.
  */
-function lambdaInfluence(m: MomentData, b: Float64Array, H: Float64Array, h: Float64Array): { lambda: Float64Array; psi: Float64Array } {
+export function lambdaInfluence(m: ColumnMoments, b: Float64Array, H: Float64Array, column: (i: number, buf: Float64Array) => void): { lambda: Float64Array; psi: Float64Array } {
   const { T, N, K, Fc, sigmaF } = m;
   const lambda = new Float64Array(K);
   for (let a = 0; a < K; a++) for (let c = 0; c < K; c++) lambda[a] += sigmaF[a * K + c] * b[c];
   const SH = matMul(sigmaF, K, K, H, N); // K×N
+  // Σ_i SH[a, i] h_i,t into a K×T array, four asset columns per pass over it; the terms are still
+  // added one asset after another, so the sums are those of a plain loop over i.
+  const acc = new Float64Array(K * T);
+  const hs = [new Float64Array(T), new Float64Array(T), new Float64Array(T), new Float64Array(T)];
+  for (let i0 = 0; i0 < N; i0 += 4) {
+    const n = Math.min(4, N - i0);
+    for (let j = 0; j < n; j++) column(i0 + j, hs[j]);
+    const [h0, h1, h2, h3] = hs;
+    for (let a = 0; a < K; a++) {
+      const off = a * T;
+      const w0 = SH[a * N + i0];
+      if (n === 4) {
+        const w1 = SH[a * N + i0 + 1], w2 = SH[a * N + i0 + 2], w3 = SH[a * N + i0 + 3];
+        for (let t = 0; t < T; t++) {
+          let v = acc[off + t];
+          v += w0 * h0[t];
+          v += w1 * h1[t];
+          v += w2 * h2[t];
+          v += w3 * h3[t];
+          acc[off + t] = v;
+        }
+      } else
+        for (let j = 0; j < n; j++) {
+          const w = SH[a * N + i0 + j];
+          const h = hs[j];
+          for (let t = 0; t < T; t++) acc[off + t] += w * h[t];
+        }
+    }
+  }
   const psi = new Float64Array(T * K);
   for (let t = 0; t < T; t++) {
     let fb = 0;
     for (let k = 0; k < K; k++) fb += Fc[t * K + k] * b[k];
-    for (let a = 0; a < K; a++) {
-      let v = 0;
-      for (let i = 0; i < N; i++) v += SH[a * N + i] * h[t * N + i];
-      psi[t * K + a] = v + Fc[t * K + a] * fb - lambda[a];
-    }
+    for (let a = 0; a < K; a++) psi[t * K + a] = acc[a * T + t] + Fc[t * K + a] * fb - lambda[a];
   }
   return { lambda, psi };
 }
@@ -441,8 +479,6 @@ interface RecentredFit {
   /** First stage only: Var(α̂)^+ (rank N − K). */
   readonly covAlphaPinv: Float64Array | null;
   readonly J: number;
-  /** The recentred moment series at the reported b (for λ). */
-  readonly h: Float64Array;
 }
 
 interface FitConfig {
@@ -473,19 +509,19 @@ function solveWeighted(X: Float64Array, W: Float64Array, mean: Float64Array, N: 
  * vector c: g(b) = E_T[R] − c − X b and h_t(b) − c. With c = 0 and block = null it reproduces
  * fitSdfGmm (tested). Returns null when a system is singular.
  */
-export function fitRecentred(ms: MomentData, c: Float64Array | null, cfg: FitConfig, secondMoment?: Float64Array): GmmResult<RecentredFit> {
+export function fitRecentred(ms: ColumnMoments, c: Float64Array | null, cfg: FitConfig, secondMoment?: Float64Array): GmmResult<RecentredFit> {
   const { T, N, K } = ms;
   const fmk = cfg.form === 'centred' && cfg.factorMeansKnown;
   const X = cfg.form === 'centred' ? ms.covRF : ms.crossRF;
   const mean = Float64Array.from(ms.meanR);
   if (c) for (let i = 0; i < N; i++) mean[i] -= c[i];
-  const longRun = (b: ArrayLike<number>) => withinBlockHac(recentredSeries(ms, b, cfg.form, fmk, c), T, N, cfg.lags, cfg.block);
+  const longRun = (b: ArrayLike<number>) => recentredLongRun(ms, b, cfg.form, fmk, c, cfg.lags, cfg.block);
   let W: Float64Array;
   if (cfg.weighting === 'identity') {
     W = new Float64Array(N * N);
     for (let i = 0; i < N; i++) W[i * N + i] = 1;
   } else {
-    const E = secondMoment ?? secondMomentMatrix(ms.R, T, N, ms.Rcols);
+    const E = secondMoment ?? secondMomentFromColumns(ms.Rcols, T, N);
     const L = cholesky(cfg.weighting === 'covariance' ? covarianceFromSecondMoment(E, ms.meanR) : E, N);
     if (!L) return gmmFailure('singular', 'The first-stage weighting matrix is singular on this draw.', 'W');
     W = choleskyInverse(L, N);
@@ -519,8 +555,7 @@ export function fitRecentred(ms: MomentData, c: Float64Array | null, cfg: FitCon
     for (let k = 0; k < K; k++) s -= X[i * K + k] * b[k];
     alpha[i] = s;
   }
-  const h = recentredSeries(ms, b, cfg.form, fmk, c);
-  const Sb = withinBlockHac(h, T, N, cfg.lags, cfg.block);
+  const Sb = longRun(b);
   const HS = matMul(H, K, N, Sb, N);
   const covB = new Float64Array(K * K);
   for (let a = 0; a < K; a++) for (let d = 0; d < K; d++) for (let i = 0; i < N; i++) covB[a * K + d] += (HS[a * N + i] * H[d * N + i]) / T;
@@ -551,7 +586,7 @@ export function fitRecentred(ms: MomentData, c: Float64Array | null, cfg: FitCon
   } else {
     J = df > 0 ? Math.max(0, T * quadForm(W, N, alpha)) : 0;
   }
-  return { ok: true, b, H, X, W, Wdrop, mean, covB, covAlphaPinv, J, h };
+  return { ok: true, b, H, X, W, Wdrop, mean, covB, covAlphaPinv, J };
 }
 
 // ---------------------------------------------------------------- plan
@@ -663,7 +698,9 @@ export function prepareBootstrap(input: BootstrapInput): GmmResult<{ plan: Boots
       ratioB[k] = s > 0 && st > 0 ? s / st : 1;
     }
     if (lambda && covLambda && ratioLambda) {
-      const { psi } = lambdaInfluence(m, fit.b, fit.H, h);
+      const { psi } = lambdaInfluence(m, fit.b, fit.H, (i, buf) => {
+        for (let t = 0; t < T; t++) buf[t] = h[t * N + i];
+      });
       const Lt = exactBlockCovariance(psi, T, K, blockLength);
       for (let k = 0; k < K; k++) {
         const s = seOf(covLambda, K, k);
@@ -734,18 +771,26 @@ export function runBootstrapDraws(plan: BootstrapPlan, options: BootstrapOptions
     factorMeansKnown: options.factorMeansKnown,
     block: plan.corrected ? plan.blockLength : null,
   };
+  // One buffer for every draw's returns and factors (a fresh 8·T·N-byte array per draw costs more in
+  // page faults and collection than the gather itself); nothing keeps a draw's moments past its draw.
+  const Rs = new Float64Array(T * N);
+  const Fs = new Float64Array(T * K);
   for (let d = from; d < to; d++) {
     const u = mulberry32(streamSeed(options.seed, d));
     const idx = bootstrapResample(T, options.scheme, plan.blockLength, u);
-    // Fresh arrays every draw: lib/gmm caches derived copies of a data array by its identity.
-    const Rs = new Float64Array(T * N);
-    const Fs = new Float64Array(T * K);
-    for (let r = 0; r < T; r++) {
-      Rs.set(R.subarray(idx[r] * N, idx[r] * N + N), r * N);
-      Fs.set(F.subarray(idx[r] * K, idx[r] * K + K), r * K);
+    // The draw's returns go straight into column-major order, the layout every kernel below reads:
+    // whole sample rows are read for 64 draw periods at a time, so the 64-value runs written into
+    // each column stay in cache (no row-major copy of the draw, no separate transposition).
+    for (let r0 = 0; r0 < T; r0 += 64) {
+      const r1 = Math.min(T, r0 + 64);
+      for (let r = r0; r < r1; r++) {
+        const src = idx[r] * N;
+        for (let i = 0; i < N; i++) Rs[i * T + r] = R[src + i];
+      }
     }
-    const ms = momentsFromPacked(Rs, Fs, T, N, K);
-    const second = options.weighting === 'identity' ? undefined : secondMomentMatrix(Rs, T, N, ms.Rcols);
+    for (let r = 0; r < T; r++) Fs.set(F.subarray(idx[r] * K, idx[r] * K + K), r * K);
+    const ms = momentsFromColumns(Rs, Fs, T, N, K);
+    const second = options.weighting === 'identity' ? undefined : secondMomentFromColumns(Rs, T, N);
     const f = fitRecentred(ms, plan.alpha, cfg, second);
     const row = f.ok ? drawStatistics(plan, f, ms, cfg) : null;
     if (!row) {
@@ -767,7 +812,7 @@ export function runBootstrapDraws(plan: BootstrapPlan, options: BootstrapOptions
 function drawStatistics(
   plan: BootstrapPlan,
   f: RecentredFit,
-  ms: MomentData,
+  ms: ColumnMoments,
   cfg: FitConfig,
 ): { J: number; t: number[]; tLambda: number[] | null; drop: number[]; jointWald: number | null; jointDrop: number | null } | null {
   const { T, N, K, fit } = plan;
@@ -795,7 +840,8 @@ function drawStatistics(
   }
   let tLambda: number[] | null = null;
   if (plan.lambda && plan.ratioLambda) {
-    const { lambda, psi } = lambdaInfluence(ms, f.b, f.H, f.h);
+    const fmk = cfg.form === 'centred' && cfg.factorMeansKnown;
+    const { lambda, psi } = lambdaInfluence(ms, f.b, f.H, sdfMomentColumns(ms, sdfIndex(ms, f.b, cfg.form), cfg.form, fmk, plan.alpha));
     const V = withinBlockHac(psi, T, K, cfg.lags, cfg.block);
     tLambda = [];
     for (let k = 0; k < K; k++) {

@@ -80,7 +80,11 @@ export function crossMoment(X: Float64Array, px: number, Y: Float64Array, py: nu
  * @param columns X column-major (p×T) when the caller has it (e.g. `MomentData.Rcols`); made here otherwise.
  */
 export function secondMomentMatrix(X: Float64Array, T: number, p: number, columns?: Float64Array): Float64Array {
-  const Xc = columns ?? toColumnMajor(X, T, p);
+  return secondMomentFromColumns(columns ?? toColumnMajor(X, T, p), T, p);
+}
+
+/** (1/T) X'X from the column-major copy Xc (p×T) alone. */
+export function secondMomentFromColumns(Xc: Float64Array, T: number, p: number): Float64Array {
   const S = crossProductColumns(Xc, T, p);
   for (let i = 0; i < S.length; i++) S[i] /= T;
   return S;
@@ -104,6 +108,49 @@ export function momentsFromPacked(R: Float64Array, F: Float64Array, T: number, N
   const crossRF = new Float64Array(N * K);
   for (let i = 0; i < N; i++) for (let k = 0; k < K; k++) crossRF[i * K + k] = covRF[i * K + k] + meanR[i] * meanF[k];
   return { T, N, K, R, F, Fc, meanR, meanF, sigmaF, covRF, crossRF, Rcols: toColumnMajor(R, T, N) };
+}
+
+/** The moments of {@link MomentData} without the row-major returns: enough for estimators that read the returns column by column. */
+export type ColumnMoments = Omit<MomentData, 'R'>;
+
+/**
+ * The moments of {@link momentsFromPacked} from column-major returns Rc (N×T) and row-major factors,
+ * with no row-major copy of the returns. Every sum runs over t in the same order as there, so the
+ * numbers are identical to the last bit (tests/gmm/moments-columns.test.ts). For resampled data
+ * (the bootstrap gathers each draw's columns straight from the sample's columns).
+ */
+export function momentsFromColumns(Rc: Float64Array, F: Float64Array, T: number, N: number, K: number): ColumnMoments {
+  const meanR = new Float64Array(N);
+  const meanF = columnMeans(F, T, K);
+  const Fc = centreColumns(F, T, K, meanF);
+  const sigmaF = crossMoment(Fc, K, Fc, K, T);
+  const FcT = new Float64Array(K * T);
+  for (let t = 0; t < T; t++) for (let k = 0; k < K; k++) FcT[k * T + t] = Fc[t * K + k];
+  const covRF = new Float64Array(N * K);
+  // each sum runs over t in order; up to four of them share a pass (independent additions)
+  for (let i = 0; i < N; i++) {
+    const off = i * T;
+    let sum = 0;
+    for (let t = 0; t < T; t++) sum += Rc[off + t];
+    meanR[i] = sum / T;
+    for (let k0 = 0; k0 < K; k0 += 4) {
+      const n = Math.min(4, K - k0);
+      const f0 = k0 * T, f1 = f0 + (n > 1 ? T : 0), f2 = f0 + (n > 2 ? 2 * T : 0), f3 = f0 + (n > 3 ? 3 * T : 0);
+      let v0 = 0, v1 = 0, v2 = 0, v3 = 0;
+      for (let t = 0; t < T; t++) {
+        const r = Rc[off + t];
+        v0 += r * FcT[f0 + t];
+        v1 += r * FcT[f1 + t];
+        v2 += r * FcT[f2 + t];
+        v3 += r * FcT[f3 + t];
+      }
+      const v = [v0, v1, v2, v3];
+      for (let j = 0; j < n; j++) covRF[i * K + k0 + j] = v[j] / T;
+    }
+  }
+  const crossRF = new Float64Array(N * K);
+  for (let i = 0; i < N; i++) for (let k = 0; k < K; k++) crossRF[i * K + k] = covRF[i * K + k] + meanR[i] * meanF[k];
+  return { T, N, K, F, Fc, meanR, meanF, sigmaF, covRF, crossRF, Rcols: Rc };
 }
 
 /**

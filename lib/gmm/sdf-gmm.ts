@@ -46,7 +46,7 @@ import {
   quadForm,
   toNested,
 } from './linalg';
-import { covarianceFromSecondMoment, prepareMoments, secondMomentMatrix, type MomentData } from './moments';
+import { covarianceFromSecondMoment, prepareMoments, secondMomentMatrix, type ColumnMoments, type MomentData } from './moments';
 
 export type GmmStage = 'first' | 'second' | 'iterated';
 export type FirstStageWeighting = 'identity' | 'second-moment' | 'covariance';
@@ -133,7 +133,7 @@ export function sdfMomentSeries(m: MomentData, b: ArrayLike<number>, form: SdfFo
 }
 
 /** s_t = (f_t − μ)'b (centred) or f_t'b (uncentred), length T. */
-function sdfIndex(m: MomentData, b: ArrayLike<number>, form: SdfForm): Float64Array {
+export function sdfIndex(m: ColumnMoments, b: ArrayLike<number>, form: SdfForm): Float64Array {
   const { T, K, F, Fc } = m;
   const X = form === 'uncentred' ? F : Fc;
   const s = new Float64Array(T);
@@ -147,24 +147,40 @@ function sdfIndex(m: MomentData, b: ArrayLike<number>, form: SdfForm): Float64Ar
 }
 
 /**
- * HAC long-run covariance Ŝ(b) of the SDF moment series h_t(b) (N×N), generated column by
- * column from the column-major returns (no T×N intermediate).
+ * Column i of h_t(b) minus c_i (c null: nothing subtracted), written into buf[0..T), from the
+ * column-major returns and the index s = sdfIndex(m, b, form): the same arithmetic, element by
+ * element, as {@link sdfMomentSeries}.
  */
-export function sdfLongRunCovariance(m: MomentData, b: ArrayLike<number>, form: SdfForm, factorMeansKnown: boolean, lags: number): Float64Array {
-  const { T, N, meanR } = m;
+export function sdfMomentColumns(
+  m: ColumnMoments,
+  s: Float64Array,
+  form: SdfForm,
+  factorMeansKnown: boolean,
+  c: Float64Array | null = null,
+): (i: number, buf: Float64Array) => void {
+  const { T, meanR } = m;
   const Rc = m.Rcols;
-  const s = sdfIndex(m, b, form);
   const corrected = form === 'centred' && !factorMeansKnown;
-  return hacFromColumns(T, N, lags, (i, buf) => {
+  // (h − c_i) rounds h first, as a subtraction from the stored series would; c null subtracts 0
+  return (i, buf) => {
     const off = i * T;
+    const ci = c ? c[i] : 0;
     if (corrected) {
       const mi = meanR[i];
       for (let t = 0; t < T; t++) {
         const r = Rc[off + t];
-        buf[t] = r - (r - mi) * s[t];
+        buf[t] = r - (r - mi) * s[t] - ci;
       }
-    } else for (let t = 0; t < T; t++) buf[t] = Rc[off + t] * (1 - s[t]);
-  });
+    } else for (let t = 0; t < T; t++) buf[t] = Rc[off + t] * (1 - s[t]) - ci;
+  };
+}
+
+/**
+ * HAC long-run covariance Ŝ(b) of the SDF moment series h_t(b) (N×N), generated column by
+ * column from the column-major returns (no T×N intermediate).
+ */
+export function sdfLongRunCovariance(m: ColumnMoments, b: ArrayLike<number>, form: SdfForm, factorMeansKnown: boolean, lags: number): Float64Array {
+  return hacFromColumns(m.T, m.N, lags, sdfMomentColumns(m, sdfIndex(m, b, form), form, factorMeansKnown));
 }
 
 interface WeightedSolution {
