@@ -32,6 +32,7 @@ import {
   type SweepPartial,
 } from '../lib/gmm/index';
 import { createJobPool, defaultThreadCount, type JobPool } from '../server/jobs/pool';
+import { shareInput } from '../server/jobs/shared-input';
 import { openDb } from '../server/db/client';
 import { createApp } from '../server/app';
 import { createMailer } from '../server/services/mailer';
@@ -61,11 +62,13 @@ function ranges(total: number, chunks: number, offset = 0): [number, number][] {
   return out;
 }
 
-async function sweepOnPool(pool: JobPool, input: SubsetSweepInput, key: string) {
+async function sweepOnPool(pool: JobPool, plain: SubsetSweepInput, key: string) {
+  const input = shareInput(plain); // as the runner does, once per job
   const parts = await Promise.all(ranges(4095, 32, 1).map(([from, to]) => pool.run<SweepPartial>({ op: 'subset-sweep', key, input, from, to })));
   return pool.run({ op: 'subset-sweep-summary', key, input, parts });
 }
-async function bootstrapOnPool(pool: JobPool, input: BootstrapInput, key: string, draws: number) {
+async function bootstrapOnPool(pool: JobPool, plain: BootstrapInput, key: string, draws: number) {
+  const input = shareInput(plain);
   const batches = await Promise.all(ranges(draws, 40).map(([from, to]) => pool.run<BootstrapBatch>({ op: 'bootstrap', key, input, from, to })));
   return pool.run({ op: 'bootstrap-summary', key, input, batches });
 }

@@ -22,6 +22,7 @@ import { availableParallelism, loadavg } from 'node:os';
 import { createJobPool, defaultThreadCount, type JobPool } from '../server/jobs/pool';
 import type { ChunkTask } from '../server/jobs/tasks';
 import { chunkRanges } from '../server/jobs/runner';
+import { shareInput } from '../server/jobs/shared-input';
 import { QueueClient } from '../server/jobs/queue-client';
 import type { CheckInput } from '../server/services/jobs-input';
 import type { BootstrapBatch, BootstrapInput, SweepPartial } from '../lib/gmm/index';
@@ -75,8 +76,9 @@ async function embedded(check: Extract<CheckInput, { kind: 'bootstrap' }>): Prom
   const ranges = chunkRanges(check.total, 'bootstrap');
   const key = 'bench-embedded';
   const t0 = performance.now();
-  const batches = await chunksOnPool<BootstrapBatch>(pool, ranges, ([from, to]) => ({ op: 'bootstrap', key, input: check.input, from, to }));
-  const result = await pool.run({ op: 'bootstrap-summary', key, input: check.input, batches });
+  const input = shareInput(check.input); // as the runner does, once per job
+  const batches = await chunksOnPool<BootstrapBatch>(pool, ranges, ([from, to]) => ({ op: 'bootstrap', key, input, from, to }));
+  const result = await pool.run({ op: 'bootstrap-summary', key, input, batches });
   const ms = performance.now() - t0;
   await pool.destroy();
   return { ms, result };
@@ -167,8 +169,9 @@ async function sweepEmbedded(check: Extract<CheckInput, { kind: 'subset-sweep' }
   const ranges = chunkRanges(check.total, 'subset-sweep');
   const key = 'bench-sweep-embedded';
   const t0 = performance.now();
-  const parts = await chunksOnPool<SweepPartial>(pool, ranges, ([from, to]) => ({ op: 'subset-sweep', key, input: check.input, from: from + 1, to: to + 1 }));
-  const result = await pool.run({ op: 'subset-sweep-summary', key, input: check.input, parts });
+  const input = shareInput(check.input);
+  const parts = await chunksOnPool<SweepPartial>(pool, ranges, ([from, to]) => ({ op: 'subset-sweep', key, input, from: from + 1, to: to + 1 }));
+  const result = await pool.run({ op: 'subset-sweep-summary', key, input, parts });
   const ms = performance.now() - t0;
   await pool.destroy();
   return { ms, result };

@@ -19,6 +19,7 @@ import { UnrecoverableError, Worker, type Job } from 'bullmq';
 import { setMaxListeners } from 'node:events';
 import { ChunkFailedError, createJobPool, type JobPool } from './pool';
 import type { ChunkTask } from './tasks';
+import { shareInput, type SharedInput } from './shared-input';
 import type { BootstrapBatch, RollingPoint, SweepPartial } from '../../lib/gmm/index';
 import {
   CANCELLED_REASON,
@@ -61,6 +62,14 @@ export interface QueueWorker {
 
 type Payload = ChunkJobData | SummaryJobData | EstimateJobData;
 
+/** A flow's stored input, and for a check its input shared with the pool threads. */
+type Loaded = { stored: StoredRunInput } | { stored: StoredInput; shared: SharedInput<StoredInput['input']> };
+
+/** The shared copy of a check's input, typed as the check's own input. */
+function sharedOf<S extends StoredInput>(loaded: Loaded, _stored: S): SharedInput<S['input']> {
+  return (loaded as { shared: SharedInput<S['input']> }).shared;
+}
+
 export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
   const log = opts.log ?? ((l: string) => console.log(l));
   // no API shares this process: the threads run at normal priority (nice 0)
@@ -75,16 +84,20 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
   sub.on('error', () => undefined);
   /** Running chunks' abort controllers, by flow. */
   const running = new Map<string, Set<AbortController>>();
-  /** Inputs fetched from Redis, by flow (the last few; a summary drops its flow's). */
-  const inputs = new Map<string, Promise<StoredInput | StoredRunInput>>();
+  /**
+   * Inputs fetched from Redis, by flow (the last few; a summary drops its flow's), each with a
+   * {@link shareInput} copy of a check's input for the pool threads (made once per flow here).
+   */
+  const inputs = new Map<string, Promise<Loaded>>();
   let completed = 0;
 
-  const loadInput = (flow: string): Promise<StoredInput | StoredRunInput> => {
+  const loadInput = (flow: string): Promise<Loaded> => {
     let p = inputs.get(flow);
     if (!p) {
-      p = redis.get(inputKey(flow)).then((text) => {
+      p = redis.get(inputKey(flow)).then((text): Loaded => {
         if (text === null) throw new UnrecoverableError(`The input of ${flow} is no longer in Redis (expired or removed); restart the job.`);
-        return decode<StoredInput | StoredRunInput>(text);
+        const stored = decode<StoredInput | StoredRunInput>(text);
+        return stored.kind === 'estimate' ? { stored } : { stored, shared: shareInput(stored.input) };
       });
       p.catch(() => inputs.delete(flow));
       inputs.set(flow, p);
@@ -127,7 +140,8 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
   const processor = async (job: Job<Payload>): Promise<string> => {
     const d = job.data;
     if ((await redis.exists(cancelKey(d.flow))) === 1) throw new UnrecoverableError(CANCELLED_REASON);
-    const stored = await loadInput(d.flow);
+    const loaded = await loadInput(d.flow);
+    const stored = loaded.stored;
     if (stored.kind === 'estimate') {
       // a heavy run: the whole estimation in one task (estimateRun, as the API's synchronous path)
       inputs.delete(d.flow);
@@ -138,10 +152,10 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
     if (job.name === 'chunk') {
       const c = d as ChunkJobData;
       let out: unknown;
-      if (stored.kind === 'bootstrap') out = await runInPool<BootstrapBatch>(c.flow, { op: 'bootstrap', key: c.flow, input: stored.input, from: c.from, to: c.to });
+      if (stored.kind === 'bootstrap') out = await runInPool<BootstrapBatch>(c.flow, { op: 'bootstrap', key: c.flow, input: sharedOf(loaded, stored), from: c.from, to: c.to });
       else if (stored.kind === 'subset-sweep')
-        out = await runInPool<SweepPartial>(c.flow, { op: 'subset-sweep', key: c.flow, input: stored.input, from: c.from + 1, to: c.to + 1 });
-      else if (stored.kind === 'rolling') out = await runInPool<RollingPoint[]>(c.flow, { op: 'rolling', key: c.flow, input: stored.input, from: c.from, to: c.to });
+        out = await runInPool<SweepPartial>(c.flow, { op: 'subset-sweep', key: c.flow, input: sharedOf(loaded, stored), from: c.from + 1, to: c.to + 1 });
+      else if (stored.kind === 'rolling') out = await runInPool<RollingPoint[]>(c.flow, { op: 'rolling', key: c.flow, input: sharedOf(loaded, stored), from: c.from, to: c.to });
       // hold-out checks are cheap (one estimate per block) and stay in the API's own pool (runner.ts)
       else throw new UnrecoverableError(`${stored.kind} checks are not run by queue workers`);
       completed++;
@@ -153,10 +167,10 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
       .sort((a, b) => a.from - b.from);
     let result: unknown;
     if (stored.kind === 'bootstrap')
-      result = await runInPool(d.flow, { op: 'bootstrap-summary', key: d.flow, input: stored.input, batches: values.map((v) => v.value as BootstrapBatch) });
+      result = await runInPool(d.flow, { op: 'bootstrap-summary', key: d.flow, input: sharedOf(loaded, stored), batches: values.map((v) => v.value as BootstrapBatch) });
     else if (stored.kind === 'subset-sweep')
-      result = await runInPool(d.flow, { op: 'subset-sweep-summary', key: d.flow, input: stored.input, parts: values.map((v) => v.value as SweepPartial) });
-    else if (stored.kind === 'rolling') result = await runInPool(d.flow, { op: 'rolling-summary', key: d.flow, input: stored.input, points: values.flatMap((v) => v.value as RollingPoint[]) });
+      result = await runInPool(d.flow, { op: 'subset-sweep-summary', key: d.flow, input: sharedOf(loaded, stored), parts: values.map((v) => v.value as SweepPartial) });
+    else if (stored.kind === 'rolling') result = await runInPool(d.flow, { op: 'rolling-summary', key: d.flow, input: sharedOf(loaded, stored), points: values.flatMap((v) => v.value as RollingPoint[]) });
     else throw new UnrecoverableError(`${stored.kind} checks are not run by queue workers`);
     inputs.delete(d.flow);
     completed++;

@@ -23,6 +23,7 @@ import { buildCheckInput, type CheckInput } from '../services/jobs-input';
 import { JOB_KIND_LABELS, type JobMode } from '../../shared/jobs';
 import { createJobPool, type JobPool } from './pool';
 import type { ChunkTask, HoldoutBlocks } from './tasks';
+import { shareInput } from './shared-input';
 import { QueueClient } from './queue-client';
 import { CANCELLED_REASON, flowId, sleep } from './queue-shared';
 import { runResultColumns } from '../services/run-shape';
@@ -235,7 +236,7 @@ export class JobRunner {
     try {
       let result: unknown;
       if (check.kind === 'bootstrap') {
-        const input = check.input;
+        const input = shareInput(check.input);
         const batches = await mapLimited(ranges, limit, async ([from, to]) => {
           const b = await pool.run<BootstrapBatch>({ op: 'bootstrap', key, input, from, to }, signal);
           record(to - from);
@@ -243,7 +244,7 @@ export class JobRunner {
         });
         result = await pool.run({ op: 'bootstrap-summary', key, input, batches } satisfies ChunkTask, signal);
       } else if (check.kind === 'subset-sweep') {
-        const input = check.input;
+        const input = shareInput(check.input);
         const parts = await mapLimited(ranges, limit, async ([from, to]) => {
           const r = await pool.run<SweepPartial>({ op: 'subset-sweep', key, input, from: from + 1, to: to + 1 }, signal);
           record(to - from);
@@ -254,7 +255,7 @@ export class JobRunner {
         result = await pool.run({ op: 'holdout-split', key, input: check.input } satisfies ChunkTask, signal);
         record(1);
       } else if (check.kind === 'holdout') {
-        const input = check.input;
+        const input = shareInput(check.input);
         const parts = await mapLimited(ranges, limit, async ([from, to]) => {
           const r = await pool.run<HoldoutBlocks>({ op: 'holdout-rolling', key, input, from, to }, signal);
           record(to - from);
@@ -262,7 +263,7 @@ export class JobRunner {
         });
         result = await pool.run({ op: 'holdout-rolling-summary', key, input, parts } satisfies ChunkTask, signal);
       } else {
-        const input = check.input;
+        const input = shareInput(check.input);
         const parts = await mapLimited(ranges, limit, async ([from, to]) => {
           const r = await pool.run<RollingPoint[]>({ op: 'rolling', key, input, from, to }, signal);
           record(to - from);

@@ -6,8 +6,10 @@
  * A heavy run (server/jobs/run-estimator.ts) is one task 'estimate': estimateRun, the same pure
  * function the synchronous POST /runs calls.
  *
- * Each chunk carries the job's input; the worker keeps the last few prepared plans (keyed by job
- * and attempt) so the shared work (the original fit, the N×N products) is done once per thread.
+ * Each chunk carries the job's input, normally as a {@link SharedInput}: serialised once per job
+ * into a SharedArrayBuffer, which a thread receives without a copy. A thread reads it back once per
+ * job and keeps the last few inputs and prepared plans (keyed by job and attempt), so the shared
+ * work (decoding the series, the original fit, the N×N products) is done once per thread.
  */
 import {
   estimateWindows,
@@ -38,6 +40,8 @@ import {
 } from '../../lib/gmm/index';
 import { readlinkSync } from 'node:fs';
 import { getPriority } from 'node:os';
+import { deserialize } from 'node:v8';
+import { isShared, type TaskInput } from './shared-input';
 import type { ChunkFailure } from './pool';
 import { estimateRun, type RunEstimateInput } from '../services/run-estimate';
 
@@ -45,15 +49,15 @@ export type ChunkTask =
   | { op: 'ping' }
   /** A heavy run's whole estimation (one task: the ledger is one lib/gmm call). */
   | { op: 'estimate'; task: RunEstimateInput }
-  | { op: 'bootstrap'; key: string; input: BootstrapInput; from: number; to: number }
-  | { op: 'bootstrap-summary'; key: string; input: BootstrapInput; batches: BootstrapBatch[] }
-  | { op: 'subset-sweep'; key: string; input: SubsetSweepInput; from: number; to: number }
-  | { op: 'subset-sweep-summary'; key: string; input: SubsetSweepInput; parts: SweepPartial[] }
-  | { op: 'rolling'; key: string; input: RollingInput; from: number; to: number }
-  | { op: 'rolling-summary'; key: string; input: RollingInput; points: RollingPoint[] }
+  | { op: 'bootstrap'; key: string; input: TaskInput<BootstrapInput>; from: number; to: number }
+  | { op: 'bootstrap-summary'; key: string; input: TaskInput<BootstrapInput>; batches: BootstrapBatch[] }
+  | { op: 'subset-sweep'; key: string; input: TaskInput<SubsetSweepInput>; from: number; to: number }
+  | { op: 'subset-sweep-summary'; key: string; input: TaskInput<SubsetSweepInput>; parts: SweepPartial[] }
+  | { op: 'rolling'; key: string; input: TaskInput<RollingInput>; from: number; to: number }
+  | { op: 'rolling-summary'; key: string; input: TaskInput<RollingInput>; points: RollingPoint[] }
   | { op: 'holdout-split'; key: string; input: HoldoutInput }
-  | { op: 'holdout-rolling'; key: string; input: RollingHoldoutInput; from: number; to: number }
-  | { op: 'holdout-rolling-summary'; key: string; input: RollingHoldoutInput; parts: HoldoutBlocks[] };
+  | { op: 'holdout-rolling'; key: string; input: TaskInput<RollingHoldoutInput>; from: number; to: number }
+  | { op: 'holdout-rolling-summary'; key: string; input: TaskInput<RollingHoldoutInput>; parts: HoldoutBlocks[] };
 
 /** Blocks [from, to) of a rolling hold-out, with each block's α₂'α₂ and m₂'m₂ for pooling. */
 export interface HoldoutBlocks {
@@ -127,6 +131,23 @@ function cached<T extends BootstrapPlan | SweepPlan>(key: string, make: () => Gm
   return plan;
 }
 
+/** Inputs read back from their shared buffers, by job key (the last few). */
+const inputs = new Map<string, unknown>();
+function inputOf<T>(key: string, v: TaskInput<T>): T {
+  if (!isShared(v)) return v;
+  if (inputs.has(key)) return inputs.get(key) as T;
+  const value = deserialize(v.shared) as T;
+  inputs.set(key, value);
+  while (inputs.size > 4) inputs.delete(inputs.keys().next().value as string);
+  return value;
+}
+
+/** A summary is a job's last task: its input and plan leave this thread's caches. */
+function forget(key: string): void {
+  plans.delete(key);
+  inputs.delete(key);
+}
+
 const failed = (f: GmmFailure): ChunkFailure => ({ chunkFailure: f });
 
 /** Runs one chunk (in a worker thread; also callable in-process). */
@@ -137,37 +158,47 @@ export function runChunk(task: ChunkTask): unknown {
     case 'estimate':
       return estimateRun(task.task);
     case 'bootstrap': {
-      const p = cached(task.key, () => prepareBootstrap(task.input));
-      return p.ok ? runBootstrapDraws(p.plan, task.input.options, task.from, task.to) : failed(p);
+      const input = inputOf(task.key, task.input);
+      const p = cached(task.key, () => prepareBootstrap(input));
+      return p.ok ? runBootstrapDraws(p.plan, input.options, task.from, task.to) : failed(p);
     }
     case 'bootstrap-summary': {
-      const p = cached(task.key, () => prepareBootstrap(task.input));
-      plans.delete(task.key);
-      return p.ok ? summariseBootstrap(p.plan, task.input, task.batches) : failed(p);
+      const input = inputOf(task.key, task.input);
+      const p = cached(task.key, () => prepareBootstrap(input));
+      forget(task.key);
+      return p.ok ? summariseBootstrap(p.plan, input, task.batches) : failed(p);
     }
     case 'subset-sweep': {
-      const p = cached(task.key, () => prepareSubsetSweep(task.input));
+      const input = inputOf(task.key, task.input);
+      const p = cached(task.key, () => prepareSubsetSweep(input));
       return p.ok ? sweepChunk(p.plan, task.from, task.to) : failed(p);
     }
     case 'subset-sweep-summary': {
-      const p = cached(task.key, () => prepareSubsetSweep(task.input));
-      plans.delete(task.key);
+      const input = inputOf(task.key, task.input);
+      const p = cached(task.key, () => prepareSubsetSweep(input));
+      forget(task.key);
       // exact merge of the chunks' partials; the one-SE figures are one θ̂-only pass inside the summary
       return p.ok ? summariseSubsetSweep(p.plan, mergeSweepPartials(p.plan, task.parts)) : failed(p);
     }
     case 'rolling':
-      return estimateWindows(task.input, task.from, task.to);
-    case 'rolling-summary':
-      return summariseRolling(task.input, task.points);
+      return estimateWindows(inputOf(task.key, task.input), task.from, task.to);
+    case 'rolling-summary': {
+      const input = inputOf(task.key, task.input);
+      forget(task.key);
+      return summariseRolling(input, task.points);
+    }
     case 'holdout-split': {
       const r = holdoutPricing(task.input);
       if (!r.ok) return failed({ ...r, message: `The hold-out could not be estimated: ${r.message}` });
       return { mode: 'split', ...r };
     }
     case 'holdout-rolling':
-      return holdoutRollingBlocks(task.input, task.from, task.to);
-    case 'holdout-rolling-summary':
-      return { mode: 'rolling', ...summariseHoldoutBlocks(task.input, task.parts) };
+      return holdoutRollingBlocks(inputOf(task.key, task.input), task.from, task.to);
+    case 'holdout-rolling-summary': {
+      const input = inputOf(task.key, task.input);
+      forget(task.key);
+      return { mode: 'rolling', ...summariseHoldoutBlocks(input, task.parts) };
+    }
   }
 }
 

@@ -1,12 +1,15 @@
 /**
  * The worker pool under vitest: worker threads load the TypeScript task module through
  * server/jobs/worker.mjs (tsx registered in the worker), a chunk computed in a worker equals the
- * same chunk computed in process (identity), and an AbortSignal stops a running chunk.
+ * same chunk computed in process (identity), a job input shared once through a SharedArrayBuffer
+ * gives the same chunks as a plain one, and an AbortSignal stops a running chunk.
  */
 import { afterAll, describe, expect, it } from 'vitest';
 import { API_POOL_NICE, ChunkFailedError, createJobPool, defaultThreadCount } from '../../server/jobs/pool';
 import { gmmFailureMessage } from '../../shared/gmm-messages';
 import { runChunk, type ChunkTask } from '../../server/jobs/tasks';
+import { shareInput } from '../../server/jobs/shared-input';
+import { deserialize } from 'node:v8';
 import { chunkRanges } from '../../server/jobs/runner';
 import { simulateEconomy, zeroCovarianceEconomy } from '../gmm/helpers';
 import type { BootstrapBatch, SweepPartial } from '../../lib/gmm/index';
@@ -57,6 +60,20 @@ describe('job pool', () => {
     expect(part.ranges).toEqual([[1, 8]]);
     expect(part.models).toBe(7);
     expect(part).toEqual(runChunk(sweep));
+  });
+
+  it('a shared input (one SharedArrayBuffer per job) gives every chunk the numbers of the plain input, −0 and all', async () => {
+    // identity: the same chunks from a plain input in process and from the shared copy in the thread
+    const input = { returns: e.returns.map((r, t) => (t === 3 ? [-0, ...r.slice(1)] : r)), factors: e.factors, factorNames: names, options: { stage: 'second', weighting: 'identity', lags: 2, form: 'centred', factorMeansKnown: false, scheme: 'iid', draws: 99, seed: 5 } } as const;
+    const shared = shareInput(input);
+    expect(shared.shared.buffer).toBeInstanceOf(SharedArrayBuffer);
+    expect(Object.is((deserialize(shared.shared) as typeof input).returns[3][0], -0)).toBe(true);
+    const key = 'pool-test-shared';
+    const chunks = [[0, 20], [20, 45], [45, 99]] as const;
+    const inWorker = await Promise.all(chunks.map(([from, to]) => pool.run<BootstrapBatch>({ op: 'bootstrap', key, input: shared, from, to })));
+    chunks.forEach(([from, to], i) => expect(inWorker[i]).toEqual(runChunk({ op: 'bootstrap', key: `${key}-plain`, input, from, to })));
+    const summary = await pool.run({ op: 'bootstrap-summary', key, input: shared, batches: inWorker });
+    expect(summary).toEqual(runChunk({ op: 'bootstrap-summary', key: `${key}-plain`, input, batches: inWorker }));
   });
 
   it('an aborted signal stops a running chunk with an AbortError and the pool keeps working', async () => {
