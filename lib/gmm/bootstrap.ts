@@ -82,12 +82,12 @@
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { chiSquareSf, normalTwoSidedP } from './distributions';
 import { GmmInputError, gmmFailure, type GmmResult } from './errors';
-import { defaultLag, hacCovariance, hacFromColumns } from './hac';
+import { defaultLag, hacCovariance, hacFromColumnRanges } from './hac';
 import { dropTester } from './drop-test';
 import { cholesky, choleskyInverse, choleskySolve, fromNested, matMul, matTMul, pinvSymmetricRank, quadForm, spdInverse, toNested } from './linalg';
 import { covarianceFromSecondMoment, crossMoment, momentsFromColumns, momentsFromPacked, secondMomentFromColumns, type ColumnMoments, type MomentData } from './moments';
 import { fitPremia } from './premia';
-import { fitSdfGmm, sdfIndex, sdfLongRunCovariance, sdfMomentColumns, sdfMomentSeries, type FirstStageWeighting, type GmmStage, type SdfForm, type SdfGmmFit } from './sdf-gmm';
+import { fitSdfGmm, sdfIndex, sdfLongRunCovariance, sdfMomentColumns, sdfMomentSeries, type ColumnRangeFill, type FirstStageWeighting, type GmmStage, type SdfForm, type SdfGmmFit } from './sdf-gmm';
 import { validateMatrices } from './validate';
 import { waldJoint } from './wald';
 import { mulberry32 } from './random';
@@ -403,13 +403,28 @@ function objective(X: Float64Array, W: Float64Array, m: Float64Array, N: number,
 export function recentredLongRun(m: ColumnMoments, b: ArrayLike<number>, form: SdfForm, fmk: boolean, c: Float64Array | null, lags: number, blockLength: number | null): Float64Array {
   const { T, N } = m;
   const column = sdfMomentColumns(m, sdfIndex(m, b, form), form, fmk, c);
-  if (blockLength === null || lags === 0 || blockLength >= T) return hacFromColumns(T, N, lags, column);
+  if (blockLength === null || lags === 0 || blockLength >= T) return hacFromColumnRanges(T, N, lags, column);
   const n = Math.ceil(T / blockLength);
   const Tp = T + (n - 1) * lags;
-  const h = new Float64Array(T);
-  const S = hacFromColumns(Tp, N, lags, (i, buf) => {
-    column(i, h);
-    for (let t = 0; t < T; t++) buf[t + Math.floor(t / blockLength) * lags] = h[t];
+  // padded row u: block j = floor(u / (ℓ + L)); its first ℓ rows are periods jℓ .., the next L are zero
+  const period = blockLength + lags;
+  const dataOf = (u: number) => {
+    const j = Math.floor(u / period);
+    return { t: j * blockLength + Math.min(u - j * period, blockLength), gap: u - j * period >= blockLength };
+  };
+  let h = new Float64Array(0);
+  const S = hacFromColumnRanges(Tp, N, lags, (i, u0, u1, buf) => {
+    // periods [ta, tb) have their rows in [u0, u1)
+    const ta = dataOf(u0).t;
+    const last = dataOf(u1 - 1);
+    const tb = last.gap ? last.t : last.t + 1;
+    if (h.length < tb - ta) h = new Float64Array(tb - ta);
+    if (tb > ta) column(i, ta, tb, h);
+    for (let u = u0; u < u1; u++) {
+      const j = Math.floor(u / period);
+      const o = u - j * period;
+      buf[u - u0] = o < blockLength ? h[j * blockLength + o - ta] : 0;
+    }
   });
   const scale = Tp / T;
   for (let i = 0; i < S.length; i++) S[i] *= scale;
@@ -421,7 +436,7 @@ export function recentredLongRun(m: ColumnMoments, b: ArrayLike<number>, form: S
  * with h_t the (recentred) moment series, read one column at a time through `column(i, buf)`.
  * The sum over assets runs in asset order for every t, as a row-by-row loop would. T×K row-major.
  */
-export function lambdaInfluence(m: ColumnMoments, b: Float64Array, H: Float64Array, column: (i: number, buf: Float64Array) => void): { lambda: Float64Array; psi: Float64Array } {
+export function lambdaInfluence(m: ColumnMoments, b: Float64Array, H: Float64Array, column: ColumnRangeFill): { lambda: Float64Array; psi: Float64Array } {
   const { T, N, K, Fc, sigmaF } = m;
   const lambda = new Float64Array(K);
   for (let a = 0; a < K; a++) for (let c = 0; c < K; c++) lambda[a] += sigmaF[a * K + c] * b[c];
@@ -432,7 +447,7 @@ export function lambdaInfluence(m: ColumnMoments, b: Float64Array, H: Float64Arr
   const hs = [new Float64Array(T), new Float64Array(T), new Float64Array(T), new Float64Array(T)];
   for (let i0 = 0; i0 < N; i0 += 4) {
     const n = Math.min(4, N - i0);
-    for (let j = 0; j < n; j++) column(i0 + j, hs[j]);
+    for (let j = 0; j < n; j++) column(i0 + j, 0, T, hs[j]);
     const [h0, h1, h2, h3] = hs;
     for (let a = 0; a < K; a++) {
       const off = a * T;
@@ -698,8 +713,8 @@ export function prepareBootstrap(input: BootstrapInput): GmmResult<{ plan: Boots
       ratioB[k] = s > 0 && st > 0 ? s / st : 1;
     }
     if (lambda && covLambda && ratioLambda) {
-      const { psi } = lambdaInfluence(m, fit.b, fit.H, (i, buf) => {
-        for (let t = 0; t < T; t++) buf[t] = h[t * N + i];
+      const { psi } = lambdaInfluence(m, fit.b, fit.H, (i, t0, t1, buf) => {
+        for (let t = t0; t < t1; t++) buf[t - t0] = h[t * N + i];
       });
       const Lt = exactBlockCovariance(psi, T, K, blockLength);
       for (let k = 0; k < K; k++) {

@@ -31,7 +31,7 @@
  */
 import { GmmInputError } from './errors';
 import { toNested } from './linalg';
-import { wasmLayout, wasmSymmetricCrossProduct, wasmWorkArea } from './syrk-wasm';
+import { KERNEL_CHUNK, wasmBlockedCrossProduct, wasmLayout, wasmSymmetricCrossProduct, wasmWorkArea } from './syrk-wasm';
 
 let simdEnabled = true;
 
@@ -224,6 +224,66 @@ export function hacFromColumns(
     windowSumsInto(buf, T, L, Qc, a * stride);
   }
   const S = work ? wasmSymmetricCrossProduct(M, p) : symmetricCrossProduct(Qc, M, p);
+  const scale = 1 / (T * (L + 1));
+  for (let i = 0; i < S.length; i++) S[i] *= scale;
+  return S;
+}
+
+/**
+ * Window sums out[off + (i − i0)] for the windows i ∈ [i0, i1) of {@link windowSumsInto}, from
+ * x[t0 ..] held in xr (xr[k] = x[t0 + k]; t0 ≤ max(0, i0 − L), and xr reaches t = min(T, i1) − 1).
+ * i0 must be a multiple of 64: the sums are then refreshed at the same windows, and every window's
+ * value is the one windowSumsInto gives, to the last bit.
+ */
+function windowSumsRange(xr: Float64Array, t0: number, T: number, L: number, i0: number, i1: number, out: Float64Array, off: number): void {
+  if (L === 0) {
+    for (let i = i0; i < i1; i++) out[off + i - i0] = xr[i - t0];
+    return;
+  }
+  let q = 0;
+  for (let i = i0; i < i1; i++) {
+    const m = i - L;
+    if ((i & 63) === 0) {
+      q = 0;
+      const hi = Math.min(T - 1, m + L);
+      for (let t = Math.max(0, m); t <= hi; t++) q += xr[t - t0];
+    } else {
+      const add = m + L;
+      if (add < T) q += xr[add - t0];
+      if (m >= 1) q -= xr[m - 1 - t0];
+    }
+    out[off + i - i0] = q;
+  }
+}
+
+/**
+ * {@link hacFromColumns} for series that can be generated over any range of periods:
+ * `fill(a, t0, t1, buf)` writes x_a,t for t ∈ [t0, t1) into buf[0 .. t1 − t0). The window sums are
+ * made 512 rows at a time and each block goes straight into the SIMD kernel, so the (T+L)×p window
+ * sums are never stored whole and the kernel reads them from cache, not memory; the numbers are
+ * identical to hacFromColumns's (tests/gmm/hac-kernel.test.ts). Without the kernel, with the
+ * TypeScript kernel chosen, or for a lag longer than a block, it is hacFromColumns.
+ */
+export function hacFromColumnRanges(T: number, p: number, lags: number, fill: (a: number, t0: number, t1: number, buf: Float64Array) => void): Float64Array {
+  const L = lags;
+  const blocked = simdEnabled && L <= KERNEL_CHUNK ? wasmBlockedCrossProduct(KERNEL_CHUNK, p) : null;
+  if (!blocked) return hacFromColumns(T, p, L, (a, buf) => fill(a, 0, T, buf));
+  const M = T + L;
+  const xr = new Float64Array(KERNEL_CHUNK + L);
+  const { work } = blocked;
+  for (let i0 = 0; i0 < M; i0 += KERNEL_CHUNK) {
+    const i1 = Math.min(M, i0 + KERNEL_CHUNK);
+    const rows = i1 - i0;
+    const stride = rows + (rows & 1);
+    const t0 = Math.max(0, i0 - L);
+    const t1 = Math.min(T, i1);
+    for (let a = 0; a < p; a++) {
+      if (t1 > t0) fill(a, t0, t1, xr);
+      windowSumsRange(xr, t0, T, L, i0, i1, work, a * stride);
+    }
+    blocked.add(rows);
+  }
+  const S = blocked.result();
   const scale = 1 / (T * (L + 1));
   for (let i = 0; i < S.length; i++) S[i] *= scale;
   return S;

@@ -35,7 +35,7 @@
 import { chiSquareSf } from './distributions';
 import type { GmmFailure } from './errors';
 import { validateMatrices } from './validate';
-import { hacFromColumns } from './hac';
+import { hacFromColumnRanges } from './hac';
 import {
   cholesky,
   choleskyInverse,
@@ -146,8 +146,11 @@ export function sdfIndex(m: ColumnMoments, b: ArrayLike<number>, form: SdfForm):
   return s;
 }
 
+/** Writes periods [t0, t1) of column i of a T×p series into buf[0 .. t1 − t0). */
+export type ColumnRangeFill = (i: number, t0: number, t1: number, buf: Float64Array) => void;
+
 /**
- * Column i of h_t(b) minus c_i (c null: nothing subtracted), written into buf[0..T), from the
+ * Column i of h_t(b) minus c_i (c null: nothing subtracted), periods [t0, t1) into buf, from the
  * column-major returns and the index s = sdfIndex(m, b, form): the same arithmetic, element by
  * element, as {@link sdfMomentSeries}.
  */
@@ -157,21 +160,21 @@ export function sdfMomentColumns(
   form: SdfForm,
   factorMeansKnown: boolean,
   c: Float64Array | null = null,
-): (i: number, buf: Float64Array) => void {
+): ColumnRangeFill {
   const { T, meanR } = m;
   const Rc = m.Rcols;
   const corrected = form === 'centred' && !factorMeansKnown;
   // (h − c_i) rounds h first, as a subtraction from the stored series would; c null subtracts 0
-  return (i, buf) => {
+  return (i, t0, t1, buf) => {
     const off = i * T;
     const ci = c ? c[i] : 0;
     if (corrected) {
       const mi = meanR[i];
-      for (let t = 0; t < T; t++) {
+      for (let t = t0; t < t1; t++) {
         const r = Rc[off + t];
-        buf[t] = r - (r - mi) * s[t] - ci;
+        buf[t - t0] = r - (r - mi) * s[t] - ci;
       }
-    } else for (let t = 0; t < T; t++) buf[t] = Rc[off + t] * (1 - s[t]) - ci;
+    } else for (let t = t0; t < t1; t++) buf[t - t0] = Rc[off + t] * (1 - s[t]) - ci;
   };
 }
 
@@ -180,7 +183,7 @@ export function sdfMomentColumns(
  * column from the column-major returns (no T×N intermediate).
  */
 export function sdfLongRunCovariance(m: ColumnMoments, b: ArrayLike<number>, form: SdfForm, factorMeansKnown: boolean, lags: number): Float64Array {
-  return hacFromColumns(m.T, m.N, lags, sdfMomentColumns(m, sdfIndex(m, b, form), form, factorMeansKnown));
+  return hacFromColumnRanges(m.T, m.N, lags, sdfMomentColumns(m, sdfIndex(m, b, form), form, factorMeansKnown));
 }
 
 interface WeightedSolution {

@@ -85,8 +85,14 @@ export function wasmSymmetricCrossProduct(M: number, p: number): Float64Array {
   const k = getKernel()!;
   const { stride, pPad } = wasmLayout(M, p);
   const sOffset = pPad * stride * 8;
-  k.syrk(0, stride, pPad, sOffset, 512);
-  const Sp = new Float64Array(k.memory.buffer, sOffset, pPad * pPad);
+  k.syrk(0, stride, pPad, sOffset, KERNEL_CHUNK);
+  return mirrored(new Float64Array(k.memory.buffer, sOffset, pPad * pPad), p, pPad);
+}
+
+/** Rows the kernel takes at a time (its `ch`): the working set of one pass stays in cache. */
+export const KERNEL_CHUNK = 512;
+
+function mirrored(Sp: Float64Array, p: number, pPad: number): Float64Array {
   const S = new Float64Array(p * p);
   for (let i = 0; i < p; i++) {
     for (let j = i; j < p; j++) {
@@ -96,4 +102,46 @@ export function wasmSymmetricCrossProduct(M: number, p: number): Float64Array {
     }
   }
   return S;
+}
+
+/** Q'Q accumulated over blocks of rows (see {@link wasmBlockedCrossProduct}). */
+export interface BlockedCrossProduct {
+  /** Column-major room for one block: column a of a block of r rows at a·(r + r mod 2). */
+  readonly work: Float64Array;
+  /** Adds the block of `rows` rows now in `work` (an odd count gets a zero row). */
+  add(rows: number): void;
+  /** S = Σ Q_b'Q_b over the blocks added (p×p, full, row-major). */
+  result(): Float64Array;
+}
+
+/**
+ * S = Q'Q for a Q that is produced block by block, at most `maxRows` (even) rows at a time, so that
+ * Q is never held whole: each block is written into `work` and added to S by the kernel. With
+ * blocks of KERNEL_CHUNK rows, S receives the same additions in the same order as one
+ * {@link wasmSymmetricCrossProduct} over the stacked Q (the kernel's own chunks are those blocks),
+ * so the two give identical numbers. Null without the kernel. Valid until the next call of this
+ * function or of {@link wasmWorkArea}.
+ */
+export function wasmBlockedCrossProduct(maxRows: number, p: number): BlockedCrossProduct | null {
+  const k = getKernel();
+  if (!k) return null;
+  const { stride, pPad } = wasmLayout(maxRows, p);
+  const doubles = pPad * stride + pPad * pPad;
+  const have = k.memory.buffer.byteLength;
+  if (have < doubles * 8) k.memory.grow(Math.ceil((doubles * 8 - have) / 65536));
+  const work = new Float64Array(k.memory.buffer, 0, pPad * stride);
+  const sOffset = pPad * stride * 8;
+  const Sp = new Float64Array(k.memory.buffer, sOffset, pPad * pPad);
+  Sp.fill(0);
+  return {
+    work,
+    add(rows) {
+      const r = rows + (rows & 1);
+      // the zero row of an odd block and the zero columns up to a multiple of four
+      if (rows & 1) for (let a = 0; a < p; a++) work[a * r + rows] = 0;
+      work.fill(0, p * r, pPad * r);
+      k.syrk(0, r, pPad, sOffset, KERNEL_CHUNK);
+    },
+    result: () => mirrored(Sp, p, pPad),
+  };
 }

@@ -54,7 +54,8 @@ describe('momentsFromColumns equals momentsFromPacked to the last bit (identity)
 });
 
 describe('recentredLongRun equals withinBlockHac of the row-major recentred series (identity)', () => {
-  const T = 143;
+  // T = 1,300 with blocks of 6 and L = 4 pads to 2,164 rows: five blocks of window sums
+  const T = 1300;
   const N = 6;
   const K = 3;
   const { R, F } = data(T, N, K, 4);
@@ -86,8 +87,8 @@ describe('lambdaInfluence by columns equals the row-by-row formula (identity)', 
       const b = Float64Array.from({ length: K }, (_, k) => 1 - 0.5 * k);
       const H = Float64Array.from({ length: K * N }, (_, j) => Math.sin(j + 1));
       const h = sdfMomentSeries(m, b, 'centred', false);
-      const { lambda, psi } = lambdaInfluence(m, b, H, (i, buf) => {
-        for (let t = 0; t < T; t++) buf[t] = h[t * N + i];
+      const { lambda, psi } = lambdaInfluence(m, b, H, (i, t0, t1, buf) => {
+        for (let t = t0; t < t1; t++) buf[t - t0] = h[t * N + i];
       });
       // the formula, row by row
       const lam = new Float64Array(K);
