@@ -8,7 +8,7 @@
  * Data: the seeded invented economy of tests/api/runs-fixture.ts.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { mkdtempSync } from 'node:fs';
+import { mkdtempSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { Redis } from 'ioredis';
@@ -141,6 +141,14 @@ describe('queue mode with two worker processes', () => {
     const fin = await waitJob(researcher, job.id, ended);
     expect(fin).toMatchObject({ status: 'failed', error: expect.stringMatching(/exact linear combination/) });
   }, 120_000);
+
+  it('a worker started through the launcher (its shebang, as npx runs it) runs node with --single-threaded-gc', () => {
+    for (const w of workers) {
+      const argv = readFileSync(`/proc/${w.proc.pid}/cmdline`, 'utf8').split('\0');
+      expect(argv.indexOf('--single-threaded-gc')).toBeGreaterThan(0);
+      expect(argv.indexOf('--single-threaded-gc')).toBeLessThan(argv.indexOf('worker'));
+    }
+  });
 
   it('SIGKILL of one worker mid-job: another takes over its chunk (stalled-job recovery), result unchanged', async () => {
     const draws = 6000;

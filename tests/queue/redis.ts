@@ -123,8 +123,9 @@ export interface WorkerProcess {
 
 /** Starts `keelson worker` as its own process (the launcher users run) and waits until it listens. */
 export async function startWorkerProcess(url: string, opts: { concurrency?: number; lockMs?: number } = {}): Promise<WorkerProcess> {
-  const args = [join(ROOT, 'bin/keelson.mjs'), 'worker', '--redis', url, '--concurrency', String(opts.concurrency ?? 1)];
-  const proc = spawn(process.execPath, args, {
+  // the launcher itself, through its shebang (node --single-threaded-gc), as `npx keelson` runs it
+  const args = ['worker', '--redis', url, '--concurrency', String(opts.concurrency ?? 1)];
+  const proc = spawn(join(ROOT, 'bin/keelson.mjs'), args, {
     cwd: ROOT,
     env: { ...process.env, KEELSON_WORKER_LOCK_MS: String(opts.lockMs ?? 2000) },
     stdio: ['ignore', 'pipe', 'pipe'],
