@@ -50,13 +50,14 @@ const SHUTDOWN = 'keelson-shutdown';
  * How a job is cut into chunks: small enough that progress moves and a cancel bites within a
  * fraction of a second, and that another job's chunks never wait long behind this one's; large
  * enough that sending the data to a worker stays cheap. Bootstrap: 10–100 draws per chunk;
- * sweep: about 200 chunks by mask range, at least 512 subsets each (a whole small sweep is one
- * chunk; 25 candidates give 200 chunks of 167,773 subsets), each answered as a bounded partial
+ * sweep: at most 200 chunks by mask range, at least SWEEP_MIN_CHUNK subsets each (a sweep of up to
+ * 14 candidates is one chunk; 20 candidates give 64 chunks, 25 give 200 chunks of 167,773
+ * subsets), each answered as a bounded partial
  * that merges exactly (lib/gmm sweepChunk / mergeSweepPartials); rolling: ~20 chunks.
  */
 export function chunkRanges(total: number, kind: CheckInput['kind']): [number, number][] {
   const even = Math.ceil(total / (kind === 'rolling' || kind === 'holdout' ? 20 : 40));
-  const size = Math.max(1, kind === 'bootstrap' ? Math.min(100, Math.max(10, even)) : kind === 'subset-sweep' ? Math.max(512, Math.ceil(total / SWEEP_CHUNKS)) : even);
+  const size = Math.max(1, kind === 'bootstrap' ? Math.min(100, Math.max(10, even)) : kind === 'subset-sweep' ? Math.max(SWEEP_MIN_CHUNK, Math.ceil(total / SWEEP_CHUNKS)) : even);
   const out: [number, number][] = [];
   for (let a = 0; a < total; a += size) out.push([a, Math.min(total, a + size)]);
   return out;
@@ -64,6 +65,14 @@ export function chunkRanges(total: number, kind: CheckInput['kind']): [number, n
 
 /** How many mask ranges a big subset sweep is cut into (both modes). */
 export const SWEEP_CHUNKS = 200;
+
+/**
+ * The fewest subsets in a sweep chunk (about 0.1 s of work at N = 25). Smaller chunks spend more on
+ * the queue than on the sweep: in one pair of runs of bench/queue-timeline.ts, 20 candidates in
+ * 200 chunks of 5,243 took 6.99 s on one worker and 4.46 s on two, in 64 chunks of 16,384 6.23 s
+ * and 3.83 s.
+ */
+export const SWEEP_MIN_CHUNK = 16_384;
 
 const nowIso = () => new Date().toISOString();
 
