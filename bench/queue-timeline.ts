@@ -4,7 +4,7 @@
  * and prints each chunk's start and end and the summary's from BullMQ's own job records
  * (processedOn / finishedOn), with the chunks' combined busy time.
  *   KIND=bootstrap (default): T = 12,000, N = 100, K = 5, D draws (default 2,000), as bench queue.
- *   KIND=sweep: 20 candidates, T = 600, N = 25, as bench queue's sweep.
+ *   KIND=sweep: 20 candidates, T = 600, N = 25: bench queue's sweep.
  * Not part of `npm run bench` (it explains the queue bench's figures rather than adding one).
  */
 import { Queue } from 'bullmq';
@@ -13,33 +13,11 @@ import { chunkRanges } from '../server/jobs/runner';
 import { QUEUE_NAME, QUEUE_PREFIX } from '../server/jobs/queue-shared';
 import type { CheckInput } from '../server/services/jobs-input';
 import { startWorkerProcess, testRedis } from '../tests/queue/redis';
-import { benchEconomy, normals } from './economy';
+import { bootstrapCheck, sweepCheck } from './queue-checks';
 
 const W = Number(process.env.W ?? 2);
 const D = Number(process.env.D ?? 2000);
 const KIND = process.env.KIND === 'sweep' ? 'sweep' : 'bootstrap';
-
-function bootstrapCheck(T: number, N: number, K: number, draws: number): Extract<CheckInput, { kind: 'bootstrap' }> {
-  const z = normals(42);
-  const beta = Array.from({ length: N }, () => Array.from({ length: K }, () => 0.2 + 0.6 * Math.abs(z())));
-  const factors: number[][] = [];
-  const returns: number[][] = [];
-  for (let t = 0; t < T; t++) {
-    const f = Array.from({ length: K }, (_, k) => 0.003 + 0.001 * k + 0.03 * z());
-    factors.push(f);
-    returns.push(beta.map((b) => b.reduce((s, bk, k) => s + bk * f[k], 0) + 0.02 * z()));
-  }
-  const factorNames = Array.from({ length: K }, (_, k) => `F${k + 1}`);
-  const options = { stage: 'second', weighting: 'identity', lags: 'auto', form: 'centred', factorMeansKnown: false, scheme: 'iid', draws, seed: 5 } as const;
-  return { kind: 'bootstrap', total: draws, input: { returns, factors, factorNames, options } };
-}
-
-function sweepCheck(): Extract<CheckInput, { kind: 'subset-sweep' }> {
-  const { returns, factors } = benchEconomy(600, 25, 20, 7);
-  const names = Array.from({ length: 20 }, (_, k) => `C${k + 1}`);
-  const options = { lags: 'auto', form: 'centred', factorMeansKnown: false, weighting: 'identity', stage: 'second', level: 0.05, topPerSize: 5 } as const;
-  return { kind: 'subset-sweep', total: 2 ** 20 - 1, input: { returns, factors, factorNames: names, traded: names.map(() => true), options } };
-}
 
 async function runFlow(q: QueueClient, flow: string, check: Extract<CheckInput, { kind: 'bootstrap' | 'subset-sweep' }>): Promise<void> {
   await q.enqueue(flow, check, chunkRanges(check.total, check.kind), check.total);
@@ -55,8 +33,8 @@ const redis = await testRedis();
 const q = new QueueClient(redis.url, { timeoutMs: 60_000 });
 const workers = [];
 for (let i = 0; i < W; i++) workers.push(await startWorkerProcess(redis.url, { lockMs: 30_000 }));
-await runFlow(q, 'timeline-warm', bootstrapCheck(120, 5, 2, 40)); // worker threads up
-const check = KIND === 'sweep' ? sweepCheck() : bootstrapCheck(12_000, 100, 5, D);
+await runFlow(q, 'timeline-warm', bootstrapCheck(120, 5, 2, 40, 1)); // worker threads up
+const check = KIND === 'sweep' ? sweepCheck(600, 25, 20, 77) : bootstrapCheck(12_000, 100, 5, D, 42);
 const t0 = Date.now();
 await runFlow(q, 'timeline', check);
 const total = Date.now() - t0;

@@ -25,8 +25,8 @@ import { chunkRanges } from '../server/jobs/runner';
 import { shareInput } from '../server/jobs/shared-input';
 import { QueueClient } from '../server/jobs/queue-client';
 import type { CheckInput } from '../server/services/jobs-input';
-import type { BootstrapBatch, BootstrapInput, SweepPartial } from '../lib/gmm/index';
-import { benchEconomy, normals } from './economy';
+import type { BootstrapBatch, SweepPartial } from '../lib/gmm/index';
+import { bootstrapCheck, sweepCheck } from './queue-checks';
 import { readFileSync } from 'node:fs';
 import { startWorkerProcess, testRedis, type WorkerProcess } from '../tests/queue/redis';
 
@@ -35,25 +35,6 @@ const T = envInt('BENCH_QUEUE_T', 12_000);
 const N = envInt('BENCH_QUEUE_N', 100);
 const K = envInt('BENCH_QUEUE_K', 5);
 const DRAWS = envInt('BENCH_QUEUE_DRAWS', 2000);
-
-function makeInput(T: number, N: number, K: number, draws: number, seed: number): Extract<CheckInput, { kind: 'bootstrap' }> {
-  const z = normals(seed);
-  const beta = Array.from({ length: N }, () => Array.from({ length: K }, () => 0.2 + 0.6 * Math.abs(z())));
-  const factors: number[][] = [];
-  const returns: number[][] = [];
-  for (let t = 0; t < T; t++) {
-    const f = Array.from({ length: K }, (_, k) => 0.003 + 0.001 * k + 0.03 * z());
-    factors.push(f);
-    returns.push(beta.map((b) => b.reduce((s, bk, k) => s + bk * f[k], 0) + 0.02 * z()));
-  }
-  const input: BootstrapInput = {
-    returns,
-    factors,
-    factorNames: Array.from({ length: K }, (_, k) => `F${k + 1}`),
-    options: { stage: 'second', weighting: 'identity', lags: 'auto', form: 'centred', factorMeansKnown: false, scheme: 'iid', draws, seed: 5 },
-  };
-  return { kind: 'bootstrap', input, total: draws };
-}
 
 const load = () => loadavg().map((x) => x.toFixed(2)).join(' ');
 
@@ -105,7 +86,7 @@ async function viaQueue(q: QueueClient, flow: string, check: Extract<CheckInput,
 }
 
 async function bootstrapSection(q: QueueClient, redis: { url: string }): Promise<void> {
-  const check = makeInput(T, N, K, DRAWS, 42);
+  const check = bootstrapCheck(T, N, K, DRAWS, 42);
   console.log(`machine: ${availableParallelism()} threads; embedded pool ${defaultThreadCount()} thread(s); load average ${load()}`);
   console.log(`bootstrap ${DRAWS} draws, T = ${T}, N = ${N}, K = ${K}, ${chunkRanges(DRAWS, 'bootstrap').length} chunks`);
 
@@ -113,18 +94,18 @@ async function bootstrapSection(q: QueueClient, redis: { url: string }): Promise
   console.log(`  embedded pool           ${(emb.ms / 1000).toFixed(2)} s   (load ${load()})`);
 
   const w1 = [await startWorkerProcess(redis.url, { lockMs: 30_000 })];
-  await viaQueue(q, 'bench-warm', makeInput(120, 5, 2, 19, 1)); // worker threads up
+  await viaQueue(q, 'bench-warm', bootstrapCheck(120, 5, 2, 19, 1)); // worker threads up
   const one = await viaQueue(q, 'bench-1w', check);
   console.log(`  queue, 1 worker         ${(one.ms / 1000).toFixed(2)} s   overhead ${((one.ms / emb.ms - 1) * 100).toFixed(1)} % vs embedded (target ≤ 10 %)   (load ${load()})`);
   const w2 = [...w1, await startWorkerProcess(redis.url, { lockMs: 30_000 })];
-  await viaQueue(q, 'bench-warm2', makeInput(120, 5, 2, 40, 1));
+  await viaQueue(q, 'bench-warm2', bootstrapCheck(120, 5, 2, 40, 1));
   const two = await viaQueue(q, 'bench-2w', check);
   console.log(`  queue, 2 workers        ${(two.ms / 1000).toFixed(2)} s   speed-up ${(one.ms / two.ms).toFixed(2)}× from 1 to 2 workers (target ≥ 1.7×)   (load ${load()})`);
   const same = JSON.stringify(emb.result) === JSON.stringify(one.result) && JSON.stringify(one.result) === JSON.stringify(two.result);
   console.log(`  results identical in the three modes: ${same ? 'yes' : 'NO'}`);
 
   const lat: number[] = [];
-  const tiny = makeInput(120, 5, 2, 19, 3);
+  const tiny = bootstrapCheck(120, 5, 2, 19, 3);
   for (let i = 0; i < 10; i++) {
     const r = await viaQueue(q, `bench-lat-${i}`, tiny, 5);
     if (i > 0) lat.push(r.ms);
@@ -142,16 +123,6 @@ async function bootstrapSection(q: QueueClient, redis: { url: string }): Promise
 const SWEEP_K = envInt('BENCH_QUEUE_SWEEP_K', 20);
 const SWEEP_T = envInt('BENCH_QUEUE_SWEEP_T', 600);
 const SWEEP_N = envInt('BENCH_QUEUE_SWEEP_N', 25);
-
-function makeSweep(T: number, N: number, K: number, seed: number): Extract<CheckInput, { kind: 'subset-sweep' }> {
-  const { returns, factors } = benchEconomy(T, N, K, seed);
-  const names = Array.from({ length: K }, (_, k) => `C${k + 1}`);
-  return {
-    kind: 'subset-sweep',
-    total: 2 ** K - 1,
-    input: { returns, factors, factorNames: names, traded: names.map(() => true), options: { lags: 'auto', form: 'centred', factorMeansKnown: false, weighting: 'identity', stage: 'second', level: 0.05, topPerSize: 5 } },
-  };
-}
 
 /** Peak resident set (VmHWM) of a process, in MB; null where /proc is missing. */
 function peakRssMb(pid: number | 'self'): number | null {
@@ -178,17 +149,17 @@ async function sweepEmbedded(check: Extract<CheckInput, { kind: 'subset-sweep' }
 }
 
 async function sweepSection(q: QueueClient, redis: { url: string }): Promise<void> {
-  const check = makeSweep(SWEEP_T, SWEEP_N, SWEEP_K, 77);
+  const check = sweepCheck(SWEEP_T, SWEEP_N, SWEEP_K, 77);
   const rssBefore = peakRssMb('self');
   console.log(`subset sweep, ${SWEEP_K} candidates (${check.total.toLocaleString('en-US')} models), T = ${SWEEP_T}, N = ${SWEEP_N}, ${chunkRanges(check.total, 'subset-sweep').length} chunks; load average ${load()}`);
   const emb = await sweepEmbedded(check);
   console.log(`  embedded pool           ${(emb.ms / 1000).toFixed(2)} s   ${((emb.ms * 1000) / check.total).toFixed(2)} µs/model wall   peak RSS of this process ${mb(peakRssMb('self'))} (before: ${mb(rssBefore)})   (load ${load()})`);
   const workers: WorkerProcess[] = [await startWorkerProcess(redis.url, { lockMs: 30_000 })];
-  await viaQueue(q, 'bench-sweep-warm', makeSweep(120, 6, 3, 1));
+  await viaQueue(q, 'bench-sweep-warm', sweepCheck(120, 6, 3, 1));
   const one = await viaQueue(q, 'bench-sweep-1w', check);
   console.log(`  queue, 1 worker         ${(one.ms / 1000).toFixed(2)} s   overhead ${((one.ms / emb.ms - 1) * 100).toFixed(1)} % vs embedded   worker peak RSS ${mb(peakRssMb(workers[0].proc.pid!))}   (load ${load()})`);
   workers.push(await startWorkerProcess(redis.url, { lockMs: 30_000 }));
-  await viaQueue(q, 'bench-sweep-warm2', makeSweep(120, 6, 3, 2));
+  await viaQueue(q, 'bench-sweep-warm2', sweepCheck(120, 6, 3, 2));
   const two = await viaQueue(q, 'bench-sweep-2w', check);
   console.log(`  queue, 2 workers        ${(two.ms / 1000).toFixed(2)} s   speed-up ${(one.ms / two.ms).toFixed(2)}× from 1 to 2 workers   worker peak RSS ${workers.map((w) => mb(peakRssMb(w.proc.pid!))).join(', ')}   (load ${load()})`);
   const same = JSON.stringify(emb.result) === JSON.stringify(one.result) && JSON.stringify(one.result) === JSON.stringify(two.result);
