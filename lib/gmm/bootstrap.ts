@@ -398,7 +398,7 @@ function objective(X: Float64Array, W: Float64Array, m: Float64Array, N: number,
  * withinBlockHac of the recentred moment series h_t(b) − c, built column by column from the
  * column-major returns (no T×N row-major series, no transposed copy): the zero rows between blocks
  * are left in place in each padded column. The same numbers, to the last bit, as withinBlockHac of
- * the row-major series (tests/gmm/bootstrap-hh.test.ts).
+ * the row-major series (tests/gmm/bootstrap-columns.test.ts).
  */
 export function recentredLongRun(m: ColumnMoments, b: ArrayLike<number>, form: SdfForm, fmk: boolean, c: Float64Array | null, lags: number, blockLength: number | null): Float64Array {
   const { T, N } = m;
@@ -433,7 +433,7 @@ export function recentredLongRun(m: ColumnMoments, b: ArrayLike<number>, form: S
 
 /**
  * Influence series of λ̂ = Σ_f b̂ (centred form, premia.ts): ψ_λ,t = Σ_f H h_t + f̃_t (f̃_t'b) − λ,
- * with h_t the (recentred) moment series, read one column at a time through `column(i, buf)`.
+ * with h_t the (recentred) moment series, read a column at a time through `column(i, 0, T, buf)`.
  * The sum over assets runs in asset order for every t, as a row-by-row loop would. T×K row-major.
  */
 export function lambdaInfluence(m: ColumnMoments, b: Float64Array, H: Float64Array, column: ColumnRangeFill): { lambda: Float64Array; psi: Float64Array } {
@@ -794,14 +794,11 @@ export function runBootstrapDraws(plan: BootstrapPlan, options: BootstrapOptions
     const u = mulberry32(streamSeed(options.seed, d));
     const idx = bootstrapResample(T, options.scheme, plan.blockLength, u);
     // The draw's returns go straight into column-major order, the layout every kernel below reads:
-    // whole sample rows are read for 64 draw periods at a time, so the 64-value runs written into
-    // each column stay in cache (no row-major copy of the draw, no separate transposition).
-    for (let r0 = 0; r0 < T; r0 += 64) {
-      const r1 = Math.min(T, r0 + 64);
-      for (let r = r0; r < r1; r++) {
-        const src = idx[r] * N;
-        for (let i = 0; i < N; i++) Rs[i * T + r] = R[src + i];
-      }
+    // each draw period's sample row is read whole and scattered into the N columns (no row-major
+    // copy of the draw, no separate transposition; faster than gathering column by column).
+    for (let r = 0; r < T; r++) {
+      const src = idx[r] * N;
+      for (let i = 0; i < N; i++) Rs[i * T + r] = R[src + i];
     }
     for (let r = 0; r < T; r++) Fs.set(F.subarray(idx[r] * K, idx[r] * K + K), r * K);
     const ms = momentsFromColumns(Rs, Fs, T, N, K);

@@ -116,7 +116,7 @@ export type ColumnMoments = Omit<MomentData, 'R'>;
 /**
  * The moments of {@link momentsFromPacked} from column-major returns Rc (N×T) and row-major factors,
  * with no row-major copy of the returns. Every sum runs over t in the same order as there, so the
- * numbers are identical to the last bit (tests/gmm/moments-columns.test.ts). For resampled data
+ * numbers are identical to the last bit (tests/gmm/bootstrap-columns.test.ts). For resampled data
  * (the bootstrap gathers each draw's columns straight from the sample's columns).
  */
 export function momentsFromColumns(Rc: Float64Array, F: Float64Array, T: number, N: number, K: number): ColumnMoments {
