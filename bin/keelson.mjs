@@ -3,8 +3,9 @@
 // worker` keeps every core busy with pool threads; parallel-GC helpers then compete with the other
 // threads for the same cores (two workers on two cores: 49–53 ms a bootstrap draw at T = 12,000,
 // N = 100 with helpers, 43–45 ms without, against 44–45 ms for one worker alone). The other
-// commands are short HTTP clients, for which it makes no difference. V8 reads the flag at start-up
-// only (setting it later crashes the collector), hence the shebang.
+// commands run on one thread (HTTP calls, or one local `keelson estimate`); they only give up the
+// helpers' parallel collection. V8 reads the flag at start-up only (setting it later crashed the
+// collector when tried), hence the shebang.
 // Launcher for `npx keelson …`: loads the TypeScript entry through tsx's API in this process.
 import { tsImport } from 'tsx/esm/api';
 
