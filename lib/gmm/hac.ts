@@ -161,25 +161,7 @@ export function symmetricCrossProduct(Qc: Float64Array, M: number, p: number): F
  * that rounding cannot drift.
  */
 export function windowSumsInto(x: Float64Array, T: number, L: number, out: Float64Array, off: number): void {
-  if (L === 0) {
-    out.set(x.subarray(0, T), off);
-    return;
-  }
-  const M = T + L;
-  let q = 0;
-  for (let i = 0; i < M; i++) {
-    const m = i - L;
-    if ((i & 63) === 0) {
-      q = 0;
-      const hi = Math.min(T - 1, m + L);
-      for (let t = Math.max(0, m); t <= hi; t++) q += x[t];
-    } else {
-      const add = m + L;
-      if (add < T) q += x[add];
-      if (m >= 1) q -= x[m - 1];
-    }
-    out[off + i] = q;
-  }
+  windowSumsRange(x, 0, T, L, 0, T + L, out, off);
 }
 
 let scratchBuffer = new Float64Array(0);

@@ -98,26 +98,20 @@ export function covarianceFromSecondMoment(second: Float64Array, mean: Float64Ar
   return out;
 }
 
-/** All moments from packed row-major returns (T×N) and factors (T×K). */
+/** All moments from packed row-major returns (T×N) and factors (T×K): those of the column-major copy, plus R. */
 export function momentsFromPacked(R: Float64Array, F: Float64Array, T: number, N: number, K: number): MomentData {
-  const meanR = columnMeans(R, T, N);
-  const meanF = columnMeans(F, T, K);
-  const Fc = centreColumns(F, T, K, meanF);
-  const sigmaF = crossMoment(Fc, K, Fc, K, T);
-  const covRF = crossMoment(R, N, Fc, K, T);
-  const crossRF = new Float64Array(N * K);
-  for (let i = 0; i < N; i++) for (let k = 0; k < K; k++) crossRF[i * K + k] = covRF[i * K + k] + meanR[i] * meanF[k];
-  return { T, N, K, R, F, Fc, meanR, meanF, sigmaF, covRF, crossRF, Rcols: toColumnMajor(R, T, N) };
+  return { ...momentsFromColumns(toColumnMajor(R, T, N), F, T, N, K), R };
 }
 
 /** The moments of {@link MomentData} without the row-major returns: enough for estimators that read the returns column by column. */
 export type ColumnMoments = Omit<MomentData, 'R'>;
 
 /**
- * The moments of {@link momentsFromPacked} from column-major returns Rc (N×T) and row-major factors,
- * with no row-major copy of the returns. Every sum runs over t in the same order as there, so the
- * numbers are identical to the last bit (tests/gmm/bootstrap-columns.test.ts). For resampled data
- * (the bootstrap gathers each draw's columns straight from the sample's columns).
+ * The moments from column-major returns Rc (N×T) and row-major factors, with no row-major copy of
+ * the returns (momentsFromPacked adds one). Every sum runs over t in order, as columnMeans and
+ * crossMoment on the row-major returns do, so the numbers are identical to theirs to the last bit
+ * (tests/gmm/bootstrap-columns.test.ts). The bootstrap's draws, gathered straight into columns,
+ * use it directly.
  */
 export function momentsFromColumns(Rc: Float64Array, F: Float64Array, T: number, N: number, K: number): ColumnMoments {
   const meanR = new Float64Array(N);

@@ -120,26 +120,25 @@ export function summariseHoldoutBlocks(input: RollingHoldoutInput, parts: readon
   return { ...first, rows, pooledR2oos: ok > 0 && m > 0 ? 1 - e / m : null, meanAbsAlpha: ok > 0 ? abs / ok : null };
 }
 
+/** map's value for key, made and kept (with at most the last 4 keys) when missing. */
+function keptLast<V>(map: Map<string, V>, key: string, make: () => V): V {
+  if (map.has(key)) return map.get(key) as V;
+  const value = make();
+  map.set(key, value);
+  while (map.size > 4) map.delete(map.keys().next().value as string);
+  return value;
+}
+
 /** Prepared plans by job key; a typed failure is kept too, so the job's other chunks return it at once. */
 const plans = new Map<string, GmmResult<{ plan: BootstrapPlan | SweepPlan }>>();
 function cached<T extends BootstrapPlan | SweepPlan>(key: string, make: () => GmmResult<{ plan: T }>): GmmResult<{ plan: T }> {
-  const hit = plans.get(key);
-  if (hit) return hit as GmmResult<{ plan: T }>;
-  const plan = make();
-  plans.set(key, plan);
-  while (plans.size > 4) plans.delete(plans.keys().next().value as string);
-  return plan;
+  return keptLast(plans, key, make) as GmmResult<{ plan: T }>;
 }
 
 /** Inputs read back from their shared buffers, by job key (the last few). */
 const inputs = new Map<string, unknown>();
 function inputOf<T>(key: string, v: TaskInput<T>): T {
-  if (!isShared(v)) return v;
-  if (inputs.has(key)) return inputs.get(key) as T;
-  const value = deserialize(v.shared) as T;
-  inputs.set(key, value);
-  while (inputs.size > 4) inputs.delete(inputs.keys().next().value as string);
-  return value;
+  return isShared(v) ? (keptLast(inputs, key, () => deserialize(v.shared)) as T) : v;
 }
 
 /** A summary is a job's last task: its input and plan leave this thread's caches. */

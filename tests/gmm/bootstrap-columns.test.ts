@@ -3,13 +3,14 @@
  * recentredLongRun and lambdaInfluence) against the row-major formulas it replaced.
  * Source of every check: identities that must hold. The two layouts run the same additions in the
  * same order, so the results must agree to the last bit (Object.is on every element), not to a
- * tolerance: the row-major side is momentsFromPacked, sdfMomentSeries + withinBlockHac, and the
- * influence series written out as its formula ψ_t = Σ_f H h_t + f̃_t (f̃_t'b) − λ row by row.
+ * tolerance: the row-major side is columnMeans and crossMoment over the rows, sdfMomentSeries +
+ * withinBlockHac, and the influence series written out as its formula ψ_t = Σ_f H h_t + f̃_t (f̃_t'b)
+ * − λ row by row.
  */
 import { describe, expect, it } from 'vitest';
 import { lambdaInfluence, recentredLongRun, withinBlockHac } from '../../lib/gmm/bootstrap';
 import { toColumnMajor } from '../../lib/gmm/hac';
-import { momentsFromColumns, momentsFromPacked, secondMomentFromColumns, secondMomentMatrix } from '../../lib/gmm/moments';
+import { centreColumns, columnMeans, crossMoment, momentsFromColumns, momentsFromPacked, secondMomentFromColumns, secondMomentMatrix } from '../../lib/gmm/moments';
 import { sdfMomentSeries, type SdfForm } from '../../lib/gmm/sdf-gmm';
 import { normalSampler } from './helpers';
 
@@ -42,13 +43,24 @@ const shapes = [
   [97, 5, 9],
 ] as const;
 
-describe('momentsFromColumns equals momentsFromPacked to the last bit (identity)', () => {
+describe('momentsFromColumns (and momentsFromPacked, built on it) equal the row-major sums to the last bit (identity)', () => {
   for (const [T, N, K] of shapes)
     it(`T = ${T}, N = ${N}, K = ${K}`, () => {
       const { R, F } = data(T, N, K, T + N + K);
-      const rows = momentsFromPacked(R, F, T, N, K);
+      // the row-major reference: columnMeans and crossMoment over the rows of R
+      const meanF = columnMeans(F, T, K);
+      const Fc = centreColumns(F, T, K, meanF);
+      const meanR = columnMeans(R, T, N);
+      const covRF = crossMoment(R, N, Fc, K, T);
+      const crossRF = Float64Array.from({ length: N * K }, (_, j) => covRF[j] + meanR[Math.floor(j / K)] * meanF[j % K]);
+      const rows = { F, Fc, meanR, meanF, sigmaF: crossMoment(Fc, K, Fc, K, T), covRF, crossRF, Rcols: toColumnMajor(R, T, N) };
       const cols = momentsFromColumns(toColumnMajor(R, T, N), F, T, N, K);
-      for (const key of ['F', 'Fc', 'meanR', 'meanF', 'sigmaF', 'covRF', 'crossRF', 'Rcols'] as const) sameBits(cols[key], rows[key]);
+      const packed = momentsFromPacked(R, F, T, N, K);
+      for (const key of ['F', 'Fc', 'meanR', 'meanF', 'sigmaF', 'covRF', 'crossRF', 'Rcols'] as const) {
+        sameBits(cols[key], rows[key]);
+        sameBits(packed[key], rows[key]);
+      }
+      sameBits(packed.R, R);
       sameBits(secondMomentFromColumns(cols.Rcols, T, N), secondMomentMatrix(R, T, N));
     });
 });
