@@ -49,8 +49,8 @@ export type JobMode = (typeof JOB_MODES)[number];
 /**
  * Per-mode limits of one deep check. The request schema allows the largest; the service checks
  * the mode's own (422 naming the limit and the mode). Without workers a 15-candidate sweep (32,767
- * models) is the most one box runs in reasonable time; queue workers take 25 (33.5 million models,
- * about four minutes of one core at 7.75 µs a model, spread over the workers).
+ * models) is what the API's own box is given; queue workers take 25 (33.5 million models, about
+ * 20 s of one core at 0.6 µs a model with T = 600 and N = 25, spread over the workers).
  */
 export const JOB_LIMITS: Readonly<Record<JobMode, { readonly sweepCandidates: number; readonly bootstrapDraws: number }>> = {
   embedded: { sweepCandidates: 15, bootstrapDraws: 100_000 },

@@ -10,9 +10,12 @@
  *   Drop test against the full model (Newey and West 1987): W* = Ŝ_u^{-1} from the full model's
  *     second stage (or its last iterate when `stage` is 'iterated', as the ledger's drop test); D(s) = T (Q_W*(s) − Q_W*(all)) ~ χ²(K − |s|) (the test that the factors outside
  *     s can be dropped, with the full model's weighting for both).
- * The N×N work (E_T[RR'], its inverse, Ŝ_u, the products A and c) is done once; each subset costs
- * one |s|×|s| Cholesky solve. HJ(s) equals hjDistance on the subset's own moments and D(s) equals
- * the ledger's joint drop test of the complement (tests assert both).
+ * The N×N work (E_T[RR'], its inverse, Ŝ_u, the products A and c) is done once. c_s' A_ss^{-1} c_s
+ * is ‖L_s^{-1} c_s‖² with L_s the Cholesky factor of A_ss taken in decreasing factor index, so
+ * consecutive masks share its leading rows and a subset costs about one new row (O(|s|²)) for each
+ * of the two weightings, as θ̂ below (QuadFormStack). HJ(s) equals hjDistance on the subset's own
+ * moments and D(s) equals the ledger's joint drop test of the complement (tests assert both, and
+ * every subset against a direct solve).
  *
  * Adjusted p per candidate: the b tests of the full model (its standard, influence-function SEs at
  * the full model's stage, two-step or iterated), t_k = b̂_k / se(b̂_k), adjusted across all K
@@ -55,7 +58,7 @@ import { seriesVarianceOfMean, squaredSharpeCore } from './sharpe';
 import { waldSingle } from './wald';
 import { dropWeighting, weightProducts } from './drop-test';
 import { resolveLag } from './hac';
-import { cholesky, choleskyInverse, choleskySolve, fromNested } from './linalg';
+import { cholesky, choleskyInverse, fromNested } from './linalg';
 import { momentsFromPacked, secondMomentMatrix } from './moments';
 import { fitSdfGmm, type FirstStageWeighting, type SdfForm } from './sdf-gmm';
 import { validateMatrices } from './validate';
@@ -232,20 +235,6 @@ function products(X: Float64Array, W: Float64Array, meanR: Float64Array, N: numb
   return { A, c, q0 };
 }
 
-/** Q(s) = q0 − c_s' A_ss^{-1} c_s; null when A_ss is singular. Scratch arrays reused. */
-function objective(A: Float64Array, c: Float64Array, q0: number, K: number, idx: Int32Array, k: number, As: Float64Array, cs: Float64Array): number | null {
-  for (let a = 0; a < k; a++) {
-    cs[a] = c[idx[a]];
-    for (let b = 0; b < k; b++) As[a * k + b] = A[idx[a] * K + idx[b]];
-  }
-  const L = cholesky(As.subarray(0, k * k), k);
-  if (!L) return null;
-  const x = choleskySolve(L, k, cs.subarray(0, k), 1);
-  let s = 0;
-  for (let a = 0; a < k; a++) s += cs[a] * x[a];
-  return q0 - s;
-}
-
 /**
  * Validate and precompute everything the subsets share.
  * @returns `{ ok: true, plan }`, or a typed failure when the full model cannot be estimated
@@ -276,9 +265,10 @@ export function prepareSubsetSweep(input: SubsetSweepInput): GmmResult<{ plan: S
   const weighting = dropWeighting(full);
   if (!weighting.ok) return gmmFailure('singular', 'The full model cannot be estimated: its long-run covariance Ŝ is singular.', 'S');
   const w = products(X, weighting.W, m.meanR, N, K);
-  const all = Int32Array.from({ length: K }, (_, k) => k);
-  const qFull = objective(w.A, w.c, w.q0, K, all, K, new Float64Array(K * K), new Float64Array(K));
-  if (qFull === null) return gmmFailure('singular', 'The full model is singular under its own weighting.', "X'WX");
+  // the full model's objective by the same stack as every subset's, so D(s) compares like with like
+  const fullQuad = new QuadFormStack(K, w.c, w.A).value(2 ** K - 1);
+  if (fullQuad === null) return gmmFailure('singular', 'The full model is singular under its own weighting.', "X'WX");
+  const qFull = w.q0 - fullQuad;
   let traded: boolean[] | null = null;
   if (input.traded !== undefined) {
     if (!Array.isArray(input.traded) || input.traded.length !== K || input.traded.some((v) => typeof v !== 'boolean'))
@@ -298,11 +288,15 @@ export function prepareSubsetSweep(input: SubsetSweepInput): GmmResult<{ plan: S
 }
 
 /**
- * θ̂ of consecutive subsets by one Cholesky row each (see the module comment): the factor of Σ_s
- * is kept for the factors of s in decreasing index order; a new mask keeps the rows of the
- * factors it shares at the front with the previous one and adds the rest.
+ * The quadratic form v_s' M_ss^{-1} v_s (M symmetric K×K, v of length K) of consecutive subsets by
+ * one Cholesky row each (see the module comment): the factor of M_ss is kept for the factors of s
+ * in decreasing index order; a new mask keeps the rows of the factors it shares at the front with
+ * the previous one and adds the rest. The value is Σ z_i² with z = L^{-1} v_s, a function of the
+ * mask alone (the kept rows were computed from the same leading factors). A subset is singular
+ * when a pivot is not above SINGULAR_PIVOT times its own diagonal entry of M. Used for θ̂
+ * (v = μ, M = Σ_f) and for the HJ and drop objectives (v = c, M = A).
  */
-class ThetaStack {
+class QuadFormStack {
   private readonly L: Float64Array;
   private readonly z: Float64Array;
   private readonly cum: Float64Array;
@@ -317,7 +311,8 @@ class ThetaStack {
     this.order = new Int32Array(K);
     this.bad = K + 1;
   }
-  theta(mask: number): number | null {
+  /** v_s' M_ss^{-1} v_s of the subset `mask` (non-zero), or null when M_ss is singular. */
+  value(mask: number): number | null {
     const { K, L, z, cum, order, mu, S } = this;
     // the factors of mask from the highest index down; keep the common prefix
     let d = 0;
@@ -371,29 +366,42 @@ class ThetaStack {
 /** Relative Cholesky pivot below which a subset's Σ_s counts as singular (linalg's SINGULAR_TOL). */
 const SINGULAR_PIVOT = 1e-13;
 
-/** Calls `visit` with each subset's row for the masks in [fromMask, toMask), in mask order. */
-function visitSubsets(plan: SweepPlan, fromMask: number, toMask: number, visit: (row: SweepRow) => void): void {
+/**
+ * Calls `visit` for each subset with masks in [fromMask, toMask), in mask order, with its size, HJ
+ * distance and drop statistic (both null when singular) and θ̂ (null when not ranked). Scalars, not
+ * a row: the sweep allocates a row only for the few subsets its lists keep.
+ */
+function visitSubsets(
+  plan: SweepPlan,
+  fromMask: number,
+  toMask: number,
+  visit: (mask: number, size: number, hj: number | null, drop: number | null, theta: number | null) => void,
+): void {
   const { K, T } = plan;
-  const idx = new Int32Array(K);
-  const As = new Float64Array(K * K);
-  const cs = new Float64Array(K);
   const lo = Math.max(1, fromMask);
   const hi = Math.min(2 ** K, toMask);
-  const stack = plan.theta ? new ThetaStack(K, plan.meanF, plan.sigmaF) : null;
+  const hjStack = new QuadFormStack(K, plan.hjC, plan.hjA);
+  const wStack = new QuadFormStack(K, plan.wC, plan.wA);
+  const thetaStack = plan.theta ? new QuadFormStack(K, plan.meanF, plan.sigmaF) : null;
   for (let mask = lo; mask < hi; mask++) {
-    let k = 0;
-    for (let j = 0; j < K; j++) if ((mask >> j) & 1) idx[k++] = j;
-    const qh = objective(plan.hjA, plan.hjC, plan.hjQ0, K, idx, k, As, cs);
-    const qw = objective(plan.wA, plan.wC, plan.wQ0, K, idx, k, As, cs);
-    const df = K - k;
-    const theta = stack && (mask & plan.nonTradedMask) === 0 ? stack.theta(mask) : null;
-    if (qh === null || qw === null) {
-      visit({ mask, size: k, hj: null, drop: null, df, p: null, theta });
+    let size = 0;
+    for (let m = mask; m; m &= m - 1) size++;
+    const ch = hjStack.value(mask);
+    const cw = wStack.value(mask);
+    const theta = thetaStack && (mask & plan.nonTradedMask) === 0 ? thetaStack.value(mask) : null;
+    if (ch === null || cw === null) {
+      visit(mask, size, null, null, theta);
       continue;
     }
-    const drop = df === 0 ? 0 : Math.max(0, T * (qw - plan.wQFull));
-    visit({ mask, size: k, hj: Math.sqrt(Math.max(0, qh)), drop, df, p: chiSquareSf(drop, df), theta });
+    const drop = size === K ? 0 : Math.max(0, T * (plan.wQ0 - cw - plan.wQFull));
+    visit(mask, size, Math.sqrt(Math.max(0, plan.hjQ0 - ch)), drop, theta);
   }
+}
+
+/** A subset's row; p is computed here (the χ² tail is the dearest part of a row). */
+function makeRow(plan: SweepPlan, mask: number, size: number, hj: number | null, drop: number | null, theta: number | null): SweepRow {
+  const df = plan.K - size;
+  return { mask, size, hj, drop, df, p: drop === null ? null : chiSquareSf(drop, df), theta };
 }
 
 /**
@@ -402,7 +410,7 @@ function visitSubsets(plan: SweepPlan, fromMask: number, toMask: number, visit: 
  */
 export function evaluateSubsets(plan: SweepPlan, fromMask: number, toMask: number): SweepRow[] {
   const rows: SweepRow[] = [];
-  visitSubsets(plan, fromMask, toMask, (r) => rows.push(r));
+  visitSubsets(plan, fromMask, toMask, (mask, size, hj, drop, theta) => rows.push(makeRow(plan, mask, size, hj, drop, theta)));
   return rows;
 }
 
@@ -441,11 +449,17 @@ export interface SweepWithinPartial {
 
 type Ok = SweepRow & { hj: number; drop: number; p: number };
 type Ranked = SweepRow & { theta: number };
-const byHj = (a: Ok, b: Ok) => a.hj < b.hj || (a.hj === b.hj && a.mask < b.mask);
-const byDrop = (a: Ok, b: Ok) => a.drop < b.drop || (a.drop === b.drop && a.mask < b.mask);
-const byAdequate = (a: Ok, b: Ok) => a.size < b.size || (a.size === b.size && byHj(a, b));
+/** Whether a subset (its scalars) comes before row b in each list's order. */
+const hjBefore = (hj: number, mask: number, b: Ok) => hj < b.hj || (hj === b.hj && mask < b.mask);
+const dropBefore = (drop: number, mask: number, b: Ok) => drop < b.drop || (drop === b.drop && mask < b.mask);
+const adequateBefore = (size: number, hj: number, mask: number, b: Ok) => size < b.size || (size === b.size && hjBefore(hj, mask, b));
 /** θ̂ descending, then size, then mask. */
-const byTheta = (x: Ranked, y: Ranked) => x.theta > y.theta || (x.theta === y.theta && (x.size < y.size || (x.size === y.size && x.mask < y.mask)));
+const thetaBefore = (theta: number, size: number, mask: number, y: Ranked) =>
+  theta > y.theta || (theta === y.theta && (size < y.size || (size === y.size && mask < y.mask)));
+const byHj = (a: Ok, b: Ok) => hjBefore(a.hj, a.mask, b);
+const byDrop = (a: Ok, b: Ok) => dropBefore(a.drop, a.mask, b);
+const byAdequate = (a: Ok, b: Ok) => adequateBefore(a.size, a.hj, a.mask, b);
+const byTheta = (x: Ranked, y: Ranked) => thetaBefore(x.theta, x.size, x.mask, y);
 
 /** Inserts r into the list sorted by `before`, keeping at most `keep` entries. */
 function keepTop<R>(list: R[], r: R, keep: number, before: (a: R, b: R) => boolean): void {
@@ -502,24 +516,40 @@ function emptyPartial(plan: SweepPlan): PartialAcc {
   };
 }
 
-/** Folds one row into a partial under construction. */
-function addRow(plan: SweepPlan, acc: PartialAcc, row: SweepRow): void {
+/**
+ * Folds one subset into a partial under construction. Each list is asked first whether it would
+ * take the subset (its scalars against the list's last row); the row, with its χ² p, is made only
+ * when one does. The lists end up exactly as if every row had been offered to keepTop.
+ */
+function addSubset(plan: SweepPlan, acc: PartialAcc, mask: number, size: number, hj: number | null, drop: number | null, theta: number | null): void {
   acc.models += 1;
-  if (row.theta !== null) {
-    const r = row as Ranked;
+  let row: SweepRow | null = null;
+  if (theta !== null) {
     acc.thetaCount += 1;
-    const cur = acc.thetaBySize[r.size - 1] as Ranked | null;
-    if (!cur || byTheta(r, cur)) acc.thetaBySize[r.size - 1] = r;
-    keepTop(acc.thetaTop as Ranked[], r, Math.max(1, plan.thetaTop), byTheta);
+    const cur = acc.thetaBySize[size - 1] as Ranked | null;
+    const top = acc.thetaTop as Ranked[];
+    const keep = Math.max(1, plan.thetaTop);
+    const bestOfSize = !cur || thetaBefore(theta, size, mask, cur);
+    if (bestOfSize || top.length < keep || thetaBefore(theta, size, mask, top[top.length - 1])) {
+      const r = (row = makeRow(plan, mask, size, hj, drop, theta)) as Ranked;
+      if (bestOfSize) acc.thetaBySize[size - 1] = r;
+      keepTop(top, r, keep, byTheta);
+    }
   }
-  if (row.hj === null) {
+  if (hj === null || drop === null) {
     acc.singular += 1;
     return;
   }
-  const r = row as Ok;
-  keepTop(acc.bestByHj[r.size - 1] as Ok[], r, plan.topPerSize, byHj);
-  keepTop(acc.bestByDrop[r.size - 1] as Ok[], r, plan.topPerSize, byDrop);
-  if (r.p > plan.level) keepTop(acc.adequate as Ok[], r, 10, byAdequate);
+  const keep = plan.topPerSize;
+  const byH = acc.bestByHj[size - 1] as Ok[];
+  if (byH.length < keep || hjBefore(hj, mask, byH[byH.length - 1])) keepTop(byH, (row ??= makeRow(plan, mask, size, hj, drop, theta)) as Ok, keep, byHj);
+  const byD = acc.bestByDrop[size - 1] as Ok[];
+  if (byD.length < keep || dropBefore(drop, mask, byD[byD.length - 1])) keepTop(byD, (row ??= makeRow(plan, mask, size, hj, drop, theta)) as Ok, keep, byDrop);
+  const adequate = acc.adequate as Ok[];
+  if (adequate.length < 10 || adequateBefore(size, hj, mask, adequate[adequate.length - 1])) {
+    const p = row ? row.p! : chiSquareSf(drop, plan.K - size);
+    if (p > plan.level) keepTop(adequate, (row ??= makeRow(plan, mask, size, hj, drop, theta)) as Ok, 10, byAdequate);
+  }
 }
 
 /**
@@ -530,7 +560,7 @@ export function sweepChunk(plan: SweepPlan, fromMask: number, toMask: number): S
   const [lo, hi] = clampRange(plan, fromMask, toMask);
   const acc = emptyPartial(plan);
   if (hi > lo) acc.ranges.push([lo, hi]);
-  visitSubsets(plan, lo, hi, (row) => addRow(plan, acc, row));
+  visitSubsets(plan, lo, hi, (mask, size, hj, drop, theta) => addSubset(plan, acc, mask, size, hj, drop, theta));
   return acc;
 }
 
@@ -592,10 +622,10 @@ export function sweepWithinOneSe(plan: SweepPlan, cut: number, fromMask: number,
   let minSize = K + 1;
   const smallest: Ranked[] = [];
   if (plan.theta) {
-    const stack = new ThetaStack(K, plan.meanF, plan.sigmaF);
+    const stack = new QuadFormStack(K, plan.meanF, plan.sigmaF);
     for (let mask = lo; mask < hi; mask++) {
       if ((mask & plan.nonTradedMask) !== 0) continue;
-      const theta = stack.theta(mask);
+      const theta = stack.value(mask);
       if (theta === null || !(theta >= cut)) continue;
       count += 1;
       let size = 0;
