@@ -39,8 +39,12 @@
  * the best \`topPerSize\` by HJ and by D, the first 10 adequate models, the best \`thetaTop\` by θ̂
  * and the best θ̂ per size), each under a strict total order ending in the mask, so partials merge
  * exactly in any order (mergeSweepPartials) and memory never grows with 2^K. The one-SE cut
- * θ̂_best − se(θ̂_best) depends on the whole sweep, so the subsets within it are counted by a second
- * pass with the cut known (sweepWithinOneSe, θ̂ only, also chunked and merged exactly).
+ * θ̂_best − se(θ̂_best) depends on the whole sweep's best. That best is expected to be the set of
+ * all traded candidates (θ̂ never falls when a factor is added), so the plan computes that subset's
+ * cut first and every chunk counts the subsets within it as it goes. The summary checks the
+ * guess: when the sweep's best is that subset, the cut is the same number and the counts are
+ * exact; when it is not (rounding or ties can make a smaller subset the best), the summary counts
+ * again in a second pass with the true cut (sweepWithinOneSe, θ̂ only, chunked and merged exactly).
  *
  * Papers: Hansen, L. P. and Jagannathan, R. (1997), "Assessing Specification Errors in Stochastic
  * Discount Factor Models", Journal of Finance 52(2), 557–590. Newey, W. K. and West, K. D.
@@ -129,6 +133,14 @@ export interface SweepPlan {
   readonly F: Float64Array;
   readonly meanF: Float64Array;
   readonly sigmaF: Float64Array;
+  /**
+   * The expected best θ̂ subset — all traded candidates (in-sample θ̂ never falls when a factor is
+   * added) — and its one-SE cut θ̂ − se(θ̂), so the first pass counts the subsets within one SE
+   * (SweepPartial.within). Null without a θ̂ ranking or when that subset is singular. When the
+   * sweep's best turns out to be another subset (rounding, ties), the summary makes the second
+   * pass with the true cut instead.
+   */
+  readonly thetaGuess: { readonly mask: number; readonly cut: number } | null;
 }
 
 /** One evaluated subset; null fields when its system is singular. */
@@ -279,12 +291,19 @@ export function prepareSubsetSweep(input: SubsetSweepInput): GmmResult<{ plan: S
   if (traded) traded.forEach((t, k) => { if (!t) nonTradedMask |= 1 << k; });
   const theta = traded !== null && o.thetaRanking !== false && traded.some(Boolean);
   const fullSeB = Float64Array.from({ length: K }, (_, k) => Math.sqrt(Math.max(0, full.covB[k * K + k])));
-  const plan: SweepPlan = {
+  const base = {
     T, N, K, lags, factorNames: [...input.factorNames], hjA: hj.A, hjC: hj.c, hjQ0: hj.q0, wA: w.A, wC: w.c, wQ0: w.q0, wQFull: qFull,
     fullB: Float64Array.from(full.b), fullSeB, traded, nonTradedMask, theta,
     level: o.level ?? 0.05, topPerSize: o.topPerSize ?? 5, thetaTop: o.thetaTop ?? 20, F: m.F, meanF: m.meanF, sigmaF: m.sigmaF,
   };
-  return { ok: true, plan };
+  let thetaGuess: SweepPlan['thetaGuess'] = null;
+  if (theta) {
+    const mask = (2 ** K - 1) & ~nonTradedMask;
+    // the value the sweep's stack gives this mask (a function of the mask alone)
+    const best = new QuadFormStack(K, m.meanF, m.sigmaF).value(mask);
+    if (best !== null) thetaGuess = { mask, cut: best - thetaSe(base, mask) };
+  }
+  return { ok: true, plan: { ...base, thetaGuess } };
 }
 
 /**
@@ -435,6 +454,8 @@ export interface SweepPartial {
   readonly thetaCount: number;
   readonly thetaTop: readonly SweepRow[];
   readonly thetaBySize: readonly (SweepRow | null)[];
+  /** The subsets within one SE under the plan's thetaGuess cut (null when the plan has none). */
+  readonly within: SweepWithinPartial | null;
 }
 
 /** The θ̂ pass that needs the cut θ̂_best − se(θ̂_best) of the whole sweep (sweepWithinOneSe). */
@@ -499,6 +520,28 @@ interface PartialAcc {
   thetaCount: number;
   thetaTop: SweepRow[];
   thetaBySize: (SweepRow | null)[];
+  within: WithinAcc | null;
+}
+
+/** A second-pass partial under construction. */
+interface WithinAcc {
+  ranges: [number, number][];
+  count: number;
+  minSize: number;
+  smallest: SweepRow[];
+}
+
+/** Folds a subset with θ̂ ≥ cut into a within-one-SE partial (the row is made only when kept). */
+function addWithin(plan: SweepPlan, acc: WithinAcc, mask: number, size: number, theta: number): void {
+  acc.count += 1;
+  if (size > acc.minSize) return;
+  if (size < acc.minSize) {
+    acc.minSize = size;
+    acc.smallest.length = 0;
+  }
+  const list = acc.smallest as Ranked[];
+  if (list.length < 10 || thetaBefore(theta, size, mask, list[list.length - 1]))
+    keepTop(list, { mask, size, hj: null, drop: null, df: plan.K - size, p: null, theta }, 10, byTheta);
 }
 
 /** An empty partial (the identity of the merge). */
@@ -513,6 +556,7 @@ function emptyPartial(plan: SweepPlan): PartialAcc {
     thetaCount: 0,
     thetaTop: [],
     thetaBySize: new Array<SweepRow | null>(plan.K).fill(null),
+    within: plan.thetaGuess ? { ranges: [], count: 0, minSize: plan.K + 1, smallest: [] } : null,
   };
 }
 
@@ -535,6 +579,7 @@ function addSubset(plan: SweepPlan, acc: PartialAcc, mask: number, size: number,
       if (bestOfSize) acc.thetaBySize[size - 1] = r;
       keepTop(top, r, keep, byTheta);
     }
+    if (acc.within && theta >= plan.thetaGuess!.cut) addWithin(plan, acc.within, mask, size, theta);
   }
   if (hj === null || drop === null) {
     acc.singular += 1;
@@ -559,7 +604,10 @@ function addSubset(plan: SweepPlan, acc: PartialAcc, mask: number, size: number,
 export function sweepChunk(plan: SweepPlan, fromMask: number, toMask: number): SweepPartial {
   const [lo, hi] = clampRange(plan, fromMask, toMask);
   const acc = emptyPartial(plan);
-  if (hi > lo) acc.ranges.push([lo, hi]);
+  if (hi > lo) {
+    acc.ranges.push([lo, hi]);
+    acc.within?.ranges.push([lo, hi]);
+  }
   visitSubsets(plan, lo, hi, (mask, size, hj, drop, theta) => addSubset(plan, acc, mask, size, hj, drop, theta));
   return acc;
 }
@@ -587,11 +635,16 @@ export function mergeSweepPartials(plan: SweepPlan, parts: readonly SweepPartial
     for (const r of p.adequate) keepTop(acc.adequate as Ok[], r as Ok, 10, byAdequate);
     for (const r of p.thetaTop) keepTop(acc.thetaTop as Ranked[], r as Ranked, Math.max(1, plan.thetaTop), byTheta);
   }
+  if (plan.thetaGuess) {
+    const within = parts.map((p) => p.within);
+    if (within.some((w) => !w)) throw new GmmInputError('invalid-option', 'A sweep chunk lacks its within-one-SE counts (made with another plan).');
+    acc.within = mergeWithinPartials(plan, within as SweepWithinPartial[]) as WithinAcc;
+  }
   return acc;
 }
 
 /** se(θ̂) of one subset: sqrt(LRV(ψ)/T), one pass over the T periods (0 when singular). */
-function thetaSe(plan: SweepPlan, mask: number): number {
+function thetaSe(plan: Pick<SweepPlan, 'F' | 'T' | 'K' | 'meanF' | 'sigmaF' | 'lags'>, mask: number): number {
   const idx: number[] = [];
   for (let k = 0; k < plan.K; k++) if ((mask >> k) & 1) idx.push(k);
   const core = squaredSharpeCore(plan.F, plan.T, plan.K, plan.meanF, plan.sigmaF, idx);
@@ -617,28 +670,19 @@ export function thetaCut(plan: SweepPlan, whole: SweepPartial): number | null {
  */
 export function sweepWithinOneSe(plan: SweepPlan, cut: number, fromMask: number, toMask: number): SweepWithinPartial {
   const [lo, hi] = clampRange(plan, fromMask, toMask);
-  const { K } = plan;
-  let count = 0;
-  let minSize = K + 1;
-  const smallest: Ranked[] = [];
+  const acc: WithinAcc = { ranges: hi > lo ? [[lo, hi]] : [], count: 0, minSize: plan.K + 1, smallest: [] };
   if (plan.theta) {
-    const stack = new QuadFormStack(K, plan.meanF, plan.sigmaF);
+    const stack = new QuadFormStack(plan.K, plan.meanF, plan.sigmaF);
     for (let mask = lo; mask < hi; mask++) {
       if ((mask & plan.nonTradedMask) !== 0) continue;
       const theta = stack.value(mask);
       if (theta === null || !(theta >= cut)) continue;
-      count += 1;
       let size = 0;
       for (let m = mask; m; m &= m - 1) size++;
-      if (size > minSize) continue;
-      if (size < minSize) {
-        minSize = size;
-        smallest.length = 0;
-      }
-      keepTop(smallest, { mask, size, hj: null, drop: null, df: K - size, p: null, theta }, 10, byTheta);
+      addWithin(plan, acc, mask, size, theta);
     }
   }
-  return { ranges: hi > lo ? [[lo, hi]] : [], count, minSize, smallest };
+  return acc;
 }
 
 /** Merges second-pass partials of disjoint ranges (any order), exactly. */
@@ -663,8 +707,8 @@ function assertWhole(plan: SweepPlan, ranges: readonly (readonly [number, number
 
 /**
  * Summarises the merged partial of the whole sweep (masks 1..2^K − 1). The within-one-SE figures
- * come from `within` (the merged second pass over all masks) or, when it is not given, from one
- * second pass here.
+ * come from `within` (a merged second pass over all masks) when given; else from the first pass's
+ * counts when the plan's thetaGuess is the sweep's best; else from one second pass here.
  * @throws GmmInputError when a partial does not cover every mask exactly once.
  */
 export function summariseSubsetSweep(plan: SweepPlan, whole: SweepPartial, within?: SweepWithinPartial): SubsetSweepResult {
@@ -730,7 +774,10 @@ function thetaRanking(plan: SweepPlan, whole: SweepPartial, given?: SweepWithinP
     return se;
   };
   const cut = best.theta - seOf(best.mask);
-  const within = given ?? sweepWithinOneSe(plan, cut, 1, 2 ** plan.K);
+  // the first pass counted under the expected best's cut; when the best is that subset the cut is
+  // the same number (θ̂ and se are functions of the mask), otherwise a second pass with this cut
+  const counted = plan.thetaGuess && best.mask === plan.thetaGuess.mask ? whole.within : null;
+  const within = given ?? counted ?? sweepWithinOneSe(plan, cut, 1, 2 ** plan.K);
   assertWhole(plan, within.ranges, 'second (within one SE) pass');
   const model = (r: SweepRow): SweepThetaModel => ({
     factors: subsetFactors(r.mask, names),

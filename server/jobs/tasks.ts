@@ -176,7 +176,8 @@ export function runChunk(task: ChunkTask): unknown {
       const input = inputOf(task.key, task.input);
       const p = cached(task.key, () => prepareSubsetSweep(input));
       forget(task.key);
-      // exact merge of the chunks' partials; the one-SE figures are one θ̂-only pass inside the summary
+      // exact merge of the chunks' partials; the one-SE figures were counted by the chunks (a θ̂-only
+      // second pass here only when the best subset is not the expected one)
       return p.ok ? summariseSubsetSweep(p.plan, mergeSweepPartials(p.plan, task.parts)) : failed(p);
     }
     case 'rolling':

@@ -6,8 +6,10 @@
  * (2) definition — the summary's lists equal the definition applied to every row (all rows sorted
  *     by the stated orders, the one-SE count over all rows), computed the long way from
  *     evaluateSubsets;
- * (3) more than 15 candidates (16: 65,535 models) run in lib/gmm and merge exactly;
- * (4) caller mistakes: overlapping or missing chunks throw GmmInputError.
+ * (3) the within-one-SE counts made in the first pass equal the second pass, and a plan whose
+ *     guess of the best is wrong falls back to the second pass;
+ * (4) more than 15 candidates (16: 65,535 models) run in lib/gmm and merge exactly;
+ * (5) caller mistakes: overlapping or missing chunks throw GmmInputError.
  */
 import { describe, expect, it } from 'vitest';
 import {
@@ -136,6 +138,38 @@ describe('the partial holds what the definition gives on all rows', () => {
     const minSize = Math.min(...within.map((r) => r.size));
     const smallest = within.filter((r) => r.size === minSize).sort((a, b) => b.theta! - a.theta! || a.mask - b.mask).slice(0, 10);
     expect(rk.smallestWithinOneSe.map((m) => m.theta)).toEqual(smallest.map((r) => r.theta));
+  });
+});
+
+describe('the within-one-SE count of the first pass', () => {
+  // The plan expects the best θ̂ to be the set of all traded candidates and every chunk counts the
+  // subsets within that subset's one-SE cut; the summary uses those counts only when the sweep's
+  // best is that subset. Checks: the guess holds on these economies and the counts equal a second
+  // pass with the true cut (the definition); with the guess made wrong by hand, the summary falls
+  // back to the second pass and still gives the definition's figures.
+  for (const [K, seed, bits] of [[8, 12, 0b11110111], [9, 13, 0b101101101], [7, 3, 0b1111111]] as const) {
+    it(`K = ${K}, traded ${bits.toString(2).padStart(K, '0')}: first-pass counts = second pass; a wrong guess falls back`, () => {
+      const plan = okOf(prepareSubsetSweep(sweepInput(K, seed, bits))).plan;
+      const whole = mergeSweepPartials(plan, randomChunks(K, seed, 7).map(([a, b]) => sweepChunk(plan, a, b)));
+      expect(plan.thetaGuess!.mask).toBe(bits);
+      expect(whole.thetaTop[0].mask).toBe(bits);
+      const cut = thetaCut(plan, whole)!;
+      expect(plan.thetaGuess!.cut).toBe(cut);
+      const second = sweepWithinOneSe(plan, cut, 1, 2 ** K);
+      sameBits(whole.within, second);
+      const byDefinition = summariseSubsetSweep(plan, whole, second);
+      sameBits(summariseSubsetSweep(plan, whole), byDefinition);
+      // a plan whose guess is another subset, with a cut that would count every subset
+      const wrong: SweepPlan = { ...plan, thetaGuess: { mask: bits & (bits - 1), cut: -Infinity } };
+      const wrongWhole = mergeSweepPartials(wrong, randomChunks(K, seed + 1, 5).map(([a, b]) => sweepChunk(wrong, a, b)));
+      expect(wrongWhole.within!.count).toBe(wrongWhole.thetaCount);
+      sameBits(summariseSubsetSweep(wrong, wrongWhole), byDefinition);
+    });
+  }
+  it('a partial without within counts does not merge under a plan that expects them', () => {
+    const plan = okOf(prepareSubsetSweep(sweepInput(6, 11, 0b111011))).plan;
+    const part = { ...sweepChunk(plan, 1, 64), within: null };
+    expect(() => mergeSweepPartials(plan, [part])).toThrow(GmmInputError);
   });
 });
 
