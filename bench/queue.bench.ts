@@ -9,10 +9,14 @@
  *    Targets: queue overhead ≤ 10 % at 1 worker, speed-up ≥ 1.7× from 1 to 2 workers (needs 2 free cores).
  * 2. Chunk latency through Redis: enqueue → summary done for a 19-draw bootstrap on T = 120, N = 5
  *    (two tiny chunks and a summary), median of 9 after a warm-up.
- * 3. Subset sweep of 20 candidates (1,048,575 models; T = 600, N = 25): embedded pool vs queue mode
- *    with 1 and 2 workers, 200 mask-range chunks (chunkRanges) answered as bounded partials (lib/gmm
- *    sweepChunk) and merged exactly in the summary; time and peak RSS (VmHWM of this process for the
- *    embedded pool, of each worker process in queue mode). Smaller with BENCH_QUEUE_SWEEP_K, _T, _N.
+ * 3. Subset sweeps of 20 candidates (1,048,575 models) and 23 (8,388,607), T = 600, N = 25:
+ *    embedded pool vs queue mode with 1 and 2 workers, in mask-range chunks (chunkRanges: 8 and 64)
+ *    answered as bounded partials (lib/gmm sweepChunk) and merged exactly in the summary; time and
+ *    peak RSS (VmHWM of this process for the embedded pool, of each worker process in queue mode).
+ *    Every mode is first warmed with three 18-candidate sweeps (two chunks each): a thread's first
+ *    sweeps also compile the sweep's code, about 0.1 s once per thread, which a long-lived worker
+ *    pays once, not per check. The sweeps poll every 20 ms, and one under two seconds (20
+ *    candidates) is timed five times in each mode: the median is printed with the range. Other sizes with BENCH_QUEUE_SWEEP_K (a comma list), _T, _N.
  * BENCH_QUEUE_ONLY=bootstrap|sweep runs one part (peak RSS of this process is monotone: run the sweep
  * alone to read its own).
  * The load average is printed beside the figures: on a shared machine they move with it.
@@ -67,8 +71,8 @@ async function embedded(check: Extract<CheckInput, { kind: 'bootstrap' }>): Prom
 
 /**
  * Enqueues a flow and polls it to its end. Each poll is several Redis calls, CPU of this process
- * that the workers would otherwise use on a 2-core machine, so the long flows poll every 50 ms (the
- * API follows flows every 200 ms) and only the tiny latency flows every 5 ms.
+ * that the workers would otherwise use on a 2-core machine, so the long bootstraps poll every 50 ms
+ * (the API follows flows every 250 ms), the sweeps every 20 ms and the tiny latency flows every 5 ms.
  */
 async function viaQueue(q: QueueClient, flow: string, check: Extract<CheckInput, { kind: 'bootstrap' | 'subset-sweep' }>, pollMs = 50): Promise<{ ms: number; result: unknown }> {
   const t0 = performance.now();
@@ -120,7 +124,11 @@ async function bootstrapSection(q: QueueClient, redis: { url: string }): Promise
   if (!same) process.exitCode = 1;
 }
 
-const SWEEP_K = envInt('BENCH_QUEUE_SWEEP_K', 20);
+const SWEEP_KS = (process.env.BENCH_QUEUE_SWEEP_K ?? '20,23').split(',').map((v) => {
+  const k = Number(v);
+  if (!Number.isInteger(k) || k < 2 || k > 25) throw new Error(`BENCH_QUEUE_SWEEP_K: whole numbers from 2 to 25, got ${v}`);
+  return k;
+});
 const SWEEP_T = envInt('BENCH_QUEUE_SWEEP_T', 600);
 const SWEEP_N = envInt('BENCH_QUEUE_SWEEP_N', 25);
 
@@ -135,35 +143,50 @@ function peakRssMb(pid: number | 'self'): number | null {
 }
 const mb = (v: number | null) => (v === null ? 'n/a' : `${v.toFixed(0)} MB`);
 
-async function sweepEmbedded(check: Extract<CheckInput, { kind: 'subset-sweep' }>): Promise<{ ms: number; result: unknown }> {
-  const pool = createJobPool();
+const SWEEP_POLL_MS = 20;
+/** Three 18-candidate sweeps of two chunks each: every thread that takes one compiles the sweep's code. */
+const sweepWarmups = () => [0, 1, 2].map((i) => sweepCheck(SWEEP_T, SWEEP_N, 18, 5 + i));
+
+async function sweepOnPool(pool: JobPool, key: string, check: Extract<CheckInput, { kind: 'subset-sweep' }>): Promise<{ ms: number; result: unknown }> {
   const ranges = chunkRanges(check.total, 'subset-sweep');
-  const key = 'bench-sweep-embedded';
   const t0 = performance.now();
   const input = shareInput(check.input);
   const parts = await chunksOnPool<SweepPartial>(pool, ranges, ([from, to]) => ({ op: 'subset-sweep', key, input, from: from + 1, to: to + 1 }));
   const result = await pool.run({ op: 'subset-sweep-summary', key, input, parts });
-  const ms = performance.now() - t0;
-  await pool.destroy();
-  return { ms, result };
+  return { ms: performance.now() - t0, result };
 }
 
-async function sweepSection(q: QueueClient, redis: { url: string }): Promise<void> {
-  const check = sweepCheck(SWEEP_T, SWEEP_N, SWEEP_K, 77);
+async function sweepSection(q: QueueClient, redis: { url: string }, K: number): Promise<void> {
+  const check = sweepCheck(SWEEP_T, SWEEP_N, K, 77);
   const rssBefore = peakRssMb('self');
-  console.log(`subset sweep, ${SWEEP_K} candidates (${check.total.toLocaleString('en-US')} models), T = ${SWEEP_T}, N = ${SWEEP_N}, ${chunkRanges(check.total, 'subset-sweep').length} chunks; load average ${load()}`);
-  const emb = await sweepEmbedded(check);
-  console.log(`  embedded pool           ${(emb.ms / 1000).toFixed(2)} s   ${((emb.ms * 1000) / check.total).toFixed(2)} µs/model wall   peak RSS of this process ${mb(peakRssMb('self'))} (before: ${mb(rssBefore)})   (load ${load()})`);
+  console.log(`subset sweep, ${K} candidates (${check.total.toLocaleString('en-US')} models), T = ${SWEEP_T}, N = ${SWEEP_N}, ${chunkRanges(check.total, 'subset-sweep').length} chunks; load average ${load()}`);
+  // a sweep under two seconds is timed five times (median, and the range)
+  const reps = check.total < 2 ** 21 ? 5 : 1;
+  const timed = async (run: (rep: number) => Promise<{ ms: number; result: unknown }>) => {
+    const runs: { ms: number; result: unknown }[] = [];
+    for (let r = 0; r < reps; r++) runs.push(await run(r));
+    const ms = runs.map((x) => x.ms).sort((a, b) => a - b);
+    const same = runs.every((x) => JSON.stringify(x.result) === JSON.stringify(runs[0].result));
+    return { ms: ms[(reps - 1) >> 1], range: reps > 1 ? ` (${reps} runs: ${(ms[0] / 1000).toFixed(2)}–${(ms[reps - 1] / 1000).toFixed(2)} s)` : '', result: same ? runs[0].result : null };
+  };
+  const pool = createJobPool();
+  for (const [i, w] of sweepWarmups().entries()) await sweepOnPool(pool, `bench-sweep-warm-${K}-${i}`, w);
+  const emb = await timed((r) => sweepOnPool(pool, `bench-sweep-embedded-${K}-${r}`, check));
+  await pool.destroy();
+  console.log(`  embedded pool           ${(emb.ms / 1000).toFixed(2)} s${emb.range}   ${((emb.ms * 1000) / check.total).toFixed(2)} µs/model wall   peak RSS of this process ${mb(peakRssMb('self'))} (before: ${mb(rssBefore)})   (load ${load()})`);
+  const warm = async (tag: string) => {
+    for (const [i, w] of sweepWarmups().entries()) await viaQueue(q, `bench-sweep-warm-${tag}-${K}-${i}`, w, SWEEP_POLL_MS);
+  };
   const workers: WorkerProcess[] = [await startWorkerProcess(redis.url, { lockMs: 30_000 })];
-  await viaQueue(q, 'bench-sweep-warm', sweepCheck(120, 6, 3, 1));
-  const one = await viaQueue(q, 'bench-sweep-1w', check);
-  console.log(`  queue, 1 worker         ${(one.ms / 1000).toFixed(2)} s   overhead ${((one.ms / emb.ms - 1) * 100).toFixed(1)} % vs embedded   worker peak RSS ${mb(peakRssMb(workers[0].proc.pid!))}   (load ${load()})`);
+  await warm('1w');
+  const one = await timed((r) => viaQueue(q, `bench-sweep-1w-${K}-${r}`, check, SWEEP_POLL_MS));
+  console.log(`  queue, 1 worker         ${(one.ms / 1000).toFixed(2)} s${one.range}   overhead ${((one.ms / emb.ms - 1) * 100).toFixed(1)} % vs embedded   worker peak RSS ${mb(peakRssMb(workers[0].proc.pid!))}   (load ${load()})`);
   workers.push(await startWorkerProcess(redis.url, { lockMs: 30_000 }));
-  await viaQueue(q, 'bench-sweep-warm2', sweepCheck(120, 6, 3, 2));
-  const two = await viaQueue(q, 'bench-sweep-2w', check);
-  console.log(`  queue, 2 workers        ${(two.ms / 1000).toFixed(2)} s   speed-up ${(one.ms / two.ms).toFixed(2)}× from 1 to 2 workers   worker peak RSS ${workers.map((w) => mb(peakRssMb(w.proc.pid!))).join(', ')}   (load ${load()})`);
-  const same = JSON.stringify(emb.result) === JSON.stringify(one.result) && JSON.stringify(one.result) === JSON.stringify(two.result);
-  console.log(`  results identical in the three modes: ${same ? 'yes' : 'NO'}`);
+  await warm('2w');
+  const two = await timed((r) => viaQueue(q, `bench-sweep-2w-${K}-${r}`, check, SWEEP_POLL_MS));
+  console.log(`  queue, 2 workers        ${(two.ms / 1000).toFixed(2)} s${two.range}   speed-up ${(one.ms / two.ms).toFixed(2)}× from 1 to 2 workers   worker peak RSS ${workers.map((w) => mb(peakRssMb(w.proc.pid!))).join(', ')}   (load ${load()})`);
+  const same = emb.result !== null && JSON.stringify(emb.result) === JSON.stringify(one.result) && JSON.stringify(one.result) === JSON.stringify(two.result);
+  console.log(`  results identical in the three modes${reps > 1 ? ' and every run' : ''}: ${same ? 'yes' : 'NO'}`);
   for (const w of workers) {
     w.proc.kill('SIGTERM');
     await w.exited;
@@ -175,6 +198,6 @@ const ONLY = process.env.BENCH_QUEUE_ONLY;
 const redis = await testRedis();
 const q = new QueueClient(redis.url, { timeoutMs: 60_000 });
 if (ONLY !== 'sweep') await bootstrapSection(q, redis);
-if (ONLY !== 'bootstrap') await sweepSection(q, redis);
+if (ONLY !== 'bootstrap') for (const k of SWEEP_KS) await sweepSection(q, redis, k);
 await q.close();
 await redis.stop();

@@ -51,7 +51,7 @@ const SHUTDOWN = 'keelson-shutdown';
  * fraction of a second, and that another job's chunks never wait long behind this one's; large
  * enough that sending the data to a worker stays cheap. Bootstrap: 10–100 draws per chunk;
  * sweep: at most 200 chunks by mask range, at least SWEEP_MIN_CHUNK subsets each (a sweep of up to
- * 14 candidates is one chunk; 20 candidates give 64 chunks, 25 give 200 chunks of 167,773
+ * 17 candidates is one chunk; 20 candidates give 8 chunks, 25 give 200 chunks of 167,773
  * subsets), each answered as a bounded partial
  * that merges exactly (lib/gmm sweepChunk / mergeSweepPartials); rolling: ~20 chunks.
  */
@@ -67,12 +67,12 @@ export function chunkRanges(total: number, kind: CheckInput['kind']): [number, n
 export const SWEEP_CHUNKS = 200;
 
 /**
- * The fewest subsets in a sweep chunk (about 0.1 s of work at N = 25). Smaller chunks spend more on
- * the queue than on the sweep: in one pair of runs of bench/queue-timeline.ts, 20 candidates in
- * 200 chunks of 5,243 took 6.99 s on one worker and 4.46 s on two, in 64 chunks of 16,384 6.23 s
- * and 3.83 s.
+ * The fewest subsets in a sweep chunk (about 80 ms of work at 0.6 µs a subset). Smaller chunks
+ * spend more on the queue than on the sweep: in three pairs of runs of bench/queue-timeline.ts
+ * (20 candidates, warm workers), 64 chunks of 16,384 took 1.03 s on one worker and 0.77 s on two,
+ * 16 of 65,536 0.80–1.10 s and 0.50–0.64 s, 8 of 131,072 0.69–0.80 s and 0.45–0.49 s.
  */
-export const SWEEP_MIN_CHUNK = 16_384;
+export const SWEEP_MIN_CHUNK = 131_072;
 
 const nowIso = () => new Date().toISOString();
 

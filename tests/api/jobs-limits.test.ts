@@ -70,12 +70,12 @@ describe('sweep candidates without workers', () => {
     expect(tableCounts(t.db)).toEqual(before);
   });
 
-  it('15 candidates run (32,767 models in 2 chunks of at most 16,384) and equal lib/gmm’s sweep', async () => {
+  it('15 candidates run (32,767 models, one chunk) and equal lib/gmm’s sweep', async () => {
     const cands = wide.factors.slice(0, 15);
     const r = await post(researcher, `/runs/${runId}/checks`, { kind: 'subset-sweep', params: { candidates: cands } }).expect(201);
     const job = jobResponseSchema.parse(r.body).job;
     expect(job.total).toBe(32_767);
-    expect(chunkRanges(32_767, 'subset-sweep')).toEqual([[0, 16_384], [16_384, 32_767]]);
+    expect(chunkRanges(32_767, 'subset-sweep')).toEqual([[0, 32_767]]);
     const fin = await waitJob(researcher, job.id, jobEnded, 60_000, 100);
     expect(fin.status, fin.error ?? '').toBe('finished');
     const direct = directWideSweep(wide, cands);
@@ -86,16 +86,16 @@ describe('sweep candidates without workers', () => {
 });
 
 describe('chunking of big sweeps', () => {
-  it('at most 200 mask ranges, at least SWEEP_MIN_CHUNK (16,384) masks each, covering every mask once', () => {
-    expect(SWEEP_MIN_CHUNK).toBe(16_384);
-    for (const [K, chunks] of [[10, 1], [14, 1], [15, 2], [16, 4], [20, 64], [22, 200], [25, 200]] as const) {
+  it('at most 200 mask ranges, at least SWEEP_MIN_CHUNK (131,072) masks each, covering every mask once', () => {
+    expect(SWEEP_MIN_CHUNK).toBe(131_072);
+    for (const [K, chunks] of [[10, 1], [15, 1], [17, 1], [18, 2], [20, 8], [22, 32], [24, 128], [25, 200]] as const) {
       const total = 2 ** K - 1;
       const r = chunkRanges(total, 'subset-sweep');
       expect(r[0][0]).toBe(0);
       expect(r[r.length - 1][1]).toBe(total);
       for (let i = 1; i < r.length; i++) expect(r[i][0]).toBe(r[i - 1][1]);
       expect(r.length).toBe(chunks);
-      for (const [a, b] of r.slice(0, -1)) expect(b - a).toBeGreaterThanOrEqual(16_384);
+      for (const [a, b] of r.slice(0, -1)) expect(b - a).toBeGreaterThanOrEqual(131_072);
     }
   });
 });

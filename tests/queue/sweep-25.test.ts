@@ -1,7 +1,7 @@
 /**
  * Queue mode's bigger sweeps: with KEELSON_REDIS_URL set the API allows 25 sweep candidates
- * (GET /jobs/limits says so), and a 17-candidate sweep (131,071 models) on the wide invented
- * economy (tests/api/runs-fixture.ts makeWideFixture) runs as a BullMQ flow of 200 mask-range
+ * (GET /jobs/limits says so), and a 20-candidate sweep (1,048,575 models) on the wide invented
+ * economy (tests/api/runs-fixture.ts makeWideFixture) runs as a BullMQ flow of 8 mask-range
  * chunks on two real `keelson worker` processes over a real redis-server, each chunk answering a
  * bounded partial. Check (identity): the result equals lib/gmm's subsetSweep called directly,
  * uninterrupted and unchunked, on the same matrices, as the JSON the API serves.
@@ -18,7 +18,7 @@ let q: QueueTestApp;
 let researcher: Agent;
 let runId: number;
 const workers: WorkerProcess[] = [];
-const wide = makeWideFixture(17, 20);
+const wide = makeWideFixture(20, 25);
 
 beforeAll(async () => {
   // job ids (hence flow ids job-<id>-<attempt>) far from the other queue tests'
@@ -48,20 +48,20 @@ describe('sweep limits with queue workers', () => {
     expect(JSON.stringify(res.body)).toMatch(/at most 15 candidate factors without workers; 25 with queue workers/);
   });
 
-  it('17 candidates (131,071 models, 8 chunks) on two workers equal lib/gmm’s one-pass sweep', async () => {
+  it('20 candidates (1,048,575 models, 8 chunks) on two workers equal lib/gmm’s one-pass sweep', async () => {
     const cands = wide.factors;
-    expect(chunkRanges(2 ** 17 - 1, 'subset-sweep')).toHaveLength(8);
+    expect(chunkRanges(2 ** 20 - 1, 'subset-sweep')).toHaveLength(8);
     const r = await post(researcher, `/runs/${runId}/checks`, { kind: 'subset-sweep', params: { candidates: cands } });
     expect(r.status, JSON.stringify(r.body)).toBe(201);
     const job = jobResponseSchema.parse(r.body).job;
-    expect(job.total).toBe(131_071);
+    expect(job.total).toBe(1_048_575);
     const fin = await waitJob(researcher, job.id, jobEnded, 40_000, 200);
     expect(fin.status, fin.error ?? '').toBe('finished');
     const direct = directWideSweep(wide, cands);
     const served = (await getJob(researcher, job.id)).result;
     // toEqual compares numbers with Object.is: every double as lib/gmm gave it
     expect(served).toEqual(JSON.parse(JSON.stringify(direct)));
-    expect(direct.models).toBe(131_071);
+    expect(direct.models).toBe(1_048_575);
     expect(direct.bestByHj[0].models[0].factors).toEqual(['W01']);
     expect(direct.thetaRanking).not.toBeNull();
   }, 45_000);
