@@ -42,6 +42,7 @@ import { readlinkSync } from 'node:fs';
 import { getPriority } from 'node:os';
 import { deserialize } from 'node:v8';
 import { isShared, type TaskInput } from './shared-input';
+import { keptLast } from '../kept-last';
 import type { ChunkFailure } from './pool';
 import { estimateRun, type RunEstimateInput } from '../services/run-estimate';
 
@@ -118,15 +119,6 @@ export function summariseHoldoutBlocks(input: RollingHoldoutInput, parts: readon
   });
   const first = rollingHoldout({ ...input, returns: input.returns.slice(0, input.window.length + 2), factors: input.factors.slice(0, input.window.length + 2), dates: input.dates?.slice(0, input.window.length + 2) });
   return { ...first, rows, pooledR2oos: ok > 0 && m > 0 ? 1 - e / m : null, meanAbsAlpha: ok > 0 ? abs / ok : null };
-}
-
-/** map's value for key, made and kept (with at most the last 4 keys) when missing. */
-function keptLast<V>(map: Map<string, V>, key: string, make: () => V): V {
-  if (map.has(key)) return map.get(key) as V;
-  const value = make();
-  map.set(key, value);
-  while (map.size > 4) map.delete(map.keys().next().value as string);
-  return value;
 }
 
 /** Prepared plans by job key; a typed failure is kept too, so the job's other chunks return it at once. */

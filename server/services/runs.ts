@@ -42,6 +42,7 @@ import { KEELSON_VERSION } from '../version';
 import { preparedFor } from '../db/prepared';
 import { canReadLibrary } from './edition-data';
 import { runResultColumns } from './run-shape';
+import { keptLast } from '../kept-last';
 
 type RunRow = typeof runs.$inferSelect;
 /** A run row without its (large) result text: what summaries and lists read. */
@@ -151,9 +152,16 @@ export function getRun(db: Db, user: User, id: number): Run {
  */
 export function getRunJson(db: Db, user: User, id: number): string {
   const { r: row, authorName, signoff } = readableRun(db, user, id);
-  const summary = toSummary(row, authorName, signoff);
-  const head = JSON.stringify({ ...summary, spec: modelSpecSchema.parse(JSON.parse(row.spec)), result: null });
-  return `{"run":${head.slice(0, -'null}'.length)}${row.result ?? 'null'}}}`;
+  const summary = JSON.stringify(toSummary(row, authorName, signoff));
+  return `{"run":${summary.slice(0, -1)},"spec":${specJsonOf(row.spec)},"result":${row.result ?? 'null'}}}`;
+}
+
+/** Stored spec texts already read through the schema, with their answer JSON (the last 256). */
+const specJsons = new Map<string, string>();
+
+/** The spec as a run's answer carries it: the stored text read through the schema (defaults filled), cached by that text. */
+function specJsonOf(stored: string): string {
+  return keptLast(specJsons, stored, () => JSON.stringify(modelSpecSchema.parse(JSON.parse(stored))), 256);
 }
 
 /** The stored result text exactly as estimated (404 for a run without a result). */

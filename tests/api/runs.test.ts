@@ -223,6 +223,27 @@ describe('reading runs', () => {
     expectEnvelope((await desk.get('/api/v1/runs?status=exploded').expect(400)).body, 'validation_failed');
   });
 
+  it('answers GET /runs/:id with the run exactly as POST gave it, spec defaults filled, for runs read in turn', async () => {
+    const other = await startRun(researcher, { editionId: shared.editionId, spec: spec({ factors: ['MKT'], level: 0.1 }) });
+    const posted = await startRun(researcher, { editionId: shared.editionId, spec: spec({ rf: 'RF', dropSet: ['ECHO'] }) });
+    // read alternately: each answer carries its own spec (the served spec text is cached by stored text)
+    for (let i = 0; i < 2; i++) {
+      for (const want of [posted, other]) {
+        const got = runResponseSchema.parse((await desk.get(`/api/v1/runs/${want.id}`).expect(200)).body).run;
+        expect(got).toEqual(want);
+      }
+    }
+    // a stored spec written without the defaults (as an older version did) is served with them filled
+    const stored = JSON.parse((t.db.$client.prepare('select spec from runs where id = ?').get(other.id) as { spec: string }).spec) as Record<string, unknown>;
+    delete stored.level;
+    delete stored.form;
+    t.db.$client.prepare('update runs set spec = ? where id = ?').run(JSON.stringify(stored), other.id);
+    const read = runResponseSchema.parse((await desk.get(`/api/v1/runs/${other.id}`).expect(200)).body).run;
+    expect(read.spec.form).toBe('centred');
+    expect(read.spec.level).toBe(0.05);
+    expect(read.spec.factors).toEqual(['MKT']);
+  });
+
   it('serves result.json as stored, equal to the run’s result', async () => {
     const r = await desk.get(`/api/v1/runs/${run.id}/result.json`).expect(200);
     expect(r.headers['content-type']).toMatch(/application\/json/);
