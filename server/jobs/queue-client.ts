@@ -17,8 +17,8 @@ import {
   chunkId,
   connectionFor,
   decode,
-  encode,
   inputKey,
+  packInput,
   type ChunkJobData,
   type EstimateJobData,
   type StoredInput,
@@ -80,7 +80,7 @@ export class QueueClient {
 
   private async enqueueNow(flow: string, stored: StoredInput, ranges: readonly [number, number][], total: number): Promise<void> {
     const existing = await Job.fromId(this.queue, flow);
-    await this.redis.set(inputKey(flow), encode({ kind: stored.kind, input: stored.input }), 'EX', INPUT_TTL_SECONDS);
+    await this.redis.set(inputKey(flow), packInput(stored.input), 'EX', INPUT_TTL_SECONDS);
     if (existing) return;
     const children = ranges.map(([from, to], i) => ({
       name: 'chunk',
@@ -107,7 +107,7 @@ export class QueueClient {
 
   private async enqueueEstimateNow(id: string, stored: StoredRunInput): Promise<void> {
     const existing = await Job.fromId(this.queue, id);
-    await this.redis.set(inputKey(id), encode(stored), 'EX', INPUT_TTL_SECONDS);
+    await this.redis.set(inputKey(id), packInput(stored.input), 'EX', INPUT_TTL_SECONDS);
     if (existing) return;
     await this.queue.add('estimate', { flow: id, kind: 'estimate' } satisfies EstimateJobData, { jobId: id, attempts: 3, backoff: { type: 'fixed', delay: 500 } });
   }

@@ -6,7 +6,9 @@
  * ('chunk', one per range of draws, subset masks or windows). The chunk input — the packed
  * edition slice and the spec, as lib/gmm takes it — is stored ONCE in Redis under the flow's key
  * (`keelson:input:<flow>`, with a TTL) and every chunk names that key; no chunk carries a copy.
+ * The stored input is binary ({@link packInput}); chunk values and results are JSON ({@link encode}).
  */
+import { deserialize, serialize } from 'node:v8';
 import type { CheckInput } from '../services/jobs-input';
 import type { RunEstimateInput } from '../services/run-estimate';
 
@@ -54,6 +56,42 @@ export type StoredInput = { [K in CheckInput['kind']]: Pick<Extract<CheckInput, 
 export interface StoredRunInput {
   kind: 'estimate';
   input: RunEstimateInput;
+}
+
+/**
+ * The stored input's bytes: node:v8's serialisation (the structured-clone format) of the check's
+ * or run's input, the very bytes the embedded pool shares with its threads (shared-input.ts). A
+ * worker copies them into a SharedArrayBuffer for its threads without decoding them itself, so its
+ * main thread (BullMQ's locks and Redis replies) allocates nothing per flow; every double, −0, NaN
+ * and ±∞ comes back as it was, and the bytes are about half the JSON text's. The format is V8's:
+ * the API and the workers run the same Node.js major version (docs/scaling.md).
+ */
+export function packInput(input: unknown): Buffer {
+  return serialize(input);
+}
+
+/** First byte of a stored input written as JSON text (`{"kind":…,"input":…}`) by releases before packInput. */
+const JSON_INPUT_BYTE = 0x7b;
+
+/**
+ * A stored input as pool-thread bytes: packInput's bytes as they are; a JSON input of an earlier
+ * release (a flow re-attached across an upgrade) is decoded and serialised the new way.
+ */
+export function inputBytes(stored: Uint8Array): Uint8Array {
+  if (stored[0] !== JSON_INPUT_BYTE) return stored;
+  return serialize(decode<{ input: unknown }>(Buffer.from(stored.buffer, stored.byteOffset, stored.byteLength).toString('utf8')).input);
+}
+
+/**
+ * Reads packInput's bytes back (tests, tools); a worker's threads read them through shared-input.ts.
+ * @throws Error naming the version mismatch when V8 cannot read them.
+ */
+export function unpackInput<T>(bytes: Uint8Array): T {
+  try {
+    return deserialize(inputBytes(bytes)) as T;
+  } catch (e) {
+    throw new Error(`The stored input cannot be read by Node.js ${process.version} (${(e as Error).message}): run the API and the workers on the same Node.js major version.`);
+  }
 }
 
 /** Worker's reason when it stops a chunk of a cancelled flow (the API records 'cancelled'). */

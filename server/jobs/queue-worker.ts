@@ -2,7 +2,8 @@
  * A queue worker (`npx keelson worker --redis redis://host:6379`): takes deep-check chunks and
  * summaries, and heavy runs' 'estimate' jobs (run-<id>), from the BullMQ queue and computes them with lib/gmm in the existing worker-thread pool
  * (server/jobs/pool.ts, one thread per unit of concurrency). It needs no database and no session:
- * everything it computes on is the flow's stored input in Redis.
+ * everything it computes on is the flow's stored input in Redis (packInput's bytes, which this
+ * thread hands to the pool threads without decoding: they read it once per flow).
  *
  * - Progress: BullMQ records each finished chunk in its parent flow; the API reads those counts.
  * - A worker killed mid-chunk stops renewing the chunk's lock; BullMQ's stalled-job check moves the
@@ -19,8 +20,9 @@ import { UnrecoverableError, Worker, type Job } from 'bullmq';
 import { setMaxListeners } from 'node:events';
 import { ChunkFailedError, createJobPool, type JobPool } from './pool';
 import type { ChunkTask } from './tasks';
-import { shareInput, type SharedInput } from './shared-input';
-import type { BootstrapBatch, RollingPoint, SweepPartial } from '../../lib/gmm/index';
+import { shareBytes, type SharedInput } from './shared-input';
+import type { BootstrapBatch, BootstrapInput, RollingInput, RollingPoint, SubsetSweepInput, SweepPartial } from '../../lib/gmm/index';
+import type { RunEstimateInput } from '../services/run-estimate';
 import {
   CANCELLED_REASON,
   CANCEL_CHANNEL,
@@ -30,11 +32,10 @@ import {
   connectionFor,
   decode,
   encode,
+  inputBytes,
   inputKey,
   type ChunkJobData,
   type EstimateJobData,
-  type StoredInput,
-  type StoredRunInput,
   type SummaryJobData,
 } from './queue-shared';
 
@@ -62,13 +63,9 @@ export interface QueueWorker {
 
 type Payload = ChunkJobData | SummaryJobData | EstimateJobData;
 
-/** A flow's stored input, and for a check its input shared with the pool threads. */
-type Loaded = { stored: StoredRunInput } | { stored: StoredInput; shared: SharedInput<StoredInput['input']> };
-
-/** The shared copy of a check's input, typed as the check's own input. */
-function sharedOf<S extends StoredInput>(loaded: Loaded, _stored: S): SharedInput<S['input']> {
-  return (loaded as { shared: SharedInput<S['input']> }).shared;
-}
+/** The shared copy of a flow's stored input, typed as what a task of that kind takes. */
+type Shared = SharedInput<never>;
+const as = <T>(shared: Shared) => shared as unknown as SharedInput<T>;
 
 export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
   const log = opts.log ?? ((l: string) => console.log(l));
@@ -85,19 +82,19 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
   /** Running chunks' abort controllers, by flow. */
   const running = new Map<string, Set<AbortController>>();
   /**
-   * Inputs fetched from Redis, by flow (the last few; a summary drops its flow's), each with a
-   * {@link shareInput} copy of a check's input for the pool threads (made once per flow here).
+   * Inputs fetched from Redis, by flow (the last few; a summary drops its flow's): the stored bytes
+   * (packInput) copied into a SharedArrayBuffer for the pool threads, once per flow, never decoded
+   * on this thread.
    */
-  const inputs = new Map<string, Promise<Loaded>>();
+  const inputs = new Map<string, Promise<Shared>>();
   let completed = 0;
 
-  const loadInput = (flow: string): Promise<Loaded> => {
+  const loadInput = (flow: string): Promise<Shared> => {
     let p = inputs.get(flow);
     if (!p) {
-      p = redis.get(inputKey(flow)).then((text): Loaded => {
-        if (text === null) throw new UnrecoverableError(`The input of ${flow} is no longer in Redis (expired or removed); restart the job.`);
-        const stored = decode<StoredInput | StoredRunInput>(text);
-        return stored.kind === 'estimate' ? { stored } : { stored, shared: shareInput(stored.input) };
+      p = redis.getBuffer(inputKey(flow)).then((bytes): Shared => {
+        if (bytes === null) throw new UnrecoverableError(`The input of ${flow} is no longer in Redis (expired or removed); restart the job.`);
+        return shareBytes<never>(inputBytes(bytes));
       });
       p.catch(() => inputs.delete(flow));
       inputs.set(flow, p);
@@ -123,12 +120,13 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
       return await pool.run<T>(task, ac.signal);
     } catch (e) {
       if (ac.signal.aborted) throw new UnrecoverableError(CANCELLED_REASON);
-      // lib/gmm's refusals (a typed failure, or GmmInputError) are the same on every try: fail the
+      // lib/gmm's refusals (a typed failure, or GmmInputError) and an input this Node.js cannot read
+      // (StoredInputError) are the same on every try: fail the
       // job at once, with the mapped message
       // (piscina keeps the name in the error's stack text; the name property may read 'Error')
       if (e instanceof ChunkFailedError) throw new UnrecoverableError(e.message);
       const err = e as { name?: string; stack?: string; message?: string } | null;
-      if (/^GmmInputError/.test(`${err?.name ?? ''}`) || /^GmmInputError/.test(err?.stack ?? ''))
+      if (/^(GmmInputError|StoredInputError)/.test(`${err?.name ?? ''}`) || /^(GmmInputError|StoredInputError)/.test(err?.stack ?? ''))
         throw new UnrecoverableError(err?.message ?? String(e));
       throw e;
     } finally {
@@ -140,24 +138,23 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
   const processor = async (job: Job<Payload>): Promise<string> => {
     const d = job.data;
     if ((await redis.exists(cancelKey(d.flow))) === 1) throw new UnrecoverableError(CANCELLED_REASON);
-    const loaded = await loadInput(d.flow);
-    const stored = loaded.stored;
-    if (stored.kind === 'estimate') {
+    const shared = await loadInput(d.flow);
+    if (d.kind === 'estimate') {
       // a heavy run: the whole estimation in one task (estimateRun, as the API's synchronous path)
       inputs.delete(d.flow);
-      const out = await runInPool(d.flow, { op: 'estimate', task: stored.input });
+      const out = await runInPool(d.flow, { op: 'estimate', task: as<RunEstimateInput>(shared) });
       completed++;
       return encode(out);
     }
+    const key = d.flow;
     if (job.name === 'chunk') {
       const c = d as ChunkJobData;
       let out: unknown;
-      if (stored.kind === 'bootstrap') out = await runInPool<BootstrapBatch>(c.flow, { op: 'bootstrap', key: c.flow, input: sharedOf(loaded, stored), from: c.from, to: c.to });
-      else if (stored.kind === 'subset-sweep')
-        out = await runInPool<SweepPartial>(c.flow, { op: 'subset-sweep', key: c.flow, input: sharedOf(loaded, stored), from: c.from + 1, to: c.to + 1 });
-      else if (stored.kind === 'rolling') out = await runInPool<RollingPoint[]>(c.flow, { op: 'rolling', key: c.flow, input: sharedOf(loaded, stored), from: c.from, to: c.to });
+      if (c.kind === 'bootstrap') out = await runInPool<BootstrapBatch>(key, { op: 'bootstrap', key, input: as<BootstrapInput>(shared), from: c.from, to: c.to });
+      else if (c.kind === 'subset-sweep') out = await runInPool<SweepPartial>(key, { op: 'subset-sweep', key, input: as<SubsetSweepInput>(shared), from: c.from + 1, to: c.to + 1 });
+      else if (c.kind === 'rolling') out = await runInPool<RollingPoint[]>(key, { op: 'rolling', key, input: as<RollingInput>(shared), from: c.from, to: c.to });
       // hold-out checks are cheap (one estimate per block) and stay in the API's own pool (runner.ts)
-      else throw new UnrecoverableError(`${stored.kind} checks are not run by queue workers`);
+      else throw new UnrecoverableError(`${c.kind} checks are not run by queue workers`);
       completed++;
       return encode({ from: c.from, to: c.to, value: out });
     }
@@ -166,12 +163,12 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
       .map((v) => decode<{ from: number; to: number; value: unknown }>(v))
       .sort((a, b) => a.from - b.from);
     let result: unknown;
-    if (stored.kind === 'bootstrap')
-      result = await runInPool(d.flow, { op: 'bootstrap-summary', key: d.flow, input: sharedOf(loaded, stored), batches: values.map((v) => v.value as BootstrapBatch) });
-    else if (stored.kind === 'subset-sweep')
-      result = await runInPool(d.flow, { op: 'subset-sweep-summary', key: d.flow, input: sharedOf(loaded, stored), parts: values.map((v) => v.value as SweepPartial) });
-    else if (stored.kind === 'rolling') result = await runInPool(d.flow, { op: 'rolling-summary', key: d.flow, input: sharedOf(loaded, stored), points: values.flatMap((v) => v.value as RollingPoint[]) });
-    else throw new UnrecoverableError(`${stored.kind} checks are not run by queue workers`);
+    if (d.kind === 'bootstrap')
+      result = await runInPool(key, { op: 'bootstrap-summary', key, input: as<BootstrapInput>(shared), batches: values.map((v) => v.value as BootstrapBatch) });
+    else if (d.kind === 'subset-sweep')
+      result = await runInPool(key, { op: 'subset-sweep-summary', key, input: as<SubsetSweepInput>(shared), parts: values.map((v) => v.value as SweepPartial) });
+    else if (d.kind === 'rolling') result = await runInPool(key, { op: 'rolling-summary', key, input: as<RollingInput>(shared), points: values.flatMap((v) => v.value as RollingPoint[]) });
+    else throw new UnrecoverableError(`${d.kind} checks are not run by queue workers`);
     inputs.delete(d.flow);
     completed++;
     return encode(result);

@@ -40,8 +40,7 @@ import {
 } from '../../lib/gmm/index';
 import { readlinkSync } from 'node:fs';
 import { getPriority } from 'node:os';
-import { deserialize } from 'node:v8';
-import { isShared, type TaskInput } from './shared-input';
+import { isShared, readShared, type TaskInput } from './shared-input';
 import { keptLast } from '../kept-last';
 import type { ChunkFailure } from './pool';
 import { estimateRun, type RunEstimateInput } from '../services/run-estimate';
@@ -49,7 +48,7 @@ import { estimateRun, type RunEstimateInput } from '../services/run-estimate';
 export type ChunkTask =
   | { op: 'ping' }
   /** A heavy run's whole estimation (one task: the ledger is one lib/gmm call). */
-  | { op: 'estimate'; task: RunEstimateInput }
+  | { op: 'estimate'; task: TaskInput<RunEstimateInput> }
   | { op: 'bootstrap'; key: string; input: TaskInput<BootstrapInput>; from: number; to: number }
   | { op: 'bootstrap-summary'; key: string; input: TaskInput<BootstrapInput>; batches: BootstrapBatch[] }
   | { op: 'subset-sweep'; key: string; input: TaskInput<SubsetSweepInput>; from: number; to: number }
@@ -130,7 +129,7 @@ function cached<T extends BootstrapPlan | SweepPlan>(key: string, make: () => Gm
 /** Inputs read back from their shared buffers, by job key (the last few). */
 const inputs = new Map<string, unknown>();
 function inputOf<T>(key: string, v: TaskInput<T>): T {
-  return isShared(v) ? (keptLast(inputs, key, () => deserialize(v.shared)) as T) : v;
+  return isShared(v) ? (keptLast(inputs, key, () => readShared(v)) as T) : v;
 }
 
 /** A summary is a job's last task: its input and plan leave this thread's caches. */
@@ -147,7 +146,7 @@ export function runChunk(task: ChunkTask): unknown {
     case 'ping':
       return { pong: true, threadId: 0 };
     case 'estimate':
-      return estimateRun(task.task);
+      return estimateRun(isShared(task.task) ? readShared(task.task) : task.task);
     case 'bootstrap': {
       const input = inputOf(task.key, task.input);
       const p = cached(task.key, () => prepareBootstrap(input));

@@ -4,7 +4,8 @@
  * text needs the slow path that restores them. Source: identities that must hold (round trips).
  */
 import { describe, expect, it } from 'vitest';
-import { decode, encode } from '../../server/jobs/queue-shared';
+import { decode, encode, inputBytes, packInput, unpackInput } from '../../server/jobs/queue-shared';
+import { readShared, StoredInputError } from '../../server/jobs/shared-input';
 
 describe('queue codec', () => {
   it('round-trips finite doubles exactly (the plain JSON.parse path)', () => {
@@ -27,5 +28,44 @@ describe('queue codec', () => {
     const v = { factorNames: ['$num', '{"$num":"1"}'], x: [1, Infinity] };
     expect(decode(encode(v))).toEqual(v);
     expect(decode(encode({ factorNames: ['$num'] }))).toEqual({ factorNames: ['$num'] });
+  });
+});
+
+/**
+ * The stored input (packInput): node:v8's structured-clone bytes, read back by the pool threads.
+ * Source: identities that must hold (round trips, Object.is on −0 and NaN); V8's documented header
+ * byte 0xFF (the serializer's version tag) against '{' (0x7B) opening a JSON text.
+ */
+describe('stored input bytes', () => {
+  const input = { returns: [[0.01, -0], [NaN, Infinity]], factors: [[-Infinity, 1e-310]], names: ['$num', 'F1'], options: { lags: 'auto', draws: 3 } };
+
+  it('round-trips every double, −0 included (JSON would write 0)', () => {
+    const bytes = packInput(input);
+    expect(bytes[0]).toBe(0xff);
+    const back = unpackInput<typeof input>(bytes);
+    expect(back).toEqual(input);
+    expect(Object.is(back.returns[0][1], -0)).toBe(true);
+    expect(Object.is(decode<typeof input>(encode(input)).returns[0][1], -0)).toBe(false);
+  });
+
+  it('reads a JSON input stored by an earlier release as the same value', () => {
+    const legacy = Buffer.from(encode({ kind: 'bootstrap', input }), 'utf8');
+    expect(legacy[0]).toBe(0x7b);
+    const bytes = inputBytes(legacy);
+    expect(bytes[0]).toBe(0xff);
+    // JSON lost −0 on the way in; everything else is as it was
+    expect(unpackInput(bytes)).toEqual({ ...input, returns: [[0.01, 0], [NaN, Infinity]] });
+  });
+
+  it('packInput bytes pass through inputBytes untouched (no copy, no decode)', () => {
+    const bytes = packInput(input);
+    expect(inputBytes(bytes)).toBe(bytes);
+  });
+
+  it('bytes of another serialisation version get an error that names the remedy', () => {
+    const foreign = Uint8Array.from([0xff, 0x7f, 0x6f, 0x7b, 0x00]);
+    expect(() => unpackInput(foreign)).toThrow(/cannot be read by Node\.js v\d+.*same Node\.js major version/);
+    expect(() => readShared({ shared: foreign })).toThrow(StoredInputError);
+    expect(() => readShared({ shared: foreign })).toThrow(/same Node\.js major version/);
   });
 });

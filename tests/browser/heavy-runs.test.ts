@@ -26,6 +26,7 @@ import { seedDemoLibraries } from '../../server/seed/demo-libraries';
 import { mailSettled } from '../../server/services/runs';
 import { estimateRun } from '../../server/services/run-estimate';
 import { holdingPool, type HeldTask } from '../api/helpers';
+import { isShared } from '../../server/jobs/shared-input';
 import type { Run } from '../../shared/runs';
 import { PHONE, WIDE, apiPost, harbourFiveFactors, launchBrowser, openPage, signIn } from './helpers';
 
@@ -115,7 +116,9 @@ describe('a large run in the browser', () => {
       await shot(wide.page, 'heavy-run-running-wide');
 
       // the estimate arrives: the real one, on the input the server handed to its pool
-      entry.release(estimateRun((entry.task as Extract<HeldTask['task'], { op: 'estimate' }>).task));
+      const held = (entry.task as Extract<HeldTask['task'], { op: 'estimate' }>).task;
+      if (isShared(held)) throw new Error('the embedded pool was handed a shared input: it passes the plain one');
+      entry.release(estimateRun(held));
       for (const p of [phone.page, wide.page]) {
         await p.getByLabel('Factor ledger').first().waitFor();
         await p.getByLabel('Run finished').waitFor();
