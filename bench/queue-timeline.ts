@@ -19,13 +19,15 @@ const W = Number(process.env.W ?? 2);
 const D = Number(process.env.D ?? 2000);
 const KIND = process.env.KIND === 'sweep' ? 'sweep' : 'bootstrap';
 
+const never = new AbortController().signal;
+
 async function runFlow(q: QueueClient, flow: string, check: Extract<CheckInput, { kind: 'bootstrap' | 'subset-sweep' }>): Promise<void> {
   await q.enqueue(flow, check, chunkRanges(check.total, check.kind), check.total);
   for (;;) {
     const s = await q.state(flow);
     if (s.state === 'completed') return;
     if (s.state === 'failed' || s.state === 'missing') throw new Error(`${flow}: ${JSON.stringify(s)}`);
-    await new Promise((r) => setTimeout(r, 50));
+    await q.pause(flow, 250, never); // as the API follows a flow: woken by the summary's end
   }
 }
 

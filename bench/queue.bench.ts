@@ -13,10 +13,12 @@
  *    embedded pool vs queue mode with 1 and 2 workers, in mask-range chunks (chunkRanges: 8 and 64)
  *    answered as bounded partials (lib/gmm sweepChunk) and merged exactly in the summary; time and
  *    peak RSS (VmHWM of this process for the embedded pool, of each worker process in queue mode).
+ *    The three modes are up at once (the 1-worker mode's worker on Redis database 1, the two
+ *    workers on database 2) and take turns in every round, the order rotating: 5 rounds for 20
+ *    candidates, 3 for 23. The medians are printed with the ranges, and the per-round ratios.
  *    Every mode is first warmed with three 18-candidate sweeps (two chunks each): a thread's first
  *    sweeps also compile the sweep's code, about 0.1 s once per thread, which a long-lived worker
- *    pays once, not per check. The sweeps poll every 20 ms, and one under two seconds (20
- *    candidates) is timed five times in each mode: the median is printed with the range. Other sizes with BENCH_QUEUE_SWEEP_K (a comma list), _T, _N.
+ *    pays once, not per check. Other sizes with BENCH_QUEUE_SWEEP_K (a comma list), _T, _N.
  * BENCH_QUEUE_ONLY=bootstrap|sweep runs one part (peak RSS of this process is monotone: run the sweep
  * alone to read its own).
  * The load average is printed beside the figures: on a shared machine they move with it.
@@ -70,11 +72,12 @@ async function embedded(check: Extract<CheckInput, { kind: 'bootstrap' }>): Prom
 }
 
 /**
- * Enqueues a flow and polls it to its end. Each poll is several Redis calls, CPU of this process
- * that the workers would otherwise use on a 2-core machine, so the long bootstraps poll every 50 ms
- * (the API follows flows every 250 ms), the sweeps every 20 ms and the tiny latency flows every 5 ms.
+ * Enqueues a flow and follows it to its end as the API does (server/jobs/runner.ts): a read of its
+ * state every 250 ms, woken at once by BullMQ's 'completed' event of the summary (QueueClient.pause),
+ * so the time is enqueue → summary done plus one state read, and no polling takes CPU from the workers.
  */
-async function viaQueue(q: QueueClient, flow: string, check: Extract<CheckInput, { kind: 'bootstrap' | 'subset-sweep' }>, pollMs = 50): Promise<{ ms: number; result: unknown }> {
+async function viaQueue(q: QueueClient, flow: string, check: Extract<CheckInput, { kind: 'bootstrap' | 'subset-sweep' }>): Promise<{ ms: number; result: unknown }> {
+  const never = new AbortController().signal;
   const t0 = performance.now();
   await q.enqueue(flow, check, chunkRanges(check.total, check.kind), check.total);
   for (;;) {
@@ -85,7 +88,7 @@ async function viaQueue(q: QueueClient, flow: string, check: Extract<CheckInput,
       return { ms, result: s.result };
     }
     if (s.state === 'failed' || s.state === 'missing') throw new Error(`${flow}: ${JSON.stringify(s)}`);
-    await new Promise((r) => setTimeout(r, pollMs));
+    await q.pause(flow, 250, never);
   }
 }
 
@@ -111,7 +114,7 @@ async function bootstrapSection(q: QueueClient, redis: { url: string }): Promise
   const lat: number[] = [];
   const tiny = bootstrapCheck(120, 5, 2, 19, 3);
   for (let i = 0; i < 10; i++) {
-    const r = await viaQueue(q, `bench-lat-${i}`, tiny, 5);
+    const r = await viaQueue(q, `bench-lat-${i}`, tiny);
     if (i > 0) lat.push(r.ms);
   }
   lat.sort((a, b) => a - b);
@@ -143,7 +146,6 @@ function peakRssMb(pid: number | 'self'): number | null {
 }
 const mb = (v: number | null) => (v === null ? 'n/a' : `${v.toFixed(0)} MB`);
 
-const SWEEP_POLL_MS = 20;
 /** Three 18-candidate sweeps of two chunks each: every thread that takes one compiles the sweep's code. */
 const sweepWarmups = () => [0, 1, 2].map((i) => sweepCheck(SWEEP_T, SWEEP_N, 18, 5 + i));
 
@@ -156,41 +158,63 @@ async function sweepOnPool(pool: JobPool, key: string, check: Extract<CheckInput
   return { ms: performance.now() - t0, result };
 }
 
-async function sweepSection(q: QueueClient, redis: { url: string }, K: number): Promise<void> {
+/** The same Redis, logical database `db` (one per queue mode, so each mode has its own workers). */
+const onDb = (url: string, db: number) => `${url.replace(/\/\d*$/, '')}/${db}`;
+
+type Mode = 'embedded' | '1w' | '2w';
+const MODES: readonly Mode[] = ['embedded', '1w', '2w'];
+const median = (xs: readonly number[]) => {
+  const v = [...xs].sort((a, b) => a - b);
+  return v.length % 2 ? v[v.length >> 1] : (v[v.length / 2 - 1] + v[v.length / 2]) / 2;
+};
+
+async function sweepSection(redis: { url: string }, K: number): Promise<void> {
   const check = sweepCheck(SWEEP_T, SWEEP_N, K, 77);
   const rssBefore = peakRssMb('self');
-  console.log(`subset sweep, ${K} candidates (${check.total.toLocaleString('en-US')} models), T = ${SWEEP_T}, N = ${SWEEP_N}, ${chunkRanges(check.total, 'subset-sweep').length} chunks; load average ${load()}`);
-  // a sweep under two seconds is timed five times (median, and the range)
-  const reps = check.total < 2 ** 21 ? 5 : 1;
-  const timed = async (run: (rep: number) => Promise<{ ms: number; result: unknown }>) => {
-    const runs: { ms: number; result: unknown }[] = [];
-    for (let r = 0; r < reps; r++) runs.push(await run(r));
-    const ms = runs.map((x) => x.ms).sort((a, b) => a - b);
-    const same = runs.every((x) => JSON.stringify(x.result) === JSON.stringify(runs[0].result));
-    return { ms: ms[(reps - 1) >> 1], range: reps > 1 ? ` (${reps} runs: ${(ms[0] / 1000).toFixed(2)}–${(ms[reps - 1] / 1000).toFixed(2)} s)` : '', result: same ? runs[0].result : null };
-  };
+  // under two seconds (20 candidates): five rounds; larger: three
+  const rounds = check.total < 2 ** 21 ? 5 : 3;
+  console.log(`subset sweep, ${K} candidates (${check.total.toLocaleString('en-US')} models), T = ${SWEEP_T}, N = ${SWEEP_N}, ${chunkRanges(check.total, 'subset-sweep').length} chunks, ${rounds} rounds of the three modes in turn; load average ${load()}`);
+  // the three modes are up at once, each warm, and take turns within every round (the order
+  // rotating), so each round's three times share the machine's state: on this shared 2-core
+  // machine a chunk takes 80 ms for minutes and then 115 ms for minutes, and modes timed one after
+  // the other compared different phases (1.30× to 1.66× from 1 to 2 workers on one boot)
   const pool = createJobPool();
-  for (const [i, w] of sweepWarmups().entries()) await sweepOnPool(pool, `bench-sweep-warm-${K}-${i}`, w);
-  const emb = await timed((r) => sweepOnPool(pool, `bench-sweep-embedded-${K}-${r}`, check));
+  const q1 = new QueueClient(onDb(redis.url, 1), { timeoutMs: 60_000 });
+  const q2 = new QueueClient(onDb(redis.url, 2), { timeoutMs: 60_000 });
+  const one: WorkerProcess[] = [await startWorkerProcess(onDb(redis.url, 1), { lockMs: 30_000 })];
+  const two: WorkerProcess[] = [await startWorkerProcess(onDb(redis.url, 2), { lockMs: 30_000 }), await startWorkerProcess(onDb(redis.url, 2), { lockMs: 30_000 })];
+  for (const [i, w] of sweepWarmups().entries()) {
+    await sweepOnPool(pool, `bench-sweep-warm-${K}-${i}`, w);
+    await viaQueue(q1, `bench-sweep-warm-1w-${K}-${i}`, w);
+    await viaQueue(q2, `bench-sweep-warm-2w-${K}-${i}`, w);
+  }
+  const runs: Record<Mode, { ms: number; result: unknown }[]> = { embedded: [], '1w': [], '2w': [] };
+  for (let r = 0; r < rounds; r++) {
+    for (let j = 0; j < MODES.length; j++) {
+      const mode = MODES[(r + j) % MODES.length];
+      const flow = `bench-sweep-${mode}-${K}-${r}`;
+      runs[mode].push(mode === 'embedded' ? await sweepOnPool(pool, flow, check) : await viaQueue(mode === '1w' ? q1 : q2, flow, check));
+    }
+  }
+  const ms = (m: Mode) => runs[m].map((x) => x.ms);
+  const sec = (x: number) => (x / 1000).toFixed(2);
+  const fig = (m: Mode) => `${sec(median(ms(m)))} s (${sec(Math.min(...ms(m)))}–${sec(Math.max(...ms(m)))} s)`;
+  const ratios = (a: Mode, b: Mode) => runs[a].map((x, r) => x.ms / runs[b][r].ms);
+  const overhead = ratios('1w', 'embedded').map((x) => (x - 1) * 100);
+  const speedUp = ratios('1w', '2w');
+  console.log(`  embedded pool           ${fig('embedded')}   ${((median(ms('embedded')) * 1000) / check.total).toFixed(2)} µs/model wall   peak RSS of this process ${mb(peakRssMb('self'))} (before: ${mb(rssBefore)})`);
+  console.log(`  queue, 1 worker         ${fig('1w')}   overhead ${((median(ms('1w')) / median(ms('embedded')) - 1) * 100).toFixed(1)} % vs embedded (medians; per round ${overhead.map((x) => x.toFixed(0)).join(', ')} %, median ${median(overhead).toFixed(1)} %)   worker peak RSS ${mb(peakRssMb(one[0].proc.pid!))}`);
+  console.log(`  queue, 2 workers        ${fig('2w')}   speed-up ${(median(ms('1w')) / median(ms('2w'))).toFixed(2)}× from 1 to 2 workers (medians; per round ${speedUp.map((x) => x.toFixed(2)).join(', ')}×, median ${median(speedUp).toFixed(2)}×)   worker peak RSS ${two.map((w) => mb(peakRssMb(w.proc.pid!))).join(', ')}   (load ${load()})`);
+  const first = JSON.stringify(runs.embedded[0].result);
+  const same = MODES.every((m) => runs[m].every((x) => JSON.stringify(x.result) === first));
+  console.log(`  results identical in the three modes and every round: ${same ? 'yes' : 'NO'}`);
   await pool.destroy();
-  console.log(`  embedded pool           ${(emb.ms / 1000).toFixed(2)} s${emb.range}   ${((emb.ms * 1000) / check.total).toFixed(2)} µs/model wall   peak RSS of this process ${mb(peakRssMb('self'))} (before: ${mb(rssBefore)})   (load ${load()})`);
-  const warm = async (tag: string) => {
-    for (const [i, w] of sweepWarmups().entries()) await viaQueue(q, `bench-sweep-warm-${tag}-${K}-${i}`, w, SWEEP_POLL_MS);
-  };
-  const workers: WorkerProcess[] = [await startWorkerProcess(redis.url, { lockMs: 30_000 })];
-  await warm('1w');
-  const one = await timed((r) => viaQueue(q, `bench-sweep-1w-${K}-${r}`, check, SWEEP_POLL_MS));
-  console.log(`  queue, 1 worker         ${(one.ms / 1000).toFixed(2)} s${one.range}   overhead ${((one.ms / emb.ms - 1) * 100).toFixed(1)} % vs embedded   worker peak RSS ${mb(peakRssMb(workers[0].proc.pid!))}   (load ${load()})`);
-  workers.push(await startWorkerProcess(redis.url, { lockMs: 30_000 }));
-  await warm('2w');
-  const two = await timed((r) => viaQueue(q, `bench-sweep-2w-${K}-${r}`, check, SWEEP_POLL_MS));
-  console.log(`  queue, 2 workers        ${(two.ms / 1000).toFixed(2)} s${two.range}   speed-up ${(one.ms / two.ms).toFixed(2)}× from 1 to 2 workers   worker peak RSS ${workers.map((w) => mb(peakRssMb(w.proc.pid!))).join(', ')}   (load ${load()})`);
-  const same = emb.result !== null && JSON.stringify(emb.result) === JSON.stringify(one.result) && JSON.stringify(one.result) === JSON.stringify(two.result);
-  console.log(`  results identical in the three modes${reps > 1 ? ' and every run' : ''}: ${same ? 'yes' : 'NO'}`);
-  for (const w of workers) {
+  for (const w of [...one, ...two]) {
     w.proc.kill('SIGTERM');
     await w.exited;
   }
+  await q1.close();
+  await q2.close();
   if (!same) process.exitCode = 1;
 }
 
@@ -198,6 +222,6 @@ const ONLY = process.env.BENCH_QUEUE_ONLY;
 const redis = await testRedis();
 const q = new QueueClient(redis.url, { timeoutMs: 60_000 });
 if (ONLY !== 'sweep') await bootstrapSection(q, redis);
-if (ONLY !== 'bootstrap') for (const k of SWEEP_KS) await sweepSection(q, redis, k);
+if (ONLY !== 'bootstrap') for (const k of SWEEP_KS) await sweepSection(redis, k);
 await q.close();
 await redis.stop();

@@ -59,8 +59,10 @@ export interface AppOptions {
   redisUrl?: string;
   /** Runs costing more than this (T·N²·K) are queued and answered 202 (KEELSON_HEAVY_RUN_COST; default 2·10⁷). */
   heavyRunCost?: number;
-  /** Queue mode: how often a heavy run's job is polled (default 200 ms). */
+  /** Queue mode: how often a heavy run's job is polled (default 200 ms; its end is also noticed at once, QueueClient.pause). */
   runPollMs?: number;
+  /** Queue mode: how often a deep check's flow is polled for progress (default 250 ms; its end is also noticed at once). */
+  jobPollMs?: number;
 }
 
 export type { AppDeps };
@@ -198,7 +200,7 @@ export function createApp(opts: AppOptions): KeelsonApp {
   });
   registerAuthRoutes(api, deps);
   registerAdminRoutes(api, deps);
-  const jobRunner = new JobRunner({ db, mailer, publicUrl: opts.publicUrl, pool: opts.jobPool, mailAfterMs: opts.jobMailAfterMs, redisUrl: opts.redisUrl });
+  const jobRunner = new JobRunner({ db, mailer, publicUrl: opts.publicUrl, pool: opts.jobPool, mailAfterMs: opts.jobMailAfterMs, redisUrl: opts.redisUrl, pollMs: opts.jobPollMs });
   registerJobRoutes(api, deps, jobRunner);
   registerSpecRoutes(api, deps);
   const runEstimator = new RunEstimator({ db, mailer, jobs: jobRunner, publicUrl: opts.publicUrl, mailAfterMs: jobRunner.mailAfterMs, pollMs: opts.runPollMs });

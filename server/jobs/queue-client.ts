@@ -7,7 +7,7 @@
  * progress poll that hangs.
  */
 import { Redis } from 'ioredis';
-import { FlowProducer, Job, Queue } from 'bullmq';
+import { FlowProducer, Job, Queue, QueueEvents } from 'bullmq';
 import {
   CANCEL_CHANNEL,
   INPUT_TTL_SECONDS,
@@ -24,6 +24,7 @@ import {
   type StoredInput,
   type StoredRunInput,
   type SummaryJobData,
+  sleep,
 } from './queue-shared';
 
 export type FlowState =
@@ -39,6 +40,10 @@ export class QueueClient {
   private readonly flows: FlowProducer;
 
   private readonly timeoutMs: number;
+  /** BullMQ's event stream of the queue, read from the first {@link pause} on (one blocking connection). */
+  private events: QueueEvents | null = null;
+  /** Followers waiting in {@link pause}, by the job id whose end wakes them. */
+  private readonly waiters = new Map<string, Set<() => void>>();
 
   constructor(url: string, opts: { timeoutMs?: number } = {}) {
     this.url = url;
@@ -188,12 +193,47 @@ export class QueueClient {
     await this.redis.del(inputKey(flow));
   }
 
+  /**
+   * A follower's pause between two reads of a job's state: resolves after `ms`, when `signal`
+   * aborts, or as soon as BullMQ reports job `id` (a flow's summary, or a heavy run's job)
+   * completed or failed — whichever comes first. The end is read from BullMQ's event stream of the
+   * queue (QueueEvents: a blocking XREAD on a connection of its own, no polling), so a job that ends
+   * is noticed within milliseconds instead of at the next poll. The event only wakes the follower:
+   * the state is still read with {@link state}, and an event missed while the stream was
+   * reconnecting is caught by the next poll.
+   */
+  pause(id: string, ms: number, signal: AbortSignal): Promise<void> {
+    this.events ??= this.openEvents();
+    const stop = new AbortController();
+    const wake = () => stop.abort();
+    let set = this.waiters.get(id);
+    if (!set) this.waiters.set(id, (set = new Set()));
+    set.add(wake);
+    signal.addEventListener('abort', wake, { once: true });
+    return sleep(ms, stop.signal).finally(() => {
+      signal.removeEventListener('abort', wake);
+      set.delete(wake);
+      if (set.size === 0 && this.waiters.get(id) === set) this.waiters.delete(id);
+    });
+  }
+
+  private openEvents(): QueueEvents {
+    const ev = new QueueEvents(QUEUE_NAME, { connection: { ...connectionFor(this.url, 'api'), maxRetriesPerRequest: null }, prefix: QUEUE_PREFIX });
+    ev.on('error', () => undefined); // it reconnects by itself; the followers' polls go on meanwhile
+    const ended = ({ jobId }: { jobId: string }) => {
+      for (const wake of this.waiters.get(jobId) ?? []) wake();
+    };
+    ev.on('completed', ended);
+    ev.on('failed', ended);
+    return ev;
+  }
+
   async ping(): Promise<void> {
     await this.timed(this.redis.ping());
   }
 
   async close(): Promise<void> {
-    await Promise.allSettled([this.flows.close(), this.queue.close()]);
+    await Promise.allSettled([this.flows.close(), this.queue.close(), ...(this.events ? [this.events.close()] : [])]);
     this.redis.disconnect();
   }
 }

@@ -21,7 +21,7 @@ import { completeQueuedRun, markRunRunning, openRunIds, queuedRunTask, setRunNot
 import type { RunEstimate } from '../services/run-estimate';
 import type { JobRunner } from './runner';
 import type { QueueClient } from './queue-client';
-import { CANCELLED_REASON, runJobId, sleep } from './queue-shared';
+import { CANCELLED_REASON, runJobId } from './queue-shared';
 
 export interface RunEstimatorOptions {
   db: Db;
@@ -177,7 +177,7 @@ export class RunEstimator implements RunLauncher {
           setRunNotice(db, runId, `The queue at ${q.where} does not answer (${messageOf(e)}) since ${new Date().toISOString()}; the run waits and resumes when it is back.`);
         }
       }
-      await sleep(pollMs, signal);
+      await q.pause(id, pollMs, signal); // or at once when the run's job ends
     }
     return null;
   }

@@ -25,7 +25,7 @@ import { createJobPool, type JobPool } from './pool';
 import type { ChunkTask, HoldoutBlocks } from './tasks';
 import { shareInput } from './shared-input';
 import { QueueClient } from './queue-client';
-import { CANCELLED_REASON, flowId, sleep } from './queue-shared';
+import { CANCELLED_REASON, flowId } from './queue-shared';
 import { runResultColumns } from '../services/run-shape';
 import { withBootstrap, type BootstrapBatch, type BootstrapResult, type LedgerResult, type RollingPoint, type SweepPartial } from '../../lib/gmm/index';
 
@@ -39,7 +39,7 @@ export interface JobRunnerOptions {
   mailAfterMs?: number;
   /** Queue mode: chunks go to BullMQ workers over this Redis instead of the in-process pool. */
   redisUrl?: string;
-  /** Queue mode: how often the flow's state is read (default 250 ms). */
+  /** Queue mode: how often the flow's state is read for progress (default 250 ms); its end wakes the follower at once (QueueClient.pause). */
   pollMs?: number;
 }
 
@@ -362,7 +362,8 @@ export class JobRunner {
           db.update(jobs).set({ error: msg }).where(and(eq(jobs.id, jobId), eq(jobs.status, 'running'))).run();
         }
       }
-      await sleep(this.pollMs, signal);
+      // the next read at the poll, or at once when the flow's summary ends
+      await q.pause(flow, this.pollMs, signal);
     }
     if (signal.reason === SHUTDOWN) return; // the flow goes on; the next boot re-attaches
     try {
