@@ -13,8 +13,11 @@
  *    embedded pool vs queue mode with 1 and 2 workers, in mask-range chunks (chunkRanges: 8 and 64)
  *    answered as bounded partials (lib/gmm sweepChunk) and merged exactly in the summary; time and
  *    peak RSS (VmHWM of this process for the embedded pool, of each worker process in queue mode).
- *    The three modes are up at once (the 1-worker mode's worker on Redis database 1, the two
- *    workers on database 2) and take turns in every round, the order rotating: 5 rounds for 20
+ *    For reference, a fourth mode runs the same chunks on two pool threads of one process with no
+ *    queue (bench/sweep-threads-child.ts, started with --single-threaded-gc as a worker is): what
+ *    two threads give on the machine. The four modes are up at once (the 1-worker
+ *    mode's worker on Redis database 1, the two workers on database 2) and take turns in every
+ *    round, the order rotating: 9 rounds for 20
  *    candidates, 3 for 23. The medians are printed with the ranges, and the per-round ratios.
  *    Every mode is first warmed with three 18-candidate sweeps (two chunks each): a thread's first
  *    sweeps also compile the sweep's code, about 0.1 s once per thread, which a long-lived worker
@@ -25,15 +28,18 @@
  */
 import { performance } from 'node:perf_hooks';
 import { availableParallelism, loadavg } from 'node:os';
-import { createJobPool, defaultThreadCount, type JobPool } from '../server/jobs/pool';
-import type { ChunkTask } from '../server/jobs/tasks';
+import { createJobPool, defaultThreadCount } from '../server/jobs/pool';
 import { chunkRanges } from '../server/jobs/runner';
 import { shareInput } from '../server/jobs/shared-input';
 import { QueueClient } from '../server/jobs/queue-client';
 import type { CheckInput } from '../server/services/jobs-input';
-import type { BootstrapBatch, SweepPartial } from '../lib/gmm/index';
+import type { BootstrapBatch } from '../lib/gmm/index';
 import { bootstrapCheck, sweepCheck } from './queue-checks';
 import { readFileSync } from 'node:fs';
+import { fork } from 'node:child_process';
+import { fileURLToPath } from 'node:url';
+import { decode } from '../server/jobs/queue-shared';
+import { chunksOnPool, sweepOnPool } from './pool-runs';
 import { startWorkerProcess, testRedis, type WorkerProcess } from '../tests/queue/redis';
 
 const envInt = (name: string, d: number) => (process.env[name] ? Number(process.env[name]) : d);
@@ -43,20 +49,6 @@ const K = envInt('BENCH_QUEUE_K', 5);
 const DRAWS = envInt('BENCH_QUEUE_DRAWS', 2000);
 
 const load = () => loadavg().map((x) => x.toFixed(2)).join(' ');
-
-/** Runs one task per range on the pool, threads + 1 in flight (as the embedded runner does), answers in range order. */
-async function chunksOnPool<P>(pool: JobPool, ranges: readonly (readonly [number, number])[], task: (range: readonly [number, number]) => ChunkTask): Promise<P[]> {
-  const out: P[] = new Array<P>(ranges.length);
-  let next = 0;
-  const lane = async () => {
-    while (next < ranges.length) {
-      const i = next++;
-      out[i] = await pool.run<P>(task(ranges[i]));
-    }
-  };
-  await Promise.all(Array.from({ length: pool.threads + 1 }, lane));
-  return out;
-}
 
 async function embedded(check: Extract<CheckInput, { kind: 'bootstrap' }>): Promise<{ ms: number; result: unknown }> {
   const pool = createJobPool();
@@ -149,20 +141,36 @@ const mb = (v: number | null) => (v === null ? 'n/a' : `${v.toFixed(0)} MB`);
 /** Three 18-candidate sweeps of two chunks each: every thread that takes one compiles the sweep's code. */
 const sweepWarmups = () => [0, 1, 2].map((i) => sweepCheck(SWEEP_T, SWEEP_N, 18, 5 + i));
 
-async function sweepOnPool(pool: JobPool, key: string, check: Extract<CheckInput, { kind: 'subset-sweep' }>): Promise<{ ms: number; result: unknown }> {
-  const ranges = chunkRanges(check.total, 'subset-sweep');
-  const t0 = performance.now();
-  const input = shareInput(check.input);
-  const parts = await chunksOnPool<SweepPartial>(pool, ranges, ([from, to]) => ({ op: 'subset-sweep', key, input, from: from + 1, to: to + 1 }));
-  const result = await pool.run({ op: 'subset-sweep-summary', key, input, parts });
-  return { ms: performance.now() - t0, result };
+/** The no-queue reference process (bench/sweep-threads-child.ts). */
+async function startReference(): Promise<{ sweep: (key: string, K: number, seed: number) => Promise<{ ms: number; result: unknown }>; stop: () => Promise<void> }> {
+  const child = fork(fileURLToPath(new URL('./sweep-threads-child.ts', import.meta.url)), [], { execArgv: ['--single-threaded-gc', '--import', 'tsx'], stdio: ['ignore', 'inherit', 'inherit', 'ipc'] });
+  const waiting = new Map<string, (v: { ms: number; result: unknown }) => void>();
+  child.on('message', (m: 'ready' | { key: string; ms: number; result: string }) => {
+    if (m !== 'ready') waiting.get(m.key)?.({ ms: m.ms, result: decode(m.result) });
+  });
+  await new Promise<void>((resolve, reject) => {
+    child.once('message', () => resolve());
+    child.once('exit', (code) => reject(new Error(`the reference process exited ${code}`)));
+  });
+  return {
+    sweep: (key, K, seed) =>
+      new Promise((resolve) => {
+        waiting.set(key, resolve);
+        child.send({ key, T: SWEEP_T, N: SWEEP_N, K, seed });
+      }),
+    stop: async () => {
+      const exited = new Promise((r) => child.once('exit', r));
+      child.send('stop');
+      await exited;
+    },
+  };
 }
 
 /** The same Redis, logical database `db` (one per queue mode, so each mode has its own workers). */
 const onDb = (url: string, db: number) => `${url.replace(/\/\d*$/, '')}/${db}`;
 
-type Mode = 'embedded' | '1w' | '2w';
-const MODES: readonly Mode[] = ['embedded', '1w', '2w'];
+type Mode = 'embedded' | '1w' | '2w' | 'threads2';
+const MODES: readonly Mode[] = ['embedded', '1w', '2w', 'threads2'];
 const median = (xs: readonly number[]) => {
   const v = [...xs].sort((a, b) => a - b);
   return v.length % 2 ? v[v.length >> 1] : (v[v.length / 2 - 1] + v[v.length / 2]) / 2;
@@ -171,29 +179,33 @@ const median = (xs: readonly number[]) => {
 async function sweepSection(redis: { url: string }, K: number): Promise<void> {
   const check = sweepCheck(SWEEP_T, SWEEP_N, K, 77);
   const rssBefore = peakRssMb('self');
-  // under two seconds (20 candidates): five rounds; larger: three
-  const rounds = check.total < 2 ** 21 ? 5 : 3;
-  console.log(`subset sweep, ${K} candidates (${check.total.toLocaleString('en-US')} models), T = ${SWEEP_T}, N = ${SWEEP_N}, ${chunkRanges(check.total, 'subset-sweep').length} chunks, ${rounds} rounds of the three modes in turn; load average ${load()}`);
-  // the three modes are up at once, each warm, and take turns within every round (the order
-  // rotating), so each round's three times share the machine's state: on this shared 2-core
+  // under two seconds (20 candidates): nine rounds; larger: three
+  const rounds = check.total < 2 ** 21 ? 9 : 3;
+  console.log(`subset sweep, ${K} candidates (${check.total.toLocaleString('en-US')} models), T = ${SWEEP_T}, N = ${SWEEP_N}, ${chunkRanges(check.total, 'subset-sweep').length} chunks, ${rounds} rounds of the four modes in turn; load average ${load()}`);
+  // the four modes are up at once, each warm, and take turns within every round (the order
+  // rotating), so each round's four times share the machine's state: on this shared 2-core
   // machine a chunk takes 80 ms for minutes and then 115 ms for minutes, and modes timed one after
   // the other compared different phases (1.30× to 1.66× from 1 to 2 workers on one boot)
   const pool = createJobPool();
+  // reference: the same chunks on two pool threads of one process, no queue at all, in a child
+  // started with --single-threaded-gc as a worker is (this process has V8's GC helper threads)
+  const ref = await startReference();
   const q1 = new QueueClient(onDb(redis.url, 1), { timeoutMs: 60_000 });
   const q2 = new QueueClient(onDb(redis.url, 2), { timeoutMs: 60_000 });
   const one: WorkerProcess[] = [await startWorkerProcess(onDb(redis.url, 1), { lockMs: 30_000 })];
   const two: WorkerProcess[] = [await startWorkerProcess(onDb(redis.url, 2), { lockMs: 30_000 }), await startWorkerProcess(onDb(redis.url, 2), { lockMs: 30_000 })];
   for (const [i, w] of sweepWarmups().entries()) {
     await sweepOnPool(pool, `bench-sweep-warm-${K}-${i}`, w);
+    await ref.sweep(`bench-sweep-warm-t2-${K}-${i}`, 18, 5 + i);
     await viaQueue(q1, `bench-sweep-warm-1w-${K}-${i}`, w);
     await viaQueue(q2, `bench-sweep-warm-2w-${K}-${i}`, w);
   }
-  const runs: Record<Mode, { ms: number; result: unknown }[]> = { embedded: [], '1w': [], '2w': [] };
+  const runs: Record<Mode, { ms: number; result: unknown }[]> = { embedded: [], '1w': [], '2w': [], threads2: [] };
   for (let r = 0; r < rounds; r++) {
     for (let j = 0; j < MODES.length; j++) {
       const mode = MODES[(r + j) % MODES.length];
       const flow = `bench-sweep-${mode}-${K}-${r}`;
-      runs[mode].push(mode === 'embedded' ? await sweepOnPool(pool, flow, check) : await viaQueue(mode === '1w' ? q1 : q2, flow, check));
+      runs[mode].push(mode === 'embedded' ? await sweepOnPool(pool, flow, check) : mode === 'threads2' ? await ref.sweep(flow, K, 77) : await viaQueue(mode === '1w' ? q1 : q2, flow, check));
     }
   }
   const ms = (m: Mode) => runs[m].map((x) => x.ms);
@@ -205,10 +217,13 @@ async function sweepSection(redis: { url: string }, K: number): Promise<void> {
   console.log(`  embedded pool           ${fig('embedded')}   ${((median(ms('embedded')) * 1000) / check.total).toFixed(2)} µs/model wall   peak RSS of this process ${mb(peakRssMb('self'))} (before: ${mb(rssBefore)})`);
   console.log(`  queue, 1 worker         ${fig('1w')}   overhead ${((median(ms('1w')) / median(ms('embedded')) - 1) * 100).toFixed(1)} % vs embedded (medians; per round ${overhead.map((x) => x.toFixed(0)).join(', ')} %, median ${median(overhead).toFixed(1)} %)   worker peak RSS ${mb(peakRssMb(one[0].proc.pid!))}`);
   console.log(`  queue, 2 workers        ${fig('2w')}   speed-up ${(median(ms('1w')) / median(ms('2w'))).toFixed(2)}× from 1 to 2 workers (medians; per round ${speedUp.map((x) => x.toFixed(2)).join(', ')}×, median ${median(speedUp).toFixed(2)}×)   worker peak RSS ${two.map((w) => mb(peakRssMb(w.proc.pid!))).join(', ')}   (load ${load()})`);
+  const refUp = ratios('embedded', 'threads2');
+  console.log(`  reference: 2 pool threads in one process, no queue   ${fig('threads2')}   ${(median(ms('embedded')) / median(ms('threads2'))).toFixed(2)}× against the embedded pool's 1 thread (medians; per round ${refUp.map((x) => x.toFixed(2)).join(', ')}×, median ${median(refUp).toFixed(2)}×): what two threads give on this machine without Redis`);
   const first = JSON.stringify(runs.embedded[0].result);
   const same = MODES.every((m) => runs[m].every((x) => JSON.stringify(x.result) === first));
-  console.log(`  results identical in the three modes and every round: ${same ? 'yes' : 'NO'}`);
+  console.log(`  results identical in the four modes and every round: ${same ? 'yes' : 'NO'}`);
   await pool.destroy();
+  await ref.stop();
   for (const w of [...one, ...two]) {
     w.proc.kill('SIGTERM');
     await w.exited;
