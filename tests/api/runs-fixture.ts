@@ -10,6 +10,7 @@
 import { prng, monthLabels, uploadCsv, confirm } from './libraries-helpers';
 import type { Agent } from './helpers';
 import { jobResponseSchema, type Job } from '../../shared/jobs';
+import { runResponseSchema, type Run } from '../../shared/runs';
 import { subsetSweep, type SubsetSweepResult } from '../../lib/gmm/index';
 import { estimateLedger, okOf } from '../gmm/helpers';
 import type { LedgerResult } from '../../lib/gmm/index';
@@ -176,6 +177,17 @@ export async function waitJob(agent: Agent, id: number, until: (j: Job) => boole
 }
 
 export const jobEnded = (j: Job) => !['queued', 'running'].includes(j.status);
+
+/** Reads GET /runs/:id until the run is no longer queued or running (a heavy run's end). */
+export async function waitRun(agent: Agent, id: number, ms = 60_000): Promise<Run> {
+  const until = Date.now() + ms;
+  for (;;) {
+    const run = runResponseSchema.parse((await agent.get(`/api/v1/runs/${id}`).expect(200)).body).run;
+    if (run.status !== 'queued' && run.status !== 'running') return run;
+    if (Date.now() > until) throw new Error(`run ${id} still ${run.status} after ${ms} ms`);
+    await new Promise((r) => setTimeout(r, 25));
+  }
+}
 
 /** The run's matrices, built from the generated values (raw returns minus RF). */
 export function fixtureMatrices(fx: Fixture, factors: string[]): { returns: number[][]; F: number[][] } {

@@ -11,11 +11,11 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { agentAs, expectEnvelope, makeTestApp, post, tableCounts, type Agent, type TestApp } from './helpers';
-import { fixtureLedger, makeFixture, spec, uploadFixture, type Fixture } from './runs-fixture';
+import { fixtureLedger, makeFixture, spec, uploadFixture, waitRun, type Fixture } from './runs-fixture';
 import { createApp } from '../../server/app';
 import { createRun, mailSettled } from '../../server/services/runs';
 import { modelSpecSchema, type ModelSpec } from '../../shared/specs';
-import { runResponseSchema, runsResponseSchema, type Run } from '../../shared/runs';
+import { runResponseSchema, runsResponseSchema } from '../../shared/runs';
 import { runs, auditLog } from '../../server/db/schema/index';
 import { eq } from 'drizzle-orm';
 
@@ -43,15 +43,6 @@ afterAll(async () => {
 });
 
 
-async function waitRun(agent: Agent, id: number, ms = 30_000): Promise<Run> {
-  const until = Date.now() + ms;
-  for (;;) {
-    const run = runResponseSchema.parse((await agent.get(`/api/v1/runs/${id}`).expect(200)).body).run;
-    if (run.status !== 'queued' && run.status !== 'running') return run;
-    if (Date.now() > until) throw new Error(`run ${id} still ${run.status} after ${ms} ms`);
-    await new Promise((r) => setTimeout(r, 25));
-  }
-}
 
 describe('heavy runs', () => {
   it('a small run keeps the synchronous 201 with its ledger', async () => {

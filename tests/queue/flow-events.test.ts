@@ -10,11 +10,11 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { agentAs, makeTestApp, post, type Agent } from '../api/helpers';
-import { jobEnded, makeFixture, spec, uploadFixture, waitJob } from '../api/runs-fixture';
+import { jobEnded, makeFixture, spec, uploadFixture, waitJob, waitRun } from '../api/runs-fixture';
 import { QueueClient } from '../../server/jobs/queue-client';
 import { jobResponseSchema } from '../../shared/jobs';
-import { runResponseSchema, type Run } from '../../shared/runs';
-import { startQueueTestApp, startWorkerProcess, stopQueueTest, type QueueTestApp, type WorkerProcess } from './redis';
+import { runResponseSchema } from '../../shared/runs';
+import { startQueueLibraryTest, stopQueueTest, type QueueTestApp, type WorkerProcess } from './redis';
 
 const HOUR = 3_600_000;
 let q: QueueTestApp;
@@ -24,30 +24,17 @@ let worker: WorkerProcess;
 
 beforeAll(async () => {
   // T = 240, N = 10, K = 2 costs 48,000: above this threshold, so the run is queued
-  q = await startQueueTestApp('keelson-events-', { heavyRunCost: 30_000, runPollMs: HOUR, jobPollMs: HOUR, jobMailAfterMs: HOUR }, { redisDb: 4 });
-  const admin = await agentAs(q.app, 'admin');
-  researcher = await agentAs(q.app, 'researcher');
-  editionId = (await uploadFixture(admin, makeFixture(), { name: 'Invented economy', visibility: 'shared' })).editionId;
-  worker = await startWorkerProcess(q.url);
+  ({ q, researcher, editionId, worker } = await startQueueLibraryTest('keelson-events-', { heavyRunCost: 30_000, runPollMs: HOUR, jobPollMs: HOUR, jobMailAfterMs: HOUR }, { redisDb: 4 }));
 }, 60_000);
 
 afterAll(() => stopQueueTest({ workers: worker ? [worker] : [], ...q }));
 
-async function waitRun(id: number, ms = 60_000): Promise<Run> {
-  const until = Date.now() + ms;
-  for (;;) {
-    const run = runResponseSchema.parse((await researcher.get(`/api/v1/runs/${id}`).expect(200)).body).run;
-    if (run.status !== 'queued' && run.status !== 'running') return run;
-    if (Date.now() > until) throw new Error(`run ${id} still ${run.status}`);
-    await new Promise((r) => setTimeout(r, 50));
-  }
-}
 
 describe('the end of a queued job wakes its follower', () => {
   it('a heavy run polled once an hour finishes when its worker does', async () => {
     const r = await post(researcher, '/runs', { editionId, spec: spec({ rf: 'RF' }) });
     expect(r.status).toBe(202);
-    const run = await waitRun(r.body.run.id as number);
+    const run = await waitRun(researcher, r.body.run.id as number);
     expect(run.status).toBe('finished');
     expect(run.result?.factors.map((f) => f.name)).toEqual(['MKT', 'ECHO']);
   }, 90_000);

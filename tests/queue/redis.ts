@@ -17,6 +17,8 @@ import { openDb, type Db } from '../../server/db/client';
 import { createMailer, type Mailer } from '../../server/services/mailer';
 import { mailSettled } from '../../server/services/runs';
 import { seedDemoUsers } from '../../server/seed/users';
+import { agentAs, type Agent } from '../api/helpers';
+import { makeFixture, uploadFixture } from '../api/runs-fixture';
 
 export const REDIS_SERVER = '/usr/bin/redis-server';
 export const REDIS_INSTALL = 'apt-get install -y redis-server';
@@ -193,4 +195,22 @@ export async function stopQueueTest(parts: { workers?: readonly WorkerProcess[];
   parts.db?.$client.close();
   await parts.redis?.stop();
   if (parts.dir) rmSync(parts.dir, { recursive: true, force: true });
+}
+
+/** A queue-mode app with the invented library uploaded, a signed-in researcher and one `keelson worker` process. */
+export interface QueueLibraryTest {
+  q: QueueTestApp;
+  researcher: Agent;
+  editionId: number;
+  worker: WorkerProcess;
+}
+
+/** startQueueTestApp, then the invented economy (tests/api/runs-fixture.ts) shared by the admin, and a worker on the app's Redis. */
+export async function startQueueLibraryTest(prefix: string, opts: Parameters<typeof startQueueTestApp>[1], place: Parameters<typeof startQueueTestApp>[2]): Promise<QueueLibraryTest> {
+  const q = await startQueueTestApp(prefix, opts, place);
+  const admin = await agentAs(q.app, 'admin');
+  const researcher = await agentAs(q.app, 'researcher');
+  const editionId = (await uploadFixture(admin, makeFixture(), { name: 'Invented economy', visibility: 'shared' })).editionId;
+  const worker = await startWorkerProcess(q.url);
+  return { q, researcher, editionId, worker };
 }

@@ -7,14 +7,13 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { Redis } from 'ioredis';
 import { eq } from 'drizzle-orm';
-import { agentAs, type Agent } from '../api/helpers';
-import { makeFixture, spec, uploadFixture } from '../api/runs-fixture';
+import type { Agent } from '../api/helpers';
+import { spec, waitRun } from '../api/runs-fixture';
 import { createRun } from '../../server/services/runs';
 import { runs } from '../../server/db/schema/index';
 import { inputKey, runJobId } from '../../server/jobs/queue-shared';
 import { modelSpecSchema } from '../../shared/specs';
-import { runResponseSchema, type Run } from '../../shared/runs';
-import { startQueueTestApp, type QueueTestApp, startWorkerProcess, stopQueueTest, type WorkerProcess } from './redis';
+import { startQueueLibraryTest, type QueueTestApp, stopQueueTest, type WorkerProcess } from './redis';
 
 let q: QueueTestApp;
 let researcher: Agent;
@@ -23,24 +22,11 @@ let worker: WorkerProcess;
 
 beforeAll(async () => {
   // T = 240, N = 10, K = 2 costs 48,000: above this threshold
-  q = await startQueueTestApp('keelson-heavy-', { heavyRunCost: 30_000, runPollMs: 50 }, { offsetIds: 'runs' });
-  const admin = await agentAs(q.app, 'admin');
-  researcher = await agentAs(q.app, 'researcher');
-  editionId = (await uploadFixture(admin, makeFixture(), { name: 'Invented economy', visibility: 'shared' })).editionId;
-  worker = await startWorkerProcess(q.url);
+  ({ q, researcher, editionId, worker } = await startQueueLibraryTest('keelson-heavy-', { heavyRunCost: 30_000, runPollMs: 50 }, { offsetIds: 'runs' }));
 }, 60_000);
 
 afterAll(() => stopQueueTest({ workers: worker ? [worker] : [], ...q }));
 
-async function waitRun(id: number, ms = 60_000): Promise<Run> {
-  const until = Date.now() + ms;
-  for (;;) {
-    const run = runResponseSchema.parse((await researcher.get(`/api/v1/runs/${id}`).expect(200)).body).run;
-    if (run.status !== 'queued' && run.status !== 'running') return run;
-    if (Date.now() > until) throw new Error(`run ${id} still ${run.status}`);
-    await new Promise((r) => setTimeout(r, 50));
-  }
-}
 
 describe('heavy runs in queue mode', () => {
   it('a heavy run goes to a worker as job run-<id> and comes back with the synchronous numbers bit for bit', async () => {
@@ -48,7 +34,7 @@ describe('heavy runs in queue mode', () => {
     const r = await researcher.post('/api/v1/runs').set('x-csrf-token', researcher.csrf).send(body).expect(202);
     const id = r.body.run.id as number;
     expect(r.headers.location).toBe(`/api/v1/runs/${id}`);
-    const done = await waitRun(id);
+    const done = await waitRun(researcher, id);
     expect(done.status).toBe('finished');
     const heavyText = q.db.select({ result: runs.result }).from(runs).where(eq(runs.id, id)).get()!.result;
 
@@ -73,7 +59,7 @@ describe('heavy runs in queue mode', () => {
       .set('x-csrf-token', researcher.csrf)
       .send({ editionId, spec: spec({ factors: ['MKT', 'ECHO', 'COMBO'] }) })
       .expect(202);
-    const run = await waitRun(r.body.run.id as number);
+    const run = await waitRun(researcher, r.body.run.id as number);
     expect(run.status).toBe('failed');
     expect(run.error).toMatch(/COMBO/);
   }, 90_000);
