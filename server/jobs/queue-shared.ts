@@ -8,7 +8,8 @@
  * (`keelson:input:<flow>`, with a TTL) and every chunk names that key; no chunk carries a copy.
  * The stored input is binary ({@link packInput}); chunk values and results are JSON ({@link encode}).
  */
-import { deserialize, serialize } from 'node:v8';
+import { serialize } from 'node:v8';
+import { readShared } from './shared-input';
 import type { CheckInput } from '../services/jobs-input';
 import type { RunEstimateInput } from '../services/run-estimate';
 
@@ -83,15 +84,11 @@ export function inputBytes(stored: Uint8Array): Uint8Array {
 }
 
 /**
- * Reads packInput's bytes back (tests, tools); a worker's threads read them through shared-input.ts.
- * @throws Error naming the version mismatch when V8 cannot read them.
+ * Reads packInput's bytes back (tests, tools) as a pool thread does (shared-input.ts readShared).
+ * @throws StoredInputError naming the version mismatch when V8 cannot read them.
  */
 export function unpackInput<T>(bytes: Uint8Array): T {
-  try {
-    return deserialize(inputBytes(bytes)) as T;
-  } catch (e) {
-    throw new Error(`The stored input cannot be read by Node.js ${process.version} (${(e as Error).message}): run the API and the workers on the same Node.js major version.`);
-  }
+  return readShared<T>({ shared: inputBytes(bytes) });
 }
 
 /** Worker's reason when it stops a chunk of a cancelled flow (the API records 'cancelled'). */
