@@ -22,11 +22,8 @@ import { eq, sql } from 'drizzle-orm';
 import { inTransaction, openDb } from '../server/db/client';
 import { libraries, libraryEditions, librarySeries, type NewLibrarySeriesRow } from '../server/db/schema/index';
 import { mulberry32 } from '../lib/gmm/random';
+import { median } from './median';
 
-const median = (a: number[]) => {
-  const s = [...a].sort((x, y) => x - y);
-  return s.length % 2 ? s[s.length >> 1]! : (s[s.length / 2 - 1]! + s[s.length / 2]!) / 2;
-};
 
 const dir = mkdtempSync(join(tmpdir(), 'keelson-bench-dl-'));
 const db = openDb(join(dir, 'bench.db'));

@@ -16,6 +16,7 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { defaultLag, estimateLedger, type LedgerInput } from '../lib/gmm/index';
 import { mulberry32 } from '../lib/gmm/random';
+import { median } from './median';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const quick = process.argv.includes('--quick');
@@ -84,10 +85,6 @@ const np = JSON.parse(readFileSync(outFile, 'utf8')) as {
   numpy: string;
 };
 
-const median = (xs: number[]) => {
-  const s = [...xs].sort((a, b) => a - b);
-  return s.length % 2 ? s[(s.length - 1) / 2] : 0.5 * (s[s.length / 2 - 1] + s[s.length / 2]);
-};
 
 // Warm-up: V8 needs many calls before the hot loops reach the optimising tier, so every size is
 // run for at least 0.4 s (and 3 calls) before timing; first a global pass over the small sizes.

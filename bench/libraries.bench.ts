@@ -16,6 +16,7 @@ import { createMailer } from '../server/services/mailer';
 import { DEMO_PASSWORD, seedDemoUsers } from '../server/seed/users';
 import { loadEditionData } from '../server/services/edition-data';
 import { mulberry32 } from '../lib/gmm/random';
+import { median } from './median';
 
 
 function makeCsv(kind: 'daily' | 'monthly', T: number, N: number): string {
@@ -39,10 +40,6 @@ function makeCsv(kind: 'daily' | 'monthly', T: number, N: number): string {
 }
 
 const cpuMs = (c: NodeJS.CpuUsage) => (c.user + c.system) / 1000;
-const median = (a: number[]) => {
-  const s = [...a].sort((x, y) => x - y);
-  return s.length % 2 ? s[s.length >> 1]! : (s[s.length / 2 - 1]! + s[s.length / 2]!) / 2;
-};
 
 const dir = mkdtempSync(join(tmpdir(), 'keelson-bench-'));
 const db = openDb(join(dir, 'bench.db'));

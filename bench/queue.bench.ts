@@ -41,6 +41,7 @@ import { fileURLToPath } from 'node:url';
 import { decode } from '../server/jobs/queue-shared';
 import { chunksOnPool, sweepOnPool } from './pool-runs';
 import { startWorkerProcess, testRedis, type WorkerProcess } from '../tests/queue/redis';
+import { median } from './median';
 
 const envInt = (name: string, d: number) => (process.env[name] ? Number(process.env[name]) : d);
 const T = envInt('BENCH_QUEUE_T', 12_000);
@@ -171,10 +172,6 @@ const onDb = (url: string, db: number) => `${url.replace(/\/\d*$/, '')}/${db}`;
 
 type Mode = 'embedded' | '1w' | '2w' | 'threads2';
 const MODES: readonly Mode[] = ['embedded', '1w', '2w', 'threads2'];
-const median = (xs: readonly number[]) => {
-  const v = [...xs].sort((a, b) => a - b);
-  return v.length % 2 ? v[v.length >> 1] : (v[v.length / 2 - 1] + v[v.length / 2]) / 2;
-};
 
 async function sweepSection(redis: { url: string }, K: number): Promise<void> {
   const check = sweepCheck(SWEEP_T, SWEEP_N, K, 77);
