@@ -15,7 +15,10 @@
  *    peak RSS (VmHWM of this process for the embedded pool, of each worker process in queue mode).
  *    For reference, a fourth mode runs the same chunks on two pool threads of one process with no
  *    queue (bench/sweep-threads-child.ts, started with --single-threaded-gc as a worker is): what
- *    two threads give on the machine. The four modes are up at once (the 1-worker
+ *    two threads give on the machine. On a 2-vCPU Linux machine with taskset, the 1-worker mode
+ *    also runs with its pool thread pinned to vCPU 0 and to vCPU 1 (see Mode below: this VM's
+ *    vCPUs differ in speed), giving the speed-up from one worker on a vCPU of the mean speed and
+ *    the ceiling of the unpinned ratio. The modes are up at once (the 1-worker
  *    mode's worker on Redis database 1, the two workers on database 2) and take turns in every
  *    round, the order rotating: 9 rounds for 20
  *    candidates, 3 for 23. The medians are printed with the ranges, and the per-round ratios.
@@ -35,8 +38,8 @@ import { QueueClient } from '../server/jobs/queue-client';
 import type { CheckInput } from '../server/services/jobs-input';
 import type { BootstrapBatch } from '../lib/gmm/index';
 import { bootstrapCheck, sweepCheck } from './queue-checks';
-import { readFileSync } from 'node:fs';
-import { fork } from 'node:child_process';
+import { readdirSync, readFileSync } from 'node:fs';
+import { execFileSync, fork } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
 import { decode } from '../server/jobs/queue-shared';
 import { chunksOnPool, sweepOnPool } from './pool-runs';
@@ -170,17 +173,55 @@ async function startReference(): Promise<{ sweep: (key: string, K: number, seed:
 /** The same Redis, logical database `db` (one per queue mode, so each mode has its own workers). */
 const onDb = (url: string, db: number) => `${url.replace(/\/\d*$/, '')}/${db}`;
 
-type Mode = 'embedded' | '1w' | '2w' | 'threads2';
-const MODES: readonly Mode[] = ['embedded', '1w', '2w', 'threads2'];
+/**
+ * This VM's two vCPUs are not alike, and which one is slower changes over minutes: one sweep chunk
+ * pinned (taskset) to one vCPU at a time took 115–125 ms on vCPU 0 and 81 ms on vCPU 1 on
+ * 4 December, later 79–83 ms on vCPU 0 and 120–123 ms on vCPU 1, once 79 and 82 ms; running on
+ * both at once changed neither figure (the host gives one vCPU less time; /proc/stat shows no
+ * steal column). One worker then runs at the speed of whichever vCPU its pool thread is on, and
+ * 1 → 2 workers cannot exceed 1 + slow/fast (1.67× at 81 and 121 ms) when that is the fast one.
+ * So the 1-worker mode also runs with its pool thread pinned to each vCPU in turn: the harmonic
+ * mean of those two times is one worker on a vCPU of the machine's mean speed, against which two
+ * workers would ideally give 2×.
+ */
+type Mode = 'embedded' | '1w' | '1w@0' | '1w@1' | '2w' | 'threads2';
+const BASE_MODES: readonly Mode[] = ['embedded', '1w', '2w', 'threads2'];
+
+/** The busiest thread of a process other than its main thread (a 1-thread worker's pool thread, once warm). */
+function busiestThread(pid: number): number {
+  let best = { tid: 0, ticks: -1 };
+  for (const tid of readdirSync(`/proc/${pid}/task`).map(Number)) {
+    if (tid === pid) continue;
+    const st = readFileSync(`/proc/${pid}/task/${tid}/stat`, 'utf8');
+    const f = st.slice(st.lastIndexOf(')') + 2).split(' ');
+    const ticks = Number(f[11]) + Number(f[12]);
+    if (ticks > best.ticks) best = { tid, ticks };
+  }
+  return best.tid;
+}
+
+/** Pins thread `tid` to vCPU `cpu`, or lets it run on every vCPU again (null). */
+const pin = (tid: number, cpu: number | null) => execFileSync('taskset', ['-pc', cpu === null ? `0-${availableParallelism() - 1}` : String(cpu), String(tid)], { stdio: 'ignore' });
+
+/** Pinned modes need two vCPUs, Linux's /proc and util-linux's taskset. */
+function canPin(): boolean {
+  if (availableParallelism() !== 2) return false;
+  try {
+    execFileSync('taskset', ['-p', String(process.pid)], { stdio: 'ignore' });
+    return true;
+  } catch {
+    return false;
+  }
+}
 
 async function sweepSection(redis: { url: string }, K: number): Promise<void> {
   const check = sweepCheck(SWEEP_T, SWEEP_N, K, 77);
   const rssBefore = peakRssMb('self');
   // under two seconds (20 candidates): nine rounds; larger: three
   const rounds = check.total < 2 ** 21 ? 9 : 3;
-  console.log(`subset sweep, ${K} candidates (${check.total.toLocaleString('en-US')} models), T = ${SWEEP_T}, N = ${SWEEP_N}, ${chunkRanges(check.total, 'subset-sweep').length} chunks, ${rounds} rounds of the four modes in turn; load average ${load()}`);
-  // the four modes are up at once, each warm, and take turns within every round (the order
-  // rotating), so each round's four times share the machine's state: on this shared 2-core
+  console.log(`subset sweep, ${K} candidates (${check.total.toLocaleString('en-US')} models), T = ${SWEEP_T}, N = ${SWEEP_N}, ${chunkRanges(check.total, 'subset-sweep').length} chunks, ${rounds} rounds of the modes in turn; load average ${load()}`);
+  // the modes are up at once, each warm, and take turns within every round (the order
+  // rotating), so each round's times share the machine's state: on this shared 2-core
   // machine a chunk takes 80 ms for minutes and then 115 ms for minutes, and modes timed one after
   // the other compared different phases (1.30× to 1.66× from 1 to 2 workers on one boot)
   const pool = createJobPool();
@@ -197,12 +238,17 @@ async function sweepSection(redis: { url: string }, K: number): Promise<void> {
     await viaQueue(q1, `bench-sweep-warm-1w-${K}-${i}`, w);
     await viaQueue(q2, `bench-sweep-warm-2w-${K}-${i}`, w);
   }
-  const runs: Record<Mode, { ms: number; result: unknown }[]> = { embedded: [], '1w': [], '2w': [], threads2: [] };
+  const pinned = canPin();
+  const MODES: readonly Mode[] = pinned ? [...BASE_MODES, '1w@0', '1w@1'] : BASE_MODES;
+  const poolThread = pinned ? busiestThread(one[0].proc.pid!) : 0;
+  const runs: Record<Mode, { ms: number; result: unknown }[]> = { embedded: [], '1w': [], '1w@0': [], '1w@1': [], '2w': [], threads2: [] };
   for (let r = 0; r < rounds; r++) {
     for (let j = 0; j < MODES.length; j++) {
       const mode = MODES[(r + j) % MODES.length];
       const flow = `bench-sweep-${mode}-${K}-${r}`;
-      runs[mode].push(mode === 'embedded' ? await sweepOnPool(pool, flow, check) : mode === 'threads2' ? await ref.sweep(flow, K, 77) : await viaQueue(mode === '1w' ? q1 : q2, flow, check));
+      if (mode === '1w@0' || mode === '1w@1') pin(poolThread, mode === '1w@0' ? 0 : 1);
+      runs[mode].push(mode === 'embedded' ? await sweepOnPool(pool, flow, check) : mode === 'threads2' ? await ref.sweep(flow, K, 77) : await viaQueue(mode === '2w' ? q2 : q1, flow, check));
+      if (mode === '1w@0' || mode === '1w@1') pin(poolThread, null);
     }
   }
   const ms = (m: Mode) => runs[m].map((x) => x.ms);
@@ -215,10 +261,20 @@ async function sweepSection(redis: { url: string }, K: number): Promise<void> {
   console.log(`  queue, 1 worker         ${fig('1w')}   overhead ${((median(ms('1w')) / median(ms('embedded')) - 1) * 100).toFixed(1)} % vs embedded (medians; per round ${overhead.map((x) => x.toFixed(0)).join(', ')} %, median ${median(overhead).toFixed(1)} %)   worker peak RSS ${mb(peakRssMb(one[0].proc.pid!))}`);
   console.log(`  queue, 2 workers        ${fig('2w')}   speed-up ${(median(ms('1w')) / median(ms('2w'))).toFixed(2)}× from 1 to 2 workers (medians; per round ${speedUp.map((x) => x.toFixed(2)).join(', ')}×, median ${median(speedUp).toFixed(2)}×)   worker peak RSS ${two.map((w) => mb(peakRssMb(w.proc.pid!))).join(', ')}   (load ${load()})`);
   const refUp = ratios('embedded', 'threads2');
+  if (pinned) {
+    // one worker on a vCPU of the mean speed: the harmonic mean of the two pinned times
+    const mean1 = runs['1w@0'].map((x, r) => (2 * x.ms * runs['1w@1'][r].ms) / (x.ms + runs['1w@1'][r].ms));
+    const asym = ratios('1w@0', '1w@1');
+    const upMean = mean1.map((x, r) => x / runs['2w'][r].ms);
+    const ceiling = runs['1w'].map((x, r) => x.ms / (mean1[r] / 2));
+    console.log(`  queue, 1 worker pinned  vCPU 0 ${fig('1w@0')}, vCPU 1 ${fig('1w@1')}   vCPU 0 / vCPU 1 per round ${asym.map((x) => x.toFixed(2)).join(', ')}`);
+    console.log(`  speed-up from 1 worker on a vCPU of the mean speed to 2 workers (ideal 2×): per round ${upMean.map((x) => x.toFixed(2)).join(', ')}×, median ${median(upMean).toFixed(2)}×`);
+    console.log(`  ceiling of the unpinned 1 → 2 ratio with no queue cost at all (1 worker's time / half the mean-speed time): per round ${ceiling.map((x) => x.toFixed(2)).join(', ')}×, median ${median(ceiling).toFixed(2)}×; measured/ceiling median ${median(speedUp.map((x, r) => x / ceiling[r])).toFixed(2)}`);
+  } else console.log(`  (no pinned 1-worker modes: they need exactly 2 vCPUs and util-linux taskset; this machine has ${availableParallelism()})`);
   console.log(`  reference: 2 pool threads in one process, no queue   ${fig('threads2')}   ${(median(ms('embedded')) / median(ms('threads2'))).toFixed(2)}× against the embedded pool's 1 thread (medians; per round ${refUp.map((x) => x.toFixed(2)).join(', ')}×, median ${median(refUp).toFixed(2)}×): what two threads give on this machine without Redis`);
   const first = JSON.stringify(runs.embedded[0].result);
   const same = MODES.every((m) => runs[m].every((x) => JSON.stringify(x.result) === first));
-  console.log(`  results identical in the four modes and every round: ${same ? 'yes' : 'NO'}`);
+  console.log(`  results identical in the ${MODES.length} modes and every round: ${same ? 'yes' : 'NO'}`);
   await pool.destroy();
   await ref.stop();
   for (const w of [...one, ...two]) {

@@ -19,6 +19,7 @@ import {
   decode,
   inputKey,
   packInput,
+  partsKey,
   type ChunkJobData,
   type EstimateJobData,
   type StoredInput,
@@ -147,7 +148,7 @@ export class QueueClient {
 
   /** Keeps the stored input alive while the API follows the flow. */
   async touch(flow: string): Promise<void> {
-    await this.timed(this.redis.expire(inputKey(flow), INPUT_TTL_SECONDS));
+    await this.timed(this.redis.multi().expire(inputKey(flow), INPUT_TTL_SECONDS).expire(partsKey(flow), INPUT_TTL_SECONDS).exec());
   }
 
   /**
@@ -162,7 +163,7 @@ export class QueueClient {
 
   /**
    * Clears what Redis may still hold under this flow's id from another database or a reset one
-   * (job ids restart at 1 there): its flow, input and cancel mark. Called before a job's first
+   * (job ids restart at 1 there): its flow, input, chunk values and cancel mark. Called before a job's first
    * enqueue, when no flow of this database's can exist yet, so a stale cancel mark or a stale
    * finished flow is never taken for this job's.
    */
@@ -171,7 +172,7 @@ export class QueueClient {
     await this.timed(this.redis.del(cancelKey(flow)));
   }
 
-  /** Removes the flow (parent and chunks) and its input; a chunk still locked by a worker stays until it ends. */
+  /** Removes the flow (parent and chunks), its input and its chunk values; a chunk still locked by a worker stays until it ends. */
   remove(flow: string): Promise<void> {
     return this.timed(this.removeNow(flow), 3);
   }
@@ -190,7 +191,7 @@ export class QueueClient {
         // a chunk is still locked by a worker: the cancel mark makes it end; its leftovers are harmless
       }
     }
-    await this.redis.del(inputKey(flow));
+    await this.redis.del(inputKey(flow), partsKey(flow));
   }
 
   /**

@@ -7,6 +7,12 @@
  * edition slice and the spec, as lib/gmm takes it — is stored ONCE in Redis under the flow's key
  * (`keelson:input:<flow>`, with a TTL) and every chunk names that key; no chunk carries a copy.
  * The stored input is binary ({@link packInput}); chunk values and results are JSON ({@link encode}).
+ *
+ * A chunk's value is written to the flow's hash of parts (`keelson:parts:<flow>`, field = the
+ * range's start) and the chunk job returns only a small {@link ChunkDone} marker. BullMQ copies a
+ * job's return value into the job and into the queue's event stream (trimmed at about 10,000
+ * events), which every API's QueueEvents connection reads and parses: with the values inline, a
+ * 20-candidate sweep put 8 × 28.6 KB into that stream (docs/scaling.md has the measurements).
  */
 import { serialize } from 'node:v8';
 import { readShared } from './shared-input';
@@ -24,6 +30,18 @@ export const INPUT_TTL_SECONDS = 7 * 24 * 3600;
 
 export const inputKey = (flow: string) => `keelson:input:${flow}`;
 export const cancelKey = (flow: string) => `keelson:cancelled:${flow}`;
+/** A flow's chunk values (a hash: field = the range's start, value = encode({ from, to, value })). */
+export const partsKey = (flow: string) => `keelson:parts:${flow}`;
+
+/**
+ * What a chunk job returns: its range; the value itself is in partsKey(flow). A flow enqueued by an
+ * earlier release may still have chunks that returned `{ from, to, value }` inline.
+ */
+export interface ChunkDone {
+  from: number;
+  to: number;
+  stored: true;
+}
 /** A deep check's flow id: one per job attempt, so a restarted job never meets the old one's chunks. */
 export const flowId = (jobId: number, attempt: number) => `job-${jobId}-${attempt}`;
 export const chunkId = (flow: string, index: number) => `${flow}-c${index}`;

@@ -5,13 +5,16 @@
  * everything it computes on is the flow's stored input in Redis (packInput's bytes, which this
  * thread hands to the pool threads without decoding: they read it once per flow).
  *
+ * - Values: a chunk writes its value to the flow's hash of parts (partsKey) and returns only its
+ *   range; the summary reads the hash (queue-shared.ts says why).
  * - Progress: BullMQ records each finished chunk in its parent flow; the API reads those counts.
  * - A worker killed mid-chunk stops renewing the chunk's lock; BullMQ's stalled-job check moves the
  *   chunk back to the wait list and another worker runs it again. Draws are seeded per index
  *   (lib/gmm bootstrap), so the repeat is bit-for-bit the chunk that was lost.
  * - Cancel: the API sets `keelson:cancelled:<flow>` and publishes the flow on `keelson:cancel`;
- *   every worker aborts that flow's running chunks (piscina stops the thread) and refuses its
- *   waiting ones, so the CPU is free within a second.
+ *   every worker aborts that flow's running chunks (piscina stops the thread); a chunk taken
+ *   after the mark was set is aborted as soon as the mark is read (the read runs beside the
+ *   chunk's start, not before it), so the CPU is free within a second.
  * - SIGTERM (handled by the caller): close() stops taking chunks, lets running ones finish within
  *   `graceMs`, and otherwise hands them back (they stall and are retried elsewhere).
  */
@@ -26,6 +29,7 @@ import type { RunEstimateInput } from '../services/run-estimate';
 import {
   CANCELLED_REASON,
   CANCEL_CHANNEL,
+  INPUT_TTL_SECONDS,
   QUEUE_NAME,
   QUEUE_PREFIX,
   cancelKey,
@@ -34,6 +38,8 @@ import {
   encode,
   inputBytes,
   inputKey,
+  partsKey,
+  type ChunkDone,
   type ChunkJobData,
   type EstimateJobData,
   type SummaryJobData,
@@ -110,12 +116,17 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
   void sub.subscribe(CANCEL_CHANNEL).catch((e: unknown) => log(`[keelson worker] cancel channel: ${String(e)}`));
   sub.on('message', (_ch: string, flow: string) => abortFlow(flow));
 
-  const runInPool = async <T>(flow: string, task: ChunkTask): Promise<T> => {
+  /**
+   * Runs a task on the pool; `cancelled` (the flow's cancel mark, read while the task starts rather
+   * than before it, so the read's round trip is not on every chunk's path) aborts it when true.
+   */
+  const runInPool = async <T>(flow: string, task: ChunkTask, cancelled: Promise<boolean>): Promise<T> => {
     const ac = new AbortController();
     setMaxListeners(0, ac.signal);
     let set = running.get(flow);
     if (!set) running.set(flow, (set = new Set()));
     set.add(ac);
+    void cancelled.then((yes) => yes && ac.abort(), () => undefined);
     try {
       return await pool.run<T>(task, ac.signal);
     } catch (e) {
@@ -135,14 +146,28 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
     }
   };
 
+  /** A flow's chunk values in range order: from its hash of parts, or inline (chunks of an earlier release). */
+  const chunkValues = async (job: Job<Payload>, flow: string): Promise<{ from: number; to: number; value: unknown }[]> => {
+    const [children, parts] = await Promise.all([job.getChildrenValues<string>(), redis.hgetall(partsKey(flow))]);
+    return Object.values(children)
+      .map((v) => {
+        const done = decode<ChunkDone | { from: number; to: number; value: unknown }>(v);
+        if (!('stored' in done)) return done;
+        const part = parts[String(done.from)];
+        if (part === undefined) throw new UnrecoverableError(`The value of ${flow}'s chunk from ${done.from} is missing from Redis (removed or expired); restart the job.`);
+        return decode<{ from: number; to: number; value: unknown }>(part);
+      })
+      .sort((a, b) => a.from - b.from);
+  };
+
   const processor = async (job: Job<Payload>): Promise<string> => {
     const d = job.data;
-    if ((await redis.exists(cancelKey(d.flow))) === 1) throw new UnrecoverableError(CANCELLED_REASON);
+    const cancelled = redis.exists(cancelKey(d.flow)).then((n) => n === 1);
     const shared = await loadInput(d.flow);
     if (d.kind === 'estimate') {
       // a heavy run: the whole estimation in one task (estimateRun, as the API's synchronous path)
       inputs.delete(d.flow);
-      const out = await runInPool(d.flow, { op: 'estimate', task: as<RunEstimateInput>(shared) });
+      const out = await runInPool(d.flow, { op: 'estimate', task: as<RunEstimateInput>(shared) }, cancelled);
       completed++;
       return encode(out);
     }
@@ -150,24 +175,26 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
     if (job.name === 'chunk') {
       const c = d as ChunkJobData;
       let out: unknown;
-      if (c.kind === 'bootstrap') out = await runInPool<BootstrapBatch>(key, { op: 'bootstrap', key, input: as<BootstrapInput>(shared), from: c.from, to: c.to });
-      else if (c.kind === 'subset-sweep') out = await runInPool<SweepPartial>(key, { op: 'subset-sweep', key, input: as<SubsetSweepInput>(shared), from: c.from + 1, to: c.to + 1 });
-      else if (c.kind === 'rolling') out = await runInPool<RollingPoint[]>(key, { op: 'rolling', key, input: as<RollingInput>(shared), from: c.from, to: c.to });
+      if (c.kind === 'bootstrap') out = await runInPool<BootstrapBatch>(key, { op: 'bootstrap', key, input: as<BootstrapInput>(shared), from: c.from, to: c.to }, cancelled);
+      else if (c.kind === 'subset-sweep') out = await runInPool<SweepPartial>(key, { op: 'subset-sweep', key, input: as<SubsetSweepInput>(shared), from: c.from + 1, to: c.to + 1 }, cancelled);
+      else if (c.kind === 'rolling') out = await runInPool<RollingPoint[]>(key, { op: 'rolling', key, input: as<RollingInput>(shared), from: c.from, to: c.to }, cancelled);
       // hold-out checks are cheap (one estimate per block) and stay in the API's own pool (runner.ts)
       else throw new UnrecoverableError(`${c.kind} checks are not run by queue workers`);
+      // the value goes to the flow's parts (a retried chunk writes the same bytes again), the job
+      // returns its range only
+      await redis.multi().hset(partsKey(key), String(c.from), encode({ from: c.from, to: c.to, value: out })).expire(partsKey(key), INPUT_TTL_SECONDS).exec();
       completed++;
-      return encode({ from: c.from, to: c.to, value: out });
+      return encode({ from: c.from, to: c.to, stored: true } satisfies ChunkDone);
     }
     // the summary: every chunk's value, in range order
-    const values = Object.values(await job.getChildrenValues<string>())
-      .map((v) => decode<{ from: number; to: number; value: unknown }>(v))
-      .sort((a, b) => a.from - b.from);
+    if (await cancelled) throw new UnrecoverableError(CANCELLED_REASON);
+    const values = await chunkValues(job, key);
     let result: unknown;
     if (d.kind === 'bootstrap')
-      result = await runInPool(key, { op: 'bootstrap-summary', key, input: as<BootstrapInput>(shared), batches: values.map((v) => v.value as BootstrapBatch) });
+      result = await runInPool(key, { op: 'bootstrap-summary', key, input: as<BootstrapInput>(shared), batches: values.map((v) => v.value as BootstrapBatch) }, cancelled);
     else if (d.kind === 'subset-sweep')
-      result = await runInPool(key, { op: 'subset-sweep-summary', key, input: as<SubsetSweepInput>(shared), parts: values.map((v) => v.value as SweepPartial) });
-    else if (d.kind === 'rolling') result = await runInPool(key, { op: 'rolling-summary', key, input: as<RollingInput>(shared), points: values.flatMap((v) => v.value as RollingPoint[]) });
+      result = await runInPool(key, { op: 'subset-sweep-summary', key, input: as<SubsetSweepInput>(shared), parts: values.map((v) => v.value as SweepPartial) }, cancelled);
+    else if (d.kind === 'rolling') result = await runInPool(key, { op: 'rolling-summary', key, input: as<RollingInput>(shared), points: values.flatMap((v) => v.value as RollingPoint[]) }, cancelled);
     else throw new UnrecoverableError(`${d.kind} checks are not run by queue workers`);
     inputs.delete(d.flow);
     completed++;
