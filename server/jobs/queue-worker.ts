@@ -163,7 +163,10 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
   const processor = async (job: Job<Payload>): Promise<string> => {
     const d = job.data;
     const cancelled = redis.exists(cancelKey(d.flow)).then((n) => n === 1);
-    const shared = await loadInput(d.flow);
+    // a chunk of a cancelled flow whose input is already removed ends as cancelled, not as lost input
+    const shared = await loadInput(d.flow).catch(async (e: unknown) => {
+      throw (await cancelled.catch(() => false)) ? new UnrecoverableError(CANCELLED_REASON) : e;
+    });
     if (d.kind === 'estimate') {
       // a heavy run: the whole estimation in one task (estimateRun, as the API's synchronous path)
       inputs.delete(d.flow);
@@ -182,7 +185,11 @@ export function startQueueWorker(opts: QueueWorkerOptions): QueueWorker {
       else throw new UnrecoverableError(`${c.kind} checks are not run by queue workers`);
       // the value goes to the flow's parts (a retried chunk writes the same bytes again), the job
       // returns its range only
-      await redis.multi().hset(partsKey(key), String(c.from), encode({ from: c.from, to: c.to, value: out })).expire(partsKey(key), INPUT_TTL_SECONDS).exec();
+      const wrote = await redis.multi().hset(partsKey(key), String(c.from), encode({ from: c.from, to: c.to, value: out })).expire(partsKey(key), INPUT_TTL_SECONDS).exec();
+      // a MULTI answers each command's error in its reply: a part Redis refused (out of memory, say)
+      // fails the chunk here, to be retried, instead of completing it without its value
+      const refused = wrote?.find(([err]) => err)?.[0] ?? (wrote ? null : new Error('the transaction was discarded'));
+      if (refused) throw new Error(`Redis did not store the value of ${key}'s chunk from ${c.from}: ${refused.message}`);
       completed++;
       return encode({ from: c.from, to: c.to, stored: true } satisfies ChunkDone);
     }
