@@ -14,13 +14,13 @@
 import { Redis } from 'ioredis';
 import { Job, Queue, Worker } from 'bullmq';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { QueueClient, type FlowState } from '../../server/jobs/queue-client';
+import { QueueClient } from '../../server/jobs/queue-client';
 import { startQueueWorker, type QueueWorker } from '../../server/jobs/queue-worker';
 import { createJobPool, type JobPool } from '../../server/jobs/pool';
 import { QUEUE_NAME, QUEUE_PREFIX, encode, inputKey, partsKey, type ChunkJobData } from '../../server/jobs/queue-shared';
 import { prepareSubsetSweep, subsetSweep, sweepChunk } from '../../lib/gmm/index';
 import { sweepCheck } from '../../bench/queue-checks';
-import { testRedis, type TestRedis } from './redis';
+import { flowEnded, testRedis, type TestRedis } from './redis';
 
 let redis: TestRedis;
 let q: QueueClient;
@@ -35,15 +35,7 @@ const ranges: [number, number][] = [
   [80, 127],
 ];
 
-async function ended(flow: string): Promise<FlowState> {
-  const end = Date.now() + 30_000;
-  for (;;) {
-    const s = await q.state(flow);
-    if (s.state === 'completed' || s.state === 'failed') return s;
-    if (Date.now() > end) throw new Error(`${flow} did not end: ${JSON.stringify(s)}`);
-    await new Promise((res) => setTimeout(res, 25));
-  }
-}
+const ended = (flow: string) => flowEnded(q, flow);
 
 /**
  * Takes the flow's chunks from the queue by hand (BullMQ's manual processing, no keelson worker)

@@ -12,6 +12,7 @@ import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { Redis } from 'ioredis';
+import type { FlowState, QueueClient } from '../../server/jobs/queue-client';
 import { createApp, type AppOptions, type KeelsonApp } from '../../server/app';
 import { openDb, type Db } from '../../server/db/client';
 import { createMailer, type Mailer } from '../../server/services/mailer';
@@ -213,4 +214,15 @@ export async function startQueueLibraryTest(prefix: string, opts: Parameters<typ
   const editionId = (await uploadFixture(admin, makeFixture(), { name: 'Invented economy', visibility: 'shared' })).editionId;
   const worker = await startWorkerProcess(q.url);
   return { q, researcher, editionId, worker };
+}
+
+/** Reads flow `flow` until it completes or fails (30 s at most). */
+export async function flowEnded(q: QueueClient, flow: string): Promise<FlowState> {
+  const end = Date.now() + 30_000;
+  for (;;) {
+    const s = await q.state(flow);
+    if (s.state === 'completed' || s.state === 'failed') return s;
+    if (Date.now() > end) throw new Error(`${flow} did not end: ${JSON.stringify(s)}`);
+    await new Promise((res) => setTimeout(res, 25));
+  }
 }

@@ -8,7 +8,7 @@
  */
 import { Redis } from 'ioredis';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { QueueClient, type FlowState } from '../../server/jobs/queue-client';
+import { QueueClient } from '../../server/jobs/queue-client';
 import { startQueueWorker, type QueueWorker } from '../../server/jobs/queue-worker';
 import { createJobPool, type JobPool } from '../../server/jobs/pool';
 import { chunkRanges } from '../../server/jobs/runner';
@@ -16,7 +16,7 @@ import { encode, inputKey, packInput } from '../../server/jobs/queue-shared';
 import type { ChunkTask } from '../../server/jobs/tasks';
 import { subsetSweep } from '../../lib/gmm/index';
 import { sweepCheck } from '../../bench/queue-checks';
-import { testRedis, type TestRedis } from './redis';
+import { flowEnded, testRedis, type TestRedis } from './redis';
 
 let redis: TestRedis;
 let q: QueueClient;
@@ -28,15 +28,7 @@ const calls: string[] = [];
 const check = sweepCheck(120, 10, 7, 11); // 127 subsets: one chunk
 const ranges = chunkRanges(check.total, check.kind);
 
-async function ended(flow: string): Promise<FlowState> {
-  const end = Date.now() + 30_000;
-  for (;;) {
-    const s = await q.state(flow);
-    if (s.state === 'completed' || s.state === 'failed') return s;
-    if (Date.now() > end) throw new Error(`${flow} did not end: ${JSON.stringify(s)}`);
-    await new Promise((res) => setTimeout(res, 25));
-  }
-}
+const ended = (flow: string) => flowEnded(q, flow);
 
 beforeAll(async () => {
   redis = await testRedis({ own: true });
