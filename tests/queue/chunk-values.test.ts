@@ -20,7 +20,7 @@ import { createJobPool, type JobPool } from '../../server/jobs/pool';
 import { QUEUE_NAME, QUEUE_PREFIX, encode, inputKey, partsKey, type ChunkJobData } from '../../server/jobs/queue-shared';
 import { prepareSubsetSweep, subsetSweep, sweepChunk } from '../../lib/gmm/index';
 import { sweepCheck } from '../../bench/queue-checks';
-import { flowEnded, testRedis, type TestRedis } from './redis';
+import { flowEnded, stopInProcessQueue, testRedis, type TestRedis } from './redis';
 
 let redis: TestRedis;
 let q: QueueClient;
@@ -69,13 +69,7 @@ beforeAll(async () => {
   pool = createJobPool({ threads: 1, nice: 0 });
 }, 30_000);
 
-afterAll(async () => {
-  await worker?.close();
-  await pool?.destroy();
-  await q?.close();
-  r?.disconnect();
-  await redis?.stop();
-});
+afterAll(() => stopInProcessQueue({ worker, pool, q, r, redis }));
 
 describe('a queued chunk’s value', () => {
   it('goes to the flow’s parts, not into BullMQ’s event stream; the parts leave with the flow', async () => {

@@ -13,6 +13,8 @@ import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { Redis } from 'ioredis';
 import type { FlowState, QueueClient } from '../../server/jobs/queue-client';
+import type { QueueWorker } from '../../server/jobs/queue-worker';
+import type { JobPool } from '../../server/jobs/pool';
 import { createApp, type AppOptions, type KeelsonApp } from '../../server/app';
 import { openDb, type Db } from '../../server/db/client';
 import { createMailer, type Mailer } from '../../server/services/mailer';
@@ -225,4 +227,13 @@ export async function flowEnded(q: QueueClient, flow: string): Promise<FlowState
     if (Date.now() > end) throw new Error(`${flow} did not end: ${JSON.stringify(s)}`);
     await new Promise((res) => setTimeout(res, 25));
   }
+}
+
+/** Stops what an in-process queue test started, in this order: worker, pool, client, connection, server. */
+export async function stopInProcessQueue(p: { worker?: QueueWorker; pool?: JobPool; q?: QueueClient; r?: Redis; redis?: TestRedis }): Promise<void> {
+  await p.worker?.close();
+  await p.pool?.destroy();
+  await p.q?.close();
+  p.r?.disconnect();
+  await p.redis?.stop();
 }

@@ -16,7 +16,7 @@ import { encode, inputKey, packInput } from '../../server/jobs/queue-shared';
 import type { ChunkTask } from '../../server/jobs/tasks';
 import { subsetSweep } from '../../lib/gmm/index';
 import { sweepCheck } from '../../bench/queue-checks';
-import { flowEnded, testRedis, type TestRedis } from './redis';
+import { flowEnded, stopInProcessQueue, testRedis, type TestRedis } from './redis';
 
 let redis: TestRedis;
 let q: QueueClient;
@@ -48,13 +48,7 @@ beforeAll(async () => {
   };
 }, 30_000);
 
-afterAll(async () => {
-  await worker?.close();
-  await pool?.destroy();
-  await q?.close();
-  r?.disconnect();
-  await redis?.stop();
-});
+afterAll(() => stopInProcessQueue({ worker, pool, q, r, redis }));
 
 describe('the stored input of a queued check', () => {
   it('is packInput’s bytes; a JSON input of an earlier release gives the same result; unreadable bytes fail once', async () => {
